@@ -1,0 +1,185 @@
+"""Findings as plain data.
+
+A :class:`Diagnostic` is a frozen value. Rules create them; waivers, baselines and the reporters
+only read them. Everything a designer needs to act is inside: where to edit (``path:line:column``),
+which instance (``instance``), what was found (``kind``, ``message``), the evidence (paths with
+their delays, the witness vector, the loop) and how to fix it (``fix``).
+"""
+from __future__ import annotations
+
+import enum
+import json
+from dataclasses import dataclass, field, replace
+from typing import Any, Iterable, Mapping
+
+
+class Severity(enum.IntEnum):
+    """Ordered severities; a run fails on findings at or above ``--fail-on``."""
+
+    INFO = 0
+    WARNING = 1
+    ERROR = 2
+
+    @classmethod
+    def parse(cls, text: str) -> "Severity":
+        try:
+            return cls[text.strip().upper()]
+        except KeyError:
+            raise ValueError(f"unknown severity '{text}' (expected info, warning or error)") from None
+
+    def __str__(self) -> str:  # "warning", as printed
+        return self.name.lower()
+
+
+# The trade's vocabulary for what was found; scripts may rely on these strings.
+KINDS = (
+    "combinational-loop",
+    "unbalanced-reconvergence",
+    "unregistered-async",
+    "static-1-hazard",
+    "static-0-hazard",
+    "dynamic-hazard",
+    "function-hazard",
+    "oscillation",
+    "waiver-unused",
+    "design-note",
+)
+
+
+@dataclass(frozen=True)
+class Location:
+    """A place in a source file. ``path`` is as given to the loader (absolute or relative)."""
+
+    path: str
+    line: int
+    column: int = 1
+
+    def __str__(self) -> str:
+        return f"{self.path}:{self.line}:{self.column}"
+
+
+@dataclass(frozen=True)
+class Hop:
+    """One step along a path of evidence: the net, the gate that drives it, where that gate is."""
+
+    net: str
+    gate: str = ""            # instance name of the driving gate/cell ("" for a port)
+    cell: str = ""            # gate primitive or cell type
+    location: Location | None = None
+    instance: str = ""        # hierarchical instance path of the gate
+    delay: float | None = None     # delay of this hop (pin-to-output), time units
+    arrival: float | None = None   # cumulative arrival time at the hop's net
+
+    def to_json(self) -> dict[str, Any]:
+        d: dict[str, Any] = {"net": self.net, "gate": self.gate, "cell": self.cell,
+                             "instance": self.instance}
+        if self.location is not None:
+            d["path"] = self.location.path
+            d["line"] = self.location.line
+        if self.delay is not None:
+            d["delay"] = self.delay
+        if self.arrival is not None:
+            d["arrival"] = self.arrival
+        return d
+
+    def describe(self) -> str:
+        where = f" ({self.location.path}:{self.location.line})" if self.location else ""
+        via = f" {self.cell} {self.gate}" if self.gate else ""
+        t = f" @{_num(self.arrival)}" if self.arrival is not None else ""
+        return f"{self.net}{t} via{via}{where}" if via else f"{self.net}{t}{where}"
+
+
+@dataclass(frozen=True)
+class Related:
+    """A secondary location with a message (SARIF relatedLocations, LSP relatedInformation)."""
+
+    location: Location
+    message: str
+
+
+@dataclass(frozen=True)
+class Diagnostic:
+    """One finding."""
+
+    rule: str
+    kind: str
+    severity: Severity
+    location: Location
+    instance: str
+    message: str
+    evidence: Mapping[str, Any] = field(default_factory=dict)   # JSON-able, structured
+    notes: tuple[str, ...] = ()              # human-readable evidence lines, printed indented
+    related: tuple[Related, ...] = ()
+    flows: tuple[tuple[Hop, ...], ...] = ()  # paths (SARIF codeFlows): reconvergent branches, loops
+    fix: str = ""
+    waived: str | None = None                # reason, when a waiver matched
+
+    # ---- convenience -------------------------------------------------------------------------
+    @property
+    def path(self) -> str:
+        return self.location.path
+
+    @property
+    def line(self) -> int:
+        return self.location.line
+
+    @property
+    def column(self) -> int:
+        return self.location.column
+
+    def with_severity(self, severity: Severity) -> "Diagnostic":
+        return replace(self, severity=severity)
+
+    def with_waiver(self, reason: str) -> "Diagnostic":
+        return replace(self, waived=reason)
+
+    def sort_key(self) -> tuple:
+        return (self.location.path, self.location.line, self.location.column, self.rule,
+                self.instance, self.message)
+
+    def fingerprint_material(self) -> str:
+        """What identifies this finding across unrelated edits: rule, kind, instance and the nets
+        of its evidence, never line numbers."""
+        nets = sorted({h.net for flow in self.flows for h in flow})
+        key = self.evidence.get("key") if isinstance(self.evidence, Mapping) else None
+        return json.dumps([self.rule, self.kind, self.instance, key, nets], sort_keys=True)
+
+    def to_json(self, relpath=lambda p: p) -> dict[str, Any]:
+        d: dict[str, Any] = {
+            "rule": self.rule,
+            "kind": self.kind,
+            "severity": str(self.severity),
+            "path": relpath(self.location.path),
+            "line": self.location.line,
+            "column": self.location.column,
+            "instance": self.instance,
+            "message": self.message,
+            "evidence": _relativise(dict(self.evidence), relpath),
+            "fix": self.fix,
+        }
+        if self.flows:
+            d["evidence"].setdefault("paths", [
+                [dict(h.to_json(), **({"path": relpath(h.location.path)} if h.location else {}))
+                 for h in flow] for flow in self.flows])
+        if self.waived is not None:
+            d["waived"] = self.waived
+        return d
+
+
+def _relativise(obj: Any, relpath) -> Any:
+    if isinstance(obj, dict):
+        return {k: (relpath(v) if k == "path" and isinstance(v, str) else _relativise(v, relpath))
+                for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_relativise(v, relpath) for v in obj]
+    return obj
+
+
+def _num(x: float | None) -> str:
+    if x is None:
+        return "?"
+    return str(int(x)) if float(x).is_integer() else f"{x:g}"
+
+
+def sort_diagnostics(diags: Iterable[Diagnostic]) -> list[Diagnostic]:
+    return sorted(diags, key=Diagnostic.sort_key)

@@ -1,0 +1,51 @@
+"""Errors that reach the user as ``file:line: error: ...`` with exit code 2, never a traceback."""
+from __future__ import annotations
+
+EXIT_CLEAN = 0
+EXIT_FINDINGS = 1
+EXIT_INPUT_ERROR = 2
+
+
+class HazlintError(Exception):
+    """A problem with the user's input or invocation.
+
+    ``path`` and ``line`` name the construct at fault where there is one; ``construct`` is a short
+    quotation of it (the offending token, the directive, the cell name).
+    """
+
+    exit_code = EXIT_INPUT_ERROR
+
+    def __init__(self, message: str, path: str | None = None, line: int | None = None,
+                 column: int | None = None, construct: str | None = None):
+        super().__init__(message)
+        self.message = message
+        self.path = path
+        self.line = line
+        self.column = column
+        self.construct = construct
+
+    def __str__(self) -> str:
+        where = ""
+        if self.path:
+            where = self.path
+            if self.line:
+                where += f":{self.line}"
+                if self.column:
+                    where += f":{self.column}"
+            where += ": "
+        text = f"{where}error: {self.message}"
+        if self.construct and self.construct not in self.message:
+            text += f" (at '{self.construct}')"
+        return text
+
+
+class ParseError(HazlintError):
+    """Syntax error in a Verilog, Liberty, SDF or configuration file."""
+
+
+class ElaborationError(HazlintError):
+    """The design parses but cannot be elaborated (unknown top, unsupported construct, ...)."""
+
+
+class ConfigError(HazlintError):
+    """Bad configuration: unknown key, wrong type, missing file."""

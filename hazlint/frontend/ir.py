@@ -1,0 +1,284 @@
+"""Netlist IR: the seam between the Verilog reader and the flattener.
+
+The reader (preprocess -> pyverilog parse -> AST walk) produces one :class:`SourceFile` per input
+file; the flattener reads nothing else. Every item carries a :class:`Loc` in the *original* file
+(line map applied through includes and macros). All values are plain data so a source file's IR
+can be cached as JSON (:func:`to_json` / :func:`from_json`).
+
+Expressions are tuples (JSON lists once cached):
+
+=================================  ======================================================
+``("id", name)``                   identifier (escaped identifiers without the backslash)
+``("num", width, value, xz, signed)``  constant; ``width`` None when unsized; ``xz`` is a
+                                   mask of x/z bits (value bit 0 = x, 1 = z at those bits)
+``("real", value)``                real constant
+``("str", text)``                  string
+``("bit", e, index)``              bit select
+``("part", e, msb, lsb)``          part select
+``("ipart", e, base, width, sign)``  indexed part select ``+:`` / ``-:`` (sign "+" or "-")
+``("concat", [e, ...])``           concatenation
+``("repl", count, [e, ...])``      replication ``{count{...}}``
+``("unop", op, e)``                op in ``~ ! - + & ~& | ~| ^ ~^``
+``("binop", op, a, b)``            op in ``& | ^ ~^ && || + - * / % ** << >> <<< >>>
+                                   == != === !== < <= > >=``
+``("cond", c, a, b)``              ``c ? a : b``
+``("call", name, [args])``         function or system-function call
+=================================  ======================================================
+
+Delays: ``Delay3 = list[MinTypMax]`` of length 1..3 (rise, fall, turn-off), each
+``MinTypMax = (min_expr, typ_expr, max_expr)`` (all three the same expression for a plain value).
+Values are in the module's ``timescale`` unit.
+"""
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
+from typing import Any, Optional, Union
+
+Expr = tuple
+MinTypMax = tuple  # (min, typ, max) expressions
+Delay3 = list      # [MinTypMax, ...] rise, fall, turn-off
+
+
+@dataclass
+class Loc:
+    path: str
+    line: int
+    col: int = 1
+
+
+@dataclass
+class Port:
+    name: str
+    direction: str                      # "input" | "output" | "inout"
+    width: Optional[tuple] = None       # (msb_expr, lsb_expr) or None for a scalar
+    net_type: str = "wire"              # "wire" | "reg" | "tri" | ...
+    signed: bool = False
+    loc: Optional[Loc] = None
+    attrs: dict = field(default_factory=dict)
+
+
+@dataclass
+class Net:
+    name: str
+    kind: str = "wire"                  # wire reg tri wand wor supply0 supply1 integer
+    width: Optional[tuple] = None
+    signed: bool = False
+    array: Optional[tuple] = None       # (msb, lsb) of a memory array dimension
+    loc: Optional[Loc] = None
+    attrs: dict = field(default_factory=dict)
+
+
+@dataclass
+class Param:
+    name: str
+    value: Expr
+    local: bool = False
+    width: Optional[tuple] = None
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class Assign:
+    lhs: Expr
+    rhs: Expr
+    delay: Optional[Delay3] = None
+    loc: Optional[Loc] = None
+    attrs: dict = field(default_factory=dict)
+
+
+@dataclass
+class Instance:
+    """A module, cell, UDP or gate-primitive instance.
+
+    ``connections`` lists ``(port_name_or_None, expr_or_None)`` in source order: named
+    connections have the port name, positional ones None; an empty ``.p()`` has expr None.
+    ``params`` likewise for ``#(...)`` parameter overrides of modules; ``delay`` holds a gate
+    primitive's or UDP's ``#`` delay instead.
+    """
+
+    cell: str
+    name: str
+    connections: list = field(default_factory=list)
+    params: list = field(default_factory=list)
+    delay: Optional[Delay3] = None
+    array: Optional[tuple] = None       # (msb, lsb) of an instance array
+    loc: Optional[Loc] = None
+    attrs: dict = field(default_factory=dict)
+
+
+# Statements inside always blocks (tuples, JSON lists when cached):
+#   ("block", [stmt, ...])
+#   ("if", cond_expr, then_stmt_or_None, else_stmt_or_None)
+#   ("assign", "=" | "<=", lhs_expr, rhs_expr, line)
+#   ("case", "case"|"casex"|"casez", expr, [([label_expr, ...] or None for default, stmt), ...])
+#   ("other", "description of the construct", line)
+Stmt = tuple
+
+
+@dataclass
+class Always:
+    # sensitivity: list of (edge, expr) with edge "posedge" | "negedge" | "level";
+    # ``star`` true for @* / @(*); ``kind`` is "always", "always_ff", "always_comb", "always_latch"
+    sens: list = field(default_factory=list)
+    star: bool = False
+    body: Optional[Stmt] = None
+    kind: str = "always"
+    loc: Optional[Loc] = None
+    attrs: dict = field(default_factory=dict)
+
+
+@dataclass
+class Initial:
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class GenFor:
+    var: str
+    init: Expr
+    cond: Expr
+    step: Expr                      # new value of ``var`` (rhs of the step assignment)
+    name: Optional[str] = None      # block label, used in hierarchical names
+    items: list = field(default_factory=list)
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class GenIf:
+    cond: Expr
+    then_items: list = field(default_factory=list)
+    else_items: list = field(default_factory=list)
+    name: Optional[str] = None
+    else_name: Optional[str] = None
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class GenCase:
+    expr: Expr
+    cases: list = field(default_factory=list)   # [([label_expr...] or None, name, items)]
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class GenBlock:
+    name: Optional[str] = None
+    items: list = field(default_factory=list)
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class SpecifyPath:
+    """A specify-block module path ``(src => dst) = delays`` or ``*>``."""
+
+    sources: list
+    destinations: list
+    delay: Optional[list] = None        # up to 6/12 MinTypMax values, as written
+    full: bool = False                  # *> (full) or => (parallel)
+    edge: Optional[str] = None          # posedge / negedge on the source
+    polarity: Optional[str] = None      # "+" / "-" / None
+    condition: Optional[Expr] = None    # if (cond) path
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class Unsupported:
+    """A construct the reader keeps only as a note (functions, tasks, unusual statements)."""
+
+    what: str
+    loc: Optional[Loc] = None
+
+
+Item = Union[Net, Param, Assign, Instance, Always, Initial, GenFor, GenIf, GenCase, GenBlock,
+             SpecifyPath, Unsupported]
+
+
+@dataclass
+class Module:
+    name: str
+    port_order: list = field(default_factory=list)   # port names as in the header
+    ports: dict = field(default_factory=dict)         # name -> Port
+    items: list = field(default_factory=list)         # source order
+    params: list = field(default_factory=list)        # header #(parameter ...) declarations
+    timescale: Optional[tuple] = None                 # (unit_seconds, precision_seconds)
+    celldefine: bool = False
+    default_nettype: str = "wire"
+    loc: Optional[Loc] = None
+    attrs: dict = field(default_factory=dict)
+
+
+@dataclass
+class Primitive:
+    """A user-defined primitive. ``rows`` are the table entries split into fields, e.g.
+    ``["0", "1", ":", "?", ":", "1"]`` becomes ``inputs=["0","1"], state="?", output="1"``."""
+
+    name: str
+    output: str
+    inputs: list = field(default_factory=list)
+    sequential: bool = False
+    initial: Optional[str] = None            # "0" | "1" | "x"
+    rows: list = field(default_factory=list)  # [{"inputs": [...], "state": str|None, "output": str, "line": n}]
+    timescale: Optional[tuple] = None
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class SourceFile:
+    path: str
+    modules: list = field(default_factory=list)
+    primitives: list = field(default_factory=list)
+    notes: list = field(default_factory=list)          # [(Loc, message)]
+    includes: list = field(default_factory=list)       # files pulled in through `include
+    digest: str = ""                                   # content hash (cache key material)
+
+
+# ---------------------------------------------------------------------------------------------
+# JSON round trip (no code execution on load: only these classes can be built)
+
+_CLASSES = {c.__name__: c for c in (Loc, Port, Net, Param, Assign, Instance, Always, Initial,
+                                    GenFor, GenIf, GenCase, GenBlock, SpecifyPath, Unsupported,
+                                    Module, Primitive, SourceFile)}
+
+
+def to_json(obj: Any) -> Any:
+    if dataclasses.is_dataclass(obj):
+        d = {"_t": type(obj).__name__}
+        for f in dataclasses.fields(obj):
+            d[f.name] = to_json(getattr(obj, f.name))
+        return d
+    if isinstance(obj, (list, tuple)):
+        return [to_json(x) for x in obj]
+    if isinstance(obj, dict):
+        return {"_d": [[to_json(k), to_json(v)] for k, v in obj.items()]}
+    return obj
+
+
+def from_json(data: Any) -> Any:
+    """Inverse of :func:`to_json`. Lists come back as tuples (expressions are tuples) except for
+    the list-typed dataclass fields, which come back as lists."""
+    if isinstance(data, dict):
+        if "_t" in data:
+            cls = _CLASSES[data["_t"]]
+            kwargs = {}
+            for f in dataclasses.fields(cls):
+                if f.name in data:
+                    v = from_json(data[f.name])
+                    if isinstance(v, tuple) and _is_list_field(f):
+                        v = list(v)
+                    kwargs[f.name] = v
+            return cls(**kwargs)
+        if "_d" in data:
+            return {_hashable(from_json(k)): from_json(v) for k, v in data["_d"]}
+        return {k: from_json(v) for k, v in data.items()}
+    if isinstance(data, list):
+        return tuple(from_json(x) for x in data)
+    return data
+
+
+def _hashable(x):
+    return tuple(_hashable(i) for i in x) if isinstance(x, (list, tuple)) else x
+
+
+def _is_list_field(f) -> bool:
+    return f.default_factory is list if f.default_factory is not dataclasses.MISSING else False
