@@ -1,0 +1,146 @@
+"""Baseline files: record today's findings, then fail only on new ones.
+
+A finding is matched by its *fingerprint*: a hash of the rule, the kind, the hierarchical
+instance path, the rule's evidence key and the nets along its evidence paths
+(:meth:`hazlint.diagnostics.Diagnostic.fingerprint_material`). Line and column numbers are not
+part of it, so inserting a comment above a gate, reformatting a file or moving a module to
+another file leaves the baseline valid; changing the circuit along a hazard's paths makes it a
+new finding, which is the point. Matching counts multiplicity: two identical fingerprints in the
+baseline absorb at most two findings.
+
+File format (JSON, written sorted so it diffs well)::
+
+    {"hazlint-baseline": 1, "tool": "hazlint 0.1.0",
+     "findings": [{"fingerprint": "...", "rule": "...", "kind": "...", "instance": "...",
+                   "path": "rtl/press.v", "line": 12, "message": "..."}, ...]}
+
+Only ``fingerprint`` is used for matching; the other fields are there for the human reading the
+diff in review.
+"""
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+from collections import Counter
+from dataclasses import dataclass, field
+from typing import Iterable, Sequence
+
+from . import __version__
+from .diagnostics import Diagnostic, sort_diagnostics
+from .errors import ConfigError
+
+FORMAT = 1
+_MAGIC = "hazlint-baseline"
+
+
+def fingerprint(d: Diagnostic) -> str:
+    """Stable identity of a finding across unrelated edits (hex, 32 characters)."""
+    return hashlib.sha256(d.fingerprint_material().encode("utf-8")).hexdigest()[:32]
+
+
+def _rel(path: str, root: str | None) -> str:
+    if not path:
+        return path
+    if root:
+        try:
+            rel = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
+            if not rel.startswith(".."):
+                return rel.replace(os.sep, "/")
+        except ValueError:
+            pass
+    return path.replace(os.sep, "/")
+
+
+@dataclass
+class Baseline:
+    path: str = ""
+    counts: Counter = field(default_factory=Counter)     # fingerprint -> how many recorded
+    entries: list = field(default_factory=list)
+
+    def split(self, diagnostics: Iterable[Diagnostic]) -> tuple[list[Diagnostic], list[Diagnostic]]:
+        """(new, known): ``known`` are findings the baseline accounts for."""
+        left = Counter(self.counts)
+        new: list[Diagnostic] = []
+        known: list[Diagnostic] = []
+        for d in sort_diagnostics(diagnostics):
+            fp = fingerprint(d)
+            if left[fp] > 0:
+                left[fp] -= 1
+                known.append(d)
+            else:
+                new.append(d)
+        return new, known
+
+    def fixed(self, diagnostics: Iterable[Diagnostic]) -> list[dict]:
+        """Baseline entries no current finding matches (fixed since, or changed beyond match)."""
+        seen = Counter(fingerprint(d) for d in diagnostics)
+        out = []
+        for e in self.entries:
+            fp = e["fingerprint"]
+            if seen[fp] > 0:
+                seen[fp] -= 1
+            else:
+                out.append(e)
+        return out
+
+    def __len__(self) -> int:
+        return sum(self.counts.values())
+
+
+def baseline_entries(diagnostics: Iterable[Diagnostic], root: str | None = None) -> list[dict]:
+    rows = []
+    for d in sort_diagnostics(diagnostics):
+        if d.waived is not None:
+            continue
+        rows.append({"fingerprint": fingerprint(d), "rule": d.rule, "kind": d.kind,
+                     "instance": d.instance, "path": _rel(d.location.path, root),
+                     "line": d.location.line, "message": d.message})
+    rows.sort(key=lambda r: (r["path"], r["rule"], r["instance"], r["fingerprint"]))
+    return rows
+
+
+def write_baseline(path: str | os.PathLike, diagnostics: Sequence[Diagnostic],
+                   root: str | None = None) -> int:
+    """Write a baseline of the (unwaived) findings; returns the number recorded."""
+    rows = baseline_entries(diagnostics, root)
+    doc = {_MAGIC: FORMAT, "tool": f"hazlint {__version__}", "findings": rows}
+    text = json.dumps(doc, indent=1, sort_keys=True) + "\n"
+    tmp = f"{os.fspath(path)}.tmp{os.getpid()}"
+    try:
+        with open(tmp, "w", encoding="utf-8") as fh:
+            fh.write(text)
+        os.replace(tmp, path)
+    except OSError as exc:
+        raise ConfigError(f"cannot write baseline: {exc.strerror}", path=os.fspath(path)) from None
+    return len(rows)
+
+
+def load_baseline(path: str | os.PathLike) -> Baseline:
+    p = os.fspath(path)
+    try:
+        with open(p, encoding="utf-8") as fh:
+            text = fh.read()
+    except OSError as exc:
+        raise ConfigError(f"cannot read baseline: {exc.strerror}", path=p) from None
+    try:
+        doc = json.loads(text)
+    except ValueError as exc:
+        line = getattr(exc, "lineno", None)
+        raise ConfigError(f"baseline is not valid JSON: {getattr(exc, 'msg', exc)}",
+                          path=p, line=line) from None
+    if not isinstance(doc, dict) or doc.get(_MAGIC) != FORMAT:
+        raise ConfigError(f"not a hazlint baseline (missing \"{_MAGIC}\": {FORMAT})", path=p,
+                          line=1)
+    rows = doc.get("findings")
+    if not isinstance(rows, list):
+        raise ConfigError("baseline has no \"findings\" list", path=p, line=1)
+    counts: Counter = Counter()
+    entries = []
+    for i, r in enumerate(rows):
+        if not isinstance(r, dict) or not isinstance(r.get("fingerprint"), str):
+            raise ConfigError(f"baseline entry {i + 1} has no \"fingerprint\" string", path=p,
+                              construct=json.dumps(r)[:60])
+        counts[r["fingerprint"]] += 1
+        entries.append(r)
+    return Baseline(path=p, counts=counts, entries=entries)

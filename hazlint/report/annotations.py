@@ -1,0 +1,61 @@
+"""One line per finding in the workflow-command form CI runners turn into inline annotations::
+
+    ::warning file=rtl/press.v,line=12,col=5,title=hazlint reconvergence (press_top.g3)::message
+
+The runner reads ``::<level> <properties>::<text>`` from a step's output and shows ``text`` on the
+pull-request diff at ``file:line``. Levels are ``error``, ``warning`` and ``notice``. Property
+values escape ``%``, CR, LF, ``:`` and ``,``; the text escapes ``%``, CR and LF (the runner's
+escaping rules, from memory of its documentation), so the evidence lines can follow the message
+on the same physical line as ``%0A``-separated lines. Paths are relative to the source root,
+because the runner resolves them against the repository checkout.
+"""
+from __future__ import annotations
+
+import os
+from typing import Any, Iterable
+
+from ..diagnostics import Diagnostic, Severity, sort_diagnostics
+
+_LEVEL = {Severity.ERROR: "error", Severity.WARNING: "warning", Severity.INFO: "notice"}
+
+
+def escape_data(text: str) -> str:
+    return text.replace("%", "%25").replace("\r", "%0D").replace("\n", "%0A")
+
+
+def escape_property(text: str) -> str:
+    return escape_data(text).replace(":", "%3A").replace(",", "%2C")
+
+
+def _rel(path: str, root: str | None) -> str:
+    if root and path:
+        rel = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
+        if not rel.startswith(".."):
+            return rel.replace(os.sep, "/")
+    return path.replace(os.sep, "/")
+
+
+def annotation_line(d: Diagnostic, root: str | None = None) -> str:
+    props = [f"file={escape_property(_rel(d.location.path, root))}"]
+    if d.location.line:
+        props.append(f"line={int(d.location.line)}")
+        if d.location.column:
+            props.append(f"col={int(d.location.column)}")
+    title = f"hazlint {d.rule}" + (f" ({d.instance})" if d.instance else "")
+    props.append(f"title={escape_property(title)}")
+    body = [d.message, *d.notes]
+    if d.fix:
+        body.append(f"fix: {d.fix}")
+    level = _LEVEL.get(d.severity, "warning")
+    return f"::{level} {','.join(props)}::{escape_data(chr(10).join(body))}"
+
+
+def render_diagnostics(diagnostics: Iterable[Diagnostic], root: str | None = None) -> str:
+    lines = [annotation_line(d, root) for d in sort_diagnostics(diagnostics) if d.waived is None]
+    return "".join(line + "\n" for line in lines)
+
+
+def render(result: Any) -> str:
+    """Annotation lines for a :class:`hazlint.api.LintResult` (waived findings are left out)."""
+    return render_diagnostics(getattr(result, "diagnostics", ()) or (),
+                              getattr(result, "root", None) or os.getcwd())

