@@ -1,0 +1,734 @@
+"""A small reader for Liberty (.lib) cell libraries.
+
+Liberty is a nested text format of *groups* ``name(args) { ... }``, *simple attributes*
+``name : value ;`` and *complex attributes* ``name(args) ;`` with ``/* */`` comments and ``\\``
+line continuations. This module reads it in three steps:
+
+1. :func:`tokenize` - one regular expression over the whole text, with line numbers;
+2. :func:`parse_liberty` - the group/attribute tree (:class:`Group`), no semantics;
+3. :func:`read_liberty` - the semantics hazlint needs, as a :class:`hazlint.library.Library`:
+   pins and directions, output ``function`` and ``three_state``, ``ff``/``latch`` groups, and one
+   :class:`~hazlint.library.Delay` per timing arc from the NLDM ``cell_rise``/``cell_fall`` tables
+   at a chosen input slew and output load.
+
+Delays are read from the look-up tables by multilinear interpolation over the table's breakpoints
+(bilinear for the usual two-dimensional table), extrapolating linearly beyond the first and last
+breakpoints (common practice for NLDM tables). Several ``timing`` groups for the same
+(related pin, output pin), e.g. state-dependent ``when`` arcs, fold into one Delay: the minimum and
+maximum across them. Constraint arcs (setup, hold, recovery, removal, pulse width, ...) are not
+delays and are skipped.
+
+Why our own reader: the Liberty parser on PyPI is GPL-3.0-or-later, which does not fit an
+Apache-2.0 tool as a required dependency; the subset needed here is small (see DEVELOPERS.md).
+"""
+from __future__ import annotations
+
+import bisect
+import re
+from dataclasses import dataclass, field
+from typing import Any, Iterator, Sequence
+
+from .errors import ParseError
+from .library import (CellDef, Delay, FunctionSyntaxError, Library, SequentialSpec, expr_vars,
+                      parse_function)
+
+# ---------------------------------------------------------------------------------------------
+# 1. Tokens
+
+_TOKENS = re.compile(r"""
+    (?P<ws>[ \t\r\f]+|\\[ \t]*\r?\n)           # blanks; backslash-newline continues a line
+  | (?P<nl>\n)
+  | (?P<comment>/\*.*?\*/|//[^\n]*)
+  | (?P<badcomment>/\*)
+  | (?P<string>"(?:[^"\\]|\\.)*")
+  | (?P<badstring>")
+  | (?P<punct>[(){};:,])
+  | (?P<word>[^\s(){};:,"]+)
+""", re.VERBOSE | re.DOTALL)
+
+
+@dataclass
+class Token:
+    kind: str          # "string" | "punct" | "word" | "nl" | "end"
+    text: str
+    line: int
+
+
+def tokenize(text: str, path: str = "<liberty>") -> list[Token]:
+    """Split Liberty text into tokens. Newlines are kept (a simple attribute may omit ``;``)."""
+    out: list[Token] = []
+    line = 1
+    pos = 0
+    n = len(text)
+    match = _TOKENS.match
+    while pos < n:
+        m = match(text, pos)
+        kind = m.lastgroup if m else None
+        if kind in (None, "badcomment", "badstring"):
+            frag = text[pos:pos + 20].split("\n")[0]
+            what = {"badcomment": "unterminated comment", "badstring": "unterminated string"}.get(
+                kind, f"unexpected character {frag!r}")
+            raise ParseError(f"Liberty: {what}", path=path, line=line, construct=frag)
+        tok = m.group(kind)
+        if kind == "nl":
+            out.append(Token("nl", "\n", line))
+        elif kind in ("string", "punct", "word"):
+            out.append(Token(kind, tok, line))
+        line += tok.count("\n")
+        pos = m.end()
+    out.append(Token("end", "", line))
+    return out
+
+
+# ---------------------------------------------------------------------------------------------
+# 2. Group / attribute tree
+
+@dataclass
+class Attribute:
+    name: str
+    value: Any          # simple attribute: str; complex attribute: list[str]
+    line: int
+    complex: bool = False
+
+
+@dataclass
+class Group:
+    kind: str                       # "library", "cell", "pin", "timing", "cell_rise", ...
+    args: list[str]
+    line: int
+    attrs: list[Attribute] = field(default_factory=list)
+    groups: list["Group"] = field(default_factory=list)
+
+    @property
+    def name(self) -> str:
+        return self.args[0] if self.args else ""
+
+    def attr(self, name: str, default: Any = None) -> Any:
+        """The last simple or complex attribute of that name (Liberty: a later one wins)."""
+        for a in reversed(self.attrs):
+            if a.name == name:
+                return a.value
+        return default
+
+    def attr_line(self, name: str) -> int:
+        for a in reversed(self.attrs):
+            if a.name == name:
+                return a.line
+        return self.line
+
+    def subgroups(self, kind: str) -> Iterator["Group"]:
+        return (g for g in self.groups if g.kind == kind)
+
+
+def _unquote(s: str) -> str:
+    if len(s) >= 2 and s[0] == '"' and s[-1] == '"':
+        return s[1:-1].replace('\\"', '"')
+    return s
+
+
+def parse_liberty(text: str, path: str = "<liberty>") -> Group:
+    """Parse Liberty text into its top ``library`` group (syntax only)."""
+    toks = tokenize(text, path)
+    i = 0
+
+    def err(msg: str, tok: Token):
+        raise ParseError(f"Liberty: {msg}", path=path, line=tok.line,
+                         construct=tok.text or "end of file")
+
+    def skip_nl():
+        nonlocal i
+        while toks[i].kind == "nl":
+            i += 1
+
+    def parse_args() -> list[str]:
+        """After '(' up to the matching ')': comma- or blank-separated values."""
+        nonlocal i
+        args: list[str] = []
+        while True:
+            skip_nl()
+            t = toks[i]
+            if t.kind == "punct" and t.text == ")":
+                i += 1
+                return args
+            if t.kind == "punct" and t.text == ",":
+                i += 1
+                continue
+            if t.kind in ("word", "string"):
+                args.append(_unquote(t.text))
+                i += 1
+                continue
+            if t.kind == "punct" and t.text == ":":   # e.g. a bus range written a:b
+                if args:
+                    args[-1] += ":"
+                i += 1
+                if toks[i].kind == "word":
+                    args[-1] += toks[i].text
+                    i += 1
+                continue
+            err("expected ')' to close the argument list" if t.kind == "end"
+                else f"unexpected '{t.text}' in an argument list", t)
+
+    def parse_body(group: Group):
+        """Statements until '}' (or end of file for the top level, reported by the caller)."""
+        nonlocal i
+        while True:
+            skip_nl()
+            t = toks[i]
+            if t.kind == "punct" and t.text == "}":
+                i += 1
+                return
+            if t.kind == "punct" and t.text == ";":      # stray empty statement
+                i += 1
+                continue
+            if t.kind == "end":
+                err(f"group '{group.kind}' opened at line {group.line} is not closed", t)
+            if t.kind not in ("word", "string"):
+                err(f"expected an attribute or group name, found '{t.text}'", t)
+            name = _unquote(t.text)
+            line = t.line
+            i += 1
+            nxt = toks[i]
+            if nxt.kind == "punct" and nxt.text == ":":
+                i += 1
+                parts: list[str] = []
+                while True:
+                    v = toks[i]
+                    if v.kind == "word" or v.kind == "string":
+                        parts.append(_unquote(v.text))
+                        i += 1
+                    elif v.kind == "punct" and v.text == ":" and parts:   # e.g. a:b inside a value
+                        parts[-1] += ":"
+                        i += 1
+                    else:
+                        break
+                if not parts:
+                    err(f"attribute '{name}' has no value", toks[i])
+                v = toks[i]
+                if v.kind == "punct" and v.text == ";":
+                    i += 1
+                elif not (v.kind == "nl" or (v.kind == "punct" and v.text == "}")):
+                    err(f"expected ';' after the value of attribute '{name}'", v)
+                group.attrs.append(Attribute(name, " ".join(parts), line))
+            elif nxt.kind == "punct" and nxt.text == "(":
+                i += 1
+                args = parse_args()
+                skip_nl_after = i
+                while toks[skip_nl_after].kind == "nl":
+                    skip_nl_after += 1
+                after = toks[skip_nl_after]
+                if after.kind == "punct" and after.text == "{":
+                    i = skip_nl_after + 1
+                    sub = Group(name, args, line)
+                    parse_body(sub)
+                    group.groups.append(sub)
+                else:
+                    if toks[i].kind == "punct" and toks[i].text == ";":
+                        i += 1
+                    elif not (toks[i].kind == "nl" or toks[i].kind == "end"
+                              or (toks[i].kind == "punct" and toks[i].text == "}")):
+                        err(f"expected ';' after attribute '{name}(...)'", toks[i])
+                    group.attrs.append(Attribute(name, args, line, complex=True))
+            else:
+                err(f"expected ':' or '(' after '{name}'", nxt)
+
+    skip_nl()
+    t = toks[i]
+    if t.kind != "word" or t.text not in ("library",):
+        err("a Liberty file starts with 'library (name) {'", t)
+    i += 1
+    if not (toks[i].kind == "punct" and toks[i].text == "("):
+        err("expected '(' after 'library'", toks[i])
+    i += 1
+    top = Group("library", parse_args(), t.line)
+    skip_nl()
+    if not (toks[i].kind == "punct" and toks[i].text == "{"):
+        err("expected '{' to open the library group", toks[i])
+    i += 1
+    parse_body(top)
+    skip_nl()
+    while toks[i].kind == "punct" and toks[i].text == ";":
+        i += 1
+        skip_nl()
+    if toks[i].kind != "end":
+        err("text after the end of the library group", toks[i])
+    return top
+
+
+# ---------------------------------------------------------------------------------------------
+# 3a. NLDM tables
+
+@dataclass
+class Table:
+    """A look-up table: breakpoints per variable and values in row-major order.
+
+    ``variables`` are Liberty variable names (``input_net_transition``,
+    ``total_output_net_capacitance``, ...); ``indices[k]`` the breakpoints of variable *k*;
+    ``values`` a flat list, the last variable varying fastest. A scalar table has no variables.
+    """
+
+    variables: list[str]
+    indices: list[list[float]]
+    values: list[float]
+    line: int = 0
+
+    def lookup(self, point: Sequence[float]) -> float:
+        """Multilinear interpolation at ``point`` (one coordinate per variable), extrapolating
+        linearly outside the breakpoints (common practice for NLDM tables)."""
+        if not self.variables:
+            return self.values[0]
+        return _interp(self.indices, self.values, list(point))
+
+    def at(self, slew: float | None, load: float | None) -> float:
+        """Value at an input slew and output load; a variable not given (``None``) or not one of
+        those two is taken at its first breakpoint (the smallest characterised point)."""
+        pt = []
+        for var, idx in zip(self.variables, self.indices):
+            if var in _SLEW_VARS and slew is not None:
+                pt.append(slew)
+            elif var in _LOAD_VARS and load is not None:
+                pt.append(load)
+            else:
+                pt.append(idx[0])
+        return self.lookup(pt)
+
+
+_SLEW_VARS = frozenset({"input_net_transition", "input_transition_time",
+                        "related_pin_transition"})
+_LOAD_VARS = frozenset({"total_output_net_capacitance", "output_net_pin_cap",
+                        "output_net_wire_cap"})
+
+
+def _segment(idx: Sequence[float], x: float) -> tuple[int, float]:
+    """Lower breakpoint number and the fraction ``t`` of x along that segment (t < 0 or t > 1
+    extrapolates)."""
+    if len(idx) == 1:
+        return 0, 0.0
+    k = bisect.bisect_right(idx, x) - 1
+    k = min(max(k, 0), len(idx) - 2)
+    x0, x1 = idx[k], idx[k + 1]
+    return k, (x - x0) / (x1 - x0)
+
+
+def _interp(indices: list[list[float]], values: list[float], point: list[float]) -> float:
+    """Multilinear interpolation, one dimension at a time (no recursion on corners: 2^d terms)."""
+    dims = len(indices)
+    strides = [1] * dims
+    for k in range(dims - 2, -1, -1):
+        strides[k] = strides[k + 1] * len(indices[k + 1])
+    segs = [_segment(indices[k], point[k]) for k in range(dims)]
+    total = 0.0
+    for corner in range(1 << dims):
+        w = 1.0
+        off = 0
+        for k in range(dims):
+            lo, t = segs[k]
+            hi = (corner >> k) & 1
+            if len(indices[k]) == 1:
+                if hi:
+                    w = 0.0
+                    break
+                off += lo * strides[k]
+                continue
+            w *= t if hi else (1.0 - t)
+            off += (lo + hi) * strides[k]
+        if w:
+            total += w * values[off]
+    return total
+
+
+def _floats(text: str, what: str, path: str, line: int) -> list[float]:
+    out = []
+    for part in re.split(r"[,\s]+", text.strip()):
+        if not part:
+            continue
+        try:
+            out.append(float(part))
+        except ValueError:
+            raise ParseError(f"Liberty: {what}: '{part}' is not a number", path=path, line=line,
+                             construct=part) from None
+    return out
+
+
+@dataclass
+class Template:
+    name: str
+    variables: list[str]
+    indices: list[list[float]]
+
+
+def _read_template(g: Group, path: str) -> Template:
+    variables = []
+    for k in (1, 2, 3):
+        v = g.attr(f"variable_{k}")
+        if v is not None:
+            variables.append(str(v))
+    indices = []
+    for k in range(1, len(variables) + 1):
+        a = g.attr(f"index_{k}")
+        indices.append(_floats(" ".join(a), f"index_{k} of template '{g.name}'", path,
+                               g.attr_line(f"index_{k}")) if a else [])
+    return Template(g.name, variables, indices)
+
+
+def _read_table(g: Group, templates: dict[str, Template], path: str) -> Table:
+    tname = g.name
+    if tname in ("scalar", "") and tname not in templates:
+        tpl = Template("scalar", [], [])
+    elif tname in templates:
+        tpl = templates[tname]
+    else:
+        raise ParseError(f"Liberty: table '{g.kind}' uses undefined template '{tname}'",
+                         path=path, line=g.line, construct=tname)
+    indices = []
+    for k in range(1, len(tpl.variables) + 1):
+        a = g.attr(f"index_{k}")
+        idx = (_floats(" ".join(a), f"{g.kind} index_{k}", path, g.attr_line(f"index_{k}"))
+               if a is not None else list(tpl.indices[k - 1]))
+        if not idx:
+            raise ParseError(f"Liberty: {g.kind}: no breakpoints for '{tpl.variables[k - 1]}' "
+                             f"(template '{tname}' has no index_{k})", path=path, line=g.line,
+                             construct=g.kind)
+        if any(b <= a_ for a_, b in zip(idx, idx[1:])):
+            raise ParseError(f"Liberty: {g.kind} index_{k} must increase strictly",
+                             path=path, line=g.attr_line(f"index_{k}"), construct=f"index_{k}")
+        indices.append(idx)
+    vals = g.attr("values")
+    if vals is None:
+        raise ParseError(f"Liberty: table '{g.kind}' has no values", path=path, line=g.line,
+                         construct=g.kind)
+    if not isinstance(vals, list):
+        vals = [vals]
+    line = g.attr_line("values")
+    rows = [_floats(r, f"{g.kind} values", path, line) for r in vals]
+    flat = [v for r in rows for v in r]
+    want = 1
+    for idx in indices:
+        want *= len(idx)
+    if len(flat) != want:
+        raise ParseError(f"Liberty: {g.kind} has {len(flat)} values but its breakpoints need "
+                         f"{want} ({' x '.join(str(len(x)) for x in indices) or 'scalar'})",
+                         path=path, line=line, construct="values")
+    if len(indices) >= 2 and len(rows) > 1:
+        inner = want // len(indices[0])
+        if any(len(r) != inner for r in rows):
+            raise ParseError(f"Liberty: {g.kind} rows must have {inner} values each "
+                             f"(one row per index_1 breakpoint)", path=path, line=line,
+                             construct="values")
+    return Table(list(tpl.variables), indices, flat, g.line)
+
+
+# ---------------------------------------------------------------------------------------------
+# 3b. Cells
+
+# timing_type values that describe a delay from related pin to this pin; others are checks
+_DELAY_TIMING_TYPES = frozenset({
+    "combinational", "combinational_rise", "combinational_fall",
+    "rising_edge", "falling_edge", "clear", "preset",
+    "three_state_enable", "three_state_disable",
+    "three_state_enable_rise", "three_state_enable_fall",
+    "three_state_disable_rise", "three_state_disable_fall",
+})
+
+_UNITS = {"s": 1.0, "ms": 1e-3, "us": 1e-6, "ns": 1e-9, "ps": 1e-12, "fs": 1e-15}
+
+
+def parse_time_unit(text: str) -> float | None:
+    """``"1ns"`` -> 1e-9 seconds; ``"10ps"`` -> 1e-11. None if it is not a time."""
+    m = re.fullmatch(r"\s*([0-9.eE+-]*)\s*([munpf]?s)\s*", text or "")
+    if not m:
+        return None
+    num = float(m.group(1)) if m.group(1) else 1.0
+    return num * _UNITS[m.group(2)]
+
+
+@dataclass
+class ArcInfo:
+    """One Liberty timing group, kept for inspection (the Delay in ``CellDef.arcs`` folds them)."""
+
+    related_pin: str
+    pin: str
+    timing_type: str
+    timing_sense: str | None
+    rise: float | None
+    fall: float | None
+    line: int
+
+
+class LibertyLibrary(Library):
+    """A :class:`~hazlint.library.Library` read from a Liberty file, with what the file said
+    besides the cells: its name, units, the slew/load the delays were read at, the cells that
+    could not be modelled (``skipped``: name -> reason) and every timing group (``timing``)."""
+
+    def __init__(self, cells=None, *, name: str = "", path: str = "",
+                 time_unit: float | None = None, capacitive_load_unit: tuple[float, str] | None
+                 = None, input_slew: float | None = None, output_load: float | None = None):
+        super().__init__(cells)
+        self.name = name
+        self.path = path
+        self.time_unit = time_unit                # seconds per library time unit (None: unknown)
+        self.capacitive_load_unit = capacitive_load_unit
+        self.input_slew = input_slew
+        self.output_load = output_load
+        self.skipped: dict[str, str] = {}
+        self.timing: dict[str, list[ArcInfo]] = {}
+
+
+def read_liberty(path: str, *, input_slew: float | None = None,
+                 output_load: float | None = None, text: str | None = None) -> LibertyLibrary:
+    """Read a Liberty file into a Library of :class:`~hazlint.library.CellDef`.
+
+    ``input_slew`` and ``output_load`` are in the library's own time and capacitance units; when
+    not given, each table is read at its first breakpoint in that variable. Delays stay in the
+    library's time unit (``LibertyLibrary.time_unit`` seconds). Cells that cannot be modelled
+    (state tables, bus pins, outputs mixing state and inputs) are left out and listed in
+    ``skipped``, so the flattener treats their instances as black boxes.
+
+    Raises :class:`~hazlint.errors.ParseError` with file:line for malformed input.
+    """
+    if text is None:
+        try:
+            with open(path, encoding="utf-8", errors="replace") as fh:
+                text = fh.read()
+        except OSError as exc:
+            raise ParseError(f"cannot read Liberty file: {exc.strerror}", path=path) from None
+    top = parse_liberty(text, path)
+    cl = top.attr("capacitive_load_unit")
+    cap_unit = None
+    if isinstance(cl, list) and len(cl) == 2:
+        try:
+            cap_unit = (float(cl[0]), cl[1])
+        except ValueError:
+            cap_unit = None
+    tu = top.attr("time_unit")
+    lib = LibertyLibrary(name=top.name, path=path,
+                         time_unit=parse_time_unit(tu) if tu else None,
+                         capacitive_load_unit=cap_unit, input_slew=input_slew,
+                         output_load=output_load)
+    templates: dict[str, Template] = {}
+    for kind in ("lu_table_template", "power_lut_template", "output_current_template"):
+        for g in top.subgroups(kind):
+            templates[g.name] = _read_template(g, path)
+    for g in top.subgroups("cell"):
+        if not g.args:
+            raise ParseError("Liberty: cell group without a name", path=path, line=g.line,
+                             construct="cell")
+        cell, reason = _read_cell(g, templates, lib, path)
+        if cell is None:
+            lib.skipped[g.name] = reason
+        else:
+            lib.add(cell)
+    return lib
+
+
+def _fn(text: str, what: str, path: str, line: int):
+    try:
+        return parse_function(text)
+    except FunctionSyntaxError as exc:
+        raise ParseError(f"Liberty: {what}: {exc}", path=path, line=line,
+                         construct=text) from None
+
+
+def _rename(e, mapping: dict[str, str]):
+    if e[0] == "var":
+        return ("var", mapping.get(e[1], e[1]))
+    if e[0] == "const":
+        return e
+    return (e[0], *(_rename(x, mapping) for x in e[1:]))
+
+
+def _read_cell(g: Group, templates: dict[str, Template], lib: LibertyLibrary,
+               path: str) -> tuple[CellDef | None, str]:
+    name = g.name
+    for unsupported in ("statetable", "ff_bank", "latch_bank", "bus", "bundle"):
+        sub = next(g.subgroups(unsupported), None)
+        if sub is not None:
+            return None, f"'{unsupported}' group (line {sub.line}) is not modelled"
+    inputs: list[str] = []
+    outputs: list[str] = []
+    inouts: list[str] = []
+    pin_groups: list[tuple[str, Group]] = []
+    for p in g.subgroups("pin"):
+        if not p.args:
+            raise ParseError(f"Liberty: cell '{name}': pin group without a name", path=path,
+                             line=p.line, construct="pin")
+        direction = str(p.attr("direction", "")).strip()
+        if direction not in ("input", "output", "inout", "internal"):
+            raise ParseError(f"Liberty: cell '{name}' pin '{p.name}': direction must be input, "
+                             f"output, inout or internal, not '{direction or 'missing'}'",
+                             path=path, line=p.attr_line("direction"), construct=p.name)
+        for pname in p.args:
+            if direction == "input":
+                inputs.append(pname)
+            elif direction == "output":
+                outputs.append(pname)
+            elif direction == "inout":
+                inouts.append(pname)
+            pin_groups.append((pname, p))
+    cell = CellDef(name=name, inputs=inputs, outputs=outputs, inouts=inouts, source=path,
+                   line=g.line)
+    seq_groups = [s for s in g.groups if s.kind in ("ff", "latch")]
+    if len(seq_groups) > 1:
+        return None, "more than one ff/latch group"
+    state_vars: dict[str, str] = {}
+    if seq_groups:
+        s = seq_groups[0]
+        if len(s.args) != 2:
+            raise ParseError(f"Liberty: cell '{name}': {s.kind} group needs two state variable "
+                             f"names, e.g. {s.kind}(IQ, IQN)", path=path, line=s.line,
+                             construct=s.kind)
+        state_vars = {s.args[0]: "IQ", s.args[1]: "IQN"}
+
+        def sfn(key):
+            v = s.attr(key)
+            if v is None:
+                return None
+            return _rename(_fn(str(v), f"cell '{name}' {s.kind} {key}", path, s.attr_line(key)),
+                           state_vars)
+        spec = SequentialSpec(kind=s.kind, clocked_on=sfn("clocked_on"),
+                              next_state=sfn("next_state"), enable=sfn("enable"),
+                              data_in=sfn("data_in"), clear=sfn("clear"), preset=sfn("preset"),
+                              clear_preset_var1=s.attr("clear_preset_var1"),
+                              clear_preset_var2=s.attr("clear_preset_var2"))
+        if s.kind == "ff" and (spec.clocked_on is None or spec.next_state is None):
+            raise ParseError(f"Liberty: cell '{name}': ff group needs clocked_on and next_state",
+                             path=path, line=s.line, construct="ff")
+        if s.kind == "latch" and (spec.enable is None) != (spec.data_in is None):
+            raise ParseError(f"Liberty: cell '{name}': latch group needs both enable and "
+                             f"data_in", path=path, line=s.line, construct="latch")
+        if s.kind == "latch" and spec.enable is None and spec.clear is None and \
+                spec.preset is None:
+            return None, "latch group with neither enable nor clear/preset"
+        cell.sequential = spec
+    known = set(inputs) | set(inouts)
+    for pname, p in pin_groups:
+        if pname not in outputs and pname not in inouts:
+            continue
+        fn = p.attr("function")
+        if fn is not None:
+            line = p.attr_line("function")
+            e = _rename(_fn(str(fn), f"cell '{name}' pin '{pname}' function", path, line),
+                        state_vars)
+            used = expr_vars(e)
+            uses_state = any(v in ("IQ", "IQN") for v in used)
+            if uses_state:
+                if cell.sequential is None:
+                    raise ParseError(f"Liberty: cell '{name}' pin '{pname}': function uses "
+                                     f"state variable without an ff or latch group", path=path,
+                                     line=line, construct=str(fn))
+                if e in (("var", "IQ"), ("not", ("var", "IQN"))):
+                    cell.sequential.state_outputs[pname] = "Q"
+                elif e in (("var", "IQN"), ("not", ("var", "IQ"))):
+                    cell.sequential.state_outputs[pname] = "QN"
+                else:
+                    return None, (f"output '{pname}' mixes the state with inputs "
+                                  f"('{fn}'), which is not modelled")
+            else:
+                for v in used:
+                    if v not in known:
+                        raise ParseError(f"Liberty: cell '{name}' pin '{pname}': function uses "
+                                         f"unknown pin '{v}'", path=path, line=line,
+                                         construct=str(fn))
+                cell.functions[pname] = e
+        ts = p.attr("three_state")
+        if ts is not None:
+            line = p.attr_line("three_state")
+            te = _fn(str(ts), f"cell '{name}' pin '{pname}' three_state", path, line)
+            for v in expr_vars(te):
+                if v not in known:
+                    raise ParseError(f"Liberty: cell '{name}' pin '{pname}': three_state uses "
+                                     f"unknown pin '{v}'", path=path, line=line, construct=str(ts))
+            cell.three_state[pname] = te
+    if cell.sequential is not None:
+        for v in _seq_vars(cell.sequential):
+            if v not in known and v not in ("IQ", "IQN"):
+                raise ParseError(f"Liberty: cell '{name}': {cell.sequential.kind} group uses "
+                                 f"unknown pin '{v}'", path=path, line=seq_groups[0].line,
+                                 construct=v)
+    # timing arcs
+    infos: list[ArcInfo] = []
+    acc: dict[tuple[str, str], list[tuple[float | None, float | None]]] = {}
+    for pname, p in pin_groups:
+        for t in p.subgroups("timing"):
+            ttype = str(t.attr("timing_type", "combinational"))
+            if ttype not in _DELAY_TIMING_TYPES:
+                continue
+            rel = t.attr("related_pin")
+            if rel is None:
+                raise ParseError(f"Liberty: cell '{name}' pin '{pname}': timing group without "
+                                 f"related_pin", path=path, line=t.line, construct="timing")
+            rise = _arc_value(t, "rise", templates, lib, path)
+            fall = _arc_value(t, "fall", templates, lib, path)
+            if ttype in ("combinational_rise", "three_state_enable_rise",
+                         "three_state_disable_rise"):
+                fall = None
+            elif ttype in ("combinational_fall", "three_state_enable_fall",
+                           "three_state_disable_fall"):
+                rise = None
+            for rp in str(rel).split():
+                if rp not in known and rp not in outputs:
+                    raise ParseError(f"Liberty: cell '{name}' pin '{pname}': related_pin "
+                                     f"'{rp}' is not a pin of the cell", path=path,
+                                     line=t.attr_line("related_pin"), construct=rp)
+                infos.append(ArcInfo(rp, pname, ttype, t.attr("timing_sense"), rise, fall,
+                                     t.line))
+                if rise is not None or fall is not None:
+                    acc.setdefault((rp, pname), []).append((rise, fall))
+    for arc, vals in acc.items():
+        rises = [r for r, _ in vals if r is not None]
+        falls = [f for _, f in vals if f is not None]
+        rises = rises or falls
+        falls = falls or rises
+        cell.arcs[arc] = Delay(min(rises), max(rises), min(falls), max(falls))
+    lib.timing[name] = infos
+    return cell, ""
+
+
+def _seq_vars(spec: SequentialSpec) -> list[str]:
+    out: list[str] = []
+    for e in (spec.clocked_on, spec.next_state, spec.enable, spec.data_in, spec.clear,
+              spec.preset):
+        if e is not None:
+            out.extend(expr_vars(e))
+    return out
+
+
+def _arc_value(t: Group, edge: str, templates: dict[str, Template], lib: LibertyLibrary,
+               path: str) -> float | None:
+    """Delay of one output transition of a timing group: the NLDM table ``cell_<edge>`` at the
+    configured point, else the linear model ``intrinsic_<edge> + <edge>_resistance * load``.
+    Negative values (from extrapolation) are clamped at zero."""
+    tab = next(t.subgroups(f"cell_{edge}"), None)
+    if tab is not None:
+        v = _read_table(tab, templates, path).at(lib.input_slew, lib.output_load)
+        return max(v, 0.0)
+    intrinsic = t.attr(f"intrinsic_{edge}")
+    if intrinsic is not None:
+        line = t.attr_line(f"intrinsic_{edge}")
+        base = _floats(str(intrinsic), f"intrinsic_{edge}", path, line)[0]
+        res = t.attr(f"{edge}_resistance")
+        r = _floats(str(res), f"{edge}_resistance", path, t.attr_line(f"{edge}_resistance"))[0] \
+            if res is not None else 0.0
+        return max(base + r * (lib.output_load or 0.0), 0.0)
+    return None
+
+
+def table_of(lib_path: str, cell: str, pin: str, related_pin: str, edge: str = "rise",
+             text: str | None = None) -> list[Table]:
+    """The ``cell_<edge>`` tables of one arc, as read (for inspection and tests)."""
+    if text is None:
+        with open(lib_path, encoding="utf-8", errors="replace") as fh:
+            text = fh.read()
+    top = parse_liberty(text, lib_path)
+    templates = {g.name: _read_template(g, lib_path) for g in top.subgroups("lu_table_template")}
+    out = []
+    for c in top.subgroups("cell"):
+        if c.name != cell:
+            continue
+        for p in c.subgroups("pin"):
+            if pin not in p.args:
+                continue
+            for t in p.subgroups("timing"):
+                if related_pin in str(t.attr("related_pin", "")).split():
+                    for tab in t.subgroups(f"cell_{edge}"):
+                        out.append(_read_table(tab, templates, lib_path))
+    return out
