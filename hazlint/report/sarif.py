@@ -84,25 +84,12 @@ def _camel(rule_id: str) -> str:
 
 
 def registered_rules() -> dict[str, Any]:
-    """The rule registry, if the plugin loader is available; {} otherwise."""
+    """The rule registry (:func:`hazlint.plugins.all_rules`); {} when it cannot be loaded."""
     try:
-        from .. import plugins  # type: ignore[attr-defined]
-    except ImportError:
+        from ..plugins import all_rules
+        return {r.id: r for r in all_rules()}
+    except Exception:       # a broken third-party plugin must not break the report
         return {}
-    for name in ("load_rules", "all_rules", "rules", "discover"):
-        fn = getattr(plugins, name, None)
-        if callable(fn):
-            try:
-                got = fn()
-            except Exception:       # a broken third-party plugin must not break the report
-                return {}
-            if isinstance(got, Mapping):
-                return dict(got)
-            try:
-                return {_rule_attr(r, "id", "rule_id", "name"): r for r in got}
-            except TypeError:
-                return {}
-    return {}
 
 
 # ---------------------------------------------------------------------------------------------
