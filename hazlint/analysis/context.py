@@ -1,0 +1,203 @@
+"""Analyses shared by all rules of one run, each computed once on first use.
+
+A rule receives an :class:`AnalysisContext` next to the design. It offers the glitch-sensitive
+sinks, quiet (synchronous or quasi-static) inputs, fanout stems, fan-in cones, reachability to
+sinks, the integer-indexed timing graph and the per-stem arrival solver, the rule's resolved
+options, and helpers that turn nodes into evidence hops.
+"""
+from __future__ import annotations
+
+import fnmatch
+import re
+from functools import cached_property
+from typing import Any, Iterable, Mapping
+
+import networkx as nx
+
+from ..diagnostics import Hop, Location
+from ..graph import ASYNC_ROLES, SOURCE_KINDS
+from .timing import ArrivalSolver, TimingGraph
+
+QUIET_ATTRS = ("hazlint_sync", "hazlint_static")
+ASYNC_ATTR = "hazlint_async"
+
+
+def _base(port: str) -> str:
+    return re.sub(r"\[\d+\]$", "", port)
+
+
+def _matches(port: str, patterns: Iterable[str]) -> bool:
+    return any(fnmatch.fnmatchcase(port, p) or fnmatch.fnmatchcase(_base(port), p)
+               for p in patterns)
+
+
+def _truthy_attr(attrs: Mapping[str, Any] | None, name: str) -> bool:
+    if not attrs or name not in attrs:
+        return False
+    v = attrs[name]
+    return v not in (0, "0", False, "false")
+
+
+class AnalysisContext:
+    def __init__(self, design, config=None, options: Mapping[str, Mapping[str, Any]] | None = None):
+        self.design = design
+        self.config = config
+        self._options = {k: dict(v) for k, v in (options or {}).items()}
+
+    # ---- options -------------------------------------------------------------------------------
+    def options(self, rule_id: str) -> dict[str, Any]:
+        """The rule's options as resolved for this run (defaults when not given)."""
+        if rule_id not in self._options:
+            from ..plugins import get_rule
+            self._options[rule_id] = get_rule(rule_id).resolve_options({})
+        return self._options[rule_id]
+
+    def set_options(self, rule_id: str, opts: Mapping[str, Any]) -> None:
+        self._options[rule_id] = dict(opts)
+
+    # ---- graph facts ---------------------------------------------------------------------------
+    @property
+    def graph(self) -> nx.DiGraph:
+        return self.design.graph
+
+    @cached_property
+    def source_rank(self) -> dict[str, int]:
+        """Rank of every node in source order (path, line, column, id): deterministic ties."""
+        nodes = self.graph.nodes
+        keyed = sorted(self.graph.nodes, key=lambda n: (
+            nodes[n].get("path", "") or "", nodes[n].get("line", 0) or 0,
+            nodes[n].get("column", 0) or 0, n))
+        return {n: i for i, n in enumerate(keyed)}
+
+    @cached_property
+    def quiet_inputs(self) -> frozenset[str]:
+        """Input nodes declared synchronous or quasi-static (attribute or ``sync_inputs``):
+        they are not treated as sources of glitches."""
+        pats = list(getattr(self.config, "sync_inputs", []) or [])
+        out = set()
+        g = self.graph
+        for port, n in self.design.input_node.items():
+            attrs = dict(self.design.port_attrs.get(port, {}) or {})
+            attrs.update(g.nodes[n].get("attrs") or {})
+            if any(_truthy_attr(attrs, a) for a in QUIET_ATTRS) or _matches(port, pats):
+                out.add(n)
+        return frozenset(out)
+
+    @cached_property
+    def async_outputs(self) -> frozenset[str]:
+        """Output sink nodes whose port is declared asynchronous."""
+        pats = list(getattr(self.config, "async_outputs", []) or [])
+        g = self.graph
+        out = set()
+        for port, n in self.design.output_node.items():
+            attrs = dict(self.design.port_attrs.get(port, {}) or {})
+            attrs.update(g.nodes[n].get("attrs") or {})
+            if _truthy_attr(attrs, ASYNC_ATTR) or _matches(port, pats):
+                out.add(n)
+        return frozenset(out)
+
+    @cached_property
+    def sensitive_sinks(self) -> dict[str, str]:
+        """Glitch-sensitive sink node -> its role (``"output"`` for asynchronous outputs)."""
+        out = {}
+        for n, d in self.graph.nodes(data=True):
+            if d["kind"] != "sink":
+                continue
+            if d.get("role") in ASYNC_ROLES or n in self.async_outputs:
+                out[n] = d.get("role", "")
+        return dict(sorted(out.items()))
+
+    @cached_property
+    def output_sinks(self) -> frozenset[str]:
+        return frozenset(n for n, d in self.graph.nodes(data=True)
+                         if d["kind"] == "sink" and d.get("role") == "output")
+
+    def scope_sinks(self, scope: str) -> list[str]:
+        """Sinks that a finding must reach to be in scope: ``async`` (glitch-sensitive sinks),
+        ``outputs`` (those and every primary output) or ``all`` (every sink and dangling gate)."""
+        if scope == "async":
+            s = set(self.sensitive_sinks)
+        elif scope == "outputs":
+            s = set(self.sensitive_sinks) | set(self.output_sinks)
+        elif scope == "all":
+            g = self.graph
+            s = {n for n, d in g.nodes(data=True)
+                 if d["kind"] == "sink" or (d["kind"] == "gate" and g.out_degree(n) == 0)}
+        else:
+            raise ValueError(f"unknown scope {scope!r}")
+        return sorted(s)
+
+    @cached_property
+    def stems(self) -> list[str]:
+        """Fanout stems (a net read by two or more pins), quiet inputs and constants excluded."""
+        g = self.graph
+        out = []
+        for n, d in g.nodes(data=True):
+            if d["kind"] == "sink" or d["kind"] == "const" or n in self.quiet_inputs:
+                continue
+            reads = 0
+            for _, _, e in g.out_edges(n, data=True):
+                reads += len(e.get("pins") or (0,))
+                if reads >= 2:
+                    out.append(n)
+                    break
+        return out
+
+    def fanin_cone(self, node: str) -> tuple[set[str], set[str]]:
+        """(gates, sources) of the transitive fan-in of ``node``, stopping at sources."""
+        g = self.graph
+        nodes = g.nodes
+        gates: set[str] = set()
+        sources: set[str] = set()
+        stack = list(g.predecessors(node))
+        seen = set(stack)
+        while stack:
+            u = stack.pop()
+            k = nodes[u]["kind"]
+            if k in SOURCE_KINDS:
+                sources.add(u)
+                continue
+            if k == "gate":
+                gates.add(u)
+            for p in g.predecessors(u):
+                if p not in seen:
+                    seen.add(p)
+                    stack.append(p)
+        return gates, sources
+
+    # ---- timing --------------------------------------------------------------------------------
+    @cached_property
+    def timing_graph(self) -> TimingGraph:
+        return TimingGraph.build(self.graph)
+
+    @cached_property
+    def arrival_solver(self) -> ArrivalSolver:
+        return ArrivalSolver(self.timing_graph)
+
+    # ---- evidence helpers ----------------------------------------------------------------------
+    def location(self, n: str) -> Location:
+        d = self.graph.nodes[n]
+        return Location(d.get("path", "") or "", d.get("line", 0) or 0, d.get("column", 1) or 1)
+
+    def net_name(self, n: str) -> str:
+        d = self.graph.nodes[n]
+        return d.get("port") or d.get("name") or n
+
+    def hop(self, n: str, delay: float | None = None, arrival: float | None = None) -> Hop:
+        d = self.graph.nodes[n]
+        inst = d.get("instance", "") or ""
+        gate = inst.rsplit(".", 1)[-1] if d["kind"] in ("gate", "blackbox") else ""
+        cell = (d.get("cell") or d.get("op") or "") if d["kind"] in ("gate", "blackbox") else ""
+        if d["kind"] == "state":
+            gate = (d.get("register") or "").rsplit(".", 1)[-1]
+            cell = d.get("cell") or "register"
+        loc = self.location(n) if d.get("path") else None
+        return Hop(net=self.net_name(n), gate=gate, cell=cell, location=loc, instance=inst,
+                   delay=delay, arrival=arrival)
+
+    def describe(self, n: str) -> str:
+        """Short human name of a node: the net, its port, or the sink pin."""
+        d = self.graph.nodes[n]
+        if d["kind"] == "sink":
+            return d.get("name") or d.get("port") or n
+        return self.net_name(n)

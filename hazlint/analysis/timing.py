@@ -1,0 +1,241 @@
+"""Arrival times from one fanout stem, by dynamic programming over a topological order.
+
+For a stem *s* the analysis visits only *s*'s fanout cone, in topological order, and keeps for every
+node the minimum and maximum arrival time of a transition launched at *s* (static min/max timing
+with the design's delay model: each gate input pin has a :class:`hazlint.library.Delay`, each
+edge may carry an SDF ``wire`` delay). It also keeps, per node, which fanout branch of *s* its
+paths start on (one branch, or several), which is what tells a genuine reconvergence of *s*'s
+branches at a gate from paths that split later at another stem. Back-pointers give the fastest and
+the slowest path without enumerating paths: the work per stem is linear in the size of its cone.
+
+This is the classic block-oriented static timing recurrence (arrival = max/min over fan-in of
+predecessor arrival plus arc delay), restricted to a single launching point.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Iterable
+
+import networkx as nx
+
+MULTI = -1          # label: paths from more than one fanout branch of the stem
+INF = math.inf
+
+
+@dataclass
+class TimingGraph:
+    """The gate graph as integer-indexed arrays in topological order (acyclic part only)."""
+
+    order: list[str]                       # node ids; index = topological position
+    index: dict[str, int]
+    # per node: list of (pred index, pin index, min delay, max delay) per input pin
+    fanin: list[list[tuple[int, int, float, float]]]
+    fanout: list[list[int]]                # distinct successor indices
+    reads: list[list[tuple[int, int]]]     # (successor index, pin index) per read of the net
+    cut_edges: list[tuple[str, str]]       # edges dropped to break combinational loops
+
+    @classmethod
+    def build(cls, g: nx.DiGraph) -> "TimingGraph":
+        cut: list[tuple[str, str]] = []
+        work = g
+        if not nx.is_directed_acyclic_graph(g):
+            # loops are the loop rule's business; timing ignores the edges inside them
+            comp = {}
+            for k, scc in enumerate(nx.strongly_connected_components(g)):
+                for n in scc:
+                    comp[n] = k
+            cut = sorted((u, v) for u, v in g.edges if comp[u] == comp[v])
+            work = g.copy()
+            work.remove_edges_from(cut)
+        order = list(nx.topological_sort(work))
+        index = {n: i for i, n in enumerate(order)}
+        nodes = g.nodes
+        fanin: list[list[tuple[int, int, float, float]]] = [[] for _ in order]
+        fanout: list[list[int]] = [[] for _ in order]
+        reads: list[list[tuple[int, int]]] = [[] for _ in order]
+        cutset = set(cut)
+        for v in order:
+            d = nodes[v]
+            vi = index[v]
+            ins = d.get("inputs") or []
+            if d["kind"] not in ("gate", "sink") or not ins:
+                continue
+            delays = d.get("delays") or []
+            for pin, u in enumerate(ins):
+                if (u, v) in cutset or u not in index:
+                    continue
+                e = g.edges[u, v]
+                w = e.get("wire")
+                wmin = w.min if w is not None else 0.0
+                wmax = w.max if w is not None else 0.0
+                if d["kind"] == "gate":
+                    dl = delays[pin] if pin < len(delays) else None
+                    dmin = (dl.min if dl is not None else 1.0) + wmin
+                    dmax = (dl.max if dl is not None else 1.0) + wmax
+                else:
+                    dmin, dmax = wmin, wmax
+                ui = index[u]
+                fanin[vi].append((ui, pin, dmin, dmax))
+                reads[ui].append((vi, pin))
+        for ui, rs in enumerate(reads):
+            seen = []
+            for vi, _ in rs:
+                if not seen or seen[-1] != vi:
+                    if vi not in seen:
+                        seen.append(vi)
+            fanout[ui] = sorted(seen)
+        return cls(order, index, fanin, fanout, reads, cut)
+
+
+@dataclass
+class Reconvergence:
+    """A gate where transitions from two different fanout branches of a stem meet."""
+
+    gate: int                 # node index
+    skew: float               # slowest arrival through one pin minus fastest through another
+    slow_pin: int             # position in the gate's fan-in list
+    fast_pin: int
+    slow_arrival: float
+    fast_arrival: float
+
+
+class StemTiming:
+    """Min/max arrival of a transition launched at one stem, over the stem's fanout cone.
+
+    Arrays are shared scratch space owned by :class:`ArrivalSolver`; results are valid until the
+    solver's next :meth:`ArrivalSolver.solve` call.
+    """
+
+    def __init__(self, solver: "ArrivalSolver", stem: int, cone: list[int]):
+        self.solver = solver
+        self.stem = stem
+        self.cone = cone        # topological order, stem first
+
+    @property
+    def arrival_min(self):
+        return self.solver.amin
+
+    @property
+    def arrival_max(self):
+        return self.solver.amax
+
+    def path_to(self, node: int, slow: bool) -> list[tuple[int, float, float]]:
+        """Fastest (slow=False) or slowest path from the stem to ``node`` as
+        (node index, delay of the hop, arrival) triples, stem first. Back-pointers only."""
+        s = self.solver
+        back = s.bmax if slow else s.bmin
+        arr = s.amax if slow else s.amin
+        fanin = s.tg.fanin
+        out = []
+        n = node
+        while n != self.stem:
+            k = back[n]
+            p, _pin, dmin, dmax = fanin[n][k]
+            out.append((n, dmax if slow else dmin, arr[n]))
+            n = p
+        out.append((self.stem, 0.0, 0.0))
+        out.reverse()
+        return out
+
+
+class ArrivalSolver:
+    """Runs the per-stem DP. One instance per timing graph; reuses its arrays across stems."""
+
+    def __init__(self, tg: TimingGraph):
+        self.tg = tg
+        n = len(tg.order)
+        self.amin = [INF] * n
+        self.amax = [-INF] * n
+        self.bmin = [0] * n
+        self.bmax = [0] * n
+        self.label = [None] * n      # None: not in the current cone
+        self._touched: list[int] = []
+
+    def _reset(self):
+        amin, amax, label = self.amin, self.amax, self.label
+        for i in self._touched:
+            amin[i] = INF
+            amax[i] = -INF
+            label[i] = None
+        self._touched = []
+
+    def cone_of(self, stem: int) -> list[int]:
+        fanout = self.tg.fanout
+        seen = {stem}
+        stack = [stem]
+        while stack:
+            u = stack.pop()
+            for v in fanout[u]:
+                if v not in seen:
+                    seen.add(v)
+                    stack.append(v)
+        return sorted(seen)
+
+    def solve(self, stem: int, gate_nodes: Iterable[int] | None = None,
+              on_reconvergence=None) -> StemTiming:
+        """Fill arrival arrays for ``stem``'s cone. ``on_reconvergence(Reconvergence)`` is called
+        for every gate where two different branches of the stem meet (in topological order)."""
+        self._reset()
+        cone = self.cone_of(stem)
+        self._touched = cone
+        amin, amax, bmin, bmax, label = self.amin, self.amax, self.bmin, self.bmax, self.label
+        fanin = self.tg.fanin
+        amin[stem] = 0.0
+        amax[stem] = 0.0
+        label[stem] = MULTI   # never read as a pin label: reads of the stem get their own branch
+        for v in cone[1:]:
+            lo = INF
+            hi = -INF
+            klo = khi = 0
+            lab = None
+            reached = []
+            for k, (p, pin, dmin, dmax) in enumerate(fanin[v]):
+                if p == stem:
+                    pl = v * 4096 + pin + 1          # this read of the stem is its own branch
+                    a_lo = dmin
+                    a_hi = dmax
+                else:
+                    pl = label[p]
+                    if pl is None:
+                        continue
+                    a_lo = amin[p] + dmin
+                    a_hi = amax[p] + dmax
+                if a_lo < lo:
+                    lo = a_lo
+                    klo = k
+                if a_hi > hi:
+                    hi = a_hi
+                    khi = k
+                if lab is None:
+                    lab = pl
+                elif pl != lab:
+                    lab = MULTI
+                reached.append((k, pl, a_lo, a_hi))
+            if lab == MULTI and len(reached) >= 2 and on_reconvergence is not None:
+                r = _worst_pair(reached)
+                if r is not None:
+                    skew, ks, kf, ts, tf = r
+                    on_reconvergence(Reconvergence(v, skew, ks, kf, ts, tf))
+            amin[v] = lo
+            amax[v] = hi
+            bmin[v] = klo
+            bmax[v] = khi
+            label[v] = lab
+        return StemTiming(self, stem, cone)
+
+
+def _worst_pair(reached):
+    """Largest (slow arrival through pin a) - (fast arrival through pin b) over pin pairs whose
+    paths start on different branches. ``reached``: (fanin position, label, lo, hi)."""
+    best = None
+    for ka, la, _lo_a, hi_a in reached:
+        for kb, lb, lo_b, _hi_b in reached:
+            if ka == kb:
+                continue
+            if la == lb and la != MULTI:
+                continue
+            skew = hi_a - lo_b
+            if best is None or skew > best[0]:
+                best = (skew, ka, kb, hi_a, lo_b)
+    return best

@@ -1,0 +1,174 @@
+"""Rule plugins: discovery through the ``hazlint.rules`` entry-point group, typed options.
+
+A rule is a module (or any object) with these attributes:
+
+``ID``        rule id, lowercase words joined by hyphens (``"comb-loop"``)
+``SUMMARY``   one line
+``KINDS``     tuple of :data:`hazlint.diagnostics.KINDS` values the rule emits
+``SEVERITY``  default severity name (``"error"``, ``"warning"``, ``"info"``)
+``OPTIONS``   tuple of :class:`Option`
+``check(design, context)``  generator of :class:`~hazlint.diagnostics.Diagnostic`
+``__doc__``   the documentation ``hazlint explain`` prints (what it finds, why it matters, an
+              example, how to fix)
+
+The built-in rules in ``rules/`` (import name ``hazlint_rules``) are registered in
+``pyproject.toml`` under ``[project.entry-points."hazlint.rules"]`` exactly like a third-party
+package would register its own, so there is one plugin mechanism.
+"""
+from __future__ import annotations
+
+import importlib
+import re
+from dataclasses import dataclass, field
+from functools import lru_cache
+from importlib import metadata
+from typing import Any, Callable, Iterable, Mapping
+
+from .diagnostics import KINDS, Severity
+from .errors import ConfigError, HazlintError
+
+ENTRY_POINT_GROUP = "hazlint.rules"
+_ID_RE = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
+
+
+@dataclass(frozen=True)
+class Option:
+    """A typed rule option. ``type`` is one of bool, int, float, str, list (of str)."""
+
+    name: str
+    type: type
+    default: Any
+    help: str
+    choices: tuple = ()
+
+    def coerce(self, value: Any, where: str = "") -> Any:
+        t = self.type
+        ok = False
+        if t is bool:
+            ok = isinstance(value, bool)
+        elif t is int:
+            ok = isinstance(value, int) and not isinstance(value, bool)
+        elif t is float:
+            ok = isinstance(value, (int, float)) and not isinstance(value, bool)
+            value = float(value) if ok else value
+        elif t is str:
+            ok = isinstance(value, str)
+        elif t is list:
+            ok = isinstance(value, list) and all(isinstance(v, str) for v in value)
+        if not ok:
+            raise ConfigError(f"{where}option '{self.name}' must be of type {self.type_name}, "
+                              f"got {value!r}")
+        if self.choices and value not in self.choices:
+            raise ConfigError(f"{where}option '{self.name}' must be one of "
+                              f"{', '.join(map(str, self.choices))}; got {value!r}")
+        return value
+
+    @property
+    def type_name(self) -> str:
+        return {bool: "bool", int: "int", float: "float", str: "string",
+                list: "list of strings"}[self.type]
+
+
+@dataclass(frozen=True)
+class Rule:
+    """A loaded rule."""
+
+    id: str
+    summary: str
+    doc: str
+    severity: Severity
+    kinds: tuple[str, ...]
+    options: tuple[Option, ...]
+    check: Callable
+    origin: str = ""            # "module (distribution)"
+
+    def option(self, name: str) -> Option:
+        for o in self.options:
+            if o.name == name:
+                return o
+        raise KeyError(name)
+
+    def resolve_options(self, given: Mapping[str, Any] | None, where: str = "") -> dict[str, Any]:
+        """Defaults overlaid with the user's table; unknown names and bad types are errors."""
+        out = {o.name: o.default for o in self.options}
+        known = {o.name for o in self.options}
+        for k, v in (given or {}).items():
+            if k not in known:
+                raise ConfigError(f"{where}rule '{self.id}' has no option '{k}' (options: "
+                                  f"{', '.join(sorted(known)) or 'none'})")
+            out[k] = self.option(k).coerce(v, f"{where}rule '{self.id}': ")
+        return out
+
+
+def rule_from_object(obj: Any, origin: str = "") -> Rule:
+    """Validate a rule module/object and wrap it. Raises HazlintError naming what is missing."""
+    missing = [a for a in ("ID", "SUMMARY", "SEVERITY", "check") if not hasattr(obj, a)]
+    if missing:
+        raise HazlintError(f"rule plugin {origin or obj!r} lacks {', '.join(missing)}")
+    rid = obj.ID
+    if not isinstance(rid, str) or not _ID_RE.match(rid):
+        raise HazlintError(f"rule plugin {origin}: bad rule id {rid!r} (lowercase words "
+                           f"joined by hyphens)")
+    kinds = tuple(getattr(obj, "KINDS", ()))
+    bad = [k for k in kinds if k not in KINDS]
+    if bad:
+        raise HazlintError(f"rule '{rid}' declares unknown kind '{bad[0]}'")
+    try:
+        sev = Severity.parse(obj.SEVERITY) if isinstance(obj.SEVERITY, str) else Severity(obj.SEVERITY)
+    except ValueError as exc:
+        raise HazlintError(f"rule '{rid}': {exc}") from None
+    doc = (getattr(obj, "__doc__", None) or "").strip()
+    return Rule(id=rid, summary=str(obj.SUMMARY), doc=doc, severity=sev, kinds=kinds,
+                options=tuple(getattr(obj, "OPTIONS", ())), check=obj.check, origin=origin)
+
+
+@lru_cache(maxsize=1)
+def _discover() -> tuple[Rule, ...]:
+    eps = sorted(metadata.entry_points(group=ENTRY_POINT_GROUP), key=lambda e: e.name)
+    rules: dict[str, Rule] = {}
+    for ep in eps:
+        dist = getattr(ep, "dist", None)
+        origin = f"{ep.value} ({dist.name})" if dist is not None else ep.value
+        try:
+            obj = ep.load()
+        except Exception as exc:  # a broken third-party plugin must not hide the others' output
+            raise HazlintError(f"cannot load rule plugin '{ep.name}' = {ep.value}: {exc}") from None
+        rule = rule_from_object(obj, origin)
+        if rule.id != ep.name:
+            raise HazlintError(f"rule plugin entry point '{ep.name}' defines rule id "
+                               f"'{rule.id}'; they must match")
+        if rule.id in rules and rules[rule.id].origin != origin:
+            raise HazlintError(f"rule id '{rule.id}' registered twice: {rules[rule.id].origin} "
+                               f"and {origin}")
+        rules[rule.id] = rule
+    if not rules:
+        raise HazlintError("no rules registered under the 'hazlint.rules' entry-point group; "
+                           "install hazlint (pip install -e .) so its rules are registered")
+    return tuple(rules[k] for k in sorted(rules))
+
+
+def all_rules() -> list[Rule]:
+    """Every registered rule, sorted by id."""
+    return list(_discover())
+
+
+def get_rule(rule_id: str) -> Rule:
+    for r in _discover():
+        if r.id == rule_id:
+            return r
+    raise HazlintError(f"unknown rule '{rule_id}' (known: "
+                       f"{', '.join(r.id for r in _discover())})")
+
+
+def select_rules(select: Iterable[str] | None = None, ignore: Iterable[str] = ()) -> list[Rule]:
+    """Rules to run: ``select`` (None: all) minus ``ignore``. Unknown ids are errors."""
+    known = {r.id: r for r in _discover()}
+    for rid in list(select or ()) + list(ignore):
+        if rid not in known and rid not in PSEUDO_RULES:
+            raise ConfigError(f"unknown rule '{rid}' (known: {', '.join(sorted(known))})")
+    chosen = [r for r in known.values() if select is None or r.id in set(select)]
+    return [r for r in chosen if r.id not in set(ignore)]
+
+
+# Rule ids that hazlint itself emits outside the plugins (waiver bookkeeping).
+PSEUDO_RULES = {"unused-waiver": "a waiver comment or waiver-file entry that matched no finding"}

@@ -1,0 +1,119 @@
+"""Glitch-sensitive pins driven by logic instead of a register.
+
+What it finds
+    Glitch-sensitive sinks whose driving cone, traced back to registers and primary inputs, is not
+    a plain buffer/inverter chain from a single source. Glitch-sensitive sinks are asynchronous
+    set/reset pins of registers and latches, clock pins, latch enables, three-state enables, and
+    output ports marked asynchronous (configuration ``async_outputs`` or the Verilog attribute
+    ``(* hazlint_async *)`` on the port). The evidence lists the cone's sources and every
+    reconvergent stem inside it. Inputs declared synchronous or quasi-static (configuration
+    ``sync_inputs``, or ``(* hazlint_sync *)`` / ``(* hazlint_static *)`` on the port) and
+    constants do not count as sources of glitches.
+
+Why it matters
+    These pins act on every pulse, however short. Logic between registers and such a pin can
+    glitch when two of its inputs change together (or one input reaches it along two paths), and
+    the glitch resets a register, clocks it, opens a latch or pulses an output.
+
+Example
+    ::
+
+        module fault_latch(input clk, input estop_n, input maint_key, input d, output reg q);
+          wire clr_n = estop_n & ~maint_key;      // logic in front of the reset
+          always @(posedge clk or negedge clr_n)  // reported at the register
+            if (!clr_n) q <= 1'b0; else q <= d;
+        endmodule
+
+How to fix
+    Drive the pin from a register output (for a reset: assert asynchronously, release through a
+    reset synchroniser), use a clock-gating cell for clocks, or declare an input quasi-static
+    when it cannot change during operation.
+"""
+from __future__ import annotations
+
+from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.plugins import Option
+
+from ._common import name_list, stable_key
+
+ID = "async-from-logic"
+SUMMARY = "asynchronous pin, clock, enable or asynchronous output driven by combinational logic"
+KINDS = ("unregistered-async",)
+SEVERITY = "error"
+OPTIONS = (
+    Option("roles", list, ["clock", "enable", "set", "reset", "tristate_enable", "output"],
+           "sink roles to check (output: only ports declared asynchronous)"),
+)
+_ROLE_WORDS = {"clock": "clock", "enable": "latch enable", "set": "asynchronous set",
+               "reset": "asynchronous reset", "tristate_enable": "three-state enable",
+               "output": "asynchronous output"}
+
+
+def cone_report(context, sink: str):
+    """(gates, toggling sources, quiet sources, reconvergent stems) of a sink's fan-in cone.
+
+    A stem inside a single sink's cone always reconverges (all its branches end at the sink), so
+    a node read two or more times by the cone's gates is a reconvergent stem.
+    """
+    g = context.graph
+    gates, sources = context.fanin_cone(sink)
+    quiet = {s for s in sources
+             if s in context.quiet_inputs or g.nodes[s]["kind"] == "const"}
+    toggling = sources - quiet
+    members = gates | sources
+    reads: dict[str, int] = {}
+    for v in gates:
+        for u in g.nodes[v].get("inputs") or ():
+            if u in members:
+                reads[u] = reads.get(u, 0) + 1
+    stems = {u for u, k in reads.items() if k >= 2 and u not in quiet}
+    return gates, toggling, quiet, stems
+
+
+def check(design, context):
+    g = design.graph
+    roles = set(context.options(ID)["roles"])
+    rank = context.source_rank
+    for sink, role in context.sensitive_sinks.items():
+        if role not in roles:
+            continue
+        gates, toggling, quiet, stems = cone_report(context, sink)
+        # clean: a buffer/inverter chain from one source, or logic whose other inputs are
+        # constant or quasi-static and where the one toggling source does not reconverge
+        if not toggling or (len(toggling) == 1 and not stems):
+            continue
+        d = g.nodes[sink]
+        what = _ROLE_WORDS.get(role, role)
+        reg = d.get("register")
+        target = (f"{what} of {reg}" if reg and role != "output"
+                  else f"output {d.get('port') or context.describe(sink)}")
+        src_names = sorted((context.describe(s) for s in toggling))
+        stem_names = sorted(context.describe(s) for s in stems)
+        reason = (f"{len(gates)} gate(s) combine {len(toggling)} source(s)"
+                  if len(toggling) > 1 else
+                  f"{len(gates)} gate(s) with reconvergent fanout of {src_names[0]}")
+        msg = (f"{target} is driven by combinational logic ({reason}: "
+               f"{name_list(src_names, 4)}); a glitch here acts immediately")
+        notes = [f"sources: {name_list(src_names, 12)}"]
+        if quiet:
+            notes.append("quiet (synchronous, quasi-static or constant): "
+                         + name_list(sorted(context.describe(s) for s in quiet), 8))
+        if stems:
+            notes.append("reconvergent stems in the cone: " + name_list(stem_names, 8))
+        first_gates = sorted(gates, key=lambda n: rank[n])[:3]
+        if first_gates:
+            notes.append("logic starts at: " + "; ".join(
+                context.hop(n).describe() for n in first_gates))
+        yield Diagnostic(
+            rule=ID, kind="unregistered-async", severity=Severity.parse(SEVERITY),
+            location=context.location(sink), instance=d.get("instance", "") or (reg or ""),
+            message=msg,
+            evidence={"sink_node": sink, "role": role,
+                      "source_nodes": sorted(toggling, key=lambda n: rank[n]),
+                      "quiet_nodes": sorted(quiet, key=lambda n: rank[n]),
+                      "stems": sorted(stems, key=lambda n: rank[n]),
+                      "cone_gates": len(gates),
+                      "key": stable_key("async", sink)},
+            notes=tuple(notes),
+            fix=("drive this pin from a register output (for a reset: assert asynchronously, "
+                 "release through a reset synchroniser); for a clock use a clock-gating cell"))

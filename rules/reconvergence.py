@@ -1,0 +1,160 @@
+"""Unbalanced reconvergent fanout.
+
+What it finds
+    A fanout stem (a net read by two or more pins: primary inputs and register outputs included)
+    whose branches meet again at a gate, where the slowest arrival of a transition through one
+    input of that gate exceeds the fastest arrival through another (the branch skew). Arrival
+    times come from the design's delay model (per-pin rise/fall min/max delays, SDF when given) by
+    dynamic programming over a topological order of the stem's fanout cone; the fastest and the
+    slowest path are rebuilt from back-pointers, never enumerated. For each stem and each sink in
+    scope only the worst reconvergence is reported, at the reconvergence gate.
+
+Why it matters
+    While the two branches disagree the gate can produce a short pulse (a static or dynamic
+    hazard). Into a register's data pin that is harmless if timing is met; into an asynchronous
+    reset, a clock, a latch enable or an output that drives the outside world it is a real event.
+    Whether a pulse can actually happen depends on the logic; ``hazlint prove`` classifies it.
+
+Example
+    ::
+
+        module mux_hazard(input s, input a, input b, output y);
+          wire sn, t0, t1;
+          not g0 (sn, s);          // one branch of s is one gate slower
+          and g1 (t0, a, s);
+          and g2 (t1, b, sn);
+          or  g3 (y, t0, t1);      // reported here: s reconverges with skew 1
+        endmodule
+
+How to fix
+    Balance the branches, add the consensus term (here ``and (t2, a, b)`` into the OR) so the
+    output is held while the branches disagree, or register the signal before it reaches the
+    sensitive sink.
+
+Options
+    ``scope``: which reconvergences to report: ``async`` (those that reach a glitch-sensitive
+    sink), ``outputs`` (those and every primary output, the default), ``all``.
+    ``min_skew``: report when the skew reaches this many time units (default 0: any skew).
+"""
+from __future__ import annotations
+
+from hazlint.diagnostics import Diagnostic, Severity
+
+from hazlint.plugins import Option
+
+from ._common import name_list, num, stable_key
+
+ID = "skewed-reconvergence"
+SUMMARY = "reconvergent fanout whose branches arrive at different times (static/dynamic hazard risk)"
+KINDS = ("unbalanced-reconvergence",)
+SEVERITY = "warning"
+OPTIONS = (
+    Option("scope", str, "outputs",
+           "report reconvergences reaching: async (glitch-sensitive sinks), outputs (those and "
+           "primary outputs), all", ("async", "outputs", "all")),
+    Option("min_skew", float, 0.0,
+           "report when the branch skew reaches this value (0: any positive skew)"),
+)
+
+
+def find_reconvergences(design, context, scope: str = "outputs", min_skew: float = 0.0):
+    """Worst reconvergence per (stem, sink in scope), grouped by gate.
+
+    Yields ``(stem, gate, Reconvergence, sinks, fast_path, slow_path)`` with node ids; paths are
+    lists of (node id, hop delay, arrival). Work per stem is linear in its fanout cone.
+    """
+    tg = context.timing_graph
+    solver = context.arrival_solver
+    order = tg.order
+    fanin = tg.fanin
+    scope_set = {tg.index[n] for n in context.scope_sinks(scope) if n in tg.index}
+    if not scope_set:
+        return
+    rank = context.source_rank
+    rank_i = [rank[n] for n in order]
+    for stem in sorted(context.stems, key=lambda n: rank[n]):
+        si = tg.index.get(stem)
+        if si is None:
+            continue
+        found: dict[int, object] = {}
+
+        def note(r, found=found):
+            if r.skew > 0 and r.skew >= min_skew:
+                found[r.gate] = r
+
+        st = solver.solve(si, on_reconvergence=note)
+        if not found:
+            continue
+        # worst reconvergence upstream of every node: forward DP over the cone
+        worst: dict[int, int] = {}
+        for v in st.cone[1:]:
+            best = v if v in found else -1
+            for p, _pin, _a, _b in fanin[v]:
+                w = worst.get(p, -1)
+                if w >= 0 and (best < 0 or _better(found[w], found[best], rank_i)):
+                    best = w
+            if best >= 0:
+                worst[v] = best
+        by_gate: dict[int, list[int]] = {}
+        for t in st.cone:
+            if t in scope_set and t in worst:
+                by_gate.setdefault(worst[t], []).append(t)
+        for gi in sorted(by_gate, key=lambda i: rank_i[i]):
+            r = found[gi]
+            slow_src = fanin[gi][r.slow_pin][0]
+            fast_src = fanin[gi][r.fast_pin][0]
+            slow = st.path_to(slow_src, True) + [(gi, fanin[gi][r.slow_pin][3], r.slow_arrival)]
+            fast = st.path_to(fast_src, False) + [(gi, fanin[gi][r.fast_pin][2], r.fast_arrival)]
+            sinks = sorted((order[t] for t in by_gate[gi]), key=lambda n: rank[n])
+            yield (stem, order[gi], r,
+                   sinks,
+                   [(order[i], d, a) for i, d, a in fast],
+                   [(order[i], d, a) for i, d, a in slow])
+
+
+def _better(a, b, rank_i) -> bool:
+    if a.skew != b.skew:
+        return a.skew > b.skew
+    return rank_i[a.gate] < rank_i[b.gate]
+
+
+def check(design, context):
+    opts = context.options(ID)
+    g = design.graph
+    sens = context.sensitive_sinks
+    for stem, gate, r, sinks, fast, slow in find_reconvergences(
+            design, context, opts["scope"], opts["min_skew"]):
+        d = g.nodes[gate]
+        stem_name = context.net_name(stem)
+        sink_names = [context.describe(t) for t in sinks]
+        sens_names = [context.describe(t) for t in sinks if t in sens]
+        reach = (f"reaching glitch-sensitive {name_list(sens_names, 3)}" if sens_names
+                 else f"reaching {name_list(sink_names, 3)}")
+        pins = d.get("pins") or []
+        slow_pin = pins[r.slow_pin] if r.slow_pin < len(pins) else str(r.slow_pin)
+        fast_pin = pins[r.fast_pin] if r.fast_pin < len(pins) else str(r.fast_pin)
+        msg = (f"fanout of {stem_name} reconverges at {d.get('cell') or d.get('op')} "
+               f"{(d.get('instance') or gate).rsplit('.', 1)[-1]} with skew {num(r.skew)} "
+               f"(pin {slow_pin} at {num(r.slow_arrival)}, pin {fast_pin} at "
+               f"{num(r.fast_arrival)}), {reach}")
+        fast_hops = tuple(context.hop(n, dl, a) for n, dl, a in fast)
+        slow_hops = tuple(context.hop(n, dl, a) for n, dl, a in slow)
+        notes = (f"stem {stem_name}" + (f" ({context.location(stem)})"
+                                        if g.nodes[stem].get("path") else ""),
+                 "fast path: " + " -> ".join(f"{h.net}@{num(h.arrival)}" for h in fast_hops),
+                 "slow path: " + " -> ".join(f"{h.net}@{num(h.arrival)}" for h in slow_hops),
+                 f"skew {num(r.skew)}; worst reconvergence of this stem for "
+                 f"{name_list(sink_names, 4)}")
+        yield Diagnostic(
+            rule=ID, kind="unbalanced-reconvergence", severity=Severity.parse(SEVERITY),
+            location=context.location(gate), instance=d.get("instance", "") or "",
+            message=msg,
+            evidence={"stem_node": stem, "reconvergence_node": gate, "sink_nodes": list(sinks),
+                      "skew": r.skew,
+                      "fast_path": [n for n, _, _ in fast], "slow_path": [n for n, _, _ in slow],
+                      "fast_arrival": r.fast_arrival, "slow_arrival": r.slow_arrival,
+                      "slow_pin": slow_pin, "fast_pin": fast_pin,
+                      "key": stable_key("reconv", stem, gate)},
+            notes=notes, flows=(fast_hops, slow_hops),
+            fix=("balance the branch delays, add the consensus term that holds the output "
+                 "while the branches disagree, or register the signal before the sensitive sink"))
