@@ -1,0 +1,297 @@
+"""Verilog lexer: pyverilog's lexer with the tokens hazlint needs added.
+
+Additions over :class:`pyverilog.vparser.lexer.VerilogLexer`:
+
+* keywords ``primitive``/``endprimitive``, ``specify``/``endspecify``/``specparam``/``ifnone``,
+  the net types ``wand wor tri0 tri1 triand trior``, drive strengths (``strong0`` ...);
+* a UDP ``table ... endtable`` body is one ``TABLE`` token holding its raw text (the rows are
+  split in :mod:`hazlint.frontend.build_ir`; table symbols do not lex as Verilog tokens);
+* specify timing checks (``$setup(...);`` ...) are one ``TIMINGCHECK`` token, so the parser can
+  skip them whatever their arguments (``&&&`` conditions, edge lists);
+* module path operators ``=>`` and ``*>``;
+* attribute instances ``(* name = value, flag *)`` are taken out of the token stream and kept in
+  :attr:`HzLexer.attrs_at`, keyed by the position of the token that follows them, so the IR
+  builder can attach them to the construct that starts there;
+* escaped identifiers come out without the backslash (``\\a[0] `` -> ``a[0]``);
+* nesting of ``( [ {`` is limited (:data:`MAX_NESTING`) so pathological input gives a clear
+  error instead of exhausting the recursion limit later on.
+
+ply orders function rules by their line number, so *every* function rule is defined here (in
+the intended order), shadowing the base class ones.
+"""
+from __future__ import annotations
+
+import re
+
+from ply.lex import TOKEN, lex
+from pyverilog.vparser.lexer import VerilogLexer
+
+MAX_NESTING = 1000
+
+_EXTRA_KEYWORDS = (
+    "PRIMITIVE", "ENDPRIMITIVE", "SPECIFY", "ENDSPECIFY", "SPECPARAM", "IFNONE",
+    "WAND", "WOR", "TRI0", "TRI1", "TRIAND", "TRIOR",
+)
+_STRENGTHS = ("strong0", "strong1", "pull0", "pull1", "weak0", "weak1", "highz0", "highz1")
+
+_TIMING_CHECKS = ("setuphold", "setup", "hold", "recrem", "recovery", "removal", "skew",
+                  "timeskew", "fullskew", "period", "width", "nochange")
+
+
+class LexError(Exception):
+    """Raised by the lexer; carries the preprocessed-text position (converted by the parser)."""
+
+    def __init__(self, message, lineno, lexpos, construct):
+        super().__init__(message)
+        self.message = message
+        self.lineno = lineno
+        self.lexpos = lexpos
+        self.construct = construct
+
+
+class HzLexer(VerilogLexer):
+    keywords = VerilogLexer.keywords + _EXTRA_KEYWORDS
+    reserved = dict(VerilogLexer.reserved)
+    for _kw in _EXTRA_KEYWORDS:
+        reserved[_kw.lower()] = _kw
+    for _kw in _STRENGTHS:
+        reserved[_kw] = "STRENGTH"
+    del _kw
+
+    tokens = tuple(VerilogLexer.tokens) + _EXTRA_KEYWORDS + (
+        "STRENGTH", "TABLE", "TIMINGCHECK", "PATH_PARALLEL", "PATH_FULL")
+
+    t_PATH_PARALLEL = r"=>"
+    t_PATH_FULL = r"\*>"
+
+    def __init__(self, error_func=None):
+        super().__init__(error_func or self._raise)
+        self.attrs_at: dict[int, list] = {}
+        self._pending_attrs: list | None = None
+        self.depth = 0
+
+    def build(self, **kwargs):
+        self.lexer = lex(object=self, **kwargs)
+
+    def input(self, data):
+        self.attrs_at = {}
+        self._pending_attrs = None
+        self.depth = 0
+        self.lexer.input(data)
+        self.lexer.lineno = 1
+
+    def token(self):
+        tok = self.lexer.token()
+        if self._pending_attrs is not None and tok is not None:
+            self.attrs_at[tok.lexpos] = self._pending_attrs
+            self._pending_attrs = None
+        return tok
+
+    @staticmethod
+    def _raise(msg, line, column):  # pragma: no cover - replaced by _fail
+        raise LexError(msg, line, 0, None)
+
+    def _fail(self, msg, t, construct=None):
+        raise LexError(msg, t.lexer.lineno, t.lexpos, construct if construct is not None
+                       else t.value[:20])
+
+    # --- function rules, in matching order ------------------------------------------------------
+
+    def t_TABLE(self, t):
+        r"table\b[\s\S]*?\bendtable\b"
+        t.lineno = t.lexer.lineno
+        t.lexer.lineno += t.value.count("\n")
+        return t
+
+    def t_ATTRIBUTE(self, t):
+        r"\(\*(?!\s*\))[\s\S]*?\*\)"
+        lineno = t.lexer.lineno
+        t.lexer.lineno += t.value.count("\n")
+        entries = _split_attribute(t.value[2:-2])
+        if self._pending_attrs is None:
+            self._pending_attrs = []
+        self._pending_attrs.append((lineno, entries))
+        return None
+
+    def t_DIRECTIVE(self, t):
+        r"\`[A-Za-z_][A-Za-z_0-9$]*"
+        self._fail("compiler directive left after preprocessing", t)
+
+    def t_LINECOMMENT(self, t):
+        r"//[^\n]*"
+        return None
+
+    def t_COMMENTOUT(self, t):
+        r"/\*(.|\n)*?\*/"
+        t.lexer.lineno += t.value.count("\n")
+        return None
+
+    @TOKEN(r"\$(" + "|".join(_TIMING_CHECKS) + r")\b")
+    def t_TIMINGCHECK(self, t):
+        data = t.lexer.lexdata
+        i = t.lexer.lexpos
+        m = re.compile(r"\s*\(").match(data, i)
+        if not m:
+            self._fail("timing check without an argument list", t)
+        depth = 0
+        j = m.end() - 1
+        pat = re.compile(r"[()]")
+        while True:
+            m2 = pat.search(data, j)
+            if m2 is None:
+                self._fail("unterminated timing check", t)
+            depth += 1 if m2.group() == "(" else -1
+            j = m2.end()
+            if depth == 0:
+                break
+        m3 = re.compile(r"\s*;").match(data, j)
+        if not m3:
+            self._fail("timing check not ended by ';'", t)
+        end = m3.end()
+        t.lineno = t.lexer.lineno
+        t.lexer.lineno += data.count("\n", t.lexpos, end)
+        t.value = data[t.lexpos:end]
+        t.lexer.lexpos = end
+        return t
+
+    @TOKEN(VerilogLexer.string_literal)
+    def t_STRING_LITERAL(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.float_number)
+    def t_FLOATNUMBER(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.signed_bin_number)
+    def t_SIGNED_INTNUMBER_BIN(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.bin_number)
+    def t_INTNUMBER_BIN(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.signed_octal_number)
+    def t_SIGNED_INTNUMBER_OCT(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.octal_number)
+    def t_INTNUMBER_OCT(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.signed_hex_number)
+    def t_SIGNED_INTNUMBER_HEX(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.hex_number)
+    def t_INTNUMBER_HEX(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.signed_decimal_number)
+    def t_SIGNED_INTNUMBER_DEC(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.decimal_number)
+    def t_INTNUMBER_DEC(self, t):
+        return t
+
+    @TOKEN(VerilogLexer.identifier)
+    def t_ID(self, t):
+        v = t.value
+        if v[0] == "\\":
+            t.value = v[1:]          # escaped identifier: never a keyword
+            t.type = "ID"
+        else:
+            t.type = self.reserved.get(v, "ID")
+        return t
+
+    def t_LPAREN(self, t):
+        r"\("
+        self._open(t)
+        return t
+
+    def t_RPAREN(self, t):
+        r"\)"
+        self.depth -= 1
+        return t
+
+    def t_LBRACKET(self, t):
+        r"\["
+        self._open(t)
+        return t
+
+    def t_RBRACKET(self, t):
+        r"\]"
+        self.depth -= 1
+        return t
+
+    def t_LBRACE(self, t):
+        r"\{"
+        self._open(t)
+        return t
+
+    def t_RBRACE(self, t):
+        r"\}"
+        self.depth -= 1
+        return t
+
+    def t_NEWLINE(self, t):
+        r"\n+"
+        t.lexer.lineno += len(t.value)
+
+    def t_error(self, t):
+        self._fail("illegal character %r" % t.value[0], t, t.value[0])
+
+    # ---------------------------------------------------------------------------------------------
+    def _open(self, t):
+        self.depth += 1
+        if self.depth > MAX_NESTING:
+            self._fail("brackets nested deeper than %d levels" % MAX_NESTING, t, t.value)
+
+    def column(self, lexpos: int) -> int:
+        data = self.lexer.lexdata
+        return lexpos - (data.rfind("\n", 0, lexpos) + 1) + 1
+
+
+_ATTR_ITEM = re.compile(r"\s*([A-Za-z_][A-Za-z_0-9$]*)\s*(?:=\s*(.*?))?\s*$", re.S)
+
+
+def _split_attribute(body: str) -> list:
+    """``name = value, flag`` -> [(name, value_text or None)]; commas inside strings, parentheses
+    and braces do not split."""
+    parts, depth, cur, in_str = [], 0, [], False
+    i = 0
+    while i < len(body):
+        c = body[i]
+        if in_str:
+            cur.append(c)
+            if c == "\\" and i + 1 < len(body):
+                cur.append(body[i + 1])
+                i += 1
+            elif c == '"':
+                in_str = False
+        elif c == '"':
+            in_str = True
+            cur.append(c)
+        elif c in "({[":
+            depth += 1
+            cur.append(c)
+        elif c in ")}]":
+            depth -= 1
+            cur.append(c)
+        elif c == "," and depth == 0:
+            parts.append("".join(cur))
+            cur = []
+        else:
+            cur.append(c)
+        i += 1
+    parts.append("".join(cur))
+    out = []
+    for part in parts:
+        if not part.strip():
+            continue
+        m = _ATTR_ITEM.match(part)
+        if not m:
+            out.append((None, part.strip()))
+        else:
+            out.append((m.group(1), m.group(2)))
+    return out
