@@ -1,0 +1,518 @@
+"""Event-driven timed simulation of the gate graph, inertial and transport.
+
+Delay model (the gate graph's, :mod:`hazlint.graph`): every gate input pin has a
+:class:`~hazlint.library.Delay` (pin-to-output, split by output rise/fall, each a (min, max)
+pair); an edge may carry a ``wire`` delay in front of the pin. The simulator takes one number per
+arc and direction from a *corner* (``"max"``, ``"min"``) or from an explicit
+:class:`DelayAssignment`.
+
+Semantics, per time step (delta cycles at equal time):
+
+1. apply every value change that matures at time *t* (source changes, gate output events, wire
+   events), then
+2. re-evaluate each gate whose pins changed, once, with all of them applied. When the gate's
+   zero-delay value changes to *v* the output event is scheduled at ``t + d``, with ``d`` the
+   smallest delay (for *v*'s direction) of the pins that changed.
+
+*Inertial* mode: a gate holds at most one pending output event; when its zero-delay value returns
+to the current output value before the event matures, the event is cancelled, so a pulse
+narrower than the gate delay is swallowed. This is what Icarus Verilog does for gate primitives
+with ``#(rise, fall)`` delays (checked against iverilog in ``tests/test_iverilog_timing.py``,
+including the tie rule in step 1). *Transport* mode: every change is delayed; a new event
+deletes the pending ones scheduled at or after its own time (the transport rule of VHDL, IEEE
+1076), so unequal rise and fall delays cannot reorder a waveform. Wire delays are transport.
+"""
+from __future__ import annotations
+
+import heapq
+import random
+from dataclasses import dataclass, field
+from typing import Any, Iterable, Mapping, Sequence
+
+import networkx as nx
+
+from ..library import Delay
+from .ternary import IntAlgebra, bool_gate, ternary_fixpoint
+
+INF = float("inf")
+
+
+@dataclass
+class DelayAssignment:
+    """Delays for one simulation: per gate pin ``(node, pin) -> (rise, fall)``, per edge wire
+    ``(u, v) -> delay`` (transport, added in front of every pin of ``v`` fed by ``u``), and the
+    corner for everything not listed. JSON-able through :meth:`to_json`."""
+
+    corner: str = "max"
+    pins: dict[tuple[str, int], tuple[float, float]] = field(default_factory=dict)
+    wires: dict[tuple[str, str], float] = field(default_factory=dict)
+    mode: str = "inertial"
+
+    def to_json(self) -> dict[str, Any]:
+        return {"corner": self.corner, "mode": self.mode,
+                "pins": [{"node": n, "pin": p, "rise": r, "fall": f}
+                         for (n, p), (r, f) in sorted(self.pins.items())],
+                "wires": [{"from": u, "to": v, "delay": w}
+                          for (u, v), w in sorted(self.wires.items())]}
+
+    @classmethod
+    def from_json(cls, d: Mapping[str, Any]) -> "DelayAssignment":
+        return cls(corner=d.get("corner", "max"), mode=d.get("mode", "inertial"),
+                   pins={(p["node"], p["pin"]): (p["rise"], p["fall"]) for p in d.get("pins", [])},
+                   wires={(w["from"], w["to"]): w["delay"] for w in d.get("wires", [])})
+
+    def describe(self, graph: nx.DiGraph | None = None) -> list[str]:
+        def nm(n):
+            if graph is None or n not in graph:
+                return n
+            return graph.nodes[n].get("instance") or graph.nodes[n].get("name") or n
+        out = [f"{self.mode} delays, {self.corner} corner elsewhere"]
+        for (n, p), (r, f) in sorted(self.pins.items()):
+            out.append(f"pin {p} of {nm(n)}: rise {_num(r)}, fall {_num(f)}")
+        for (u, v), w in sorted(self.wires.items()):
+            out.append(f"extra delay {_num(w)} on the wire {nm(u)} -> {nm(v)}")
+        return out
+
+
+def _num(x: float) -> str:
+    return str(int(x)) if float(x).is_integer() else f"{x:g}"
+
+
+def pin_delay(d: Mapping[str, Any], pin: int, corner: str) -> tuple[float, float]:
+    delays = d.get("delays") or []
+    dl = delays[pin] if pin < len(delays) and delays[pin] is not None else Delay.unit()
+    if corner == "min":
+        return dl.rise_min, dl.fall_min
+    return dl.rise_max, dl.fall_max
+
+
+@dataclass
+class Trace:
+    """Waveforms: node -> [(time, value), ...], the first entry the initial value at ``start``."""
+
+    waves: dict[str, list[tuple[float, int]]]
+    start: float = 0.0
+    end: float = 0.0
+    truncated: bool = False        # stopped at ``until`` with events pending (oscillation)
+
+    def changes(self, node: str, after: float = -INF) -> list[tuple[float, int]]:
+        return [(t, v) for t, v in self.waves[node][1:] if t >= after]
+
+    def value_at(self, node: str, t: float) -> int:
+        v = self.waves[node][0][1]
+        for tt, vv in self.waves[node][1:]:
+            if tt > t:
+                break
+            v = vv
+        return v
+
+    def final(self, node: str) -> int:
+        return self.waves[node][-1][1]
+
+
+@dataclass
+class Glitch:
+    """What the timed simulation shows at one net for one transition."""
+
+    occurs: bool
+    changes: list[tuple[float, int]]
+    time: float | None = None          # start of the first spurious pulse
+    width: float | None = None
+    mode: str = "inertial"
+
+    def to_json(self) -> dict[str, Any]:
+        return {"occurs": self.occurs, "time": self.time, "width": self.width, "mode": self.mode,
+                "changes": [[t, v] for t, v in self.changes]}
+
+
+def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
+             events: Iterable[tuple[float, str, int]], *, mode: str = "inertial",
+             assignment: DelayAssignment | None = None, until: float | None = None,
+             watch: Iterable[str] | None = None, max_events: int = 1_000_000) -> Trace:
+    """Simulate from the steady state of ``initial`` (source node -> 0/1; missing free sources
+    are 0) through the source ``events`` ``(time, node, value)``.
+
+    ``watch`` limits the recorded waveforms (all nodes by default). Loops are allowed: the initial
+    state is Eichelberger's ternary fixpoint, X nets start at 0, and ``until`` bounds the run.
+    """
+    asg = assignment or DelayAssignment(mode=mode)
+    mode = asg.mode if assignment is not None else mode
+    if mode not in ("inertial", "transport"):
+        raise ValueError(f"unknown delay mode {mode!r}")
+    g = graph
+    nodes = g.nodes
+    val = _steady_state(g, initial)
+    readers: dict[str, list[tuple[str, int, float]]] = {}
+    gdelay: dict[str, list[tuple[float, float]]] = {}
+    for n, d in g.nodes(data=True):
+        ins = d.get("inputs") or []
+        if d["kind"] == "gate":
+            gdelay[n] = [asg.pins.get((n, p)) or pin_delay(d, p, asg.corner)
+                         for p in range(len(ins))]
+        for p, u in enumerate(ins):
+            w = asg.wires.get((u, n))
+            if w is None:
+                e = g.edges[u, n] if g.has_edge(u, n) else {}
+                wd = e.get("wire")
+                w = (wd.rise_min if asg.corner == "min" else wd.rise_max) if wd is not None else 0.0
+            readers.setdefault(u, []).append((n, p, float(w)))
+    pinval: dict[str, list[int]] = {}
+    for n, d in g.nodes(data=True):
+        if d["kind"] in ("gate", "sink"):
+            pinval[n] = [val[u] for u in (d.get("inputs") or [])]
+    undelayed = {n: val[n] for n in gdelay}
+    watch_set = set(watch) if watch is not None else None
+    waves = {n: [(0.0, val[n])] for n in (watch_set if watch_set is not None else g.nodes)}
+    heap: list = []
+    seq = 0
+    live: set[int] = set()
+    pending: dict[str, list[tuple[float, int, int]]] = {}   # node -> [(time, value, token)]
+    wire_pending: dict[tuple[str, int], list[tuple[float, int, int]]] = {}
+
+    def push(t, kind, target, v, pend):
+        nonlocal seq
+        seq += 1
+        # transport rule: drop pending events at or after t; inertial keeps one at most
+        keep = []
+        for ev in pend:
+            if ev[0] >= t:
+                live.discard(ev[2])
+            else:
+                keep.append(ev)
+        pend[:] = keep
+        pend.append((t, v, seq))
+        live.add(seq)
+        heapq.heappush(heap, (t, seq, kind, target, v))
+
+    start = INF
+    for t, n, v in events:
+        seq += 1
+        live.add(seq)
+        heapq.heappush(heap, (float(t), seq, "src", n, v & 1))
+        start = min(start, float(t))
+    count = 0
+    now = 0.0
+    truncated = False
+    while heap:
+        t = heap[0][0]
+        if until is not None and t > until:
+            truncated = True
+            break
+        now = t
+        # phase 1: apply everything that matures at t
+        changed_pins: dict[str, set[int]] = {}
+        while heap and heap[0][0] == t:
+            _, token, kind, target, v = heapq.heappop(heap)
+            if token not in live:
+                continue
+            live.discard(token)
+            count += 1
+            if count > max_events:
+                raise RuntimeError("timed simulation exceeded its event budget")
+            if kind == "pin":
+                node, p = target
+                pl = wire_pending.get(target)
+                if pl:
+                    pl[:] = [e for e in pl if e[2] != token]
+                if pinval[node][p] != v:
+                    pinval[node][p] = v
+                    changed_pins.setdefault(node, set()).add(p)
+                continue
+            if kind == "out":
+                pl = pending.get(target)
+                if pl:
+                    pl[:] = [e for e in pl if e[2] != token]
+            if val[target] == v:
+                continue
+            val[target] = v
+            if target in waves:
+                waves[target].append((t, v))
+            for r, p, w in readers.get(target, ()):
+                if w > 0:
+                    push(t + w, "pin", (r, p), v, wire_pending.setdefault((r, p), []))
+                else:
+                    if pinval[r][p] != v:
+                        pinval[r][p] = v
+                        changed_pins.setdefault(r, set()).add(p)
+        # phase 2: evaluate each touched gate once
+        for n, pins in changed_pins.items():
+            d = nodes[n]
+            if d["kind"] == "sink":
+                v = pinval[n][0]
+                if val[n] != v:
+                    val[n] = v
+                    if n in waves:
+                        waves[n].append((t, v))
+                continue
+            if d["kind"] != "gate":
+                continue
+            v = bool_gate(_BIT, d["op"], pinval[n], d.get("expr"))
+            if v == undelayed[n]:
+                continue
+            undelayed[n] = v
+            pl = pending.setdefault(n, [])
+            if mode == "inertial" and pl:
+                # the zero-delay value went back to the output's value: swallow the pulse
+                for ev in pl:
+                    live.discard(ev[2])
+                pl.clear()
+                if v == val[n]:
+                    continue
+            dl = min(gdelay[n][p][0 if v else 1] for p in pins)
+            push(t + dl, "out", n, v, pl)
+    return Trace(waves=waves, start=0.0 if start == INF else start, end=now, truncated=truncated)
+
+
+_BIT = IntAlgebra(1)
+
+
+def _steady_state(g: nx.DiGraph, initial: Mapping[str, int]) -> dict[str, int]:
+    val: dict[str, int] = {}
+    for n, d in g.nodes(data=True):
+        if d["kind"] in ("input", "state", "blackbox"):
+            val[n] = initial.get(n, 0) & 1
+    if nx.is_directed_acyclic_graph(g):
+        for n in nx.topological_sort(g):
+            d = g.nodes[n]
+            if n in val:
+                continue
+            if d["kind"] == "gate":
+                val[n] = bool_gate(_BIT, d["op"], [val[i] for i in d["inputs"]], d.get("expr"))
+            elif d["kind"] == "const":
+                val[n] = 1 if d.get("op") == "const1" else 0
+            elif d["kind"] == "sink":
+                ins = d.get("inputs") or []
+                val[n] = val[ins[0]] if ins else 0
+        return val
+    A = _BIT
+    tv = {n: (1 - v, v) for n, v in val.items()}
+    for n, d in g.nodes(data=True):
+        if d["kind"] == "const":
+            tv[n] = (0, 1) if d.get("op") == "const1" else (1, 0)
+        elif n not in tv:
+            tv[n] = (1, 1)
+    tv = ternary_fixpoint(g, list(g.nodes), tv, A)
+    return {n: (1 if c1 and not c0 else 0) for n, (c0, c1) in tv.items()}
+
+
+def glitch_at(trace: Trace, node: str, after: float, mode: str = "inertial") -> Glitch:
+    """Spurious pulses at ``node`` after time ``after``: more changes than the net's start and
+    end values require."""
+    ch = trace.changes(node, after)
+    v0 = trace.value_at(node, after - 1e-9) if after > 0 else trace.waves[node][0][1]
+    v1 = trace.final(node)
+    need = 0 if v0 == v1 else 1
+    if len(ch) <= need:
+        return Glitch(False, ch, mode=mode)
+    # first spurious pulse: for static, the first two changes; for dynamic, the first two
+    t0, t1 = ch[0][0], ch[1][0]
+    return Glitch(True, ch, time=t0, width=t1 - t0, mode=mode)
+
+
+def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Mapping[str, int],
+           assignment: DelayAssignment | None = None, mode: str = "inertial",
+           settle: float = 0.0, watch: Iterable[str] | None = None) -> tuple[Glitch, Trace]:
+    """Apply the transition ``before -> after`` (source values) at time ``settle`` and report the
+    glitch at ``target``."""
+    asg = assignment or DelayAssignment(mode=mode)
+    evs = [(settle, n, v & 1) for n, v in after.items() if (before.get(n, 0) & 1) != (v & 1)]
+    w = None if watch is None else set(watch) | {target}
+    tr = simulate(graph, before, evs, assignment=asg, watch=w)
+    return glitch_at(tr, target, settle, asg.mode), tr
+
+
+def search_assignment(graph: nx.DiGraph, target: str, before: Mapping[str, int],
+                      after: Mapping[str, int], order: Sequence[str], *, trials: int = 200,
+                      seed: int = 0, want_dynamic: bool = False
+                      ) -> tuple[DelayAssignment | None, Glitch | None, str]:
+    """Look for delays under which the transition glitches at ``target``.
+
+    Tries, in order: the nominal (max) delays, inertial then transport; the min corner; random
+    mixes of min/max per pin (within the given bounds); then arbitrary extra transport delays on
+    the wires of the changing cone (the "arbitrary delays" model the proof uses). Bounded by
+    ``trials``. Returns (assignment, glitch, how) or (None, None, reason).
+    """
+    need = 3 if want_dynamic else 2
+    cone_nodes = set(order)
+    changing = {n for n in after if (before.get(n, 0) & 1) != (after[n] & 1)}
+    # nets that can move: the fan-out of the changing sources inside the cone
+    moving: set[str] = set()
+    stack = list(changing)
+    while stack:
+        n = stack.pop()
+        for s in graph.successors(n):
+            if s in cone_nodes and s not in moving:
+                moving.add(s)
+                stack.append(s)
+    sub = graph.subgraph(cone_nodes)
+
+    def run(asg):
+        gl, _ = replay(sub, target, before, after, asg, watch=[target])
+        ok = gl.occurs and len(gl.changes) >= need
+        return gl if ok else None
+
+    tried = 0
+    for asg, how in ((DelayAssignment("max", mode="inertial"), "nominal"),
+                     (DelayAssignment("max", mode="transport"), "nominal"),
+                     (DelayAssignment("min", mode="inertial"), "min-corner"),
+                     (DelayAssignment("min", mode="transport"), "min-corner")):
+        tried += 1
+        gl = run(asg)
+        if gl:
+            return asg, gl, how
+    rng = random.Random(seed)
+    gates = [n for n in order if n in moving and graph.nodes[n]["kind"] == "gate"]
+    bounded = [(n, p) for n in gates for p in range(len(graph.nodes[n]["inputs"]))
+               if _has_range(graph.nodes[n], p)]
+    budget = max(0, trials - tried)
+    n_bounded = budget // 4 if bounded else 0
+    for _ in range(n_bounded):
+        pins = {}
+        for n, p in bounded:
+            c = "min" if rng.random() < 0.5 else "max"
+            pins[(n, p)] = pin_delay(graph.nodes[n], p, c)
+        asg = DelayAssignment("max", pins=pins, mode="inertial")
+        gl = run(asg)
+        if gl:
+            return asg, gl, "within-bounds"
+    edges = [(u, v) for v in gates for u in dict.fromkeys(graph.nodes[v]["inputs"])
+             if u in moving or u in changing]
+    scale = 2.0 * max(1.0, _depth(graph, order, moving)) * _max_delay(graph, gates)
+    for k in range(budget - n_bounded):
+        wires = {}
+        # alternate dense random skews and sparse big skews on a few wires
+        if k % 2 == 0:
+            for e in edges:
+                wires[e] = float(rng.randint(0, int(scale)))
+        else:
+            for e in rng.sample(edges, min(len(edges), rng.randint(1, 3))):
+                wires[e] = float(rng.randint(1, int(scale) * 2))
+        wires = {e: w for e, w in wires.items() if w > 0}
+        asg = DelayAssignment("max", wires=wires, mode="transport")
+        gl = run(asg)
+        if gl:
+            return _shrink(asg, run), run(_shrink(asg, run)), "arbitrary"
+    return None, None, f"no glitching delay assignment found in {trials} trials"
+
+
+def _shrink(asg: DelayAssignment, run) -> DelayAssignment:
+    """Drop extra wire delays that are not needed for the glitch (a shorter, clearer report)."""
+    wires = dict(asg.wires)
+    for e in sorted(wires, key=lambda e: wires[e]):
+        trial = dict(wires)
+        del trial[e]
+        if run(DelayAssignment(asg.corner, dict(asg.pins), trial, asg.mode)):
+            wires = trial
+    return DelayAssignment(asg.corner, dict(asg.pins), wires, asg.mode)
+
+
+def _has_range(d, p) -> bool:
+    delays = d.get("delays") or []
+    if p >= len(delays) or delays[p] is None:
+        return False
+    dl = delays[p]
+    return dl.rise_min != dl.rise_max or dl.fall_min != dl.fall_max
+
+
+def _depth(graph, order, moving) -> int:
+    depth: dict[str, int] = {}
+    best = 1
+    for n in order:
+        if n in moving:
+            depth[n] = 1 + max((depth.get(p, 0) for p in graph.predecessors(n)), default=0)
+            best = max(best, depth[n])
+    return best
+
+
+def _max_delay(graph, gates) -> float:
+    m = 1.0
+    for n in gates:
+        for dl in graph.nodes[n].get("delays") or []:
+            if dl is not None:
+                m = max(m, dl.max)
+    return m
+
+
+# ---------------------------------------------------------------------------------------------
+# Small netlists: build a gate graph directly, and write it as Verilog for iverilog
+
+def build_graph(inputs: Sequence[str], gates: Sequence[tuple], outputs: Sequence[str] = (),
+                path: str = "", async_outputs: Sequence[str] = ()) -> nx.DiGraph:
+    """A gate graph following :mod:`hazlint.graph` from a gate list
+    ``(name, op, [input nets], delay)`` where ``delay`` is a number, ``(rise, fall)``, or a
+    :class:`~hazlint.library.Delay` (the same for every pin). Outputs become sinks
+    ``"<sink>name"`` with role "output"."""
+    g = nx.DiGraph()
+    for i, n in enumerate(inputs):
+        g.add_node(n, kind="input", name=n, port=n, path=path, line=i + 1, column=1)
+    for k, (name, op, ins, delay) in enumerate(gates):
+        if isinstance(delay, Delay):
+            dl = delay
+        elif isinstance(delay, (tuple, list)):
+            dl = Delay(delay[0], delay[0], delay[1], delay[1])
+        else:
+            dl = Delay.fixed(float(delay))
+        g.add_node(name, kind="gate", name=name, op=op, inputs=list(ins),
+                   pins=[str(p + 1) for p in range(len(ins))], delays=[dl] * len(ins), cell=op,
+                   instance=f"g_{name}", path=path, line=len(inputs) + k + 1, column=1)
+        for p, u in enumerate(ins):
+            if g.has_edge(u, name):
+                g.edges[u, name]["pins"].append(p)
+            else:
+                g.add_edge(u, name, pins=[p])
+    for o in outputs:
+        s = f"<sink>{o}"
+        g.add_node(s, kind="sink", name=o, port=o, role="output", inputs=[o], pins=["D"],
+                   path=path, line=0, column=1, asynchronous=o in async_outputs)
+        g.add_edge(o, s, pins=[0])
+    return g
+
+
+def graph_to_verilog(module: str, graph: nx.DiGraph, corner: str = "max") -> str:
+    """Write a gate graph of primitives (one delay per gate) as a Verilog module with
+    ``#(rise, fall)`` gate delays; nets are renamed ``n<k>`` and ports keep their names."""
+    ins = [n for n, d in graph.nodes(data=True) if d["kind"] == "input"]
+    outs = [(d["name"], d["inputs"][0]) for n, d in graph.nodes(data=True)
+            if d["kind"] == "sink" and d.get("role") == "output"]
+    ident = {n: f"i{k}" for k, n in enumerate(ins)}
+    gl = [n for n in nx.topological_sort(graph) if graph.nodes[n]["kind"] == "gate"]
+    for k, n in enumerate(gl):
+        ident[n] = f"n{k}"
+    ports = [ident[n] for n in ins] + [f"o{k}" for k in range(len(outs))]
+    lines = [f"module {module}({', '.join(ports)});"]
+    lines += [f"  input {ident[n]};" for n in ins]
+    lines += [f"  output o{k};" for k in range(len(outs))]
+    if gl:
+        lines.append(f"  wire {', '.join(ident[n] for n in gl)};")
+    for n in gl:
+        d = graph.nodes[n]
+        r, f = pin_delay(d, 0, corner)
+        lines.append(f"  {d['op']} #({_num(r)}, {_num(f)}) g{ident[n]}({ident[n]}, "
+                     f"{', '.join(ident[i] for i in d['inputs'])});")
+    for k, (_, drv) in enumerate(outs):
+        lines.append(f"  assign o{k} = {ident[drv]};")
+    lines.append("endmodule")
+    return "\n".join(lines) + "\n"
+
+
+def random_circuit(rng: random.Random, n_inputs: int = 4, n_gates: int = 8, n_outputs: int = 2,
+                   max_delay: int = 9, ops: Sequence[str] = ("and", "or", "nand", "nor", "xor",
+                                                            "xnor", "not", "buf"),
+                   prefix: str = "") -> nx.DiGraph:
+    """A random acyclic circuit of primitives with random integer (rise, fall) gate delays, for
+    cross-checks against iverilog and between the analyses. Fan-in prefers recent nets, which
+    gives depth and reconvergent fanout."""
+    nets = [f"{prefix}i{k}" for k in range(n_inputs)]
+    gates = []
+    for k in range(n_gates):
+        op = rng.choice(ops)
+        arity = 1 if op in ("not", "buf") else rng.choice((2, 2, 2, 3))
+        pool = nets[-6:] + nets if len(nets) > 6 else nets
+        ins = [rng.choice(pool) for _ in range(arity)]
+        name = f"{prefix}g{k}"
+        gates.append((name, op, ins, (rng.randint(1, max_delay), rng.randint(1, max_delay))))
+        nets.append(name)
+    gate_names = [g[0] for g in gates]
+    outs = list(dict.fromkeys(gate_names[-1:] + rng.sample(gate_names, min(len(gate_names),
+                                                                            n_outputs - 1))))
+    return build_graph(nets[:n_inputs], gates, outs)
