@@ -1,0 +1,235 @@
+"""The lint pipeline as a function: what the command line, the language server and the
+pre-commit hook all call.
+
+    >>> from hazlint.api import lint
+    >>> result = lint(["fixtures/demo/press_top.v"])          # doctest: +SKIP
+    >>> [(d.rule, d.line) for d in result.diagnostics]        # doctest: +SKIP
+
+Stages: configuration -> load (read, elaborate, SDF) -> rules (shared :class:`AnalysisContext`)
+-> hazard prover refinement (when available) -> waivers -> baseline -> ``changed`` filter.
+"""
+from __future__ import annotations
+
+import importlib
+import importlib.util
+import inspect
+import os
+from dataclasses import dataclass, field
+from typing import Any, Iterable, Mapping, Sequence
+
+from .analysis.context import AnalysisContext
+from .config import Config, load_config
+from .diagnostics import Diagnostic, Severity, sort_diagnostics
+from .errors import EXIT_CLEAN, EXIT_FINDINGS, ConfigError, HazlintError
+from .plugins import PSEUDO_RULES, Rule, all_rules, select_rules
+from .waivers import UNUSED_RULE, apply_waivers, read_waiver_file, scan_sources
+
+
+@dataclass
+class LintResult:
+    diagnostics: list[Diagnostic]          # after waivers and baseline; sorted
+    waived: list[Diagnostic]               # each with ``waived`` set to the reason
+    design: Any
+    config: Config
+    root: str                              # project root: config file's directory, else cwd
+    counts: dict[str, int]
+    rules: dict[str, Rule] = field(default_factory=dict)     # the rules that ran
+    baselined: list[Diagnostic] = field(default_factory=list)
+    files: list[str] = field(default_factory=list)
+    context: Any = None
+
+    def relpath(self, path: str) -> str:
+        return relpath(path, self.root)
+
+    def exit_code(self, fail_on: str | None = None) -> int:
+        level = fail_on or self.config.fail_on
+        if level == "never":
+            return EXIT_CLEAN
+        threshold = Severity.parse(level)
+        return EXIT_FINDINGS if any(d.severity >= threshold for d in self.diagnostics) \
+            else EXIT_CLEAN
+
+
+def relpath(path: str, root: str) -> str:
+    """``path`` relative to ``root`` with forward slashes when inside it, else unchanged."""
+    if not path:
+        return path
+    ap = os.path.abspath(path)
+    try:
+        rel = os.path.relpath(ap, os.path.abspath(root))
+    except ValueError:
+        return path.replace(os.sep, "/")
+    if rel == ".." or rel.startswith(".." + os.sep):
+        return ap.replace(os.sep, "/")
+    return rel.replace(os.sep, "/")
+
+
+def _norm(p: str) -> str:
+    return os.path.normcase(os.path.abspath(p))
+
+
+def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | None = None,
+         top=None, include_dirs=None, defines=None):
+    """Read and elaborate the design with the configured library, then apply SDF."""
+    from .frontend.reader import read_sources
+    from .flatten import elaborate
+    library = config.library()
+    kwargs: dict[str, Any] = {
+        "include_dirs": list(include_dirs if include_dirs is not None else config.include_dirs),
+        "defines": dict(config.defines, **(defines or {})),
+    }
+    params = inspect.signature(read_sources).parameters
+    optional = {"root": config.root, "jobs": config.jobs, "cache_dir": config.cache_dir}
+    for k, v in optional.items():
+        if k in params and v is not None:
+            kwargs[k] = v
+    if texts:
+        if "texts" not in params:
+            raise HazlintError("this build cannot lint unsaved editor text (the reader takes "
+                               "no 'texts')")
+        kwargs["texts"] = {os.path.abspath(k): v for k, v in texts.items()}
+    sources = read_sources(list(files), **kwargs)
+    chosen_top = top if top is not None else config.top
+    if isinstance(chosen_top, list) and len(chosen_top) == 1:
+        chosen_top = chosen_top[0]
+    design = elaborate(sources, top=chosen_top, library=library)
+    if config.sdf:
+        try:
+            sdf = importlib.import_module("hazlint.sdf")
+        except ModuleNotFoundError:
+            sdf = None
+        annotate = getattr(sdf, "annotate", None)
+        if annotate is None:
+            raise ConfigError("SDF files are configured but SDF annotation is not available",
+                              path=config.path, line=config.key_lines.get("sdf"))
+        for p in config.sdf:
+            if not os.path.exists(p):
+                raise ConfigError(f"SDF file not found: {p}", path=config.path,
+                                  line=config.key_lines.get("sdf"))
+            annotate(design, p)
+    return design
+
+
+def run_rules(design, rules: Sequence[Rule], context: AnalysisContext,
+              severity: Mapping[str, str] | None = None) -> list[Diagnostic]:
+    """Run each rule once over the shared context; apply per-rule severity overrides (to the
+    findings at the rule's default severity: levels a rule sets through its own options stay)."""
+    out: list[Diagnostic] = []
+    for rule in rules:
+        override = (severity or {}).get(rule.id)
+        level = Severity.parse(override) if override else None
+        try:
+            found = list(rule.check(design, context))
+        except HazlintError:
+            raise
+        except Exception as exc:
+            raise HazlintError(f"rule '{rule.id}' failed: {type(exc).__name__}: {exc}") from exc
+        for d in found:
+            if level is not None and d.severity == rule.severity:
+                d = d.with_severity(level)
+            out.append(d)
+    return out
+
+
+def refine(design, diagnostics: list[Diagnostic], context, options: Mapping[str, Any]):
+    """Hand the findings to the hazard prover when it is part of this build."""
+    if importlib.util.find_spec("hazlint.analysis.prove") is None:
+        return diagnostics
+    prove = importlib.import_module("hazlint.analysis.prove")
+    return list(prove.refine(design, diagnostics, context, dict(options)))
+
+
+def _touches(d: Diagnostic, changed: set[str]) -> bool:
+    if d.location.path and _norm(d.location.path) in changed:
+        return True
+    for flow in d.flows:
+        for h in flow:
+            if h.location is not None and h.location.path and _norm(h.location.path) in changed:
+                return True
+    return False
+
+
+def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
+         cwd: str | None = None, texts: Mapping[str, str] | None = None,
+         changed: Iterable[str] | None = None, select: Iterable[str] | None = None,
+         ignore: Iterable[str] = (), prove: bool = True, top=None,
+         include_dirs: Sequence[str] | None = None, defines: Mapping[str, str] | None = None,
+         baseline: str | None = None, rule_options: Mapping[str, Mapping[str, Any]] | None = None
+         ) -> LintResult:
+    """Lint a design. ``files`` default to the configured ones; ``texts`` (path -> text)
+    overrides file contents; ``changed`` keeps only findings located in those files or whose
+    evidence runs through them; ``select``/``ignore`` add to the configuration's."""
+    cwd = os.path.abspath(cwd or os.getcwd())
+    if config is None:
+        config = load_config(cwd)
+    root = config.root if config.path else cwd
+    if files:
+        paths = [p if os.path.isabs(p) else os.path.join(cwd, p) for p in files]
+    else:
+        paths = list(config.files)
+    if not paths:
+        raise HazlintError("no Verilog files given and none configured (configuration key "
+                           "'files')")
+    for p in paths:
+        if not os.path.isfile(p) and not (texts and any(_norm(k) == _norm(p) for k in texts)):
+            raise HazlintError(f"file not found: {relpath(p, cwd)}", path=p)
+    design = load(paths, config, texts=texts, top=top, include_dirs=include_dirs,
+                  defines=defines)
+
+    sel = list(select) if select is not None else config.select
+    ign = list(config.ignore) + list(ignore)
+    rules = select_rules(sel, ign)
+    opts = {}
+    given = dict(config.rules)
+    for k, v in (rule_options or {}).items():
+        given[k] = dict(given.get(k, {}), **v)
+    known_ids = {r.id for r in all_rules()}
+    for rid in given:
+        if rid not in known_ids:
+            raise ConfigError(f"options given for unknown rule '{rid}'", path=config.path,
+                              line=config.key_lines.get("rules"))
+    for r in all_rules():
+        opts[r.id] = r.resolve_options(given.get(r.id), config.where("rules"))
+    for rid in config.severity:
+        if rid not in known_ids and rid not in PSEUDO_RULES:
+            raise ConfigError(f"severity given for unknown rule '{rid}'", path=config.path,
+                              line=config.key_lines.get("severity"))
+    context = AnalysisContext(design, config, opts)
+
+    diags = run_rules(design, rules, context, config.severity)
+    if prove:
+        diags = refine(design, diags, context, config.prove)
+    diags = list(diags) + [n for n in (design.notes or []) if isinstance(n, Diagnostic)
+                           and n.rule not in ign]
+
+    # waivers: inline comments in every source read, plus the waiver file
+    sources = list(dict.fromkeys(list(getattr(design, "files", []) or []) + paths))
+    waivers = scan_sources(sources, texts)
+    if config.waiver_file:
+        waivers += read_waiver_file(config.waiver_file)
+    ran = {r.id for r in rules} | {d.rule for d in diags}
+    kept, waived, problems = apply_waivers(diags, waivers, ran, known_ids)
+    if UNUSED_RULE not in ign:
+        level = config.severity.get(UNUSED_RULE)
+        kept += [p.with_severity(Severity.parse(level)) if level else p for p in problems]
+
+    baselined: list[Diagnostic] = []
+    bpath = baseline or config.baseline
+    if bpath:
+        from .baseline import load_baseline
+        if os.path.exists(bpath) or baseline:
+            kept, baselined = load_baseline(bpath).split(kept)
+
+    if changed is not None:
+        ch = {_norm(p if os.path.isabs(p) else os.path.join(cwd, p)) for p in changed}
+        kept = [d for d in kept if _touches(d, ch)]
+        waived = [d for d in waived if _touches(d, ch)]
+        baselined = [d for d in baselined if _touches(d, ch)]
+
+    kept = sort_diagnostics(kept)
+    waived = sort_diagnostics(waived)
+    counts = {str(s): sum(1 for d in kept if d.severity == s) for s in Severity}
+    counts.update(total=len(kept), waived=len(waived), baselined=len(baselined))
+    return LintResult(diagnostics=kept, waived=waived, design=design, config=config, root=root,
+                      counts=counts, rules={r.id: r for r in rules}, baselined=baselined,
+                      files=paths, context=context)

@@ -1,0 +1,123 @@
+"""``hazlint check FILES``: lint a design and report the findings.
+
+Exit codes: 0 clean, 1 findings at or above ``--fail-on`` (configuration ``fail_on``, default
+``warning``), 2 usage or input error.
+"""
+from __future__ import annotations
+
+import argparse
+import importlib
+import os
+import sys
+
+from ..errors import EXIT_CLEAN, HazlintError
+
+FORMATS = ("text", "json", "sarif", "annotations")
+
+
+def _csv(values):
+    out = []
+    for v in values or ():
+        out.extend(x.strip() for x in v.split(",") if x.strip())
+    return out
+
+
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    p.add_argument("files", nargs="*", metavar="FILE",
+                   help="Verilog files (default: the configured 'files')")
+    p.add_argument("--config", metavar="PATH",
+                   help="configuration file (default: hazlint.toml or pyproject.toml upward)")
+    p.add_argument("--top", action="append", metavar="MODULE", help="top module (repeatable)")
+    p.add_argument("-I", "--include-dir", action="append", metavar="DIR", dest="include_dirs",
+                   help="`include search directory (repeatable)")
+    p.add_argument("-D", "--define", action="append", metavar="NAME[=VALUE]", dest="defines",
+                   help="preprocessor macro (repeatable)")
+    p.add_argument("--select", action="append", metavar="RULES",
+                   help="run only these rules (comma-separated, repeatable)")
+    p.add_argument("--ignore", action="append", metavar="RULES",
+                   help="skip these rules (comma-separated, repeatable)")
+    p.add_argument("--format", default="text", choices=FORMATS, help="output format")
+    p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE")
+    p.add_argument("--fail-on", choices=("error", "warning", "info", "never"),
+                   help="lowest severity that makes the exit code 1")
+    p.add_argument("--no-prove", action="store_true",
+                   help="skip the hazard prover's refinement of the findings")
+    p.add_argument("--changed", action="store_true",
+                   help="FILES are the changed files: lint the configured design (or FILES when "
+                        "none is configured) and keep findings in or running through FILES")
+    p.add_argument("--baseline", metavar="FILE",
+                   help="hide findings recorded in this baseline file")
+    p.add_argument("--write-baseline", metavar="FILE",
+                   help="record the current findings in FILE and exit 0")
+    p.add_argument("--color", choices=("auto", "always", "never"), default="auto",
+                   help="colour the text output (auto: only on a terminal, not with NO_COLOR)")
+    p.add_argument("--brief", action="store_true", help="text: no evidence lines")
+
+
+def _defines(items):
+    out = {}
+    for item in items or ():
+        k, _, v = item.partition("=")
+        if not k:
+            raise HazlintError(f"bad --define '{item}' (expected NAME or NAME=VALUE)")
+        out[k] = v
+    return out
+
+
+def _renderer(fmt: str):
+    try:
+        return importlib.import_module(f"hazlint.report.{fmt}")
+    except ModuleNotFoundError as exc:
+        if exc.name == f"hazlint.report.{fmt}":
+            raise HazlintError(f"output format '{fmt}' is not available in this build") from None
+        raise
+
+
+def use_color(choice: str, stream) -> bool:
+    if choice == "always":
+        return True
+    if choice == "never" or os.environ.get("NO_COLOR"):
+        return False
+    return hasattr(stream, "isatty") and stream.isatty() and not os.environ.get("NO_COLOR")
+
+
+def run(args) -> int:
+    from ..api import lint
+    from ..config import load_config
+    cwd = os.getcwd()
+    config = load_config(cwd, args.config)
+    renderer = _renderer(args.format)       # a missing format fails before the slow work
+    files = list(args.files)
+    changed = None
+    if args.changed:
+        changed = files
+        files = [] if config.files else files
+        if not config.files and not changed:
+            return EXIT_CLEAN        # nothing staged and no design configured
+    result = lint(files or None, config=config, cwd=cwd, changed=changed,
+                  select=_csv(args.select) or None, ignore=_csv(args.ignore),
+                  prove=not args.no_prove, top=args.top,
+                  include_dirs=([os.path.abspath(d) for d in args.include_dirs]
+                                if args.include_dirs else None),
+                  defines=_defines(args.defines), baseline=args.baseline)
+    if args.write_baseline:
+        from ..baseline import write_baseline
+        n = write_baseline(args.write_baseline, result.diagnostics, result.root)
+        print(f"hazlint: recorded {n} finding(s) in {args.write_baseline}", file=sys.stderr)
+        return EXIT_CLEAN
+    out_stream = sys.stdout
+    if args.format == "text":
+        text = renderer.render(result, color=not args.output and use_color(args.color, out_stream),
+                               evidence=not args.brief)
+    else:
+        text = renderer.render(result)
+    if args.output:
+        try:
+            with open(args.output, "w", encoding="utf-8") as fh:
+                fh.write(text)
+        except OSError as exc:
+            raise HazlintError(f"cannot write report: {exc.strerror}", path=args.output) from None
+    else:
+        out_stream.write(text)
+        out_stream.flush()
+    return result.exit_code(args.fail_on)

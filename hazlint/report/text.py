@@ -1,0 +1,77 @@
+"""Plain text: ``path:line:column: severity: message [rule-id]``, evidence indented below, then a
+summary line. This is the shape editors' quick-fix lists and CI problem matchers read. Colour
+only when asked (the command asks when stdout is a terminal and NO_COLOR is not set)."""
+from __future__ import annotations
+
+from typing import Any
+
+CAUTION = ("note: a clean lint run does not make a machine safe; safety functions follow the "
+           "applicable functional-safety standards and a qualified review.")
+
+_COLOURS = {"error": "\033[1;31m", "warning": "\033[1;33m", "info": "\033[1;36m"}
+_DIM = "\033[2m"
+_BOLD = "\033[1m"
+_RESET = "\033[0m"
+
+
+def _plural(n: int, word: str) -> str:
+    return f"{n} {word}{'' if n == 1 else 's'}"
+
+
+def format_diagnostic(d, relpath, color: bool = False, evidence: bool = True) -> list[str]:
+    sev = str(d.severity)
+    where = f"{relpath(d.location.path)}:{d.location.line}:{d.location.column}"
+    if color:
+        head = (f"{_BOLD}{where}{_RESET}: {_COLOURS.get(sev, '')}{sev}{_RESET}: {d.message} "
+                f"{_DIM}[{d.rule}]{_RESET}")
+    else:
+        head = f"{where}: {sev}: {d.message} [{d.rule}]"
+    lines = [head]
+    if not evidence:
+        return lines
+    body = list(d.notes)
+    if not body and d.flows:
+        for k, flow in enumerate(d.flows, 1):
+            body.append(f"path {k}: " + " -> ".join(h.describe() for h in flow))
+    if d.instance:
+        body.insert(0, f"instance {d.instance}")
+    if d.fix:
+        body.append(f"fix: {d.fix}")
+    if d.waived is not None:
+        body.append(f"waived: {d.waived}")
+    for b in body:
+        # evidence lines carry their own file:line in parentheses, never at the line start, so
+        # problem matchers do not mistake them for findings
+        lines.append(("    " + b) if not color else f"    {_DIM}{b}{_RESET}")
+    return lines
+
+
+def summary_line(result: Any) -> str:
+    c = result.counts
+    parts = []
+    for sev in ("error", "warning", "info"):
+        if c.get(sev):
+            parts.append(_plural(c[sev], sev))
+    total = c.get("total", len(result.diagnostics))
+    head = f"hazlint: {_plural(total, 'finding')}" + (f" ({', '.join(parts)})" if parts else "")
+    extra = []
+    if c.get("waived"):
+        extra.append(f"{c['waived']} waived")
+    if c.get("baselined"):
+        extra.append(f"{c['baselined']} in baseline")
+    files = getattr(result, "files", None) or []
+    design = getattr(result, "design", None)
+    where = f" in {_plural(len(files), 'file')}" if files else ""
+    top = f" (top {design.top})" if design is not None and getattr(design, "top", None) else ""
+    return head + (", " + ", ".join(extra) if extra else "") + where + top
+
+
+def render(result: Any, color: bool = False, evidence: bool = True, caution: bool = True) -> str:
+    rel = getattr(result, "relpath", None) or (lambda p: p)
+    out: list[str] = []
+    for d in result.diagnostics:
+        out.extend(format_diagnostic(d, rel, color, evidence))
+    out.append(summary_line(result))
+    if caution:
+        out.append(CAUTION)
+    return "\n".join(out) + "\n"
