@@ -10,10 +10,11 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
 
 from . import __version__
-from .errors import EXIT_INPUT_ERROR, HazlintError
+from .errors import EXIT_INPUT_ERROR, EXIT_INTERNAL_ERROR, HazlintError
 
 # command name -> (module under hazlint.commands, one-line help)
 COMMANDS: dict[str, tuple[str, str]] = {
@@ -68,6 +69,12 @@ def main(argv: list[str] | None = None) -> int:
         print("error: input nested too deeply to analyse (expression or hierarchy depth)",
               file=sys.stderr)
         return EXIT_INPUT_ERROR
+    except Exception as exc:  # a bug in hazlint, not in the user's input
+        if os.environ.get("HAZLINT_DEBUG"):
+            raise
+        print(f"hazlint: internal error: {type(exc).__name__}: {exc} (this is a bug in hazlint; "
+              f"rerun with HAZLINT_DEBUG=1 for the details to report)", file=sys.stderr)
+        return EXIT_INTERNAL_ERROR
 
 
 if __name__ == "__main__":

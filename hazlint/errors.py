@@ -4,6 +4,7 @@ from __future__ import annotations
 EXIT_CLEAN = 0
 EXIT_FINDINGS = 1
 EXIT_INPUT_ERROR = 2
+EXIT_INTERNAL_ERROR = 3    # a bug in hazlint itself
 
 
 class HazlintError(Exception):

@@ -1,0 +1,76 @@
+"""``hazlint summary``: what the design is made of (ports, gates by type, registers, depth)."""
+from __future__ import annotations
+
+import json
+import os
+
+from ..errors import HazlintError
+
+
+def add_arguments(p) -> None:
+    p.add_argument("files", nargs="*", help="Verilog files (default: the configured files)")
+    p.add_argument("--top", action="append", help="top module (repeat for several)")
+    p.add_argument("-I", "--include-dir", action="append", default=[], dest="include_dirs",
+                   help="directory searched by `include")
+    p.add_argument("-D", "--define", action="append", default=[], dest="defines",
+                   metavar="NAME[=VALUE]", help="define a macro")
+    p.add_argument("--library", action="append", default=[],
+                   help="Liberty (.lib) file with the cells the netlist uses")
+    p.add_argument("--config", help="configuration file (default: found upward from here)")
+    p.add_argument("--format", choices=("text", "json"), default="text")
+
+
+def design_from_args(args):
+    """Load the design named by command-line arguments and configuration (shared by commands
+    that need a design but not the rules)."""
+    from ..config import load_config
+    from ..design import load_design
+    cfg = load_config(path=args.config) if getattr(args, "config", None) else load_config()
+    files = [os.path.abspath(f) for f in args.files] or list(cfg.files)
+    if not files:
+        raise HazlintError("no input files: name Verilog files or set 'files' in the "
+                           "configuration")
+    defines = dict(cfg.defines)
+    for d in args.defines:
+        name, _, value = d.partition("=")
+        defines[name] = value or "1"
+    library = cfg.library()
+    if args.library:
+        from ..flatten import resolve_library
+        for path in args.library:
+            library = library.merge(resolve_library(path))
+    return load_design(files, top=args.top or cfg.top,
+                       include_dirs=[*cfg.include_dirs, *args.include_dirs],
+                       defines=defines, library=library, root=cfg.root), cfg
+
+
+def run(args) -> int:
+    design, cfg = design_from_args(args)
+    s = design.summary()
+    root = cfg.root
+    s["files"] = [os.path.relpath(f, root) for f in s["files"]]
+    for b in s["blackboxes"]:
+        if b["path"]:
+            b["path"] = os.path.relpath(b["path"], root)
+    s["notes"] = [f"{os.path.relpath(n.path, root) if n.path else '-'}:{n.line}: {n.message}"
+                  for n in design.notes]
+    if args.format == "json":
+        print(json.dumps(s, indent=2, sort_keys=True))
+        return 0
+    print(f"design {s['top']}  ({len(s['files'])} file{'s' if len(s['files']) != 1 else ''})")
+    print(f"  inputs      {s['inputs']}")
+    print(f"  outputs     {s['outputs']}")
+    print(f"  gates       {s['gates']}")
+    for t, n in s["gates_by_type"].items():
+        print(f"    {t:<12}{n}")
+    print(f"  registers   {s['registers']}")
+    print(f"  latches     {s['latches']}")
+    depth = s["logic_depth"]
+    print(f"  logic depth {depth if depth is not None else 'n/a (combinational loop)'}")
+    if s["blackboxes"]:
+        print(f"  black boxes {len(s['blackboxes'])}")
+        for b in s["blackboxes"][:20]:
+            print(f"    {b['instance']} ({b['cell']}): {b['reason']}")
+    for n in s["notes"][:50]:
+        print(f"  note: {n}")
+    return 0
