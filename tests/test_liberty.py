@@ -1,0 +1,330 @@
+"""Liberty reader: syntax, cell semantics, NLDM interpolation, errors.
+
+Outside references: the Liberty file Debian's yosys package ships (/usr/share/yosys/cells.lib);
+the NLDM look-up rules (bilinear interpolation over the breakpoints, linear extrapolation past
+the edges: common practice for this format). fixtures/liberty/press_cells.lib is our own
+library with invented numbers.
+"""
+from __future__ import annotations
+
+import os
+import random
+import re
+from pathlib import Path
+
+import pytest
+
+from hazlint.errors import ParseError
+from hazlint.liberty import Table, parse_liberty, read_liberty, table_of, tokenize
+
+ROOT = Path(__file__).resolve().parent.parent
+PRESS = str(ROOT / "fixtures" / "liberty" / "press_cells.lib")
+YOSYS_LIB = "/usr/share/yosys/cells.lib"
+
+
+def lib_text(body: str, templates: str = "") -> str:
+    return ("library (t) {\n  time_unit : \"1ns\" ;\n" + templates + body + "\n}\n")
+
+
+# ------------------------------------------------------------------------------------------
+# The library Debian's yosys ships
+
+
+@pytest.mark.skipif(not os.path.exists(YOSYS_LIB), reason="Debian yosys not installed")
+def test_yosys_cells_lib_flip_flops():
+    lib = read_liberty(YOSYS_LIB)
+    # cells.lib as shipped by Debian yosys 0.23: DFF_N, DFF_P and DFF_{N,P}{N,P}{0,1} (read from
+    # the file itself); the name says clock edge, reset level and reset value - the same letters
+    # as yosys's internal $_DFF_<C><R><V>_ cells (yosys manual, from memory)
+    assert sorted(lib.cells) == sorted(["DFF_N", "DFF_P"] + [f"DFF_{c}{r}{v}" for c in "NP"
+                                                              for r in "NP" for v in "01"])
+    assert lib.skipped == {}
+    for name, cell in lib.cells.items():
+        seq = cell.sequential
+        assert seq is not None and seq.kind == "ff"
+        assert seq.state_outputs == {"Q": "Q"}
+        assert cell.outputs == ["Q"] and cell.functions == {}
+        clk_letter = name[4]
+        assert seq.clocked_on == (("not", ("var", "C")) if clk_letter == "N" else ("var", "C"))
+        assert seq.next_state == ("var", "D")
+        if len(name) == 5:
+            assert seq.clear is None and seq.preset is None
+            assert sorted(cell.inputs) == ["C", "D"]
+            continue
+        level, value = name[5], name[6]
+        ctl = ("not", ("var", "R")) if level == "N" else ("var", "R")
+        assert (seq.clear, seq.preset) == ((ctl, None) if value == "0" else (None, ctl))
+        assert sorted(cell.inputs) == ["C", "D", "R"]
+        assert cell.arcs == {}          # the file has no timing groups
+    lines = Path(YOSYS_LIB).read_text().splitlines()
+    for name, cell in lib.cells.items():     # each cell's line is that of its "cell(NAME)"
+        assert re.match(rf"\s*cell\s*\(\s*{name}\s*\)", lines[cell.line - 1])
+
+
+# ------------------------------------------------------------------------------------------
+# Our invented library: cells and functions
+
+
+@pytest.fixture(scope="module")
+def press():
+    return read_liberty(PRESS)
+
+
+def test_press_cells_functions(press):
+    assert press.name == "press_cells"
+    assert press.time_unit == pytest.approx(1e-9)
+    assert press.capacitive_load_unit == (1.0, "pf")
+    assert press.cells["AOI21X1"].functions["Y"] == \
+        ("not", ("or", ("and", ("var", "A1"), ("var", "A2")), ("var", "B")))
+    assert press.cells["AND2X1"].functions["Y"] == ("and", ("var", "A"), ("var", "B"))
+    assert press.cells["NOR2X1"].functions["Y"] == ("not", ("or", ("var", "A"), ("var", "B")))
+    assert press.cells["TIEHI"].functions["Y"] == ("const", 1)
+    assert press.cells["TIEHI"].inputs == []
+    t = press.cells["TBUFX1"]
+    assert t.functions["Y"] == ("var", "A") and t.three_state["Y"] == ("not", ("var", "OE"))
+
+
+def test_press_sequential_cells(press):
+    r = press.cells["DFFRX1"]
+    assert r.sequential.kind == "ff"
+    assert r.sequential.clear == ("not", ("var", "RN")) and r.sequential.preset is None
+    assert r.sequential.state_outputs == {"Q": "Q", "QN": "QN"}
+    assert r.arcs[("CK", "Q")].rise_max == pytest.approx(0.55)
+    assert r.arcs[("CK", "QN")].fall_max == pytest.approx(0.57)
+    # setup/hold groups are checks, not delays
+    assert ("CK", "D") not in r.arcs
+    # a clear arc gives only the fall table; the rise takes the same value
+    assert r.arcs[("RN", "Q")].fall_min == pytest.approx(0.40)
+    sr = press.cells["DFFSRX1"].sequential
+    assert (sr.clear_preset_var1, sr.clear_preset_var2) == ("L", "H")
+    assert sr.preset == ("not", ("var", "SN"))
+    la = press.cells["DLATCHX1"].sequential
+    assert la.kind == "latch" and la.enable == ("var", "G") and la.data_in == ("var", "D")
+
+
+def test_state_variable_names_are_normalised():
+    text = lib_text("""
+      cell (DFQ) {
+        ff (S1, S1N) { clocked_on : "CP" ; next_state : "D & !S1N" ; }
+        pin (D) { direction : input ; }
+        pin (CP) { direction : input ; }
+        pin (Q) { direction : output ; function : "S1" ; }
+        pin (QB) { direction : output ; function : "!S1" ; }
+      }""")
+    c = read_liberty("x.lib", text=text).cells["DFQ"]
+    assert c.sequential.state_outputs == {"Q": "Q", "QB": "QN"}
+    assert c.sequential.next_state == ("and", ("var", "D"), ("not", ("var", "IQN")))
+
+
+def test_unmodelled_cells_are_skipped_with_reason():
+    text = lib_text("""
+      cell (ST) { statetable ("A", "Q") { table : "H : - : H" ; }
+        pin (A) { direction : input ; } pin (Q) { direction : output ; } }
+      cell (MIXQ) { ff (IQ, IQN) { clocked_on : "C" ; next_state : "D" ; }
+        pin (C) { direction : input ; } pin (D) { direction : input ; }
+        pin (E) { direction : input ; }
+        pin (Q) { direction : output ; function : "IQ & E" ; } }
+      cell (OK) { pin (A) { direction : input ; } pin (Y) { direction : output ; function : "A" ; } }
+    """)
+    lib = read_liberty("x.lib", text=text)
+    assert set(lib.cells) == {"OK"}
+    assert "statetable" in lib.skipped["ST"]
+    assert "mixes the state" in lib.skipped["MIXQ"]
+
+
+# ------------------------------------------------------------------------------------------
+# NLDM look-up
+
+
+def test_grid_points_equal_the_table(press):
+    (tab,) = table_of(PRESS, "INVX1", "Y", "A", "rise")
+    rows = [[0.10, 0.20, 0.50], [0.14, 0.24, 0.54], [0.26, 0.36, 0.66]]   # as in the fixture
+    for i, slew in enumerate([0.1, 0.3, 0.9]):
+        for j, load in enumerate([0.01, 0.05, 0.2]):
+            assert tab.at(slew, load) == pytest.approx(rows[i][j])
+            lib = read_liberty(PRESS, input_slew=slew, output_load=load)
+            assert lib.cells["INVX1"].arcs[("A", "Y")].rise_max == pytest.approx(rows[i][j])
+
+
+def test_between_grid_points_hand_computed_bilinear(press):
+    # hand computation (common practice for NLDM: bilinear between the four neighbours)
+    # INVX1 rise at slew 0.15, load 0.1: slew fraction (0.15-0.1)/(0.3-0.1) = 0.25,
+    # load fraction (0.1-0.05)/(0.2-0.05) = 1/3; neighbours 0.20 0.50 / 0.24 0.54:
+    # along load 0.20 + 0.30/3 = 0.30 and 0.24 + 0.30/3 = 0.34; along slew 0.30 + 0.25*0.04
+    lib = read_liberty(PRESS, input_slew=0.15, output_load=0.1)
+    assert lib.cells["INVX1"].arcs[("A", "Y")].rise_max == pytest.approx(0.31)
+    # fall table at the same point: neighbours 0.16 0.40 / 0.20 0.44:
+    # 0.16 + 0.24/3 = 0.24, 0.20 + 0.24/3 = 0.28, 0.24 + 0.25*0.04 = 0.25
+    assert lib.cells["INVX1"].arcs[("A", "Y")].fall_max == pytest.approx(0.25)
+    # midpoint of a cell: the mean of its four corners (0.10+0.20+0.14+0.24)/4
+    lib = read_liberty(PRESS, input_slew=0.2, output_load=0.03)
+    assert lib.cells["INVX1"].arcs[("A", "Y")].rise_min == pytest.approx(0.17)
+
+
+def test_extrapolation_past_the_edges():
+    # linear extrapolation from the last segment (common practice for NLDM tables)
+    # slew 1.5 is past 0.9: fraction (1.5-0.3)/(0.9-0.3) = 2 at load 0.01: 0.14 + 2*(0.26-0.14)
+    lib = read_liberty(PRESS, input_slew=1.5, output_load=0.01)
+    assert lib.cells["INVX1"].arcs[("A", "Y")].rise_max == pytest.approx(0.38)
+    # load 0 is below 0.01: fraction (0-0.01)/0.04 = -0.25 at slew 0.1: 0.10 - 0.25*0.10
+    lib = read_liberty(PRESS, input_slew=0.1, output_load=0.0)
+    assert lib.cells["INVX1"].arcs[("A", "Y")].rise_max == pytest.approx(0.075)
+    # far below: extrapolation would go negative; a delay is clamped at zero
+    lib = read_liberty(PRESS, input_slew=-5.0, output_load=-1.0)
+    assert lib.cells["INVX1"].arcs[("A", "Y")].rise_max == 0.0
+
+
+def test_variable_order_follows_the_template():
+    # NAND2X1 pin B uses a template whose variable_1 is the load: rows are loads
+    # midpoint (slew 0.5, load 0.105): the mean of 0.13 0.29 0.61 0.77 (hand computed) = 0.45
+    lib = read_liberty(PRESS, input_slew=0.5, output_load=0.105)
+    assert lib.cells["NAND2X1"].arcs[("B", "Y")].rise_max == pytest.approx(0.45)
+    # slew 0.9 (second column), load 0.01 (first row): 0.29; a swapped reading would give 0.61
+    lib = read_liberty(PRESS, input_slew=0.9, output_load=0.01)
+    assert lib.cells["NAND2X1"].arcs[("B", "Y")].rise_max == pytest.approx(0.29)
+
+
+def test_one_dimensional_and_scalar_tables_and_related_pin_list():
+    lib = read_liberty(PRESS, input_slew=0.7, output_load=0.03)
+    nor = lib.cells["NOR2X1"]
+    # load-only table: 0.20 + 0.5*(0.30-0.20); the slew does not matter
+    assert nor.arcs[("A", "Y")].rise_max == pytest.approx(0.25)
+    assert nor.arcs[("B", "Y")] == nor.arcs[("A", "Y")]        # related_pin : "A B"
+    assert lib.cells["BUFX1"].arcs[("A", "Y")].fall_min == pytest.approx(0.21)
+
+
+def test_default_point_is_the_first_breakpoint(press):
+    assert press.cells["INVX1"].arcs[("A", "Y")].rise_max == pytest.approx(0.10)
+    assert press.cells["NAND2X1"].arcs[("B", "Y")].rise_max == pytest.approx(0.13)
+
+
+def test_state_dependent_arcs_fold_to_min_and_max(press):
+    a = press.cells["XOR2X1"].arcs[("A", "Y")]
+    assert (a.rise_min, a.rise_max, a.fall_min, a.fall_max) == pytest.approx(
+        (0.40, 0.46, 0.36, 0.38))
+    assert len([t for t in press.timing["XOR2X1"] if t.related_pin == "A"]) == 2
+
+
+def _bilinear_lib(a, b, c, d, xs, ys):
+    """A library whose table is the bilinear function a + b*x + c*y + d*x*y at its grid."""
+    rows = ", ".join('"' + ", ".join(f"{a + b * x + c * y + d * x * y:.12g}" for y in ys) + '"'
+                     for x in xs)
+    return lib_text(f"""
+      cell (C) {{ pin (A) {{ direction : input ; }}
+        pin (Y) {{ direction : output ; function : "A" ;
+          timing () {{ related_pin : "A" ;
+            cell_rise (tpl) {{ values ({rows}) ; }}
+            cell_fall (tpl) {{ values ({rows}) ; }} }} }} }}""",
+                    f"""lu_table_template (tpl) {{ variable_1 : input_net_transition ;
+          variable_2 : total_output_net_capacitance ;
+          index_1 ("{', '.join(map(str, xs))}") ; index_2 ("{', '.join(map(str, ys))}") ; }}
+    """)
+
+
+def test_bilinear_functions_are_reproduced_everywhere():
+    # a bilinear function is reproduced exactly by bilinear interpolation and by its linear
+    # extrapolation (a property of the method, so the check does not depend on our numbers)
+    rnd = random.Random(7)
+    for _ in range(10):
+        a, b, c, d = (rnd.uniform(0.0, 2.0) for _ in range(4))
+        xs = sorted(rnd.sample(range(1, 60), 4))
+        ys = sorted(rnd.sample(range(1, 60), 3))
+        xs = [x / 50 for x in xs]
+        ys = [y / 100 for y in ys]
+        text = _bilinear_lib(a, b, c, d, xs, ys)
+        for _ in range(5):
+            x = rnd.uniform(-0.5, 1.8)
+            y = rnd.uniform(-0.3, 0.9)
+            want = a + b * x + c * y + d * x * y
+            got = read_liberty("bi.lib", text=text, input_slew=x, output_load=y)
+            assert got.cells["C"].arcs[("A", "Y")].rise_max == pytest.approx(max(want, 0.0),
+                                                                             abs=1e-9)
+
+
+def test_three_dimensional_table_is_multilinear():
+    t = Table(["input_net_transition", "total_output_net_capacitance", "x"],
+              [[0.0, 1.0], [0.0, 2.0], [0.0, 4.0]],
+              [float(i) for i in range(8)])
+    # value = 4*i + 2*j + k at corner (i, j, k); trilinear gives 4*s + 2*(l/2) + (z/4)
+    assert t.lookup([0.5, 1.0, 2.0]) == pytest.approx(4 * 0.5 + 2 * 0.5 + 0.5)
+
+
+def test_linear_delay_model():
+    text = lib_text("""
+      cell (L) { pin (A) { direction : input ; }
+        pin (Y) { direction : output ; function : "!A" ;
+          timing () { related_pin : "A" ; intrinsic_rise : 0.5 ; rise_resistance : 2.0 ;
+                      intrinsic_fall : 0.4 ; fall_resistance : 1.0 ; } } }""")
+    lib = read_liberty("l.lib", text=text, output_load=0.1)
+    d = lib.cells["L"].arcs[("A", "Y")]
+    # generic CMOS linear model: intrinsic + resistance * load (common practice)
+    assert (d.rise_max, d.fall_max) == pytest.approx((0.7, 0.5))
+
+
+# ------------------------------------------------------------------------------------------
+# Syntax
+
+
+def test_tokens_and_tree_keep_lines():
+    text = ('library (x) {\n  /* a\n  comment */ delay_model : table_lookup\n'
+            '  cell ("A1") {\n    pin (A) { direction : input ; }\n'
+            '    values ("1, 2", \\\n "3, 4") ;\n  }\n}\n')
+    top = parse_liberty(text, "x.lib")
+    assert top.kind == "library" and top.name == "x"
+    assert top.attr("delay_model") == "table_lookup"       # no ';' at the end of the line
+    assert top.attr_line("delay_model") == 3
+    cell = next(top.subgroups("cell"))
+    assert cell.name == "A1" and cell.line == 4
+    assert next(cell.subgroups("pin")).line == 5
+    assert cell.attr("values") == ["1, 2", "3, 4"]
+    assert [t.kind for t in tokenize('a : "b" ;')] == ["word", "punct", "string", "punct", "end"]
+
+
+BAD = [
+    ("library (t) {\n cell (A) {\n pin (Y) { direction : output ; }\n", 4, "not closed"),
+    ("library (t) {\n /* never ends\n}\n", 2, "unterminated comment"),
+    ('library (t) {\n cell (A) { pin (Y) { function : "A ; } }\n}\n', 2, "unterminated string"),
+    ("cell (A) { }\n", 1, "starts with"),
+    ("library (t) {\n  time_unit : ;\n}\n", 2, "no value"),
+    ("library (t) {\n  x y ;\n}\n", 2, "expected ':' or '('"),
+    ("library (t) {\n}\nextra\n", 3, "after the end"),
+    ('library (t) {\n cell (A) {\n  pin (Y) { direction : sideways ; }\n }\n}\n', 3, "direction"),
+    ('library (t) {\n cell (A) {\n  pin (Y) { direction : output ;\n   function : "A &" ; }\n'
+     ' }\n}\n', 4, "function"),
+    ('library (t) {\n cell (A) {\n  pin (Y) { direction : output ; function : "Q" ; }\n }\n}\n',
+     3, "unknown pin 'Q'"),
+    ('library (t) {\n cell (A) { pin (A) { direction : input ; }\n  pin (Y) { direction : output ;'
+     ' function : "A" ;\n   timing () { related_pin : "A" ;\n    cell_rise (nope) { values ("1") ; }'
+     ' } } }\n}\n', 5, "undefined template 'nope'"),
+    ('library (t) {\n lu_table_template (t2) { variable_1 : input_net_transition ;\n'
+     '  index_1 ("0.1, 0.2") ; }\n cell (A) { pin (A) { direction : input ; }\n'
+     '  pin (Y) { direction : output ; function : "A" ;\n   timing () { related_pin : "A" ;\n'
+     '    cell_rise (t2) {\n     values ("1, 2, 3") ; } } } }\n}\n', 8, "3 values"),
+    ('library (t) {\n lu_table_template (t2) { variable_1 : input_net_transition ;\n'
+     '  index_1 ("0.2, 0.1") ; }\n cell (A) { pin (A) { direction : input ; }\n'
+     '  pin (Y) { direction : output ; function : "A" ;\n   timing () { related_pin : "A" ;\n'
+     '    cell_rise (t2) { values ("1, 2") ; } } } }\n}\n', 7, "increase"),
+    ('library (t) {\n cell (A) { pin (A) { direction : input ; }\n  pin (Y) { direction : output ;'
+     ' function : "A" ;\n   timing () { related_pin : "A" ;\n    cell_rise (scalar) {'
+     ' values ("fast") ; } } } }\n}\n', 5, "'fast' is not a number"),
+    ('library (t) {\n cell (A) { pin (A) { direction : input ; }\n  pin (Y) { direction : output ;'
+     ' function : "A" ;\n   timing () { related_pin : "Z" ; } } }\n}\n', 4, "related_pin 'Z'"),
+    ('library (t) {\n cell (F) {\n  ff (IQ, IQN) { next_state : "D" ; }\n'
+     '  pin (D) { direction : input ; } }\n}\n', 3, "clocked_on"),
+]
+
+
+@pytest.mark.parametrize("text,line,words", BAD, ids=[b[2] for b in BAD])
+def test_malformed_files_name_file_and_line(text, line, words):
+    with pytest.raises(ParseError) as ei:
+        read_liberty("bad.lib", text=text)
+    e = ei.value
+    assert e.path == "bad.lib" and e.line == line, str(e)
+    assert words in str(e)
+    assert re.match(rf"bad\.lib:{line}: error: Liberty", str(e)) or "cannot" in str(e)
+
+
+def test_missing_file_is_a_parse_error(tmp_path):
+    with pytest.raises(ParseError) as ei:
+        read_liberty(str(tmp_path / "none.lib"))
+    assert "cannot read Liberty file" in str(ei.value)
