@@ -1,0 +1,172 @@
+"""Arrival-time DP and the reconvergence rule on gate graphs built directly."""
+from __future__ import annotations
+
+import random
+
+import pytest
+
+from graphbuild import GraphBuilder
+from hazlint.analysis.context import AnalysisContext
+from hazlint.analysis.timing import ArrivalSolver, TimingGraph
+from hazlint.library import Delay
+from hazlint.plugins import get_rule
+
+RULE = get_rule("skewed-reconvergence")
+
+
+def run(design, config=None, **opts):
+    ctx = AnalysisContext(design, config, {RULE.id: RULE.resolve_options(opts)})
+    return list(RULE.check(design, ctx))
+
+
+def mux(delay_not=1.0, sink_attrs=None, register_only=False):
+    b = GraphBuilder()
+    s, a, c = b.input("s"), b.input("a"), b.input("b")
+    b.gate("sn", "not", [s], delay=delay_not)
+    b.gate("t0", "and", [a, s])
+    b.gate("t1", "and", [c, "sn"])
+    b.gate("y", "or", ["t0", "t1"], line=40)
+    if register_only:
+        clk = b.input("clk")
+        b.register("r", {"clock": clk, "data": "y"})
+    else:
+        b.output("y", "y", attrs=sink_attrs)
+    return b.design()
+
+
+def test_mux_with_inverter_skew_is_reported_at_the_or_gate():
+    (d,) = run(mux())
+    assert d.kind == "unbalanced-reconvergence" and d.line == 40
+    ev = d.evidence
+    assert ev["stem_node"] == "s" and ev["reconvergence_node"] == "y"
+    assert ev["skew"] == 1.0 and ev["sink_nodes"] == ["<sink>y"]
+    assert ev["slow_path"] == ["s", "sn", "t1", "y"] and ev["fast_path"] == ["s", "t0", "y"]
+    assert [h.arrival for h in d.flows[1]] == [0.0, 1.0, 2.0, 3.0]
+
+
+def test_balanced_branches_give_no_finding_and_threshold_applies():
+    assert run(mux(delay_not=0.0)) == []        # zero-delay inverter: both branches arrive at 2
+    assert run(mux(), min_skew=1.5) == []
+    assert len(run(mux(), min_skew=1.0)) == 1
+
+
+def test_rise_fall_spread_is_skew_under_the_delay_model():
+    # both branches have one gate, but its min and max differ: the skew is max - min
+    b = GraphBuilder()
+    s = b.input("s")
+    b.gate("p", "buf", [s], delay=Delay(1.0, 2.0, 1.0, 2.0))
+    b.gate("q", "not", [s], delay=Delay(1.0, 2.0, 1.0, 2.0))
+    b.gate("y", "and", ["p", "q"])
+    b.output("y", "y")
+    (d,) = run(b.design())
+    assert d.evidence["skew"] == 1.0
+
+
+def test_scope_option():
+    assert run(mux(register_only=True)) == []          # only a data pin downstream
+    assert len(run(mux(register_only=True), scope="all")) == 1
+    assert run(mux(), scope="async") == []              # a plain output is not asynchronous
+    assert len(run(mux(sink_attrs={"hazlint_async": 1}), scope="async")) == 1
+
+
+def test_quiet_input_is_not_a_stem():
+    b = GraphBuilder()
+    s = b.input("s", attrs={"hazlint_static": 1})
+    a, c = b.input("a"), b.input("b")
+    b.gate("sn", "not", [s])
+    b.gate("t0", "and", [a, s])
+    b.gate("t1", "and", [c, "sn"])
+    b.gate("y", "or", ["t0", "t1"])
+    b.output("y", "y")
+    assert run(b.design()) == []
+
+
+def test_worst_reconvergence_per_stem_and_sink():
+    # s reconverges at r1 (skew 1) and again at r2 (skew 3); both reach y: only r2 is reported
+    b = GraphBuilder()
+    s = b.input("s")
+    b.gate("d1", "not", [s])
+    b.gate("r1", "and", [s, "d1"])
+    b.gate("c1", "buf", [s])
+    b.gate("c2", "buf", ["c1"])
+    b.gate("c3", "buf", ["c2"])
+    b.gate("c4", "buf", ["c3"])
+    b.gate("r2", "or", ["r1", "c4"])
+    b.output("y", "r2")
+    b.output("z", "r1")
+    found = {d.evidence["reconvergence_node"]: d for d in run(b.design())}
+    assert set(found) == {"r1", "r2"}
+    assert found["r2"].evidence["sink_nodes"] == ["<sink>y"]
+    assert found["r1"].evidence["sink_nodes"] == ["<sink>z"]
+
+
+# ---- the DP against path enumeration (the oracle; only on small graphs) -----------------------
+
+def _random_dag(rng, n):
+    b = GraphBuilder()
+    nodes = [b.input(f"i{k}") for k in range(3)]
+    for k in range(n):
+        fanin = rng.randint(1, 3)
+        srcs = [rng.choice(nodes) for _ in range(fanin)]
+        delays = [Delay(lo, lo + rng.choice([0.0, 0.5]), lo, lo + rng.choice([0.0, 1.0]))
+                  for lo in (rng.choice([0.0, 1.0, 2.0]) for _ in srcs)]
+        nodes.append(b.gate(f"g{k}", "and" if fanin > 1 else "buf", srcs, delay=delays))
+    for k, x in enumerate(nodes[-3:]):
+        b.output(f"o{k}", x)
+    return b.design()
+
+
+def _paths(g, stem, v, memo):
+    """All (arrival_min, arrival_max, first branch) of paths stem -> v, by enumeration."""
+    if v == stem:
+        return [(0.0, 0.0, None)]
+    if v in memo:
+        return memo[v]
+    d = g.nodes[v]
+    out = []
+    for pin, u in enumerate(d.get("inputs") or []):
+        for lo, hi, br in _paths(g, stem, u, memo):
+            dl = d["delays"][pin] if d["kind"] == "gate" else Delay(0, 0, 0, 0)
+            out.append((lo + dl.min, hi + dl.max, br if br is not None else (v, pin)))
+    memo[v] = out
+    return out
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_arrival_dp_matches_path_enumeration(seed):
+    rng = random.Random(seed)
+    design = _random_dag(rng, rng.randint(4, 12))
+    g = design.graph
+    tg = TimingGraph.build(g)
+    solver = ArrivalSolver(tg)
+    for stem in sorted(n for n in g if g.nodes[n]["kind"] != "sink"):
+        seen = {}
+        st = solver.solve(tg.index[stem], on_reconvergence=lambda r: seen.setdefault(r.gate, r))
+        memo = {}
+        for vi in st.cone[1:]:
+            v = tg.order[vi]
+            ps = _paths(g, stem, v, memo)
+            assert ps, v
+            assert st.arrival_min[vi] == min(p[0] for p in ps)
+            assert st.arrival_max[vi] == max(p[1] for p in ps)
+            # the slowest path rebuilt from back-pointers really has the maximum arrival
+            path = st.path_to(vi, True)
+            assert path[0][0] == tg.index[stem] and path[-1][2] == st.arrival_max[vi]
+            d = g.nodes[v]
+            if d["kind"] != "gate":
+                continue
+            pins = []
+            for pin, u in enumerate(d["inputs"]):
+                sub = _paths(g, stem, u, memo)
+                if not sub:
+                    continue
+                dl = d["delays"][pin]
+                branches = {br if br is not None else (v, pin) for _, _, br in sub}
+                pins.append((pin, branches, min(p[0] for p in sub) + dl.min,
+                             max(p[1] for p in sub) + dl.max))
+            skews = [ha - lb for pa, ba, _, ha in pins for pb, bb, lb, _ in pins
+                     if pa != pb and not (ba == bb and len(ba) == 1)]
+            if skews:
+                assert vi in seen and seen[vi].skew == max(skews)
+            else:
+                assert vi not in seen
