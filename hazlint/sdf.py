@@ -65,6 +65,7 @@ class Form:
     head: str
     items: list[Any]          # Atom | Form
     line: int
+    raw: str = ""             # the head as written
 
     def forms(self, head: str | None = None) -> list["Form"]:
         return [x for x in self.items if isinstance(x, Form) and (head is None or x.head == head)]
@@ -118,7 +119,7 @@ def _read_forms(text: str, path: str) -> Form:
             a = Atom(tok[1:-1] if kind == "string" else tok, line, kind == "string")
             if pending_open is not None:
                 head = a.text.upper() if not a.quoted and _KEYWORD.fullmatch(a.text) else ""
-                f = Form(head, [] if head else [a], pending_open)
+                f = Form(head, [] if head else [a], pending_open, a.text)
                 if stack:
                     stack[-1].items.append(f)
                 elif top is not None:
@@ -208,8 +209,8 @@ def _number(a: Atom, path: str) -> float:
 def _triple(f: Form, path: str) -> Triple | None:
     """An rvalue ``( )``, ``(v)`` or ``(min:typ:max)``; blanks around ':' are tolerated."""
     if f.head:
-        raise ParseError(f"SDF: expected a delay value, found '({f.head} ...'", path=path,
-                         line=f.line, construct=f.head)
+        raise ParseError(f"SDF: expected a delay value such as (1.0:1.2:1.5), found "
+                         f"'({f.raw} ...'", path=path, line=f.line, construct=f.raw)
     text = "".join(a.text for a in f.atoms())
     if f.forms():
         raise ParseError("SDF: nested list inside a delay value", path=path, line=f.line,
@@ -335,7 +336,8 @@ def _read_cell(f: Form, out: SdfFile, path: str) -> None:
 
 
 def _rvalues(items: Iterable[Any], path: str) -> list[Triple | None]:
-    return [_triple(x, path) for x in items if isinstance(x, Form) and x.head == ""]
+    """Delay values of an entry; RETAIN forms are skipped, any other keyword is an error."""
+    return [_triple(x, path) for x in items if isinstance(x, Form) and x.head != "RETAIN"]
 
 
 def _read_delay_entry(e: Form, celltype: str, inst, inc: bool, out: SdfFile, path: str,

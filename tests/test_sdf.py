@@ -1,0 +1,198 @@
+"""SDF reader and back-annotation.
+
+Outside references: the SDF example Debian's opensta package ships
+(/usr/share/doc/opensta/examples/example1.sdf with example1.v); the SDF files the PyPI package
+``sdf-timing`` ships as its test data, parsed by ``sdf-timing`` itself as a cross-check; Icarus
+Verilog's ``$sdf_annotate`` (Debian ``iverilog``) for transition times.
+"""
+from __future__ import annotations
+
+import glob
+import os
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import pytest
+
+from hazlint.errors import ConfigError, ParseError
+from hazlint.library import Delay
+from hazlint.sdf import corner_bounds, delay_of, parse_sdf
+
+ROOT = Path(__file__).resolve().parent.parent
+OSTA = "/usr/share/doc/opensta/examples"
+OSTA_SDF = f"{OSTA}/example1.sdf"
+
+
+def sdf_text(body: str, header: str = '(DIVIDER /)\n (TIMESCALE 1ns)') -> str:
+    return f'(DELAYFILE\n (SDFVERSION "3.0")\n (DESIGN "top")\n {header}\n{body}\n)\n'
+
+
+# ------------------------------------------------------------------------------------------
+# Reading
+
+
+@pytest.mark.skipif(not os.path.exists(OSTA_SDF), reason="Debian opensta examples not installed")
+def test_opensta_example_parses():
+    s = parse_sdf(OSTA_SDF)
+    # header values as written in the shipped file
+    assert (s.version, s.design, s.divider, s.timescale) == ("OVI 2.1", "top", "/", 1e-9)
+    assert [c.instance for c in s.cells] == [(), ("r1",), ("r2",), ("r3",), ("u1",), ("u2",)]
+    assert {(p.instance, p.from_pin, p.to_pin) for p in s.iopaths} == {
+        (("r1",), "CK", "Q"), (("r2",), "CK", "Q"), (("r3",), "CK", "Q"),
+        (("u1",), "A", "Z"), (("u2",), "A1", "ZN"), (("u2",), "A2", "ZN")}
+    ic = {(i.source, i.dest): i.values for i in s.interconnects}
+    assert len(ic) == 10
+    assert ic[(("in1",), ("r1", "D"))] == [(0.011, 0.011, 0.011), (0.01, 0.01, 0.01)]
+    assert s.ignored == {"TIMINGCHECK": 3}
+    # the comment line inside the file does not hide the INTERCONNECT after it
+    assert min(i.line for i in s.interconnects) == 19
+
+
+SDF_TIMING_DATA = None
+try:
+    import sdf_timing  # noqa: F401
+    from sdf_timing import sdfparse
+    SDF_TIMING_DATA = os.path.join(os.path.dirname(sdf_timing.__file__), "tests", "data")
+except ImportError:      # optional: only this cross-check needs it
+    sdfparse = None
+
+
+def _theirs(ref):
+    out = set()
+    for insts in ref.get("cells", {}).values():
+        for inst, ents in insts.items():
+            for e in ents.values():
+                if e["type"] not in ("iopath", "interconnect"):
+                    continue
+                dp = e["delay_paths"]
+                keys = [k for k in ("fast", "nominal", "slow") if k in dp]
+                vals = []
+                for k in keys:
+                    t = tuple(dp[k][m] for m in ("min", "avg", "max"))
+                    vals.append(None if t == (None, None, None) else t)
+                out.add((e["type"], inst, e["from_pin"], e["to_pin"], tuple(vals)))
+    return out
+
+
+def _ours(s, ref_insts):
+    out = set()
+    for p in s.iopaths:
+        out.add(("iopath", s.divider.join(p.instance) if p.instance else None, p.from_pin,
+                 p.to_pin, tuple(p.values)))
+    for _, p in s.wildcard_iopaths:
+        out.add(("iopath", "*", p.from_pin, p.to_pin, tuple(p.values)))
+    for i in s.interconnects:
+        if i.kind != "INTERCONNECT":
+            continue
+        src, dst = s.divider.join(i.source), s.divider.join(i.dest)
+        # sdf-timing keeps the ports relative to the CELL's INSTANCE; we prefix it
+        for inst in ref_insts:
+            if inst and src.startswith(inst + s.divider) and dst.startswith(inst + s.divider):
+                src, dst = src[len(inst) + 1:], dst[len(inst) + 1:]
+        out.add(("interconnect", None, src, dst, tuple(i.values)))
+    return out
+
+
+@pytest.mark.skipif(SDF_TIMING_DATA is None, reason="sdf-timing not installed")
+def test_values_agree_with_sdf_timing_on_its_own_test_files():
+    files = sorted(glob.glob(os.path.join(SDF_TIMING_DATA, "*.sdf")))
+    assert len(files) >= 10
+    compared = 0
+    for f in files:
+        text = Path(f).read_text()
+        ref = sdfparse.parse(text)
+        s = parse_sdf(f)
+        insts = [i for cell in ref.get("cells", {}).values() for i in cell if i]
+        theirs = {t if t[0] == "iopath" else ("interconnect", None, *t[2:]) for t in _theirs(ref)}
+        ours = _ours(s, insts)
+        if "escaped" in f:      # sdf-timing keeps backslashes; we drop them (IEEE 1497 escapes)
+            theirs = {(t[0], t[1], t[2], t[3].replace("\\", ""), t[4]) for t in theirs}
+        # sdf-timing keys entries by name, so repeated (conditional) IOPATHs of one pin pair
+        # collapse to one there: every one of theirs is ours, and the distinct pin pairs agree
+        assert theirs <= ours, (f, sorted(map(str, theirs - ours))[:3])
+        assert {t[:4] for t in theirs} == {t[:4] for t in ours}, f
+        compared += len(theirs)
+    assert compared > 150
+
+
+def test_triples_edges_conditions_and_wildcards():
+    s = parse_sdf("t.sdf", sdf_text("""
+ (CELL (CELLTYPE "AO") (INSTANCE a/b\\[2\\]/g1)
+  (DELAY (ABSOLUTE
+    (IOPATH (posedge CK) Q (1:2:3) (::4))
+    (COND A==1'b1 (IOPATH B Y (0.5) ()))
+    (CONDELSE (IOPATH B Y (0.7)))
+    (IOPATH C Y (RETAIN (0.1)) (1 : 2 : 3) (4:5:6) (7:8:9))
+  ))
+  (DELAY (INCREMENT (IOPATH D Y (0.25))))
+ )
+ (CELL (CELLTYPE "INV") (INSTANCE *) (DELAY (ABSOLUTE (IOPATH A Y (2)))))
+ (CELL (CELLTYPE "top") (INSTANCE) (DELAY (ABSOLUTE (PORT u1/A (0.3)) (NETDELAY n1 (1)))))
+"""))
+    by = {(p.from_pin, p.cond, p.values[0]): p for p in s.iopaths}
+    ck = s.iopaths[0]
+    assert ck.instance == ("a", "b[2]", "g1") and ck.from_edge == "posedge"
+    assert ck.values == [(1.0, 2.0, 3.0), (None, None, 4.0)]
+    assert [p.cond for p in s.iopaths if p.from_pin == "B"] == [True, True]
+    assert s.iopaths[1].values == [(0.5, 0.5, 0.5), None]
+    assert by[("C", False, (1.0, 2.0, 3.0))].values[1] == (4.0, 5.0, 6.0)
+    assert s.iopaths[-1].increment and s.iopaths[-1].from_pin == "D"
+    assert s.wildcard_iopaths[0][0] == "INV"
+    assert s.interconnects[0].kind == "PORT" and s.interconnects[0].dest == ("u1", "A")
+    assert s.ignored == {"NETDELAY": 1}
+
+
+def test_corners():
+    t = (1.0, 2.0, 3.0)
+    assert corner_bounds(t, "min") == (1.0, 1.0)
+    assert corner_bounds(t, "typ") == (2.0, 2.0)
+    assert corner_bounds(t, "max") == (3.0, 3.0)
+    assert corner_bounds(t, "minmax") == (1.0, 3.0)
+    assert corner_bounds((None, None, 4.0), "min") == (4.0, 4.0)   # falls back to what is given
+    assert delay_of([(1, 2, 3), (4, 5, 6)], "minmax") == Delay(1, 3, 4, 6)
+    assert delay_of([(1, 2, 3)], "typ") == Delay(2, 2, 2, 2)        # one value: both transitions
+    # "()" leaves that transition as it was; the scale converts units
+    assert delay_of([None, (1, 1, 1)], "max", 1000.0, Delay(7, 8, 9, 10)) == Delay(7, 8, 1000,
+                                                                                    1000)
+    assert delay_of([None, None], "max") is None
+
+
+BAD = [
+    ("(DELAYFILE\n (CELL (CELLTYPE \"x\") (INSTANCE a)\n", 3, "never closed"),
+    ("(DELAYFILE\n (DIVIDER :)\n)\n", 2, "DIVIDER"),
+    ("(DELAYFILE\n (TIMESCALE 3ns)\n)\n", 2, "TIMESCALE"),
+    ("(DELAYFILE\n (TIMESCALE 1 fortnight)\n)\n", 2, "TIMESCALE"),
+    ("(DELAYFILE\n (CELL (INSTANCE a))\n)\n", 2, "CELLTYPE"),
+    ("(DELAYFILE\n (CELL (CELLTYPE \"x\")\n  (INSTANCE a) (DELAY (ABSOLUTE\n"
+     "   (IOPATH A Y (1:2)))))\n)\n", 4, "min:typ:max"),
+    ("(DELAYFILE\n (CELL (CELLTYPE \"x\") (INSTANCE a) (DELAY (ABSOLUTE\n"
+     "   (IOPATH A Y (fast)))))\n)\n", 3, "found '(fast"),
+    ("(DELAYFILE\n (CELL (CELLTYPE \"x\") (INSTANCE a) (DELAY (ABSOLUTE\n"
+     "   (IOPATH A Y (1:x:2)))))\n)\n", 3, "not a number"),
+    ("(DELAYFILE\n (CELL (CELLTYPE \"x\") (INSTANCE a) (DELAY (ABSOLUTE\n"
+     "   (IOPATH A (1)))))\n)\n", 3, "input port and an output port"),
+    ("(DELAYFILE\n (CELL (CELLTYPE \"x\") (INSTANCE a) (DELAY (ABSOLUTE\n"
+     "   (INTERCONNECT a/Y (1)))))\n)\n", 3, "2 port names"),
+    ("(DELAYFILE\n /* open\n)\n", 2, "unterminated comment"),
+    ("(DELAYFILE\n (DESIGN \"x)\n)\n", 2, "unterminated string"),
+    ("(DELAYFILE)\n)\n", 2, "unbalanced"),
+    ("(DELAYFILE)\n(DELAYFILE)\n", 2, "after the end"),
+    ("(CELL)\n", 1, "DELAYFILE"),
+]
+
+
+@pytest.mark.parametrize("text,line,words", BAD, ids=[b[2] for b in BAD])
+def test_malformed_files_name_file_and_line(text, line, words):
+    with pytest.raises(ParseError) as ei:
+        parse_sdf("bad.sdf", text)
+    assert ei.value.path == "bad.sdf" and ei.value.line == line, str(ei.value)
+    assert words in str(ei.value)
+    assert str(ei.value).startswith(f"bad.sdf:{line}: error: SDF")
+
+
+def test_missing_file(tmp_path):
+    with pytest.raises(ParseError) as ei:
+        parse_sdf(str(tmp_path / "none.sdf"))
+    assert "cannot read SDF file" in str(ei.value)
