@@ -664,6 +664,8 @@ def annotate(design, sdf_path: str, *, corner: str = "max", library=None,
         from .errors import ConfigError
         raise ConfigError(f"SDF corner must be one of {', '.join(CORNERS)}, not '{corner}'",
                           construct=corner)
+    if library is None:
+        library = getattr(design, "library", None)
     sdf = parse_sdf(sdf_path, text)
     target = time_unit if time_unit else (design.timescale[0] if design.timescale else None)
     scale = sdf.timescale / target if target else 1.0
