@@ -732,3 +732,97 @@ def table_of(lib_path: str, cell: str, pin: str, related_pin: str, edge: str = "
                     for tab in t.subgroups(f"cell_{edge}"):
                         out.append(_read_table(tab, templates, lib_path))
     return out
+
+
+# ---------------------------------------------------------------------------------------------
+# Verilog simulation models of a library's cells
+
+def _vexpr(e) -> str:
+    tag = e[0]
+    if tag == "var":
+        return _vname(e[1])
+    if tag == "const":
+        return "1'b1" if e[1] else "1'b0"
+    if tag == "not":
+        return f"~({_vexpr(e[1])})"
+    op = {"and": " & ", "or": " | ", "xor": " ^ "}[tag]
+    return "(" + op.join(_vexpr(x) for x in e[1:]) + ")"
+
+
+def _vname(name: str) -> str:
+    if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_$]*", name):
+        return name
+    return "\\" + name + " "
+
+
+def _edge(e, what: str, cell: str) -> tuple[str, str]:
+    """(edge keyword, pin) for a control expression that is a pin or its inversion."""
+    if e[0] == "var":
+        return "posedge", e[1]
+    if e[0] == "not" and e[1][0] == "var":
+        return "negedge", e[1][1]
+    raise ValueError(f"cell '{cell}': {what} '{e}' is not a plain pin; no model written")
+
+
+def verilog_models(library: Library, *, specify: bool = False, cells=None) -> str:
+    """Verilog modules that behave as the library's cells (for simulating a mapped netlist).
+
+    Ports are outputs first, then inputs (the order the flattener assumes for positional
+    connections). With ``specify``, every combinational arc gets a specify path
+    ``(in => out) = (0, 0);`` for an SDF annotator to fill. Flip-flops use the clock edge and the
+    asynchronous clear/preset levels of their ``ff`` group (clear wins over preset); latches are
+    level-sensitive ``always @*`` blocks.
+    """
+    out: list[str] = []
+    for name in (cells or sorted(library.cells)):
+        c = library.cells[name]
+        ports = c.outputs + c.inputs + c.inouts
+        body = [f"module {_vname(name)}({', '.join(_vname(p) for p in ports)});"]
+        body += [f"  output {_vname(p)};" for p in c.outputs]
+        body += [f"  input {_vname(p)};" for p in c.inputs]
+        body += [f"  inout {_vname(p)};" for p in c.inouts]
+        for o in c.outputs:
+            if o in c.functions:
+                f = _vexpr(c.functions[o])
+                ts = c.three_state.get(o)
+                body.append(f"  assign {_vname(o)} = {f'({_vexpr(ts)}) ? 1bz : ' if ts else ''}"
+                            .replace("1bz", "1'bz") + f"{f};")
+        s = c.sequential
+        if s is not None:
+            body.append("  reg IQ;")
+            for o, which in s.state_outputs.items():
+                body.append(f"  assign {_vname(o)} = {'IQ' if which == 'Q' else '~IQ'};")
+            if s.kind == "ff":
+                sens = [_edge(s.clocked_on, "clocked_on", name)]
+                for key in ("clear", "preset"):
+                    e = getattr(s, key)
+                    if e is not None:
+                        sens.append(_edge(e, key, name))
+                lines = []
+                if s.clear is not None:
+                    lines.append(f"if ({_vexpr(s.clear)}) IQ <= 1'b0;")
+                if s.preset is not None:
+                    lines.append(f"{'else ' if lines else ''}if ({_vexpr(s.preset)}) IQ <= 1'b1;")
+                lines.append(f"{'else ' if lines else ''}IQ <= {_vexpr(s.next_state)};")
+                body.append(f"  always @({' or '.join(f'{k} {_vname(p)}' for k, p in sens)})")
+                body += [f"    {x}" for x in lines]
+            else:
+                lines = []
+                if s.clear is not None:
+                    lines.append(f"if ({_vexpr(s.clear)}) IQ = 1'b0;")
+                if s.preset is not None:
+                    lines.append(f"{'else ' if lines else ''}if ({_vexpr(s.preset)}) IQ = 1'b1;")
+                if s.enable is not None:
+                    lines.append(f"{'else ' if lines else ''}if ({_vexpr(s.enable)}) "
+                                 f"IQ = {_vexpr(s.data_in)};")
+                body.append("  always @*")
+                body += [f"    {x}" for x in lines]
+        if specify:
+            paths = [(i, o) for (i, o) in c.arcs if o in c.functions and i in c.inputs]
+            if paths:
+                body.append("  specify")
+                body += [f"    ({_vname(i)} => {_vname(o)}) = (0, 0);" for i, o in paths]
+                body.append("  endspecify")
+        body.append("endmodule")
+        out.append("\n".join(body))
+    return "\n\n".join(out) + "\n"
