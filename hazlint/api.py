@@ -69,7 +69,7 @@ def _norm(p: str) -> str:
 
 
 def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | None = None,
-         top=None, include_dirs=None, defines=None):
+         top=None, include_dirs=None, defines=None, use_cache: bool = True):
     """Read and elaborate the design with the configured library, then apply SDF."""
     from .frontend.reader import read_sources
     from .flatten import elaborate
@@ -79,10 +79,13 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
         "defines": dict(config.defines, **(defines or {})),
     }
     params = inspect.signature(read_sources).parameters
-    optional = {"root": config.root, "jobs": config.jobs, "cache_dir": config.cache_dir}
+    optional = {"root": config.root, "jobs": config.jobs}
     for k, v in optional.items():
         if k in params and v is not None:
             kwargs[k] = v
+    if "cache" in params and use_cache:
+        from .cache import open_cache
+        kwargs["cache"] = open_cache(config.cache_dir)
     if texts:
         if "texts" not in params:
             raise HazlintError("this build cannot lint unsaved editor text (the reader takes "
@@ -106,7 +109,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
             if not os.path.exists(p):
                 raise ConfigError(f"SDF file not found: {p}", path=config.path,
                                   line=config.key_lines.get("sdf"))
-            annotate(design, p)
+            annotate(design, p, corner="minmax", library=library)
     return design
 
 

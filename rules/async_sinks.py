@@ -104,6 +104,8 @@ def check(design, context):
         if first_gates:
             notes.append("logic starts at: " + "; ".join(
                 context.hop(n).describe() for n in first_gates))
+        flows = tuple(tuple(context.hop(n) for n in path)
+                      for path in _paths_to_sink(g, sink, toggling, gates, rank, limit=8))
         yield Diagnostic(
             rule=ID, kind="unregistered-async", severity=Severity.parse(SEVERITY),
             location=context.location(sink), instance=d.get("instance", "") or (reg or ""),
@@ -114,6 +116,30 @@ def check(design, context):
                       "stems": sorted(stems, key=lambda n: rank[n]),
                       "cone_gates": len(gates),
                       "key": stable_key("async", sink)},
-            notes=tuple(notes),
+            notes=tuple(notes), flows=flows,
             fix=("drive this pin from a register output (for a reset: assert asynchronously, "
                  "release through a reset synchroniser); for a clock use a clock-gating cell"))
+
+
+def _paths_to_sink(g, sink, sources, gates, rank, limit):
+    """One shortest path from each of (up to ``limit``) sources to the sink, from a single
+    breadth-first search backwards through the cone (no path enumeration)."""
+    from collections import deque
+    toward: dict[str, str | None] = {sink: None}
+    q = deque([sink])
+    while q:
+        v = q.popleft()
+        for u in sorted(g.predecessors(v)):
+            if u not in toward and (u in gates or u in sources):
+                toward[u] = v
+                if u in gates:
+                    q.append(u)
+    out = []
+    for s in sorted(sources, key=lambda n: rank[n])[:limit]:
+        if s not in toward:
+            continue
+        path = [s]
+        while toward[path[-1]] is not None and toward[path[-1]] != sink:
+            path.append(toward[path[-1]])
+        out.append(path)
+    return out
