@@ -1,0 +1,107 @@
+"""Wall time of the three built-in rules next to the load time, per benchmark circuit.
+
+Circuits: the ISCAS-85 netlists and the EPFL netlists shipped in the PyPI package
+circuitgraph==0.2.1 (read in place through importlib.resources). Each circuit runs in a fresh
+interpreter: load (read + elaborate) is timed, then each rule on a fresh shared-analysis context
+(so the first rule that needs the timing graph pays for it), then all three on one context. Goal:
+all three rules together take no more than the load itself.
+
+    python bench/bench_rules.py                  # writes bench/RESULTS-rules.md
+    python bench/bench_rules.py c6288.v c17.v    # selected circuits, printed only
+"""
+from __future__ import annotations
+
+import argparse
+import importlib.resources
+import json
+import os
+import platform
+import subprocess
+import sys
+import time
+
+ISCAS85 = ["c17.v", "c432.v", "c499.v", "c880.v", "c1355.v", "c1908.v", "c2670.v", "c3540.v",
+           "c5315.v", "c6288.v", "c7552.v"]
+EPFL = ["adder.v", "arbiter.v", "bar.v", "cavlc.v", "ctrl.v", "dec.v", "div.v", "i2c.v",
+        "int2float.v", "log2.v", "max.v", "memctrl.v", "multiplier.v", "priority_ckt.v",
+        "router.v", "sin.v", "sqrt.v", "square.v", "voter.v"]
+
+CHILD = r"""
+import json, sys, time
+from hazlint.design import load_design
+from hazlint.analysis.context import AnalysisContext
+from hazlint.plugins import all_rules
+t0 = time.perf_counter()
+design = load_design(sys.argv[1])
+t_load = time.perf_counter() - t0
+rules = all_rules()
+out = {"load": t_load, "gates": design.summary()["gates"], "rules": {}}
+for r in rules:
+    ctx = AnalysisContext(design, None, {x.id: x.resolve_options({}) for x in rules})
+    t = time.perf_counter()
+    n = sum(1 for _ in r.check(design, ctx))
+    out["rules"][r.id] = [time.perf_counter() - t, n]
+ctx = AnalysisContext(design, None, {x.id: x.resolve_options({}) for x in rules})
+t = time.perf_counter()
+for r in rules:
+    for _ in r.check(design, ctx):
+        pass
+out["all"] = time.perf_counter() - t
+print(json.dumps(out))
+"""
+
+
+def run(path: str, timeout: float) -> dict:
+    t0 = time.perf_counter()
+    try:
+        p = subprocess.run([sys.executable, "-c", CHILD, path], capture_output=True, text=True,
+                           timeout=timeout, check=False)
+    except subprocess.TimeoutExpired:
+        return {"error": f"timeout after {timeout:.0f}s"}
+    if p.returncode != 0:
+        return {"error": (p.stderr.strip().splitlines() or ["failed"])[-1][:120]}
+    d = json.loads(p.stdout.strip().splitlines()[-1])
+    d["wall"] = time.perf_counter() - t0
+    return d
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser()
+    ap.add_argument("names", nargs="*")
+    ap.add_argument("--timeout", type=float, default=900.0)
+    ap.add_argument("--out", default=os.path.join(os.path.dirname(__file__), "RESULTS-rules.md"))
+    args = ap.parse_args()
+    base = importlib.resources.files("circuitgraph") / "netlists"
+    names = args.names or ISCAS85 + EPFL
+    rows = []
+    for name in names:
+        d = run(str(base / name), args.timeout)
+        rows.append((name, d))
+        if "error" in d:
+            print(f"{name}: {d['error']}", flush=True)
+            continue
+        per = ", ".join(f"{k} {v[0]:.2f}s ({v[1]})" for k, v in d["rules"].items())
+        print(f"{name}: {d['gates']} gates, load {d['load']:.2f}s, all rules {d['all']:.2f}s "
+              f"[{per}]", flush=True)
+    if args.names:
+        return
+    ids = sorted({k for _, d in rows if "rules" in d for k in d["rules"]})
+    with open(args.out, "w") as f:
+        f.write("# Rule benchmark\n\n")
+        f.write(f"Recorded {time.strftime('%Y-%m-%d')} on {platform.machine()}, "
+                f"{os.cpu_count()} cores, Python {platform.python_version()}, by "
+                f"`python bench/bench_rules.py` (netlists of circuitgraph 0.2.1). Times in "
+                f"seconds; findings in parentheses; each rule timed on a fresh shared context.\n\n")
+        f.write("| circuit | gates | load | " + " | ".join(ids) +
+                " | all three | all / load |\n|---|---:|---:|" + "---:|" * (len(ids) + 2) + "\n")
+        for name, d in rows:
+            if "error" in d:
+                f.write(f"| {name} | | {d['error']} |" + " |" * (len(ids) + 2) + "\n")
+                continue
+            cells = " | ".join(f"{d['rules'][i][0]:.2f} ({d['rules'][i][1]})" for i in ids)
+            f.write(f"| {name} | {d['gates']} | {d['load']:.2f} | {cells} | {d['all']:.2f} | "
+                    f"{d['all'] / d['load']:.2f} |\n")
+
+
+if __name__ == "__main__":
+    main()
