@@ -1,0 +1,633 @@
+"""The hazard prover: turns structural findings into proven (or disproven) hazards.
+
+For a target net (a sink) and an input change it decides, per hazard kind, whether some values
+of the other inputs make the change glitch under arbitrary gate and wire delays:
+
+1. structural: a single changing input with one path to the target cannot glitch;
+2. explicit bit-parallel ternary/transient simulation of random side-input vectors finds most
+   hazards that exist (each hit is a witness);
+3. symbolic ternary/transient simulation with BDDs decides the rest, within a node budget;
+4. SAT on the same conditions, within a conflict budget;
+5. past every budget: "inconclusive", with the reason. Never a silent pass.
+
+A proven hazard is replayed by the timed simulator (:mod:`hazlint.analysis.timedsim`) with the
+nominal delays; if it does not glitch there, a delay assignment that makes it glitch is searched
+and reported. :func:`refine` is the entry point the lint pipeline calls on the rule findings.
+"""
+from __future__ import annotations
+
+import random
+import time
+from dataclasses import dataclass, field, replace
+from typing import Any, Iterable, Mapping, Sequence
+
+import networkx as nx
+
+from ..diagnostics import Diagnostic, Severity
+from ..graph import ASYNC_ROLES, SOURCE_KINDS
+from . import fixes as _fixes
+from .symbolic import Budget, HazardProof, bdd_hazards
+from .satcheck import sat_hazards
+from .ternary import (HAZARD_KINDS, CyclicCone, IntAlgebra, cone, free_sources, function_hazard,
+                      hazard_planes, ternary_fixpoint, bool_gate)
+from .timedsim import DelayAssignment, Glitch, replay, search_assignment, simulate
+from .waves import timing_diagram
+
+DEFAULTS: dict[str, Any] = {
+    "node_budget": 100_000,      # BDD live nodes per check
+    "conflict_budget": 20_000,   # SAT conflicts per query
+    "check_time": 2.0,           # seconds per check (BDD + SAT)
+    "sim_vectors": 256,          # random side-input vectors simulated at once
+    "max_sources": 12,           # changing sources tried per finding
+    "max_sinks": 3,              # sinks classified per reconvergence finding
+    "search_trials": 150,        # timed simulations when searching a glitching delay assignment
+    "show_proven_absent": False,
+    "waveforms": True,
+    "seed": 0,
+}
+
+CLASS_ORDER = ("static-1-hazard", "static-0-hazard", "dynamic-hazard")
+
+
+def options_with_defaults(options: Mapping[str, Any] | None) -> dict[str, Any]:
+    opts = dict(DEFAULTS)
+    for k, v in dict(options or {}).items():
+        opts[k.replace("-", "_")] = v
+    return opts
+
+
+# ---------------------------------------------------------------------------------------------
+# One transition at one target
+
+def path_count(graph: nx.DiGraph, order: Sequence[str], source: str, target: str, cap: int = 2
+               ) -> int:
+    """Number of paths (pin-wise) from ``source`` to ``target``, capped at ``cap`` (DP over the
+    topological order)."""
+    cnt = {source: 1}
+    for n in order:
+        if n == source:
+            continue
+        d = graph.nodes[n]
+        ins = d.get("inputs") or []
+        c = sum(cnt.get(i, 0) for i in ins)
+        if c:
+            cnt[n] = min(c, cap)
+    return cnt.get(target, 0)
+
+
+def prove_transition(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, int]],
+                     fixed: Mapping[str, int] | None = None, kinds: Sequence[str] = HAZARD_KINDS,
+                     options: Mapping[str, Any] | None = None, order: Sequence[str] | None = None
+                     ) -> dict[str, HazardProof]:
+    """Decide every hazard kind at ``target`` for the change ``changes`` (source -> (before,
+    after)), the sources in ``fixed`` held, all other free sources of the cone free."""
+    opts = options_with_defaults(options)
+    fixed = dict(fixed or {})
+    try:
+        order = order or cone(graph, [target])
+    except CyclicCone:
+        return {k: HazardProof(k, "inconclusive", reason="combinational loop in the cone",
+                               method="structural") for k in kinds}
+    in_cone = set(order)
+    moving = [n for n, (a, b) in changes.items() if a != b and n in in_cone]
+    if not moving:
+        return {k: HazardProof(k, "absent", reason="no changing input reaches the target",
+                               method="structural") for k in kinds}
+    if len(moving) == 1 and path_count(graph, order, moving[0], target) <= 1:
+        return {k: HazardProof(k, "absent", reason="a single path from the changing input",
+                               method="structural") for k in kinds}
+    srcs = free_sources(graph, order)
+    changes = {n: v for n, v in changes.items() if n in in_cone}
+    free = [n for n in srcs if n not in changes and n not in fixed]
+    out: dict[str, HazardProof] = {}
+    # 2. explicit random simulation, bit-parallel
+    width = max(1, int(opts["sim_vectors"])) if free else 1
+    A = IntAlgebra(width)
+    rng = random.Random(opts["seed"])
+    va, vb = {}, {}
+    for n in srcs:
+        if n in changes:
+            a, b = changes[n]
+            va[n], vb[n] = (A.mask if a else 0), (A.mask if b else 0)
+        elif n in fixed:
+            va[n] = vb[n] = A.mask if fixed[n] else 0
+        else:
+            va[n] = vb[n] = rng.getrandbits(width)
+    planes = hazard_planes(graph, order, target, A, va, vb, srcs)
+    for k in kinds:
+        lanes = planes[k]
+        if not lanes:
+            continue
+        pick, is_fh = None, None
+        for _ in range(8 if len(moving) > 1 else 1):
+            lane = (lanes & -lanes).bit_length() - 1
+            wit = {n: (va[n] >> lane) & 1 for n in free}
+            fh = None
+            if len(moving) > 1:
+                before = dict(wit, **fixed, **{n: a for n, (a, _) in changes.items()})
+                after = dict(wit, **fixed, **{n: b for n, (_, b) in changes.items()})
+                fh = function_hazard(graph, order, target, before, after)
+            if pick is None or (is_fh and not fh):
+                pick, is_fh = wit, fh
+            if not fh:
+                break
+            lanes &= lanes - 1
+            if not lanes:
+                break
+        out[k] = HazardProof(k, "present", witness=pick, method="simulation",
+                             function_hazard=is_fh,
+                             reason=f"found by ternary simulation of {width} vectors")
+    rest = [k for k in kinds if k not in out]
+    if not rest:
+        return out
+    if not free:
+        # every input known: the simulation above was exhaustive
+        for k in rest:
+            out[k] = HazardProof(k, "absent", method="simulation",
+                                 reason="the transition is fully specified")
+        return out
+    # 3. BDD, 4. SAT
+    t0 = time.perf_counter()
+    try:
+        res = bdd_hazards(graph, order, target, changes, fixed, rest,
+                          node_budget=int(opts["node_budget"]),
+                          time_budget=float(opts["check_time"]) / 2)
+        out.update(res)
+        return out
+    except Budget as exc:
+        bdd_reason = exc.reason
+    left = float(opts["check_time"]) - (time.perf_counter() - t0)
+    res = sat_hazards(graph, order, target, changes, fixed, rest,
+                      conflict_budget=int(opts["conflict_budget"]), time_budget=max(0.05, left))
+    for k, p in res.items():
+        if p.status == "inconclusive":
+            p.reason = f"{bdd_reason}; {p.reason}"
+        out[k] = p
+    return out
+
+
+@dataclass
+class Classification:
+    """The verdict for one change at one target, with everything needed to show it."""
+
+    target: str
+    classification: str                 # a hazard kind, "hazard-free" or "inconclusive"
+    changes: dict[str, tuple[int, int]]
+    before: dict[str, int] = field(default_factory=dict)
+    after: dict[str, int] = field(default_factory=dict)
+    proofs: dict[str, HazardProof] = field(default_factory=dict)
+    reason: str = ""
+    function_hazard: bool | None = None
+    glitch: Glitch | None = None
+    assignment: DelayAssignment | None = None
+    how: str = ""                      # "nominal" | "min-corner" | "within-bounds" | "arbitrary"
+    trace: Any = None
+
+    @property
+    def proven(self) -> bool:
+        return self.classification in HAZARD_KINDS
+
+    @property
+    def present_kinds(self) -> list[str]:
+        return [k for k in CLASS_ORDER if k in self.proofs and self.proofs[k].status == "present"]
+
+
+def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, int]],
+             fixed: Mapping[str, int] | None = None, options: Mapping[str, Any] | None = None,
+             order: Sequence[str] | None = None, replay_glitch: bool = True) -> Classification:
+    """Classify the change at ``target`` and, for a proven hazard, replay its witness in the
+    timed simulator (nominal delays first, then a search for a glitching assignment)."""
+    opts = options_with_defaults(options)
+    try:
+        order = order or cone(graph, [target])
+    except CyclicCone:
+        return Classification(target, "inconclusive", dict(changes),
+                              reason="combinational loop in the cone")
+    proofs = prove_transition(graph, target, changes, fixed, HAZARD_KINDS, opts, order)
+    c = Classification(target, "hazard-free", dict(changes), proofs=proofs)
+    present = [k for k in CLASS_ORDER if proofs[k].status == "present"]
+    if present:
+        k = present[0]
+        p = proofs[k]
+        c.classification = k
+        c.function_hazard = p.function_hazard
+        srcs = free_sources(graph, order)
+        wit = dict(p.witness or {})
+        base = {n: wit.get(n, 0) for n in srcs}
+        base.update(fixed or {})
+        c.before = dict(base, **{n: a for n, (a, _) in changes.items()})
+        c.after = dict(base, **{n: b for n, (_, b) in changes.items()})
+        if p.function_hazard is None and sum(a != b for a, b in changes.values()) > 1:
+            c.function_hazard = function_hazard(graph, order, target, c.before, c.after)
+        c.reason = p.reason or p.method
+        if replay_glitch:
+            asg, gl, how = search_assignment(graph, target, c.before, c.after, order,
+                                             trials=int(opts["search_trials"]),
+                                             seed=int(opts["seed"]),
+                                             want_dynamic=k == "dynamic-hazard")
+            if asg is not None:
+                c.assignment, c.glitch, c.how = asg, gl, how
+                # a transport glitch that inertial gates also show is reported as inertial
+                if asg.mode == "transport":
+                    inert = DelayAssignment(asg.corner, asg.pins, asg.wires, "inertial")
+                    g2, _ = replay(graph, target, c.before, c.after, inert)
+                    if g2.occurs and len(g2.changes) >= (3 if k == "dynamic-hazard" else 2):
+                        c.assignment, c.glitch = inert, g2
+            else:
+                c.how = how
+    else:
+        inc = [p for p in proofs.values() if p.status == "inconclusive"]
+        if inc:
+            c.classification = "inconclusive"
+            c.reason = "; ".join(sorted({p.reason for p in inc}))
+        else:
+            c.reason = "; ".join(sorted({p.reason for p in proofs.values() if p.reason}))
+    return c
+
+
+def combine(results: Sequence[Classification]) -> Classification | None:
+    """The verdict over several candidate changes: the first proven hazard (static before
+    dynamic), else inconclusive if any is, else hazard-free."""
+    if not results:
+        return None
+    for k in CLASS_ORDER:
+        for r in results:
+            if r.classification == k:
+                return r
+    for r in results:
+        if r.classification == "inconclusive":
+            return r
+    return results[0]
+
+
+# ---------------------------------------------------------------------------------------------
+# Choice of changing sources for a finding
+
+def stem_sources(graph: nx.DiGraph, stem: str, target: str, limit: int) -> list[str]:
+    """Free sources whose change can toggle ``stem`` and reach ``target``: the stem itself when
+    it is a source, else the sources of its fan-in cone (nearest first)."""
+    if graph.nodes[stem]["kind"] in SOURCE_KINDS:
+        return [stem]
+    dist = {stem: 0}
+    frontier = [stem]
+    out = []
+    while frontier and len(out) < limit:
+        nxt = []
+        for n in frontier:
+            for p in graph.predecessors(n):
+                if p in dist:
+                    continue
+                dist[p] = dist[n] + 1
+                k = graph.nodes[p]["kind"]
+                if k in SOURCE_KINDS and k != "const":
+                    out.append(p)
+                elif k == "gate":
+                    nxt.append(p)
+        frontier = nxt
+    return out[:limit]
+
+
+def classify_sources(graph, target, sources, options, order=None) -> list[Classification]:
+    out = []
+    for s in sources:
+        c = classify(graph, target, {s: (0, 1)}, options=options, order=order)
+        out.append(c)
+        if c.proven:
+            break
+    return out
+
+
+# ---------------------------------------------------------------------------------------------
+# Loops: Eichelberger's ternary simulation on the feedback
+
+@dataclass
+class LoopVerdict:
+    behaviour: str                       # "oscillation" | "storage" | "settles" | "inconclusive"
+    inputs: dict[str, int] | None = None  # external values that make it oscillate
+    stable_states: int | None = None
+    reason: str = ""
+
+
+def loop_behaviour(graph: nx.DiGraph, scc: Iterable[str], max_inputs: int = 12,
+                   max_cut: int = 10) -> LoopVerdict:
+    """Does the loop settle for every value of the nets that feed it, hold state, or oscillate?
+
+    Every combination of the loop's external inputs (up to ``max_inputs``; treated as
+    independent) is simulated at once, bit-parallel. Ternary simulation from the all-X state
+    (Eichelberger's procedure B from total uncertainty) settles to binary values when the inputs
+    determine the loop; otherwise the binary stable states are counted over a feedback vertex
+    set: none means the loop cannot rest and must oscillate for those inputs, two or more mean
+    storage."""
+    comp = set(scc)
+    g = graph
+    ext = sorted({p for n in comp for p in g.predecessors(n) if p not in comp})
+    if len(ext) > max_inputs:
+        return LoopVerdict("inconclusive", reason=f"{len(ext)} loop inputs (limit {max_inputs})")
+    width = 1 << len(ext)
+    A = IntAlgebra(width)
+    vals = {}
+    for i, n in enumerate(ext):
+        bits = sum(1 << c for c in range(width) if (c >> i) & 1)
+        vals[n] = (A.not_(bits), bits)
+    for n in comp:
+        vals[n] = (A.true, A.true)
+    order = sorted(comp)
+    res = ternary_fixpoint(g, order, dict(vals), A)
+    undetermined = 0
+    for n in comp:
+        c0, c1 = res[n]
+        undetermined |= c0 & c1
+    if not undetermined:
+        return LoopVerdict("settles", reason="ternary simulation settles for all loop inputs")
+    cut = _feedback_set(g, comp)
+    if len(cut) > max_cut:
+        return LoopVerdict("inconclusive", reason=f"feedback set of {len(cut)} nets")
+    rest = [n for n in nx.topological_sort(g.subgraph(comp - set(cut)))]
+    count_ge1 = 0
+    count_ge2 = 0
+    BA = IntAlgebra(width)
+    for s in range(1 << len(cut)):
+        bv = {n: vals[n][1] for n in ext}
+        for i, n in enumerate(cut):
+            bv[n] = BA.mask if (s >> i) & 1 else 0
+        ev = dict(bv)
+        for n in rest:
+            d = g.nodes[n]
+            if d["kind"] == "gate":
+                ev[n] = bool_gate(BA, d["op"], [ev[i] for i in d["inputs"]], d.get("expr"))
+            elif d["kind"] == "sink":
+                ev[n] = ev[d["inputs"][0]]
+        ok = BA.mask
+        for n in cut:
+            d = g.nodes[n]
+            v = bool_gate(BA, d["op"], [ev[i] for i in d["inputs"]], d.get("expr")) \
+                if d["kind"] == "gate" else ev[d["inputs"][0]]
+            ok &= ~(v ^ bv[n]) & BA.mask
+        count_ge2 |= count_ge1 & ok
+        count_ge1 |= ok
+    no_state = undetermined & ~count_ge1 & A.mask
+    if no_state:
+        lane = (no_state & -no_state).bit_length() - 1
+        inputs = {n: (lane >> i) & 1 for i, n in enumerate(ext)}
+        return LoopVerdict("oscillation", inputs=inputs, stable_states=0,
+                           reason="no stable state for these loop inputs")
+    if count_ge2 & undetermined:
+        return LoopVerdict("storage", reason="two stable states for some loop inputs")
+    return LoopVerdict("settles", stable_states=1,
+                       reason="one stable state for every loop input")
+
+
+def _feedback_set(g: nx.DiGraph, comp: set[str]) -> list[str]:
+    """A small feedback vertex set of the strongly connected ``comp`` (greedy)."""
+    h = nx.DiGraph(g.subgraph(comp))
+    cut = []
+    while not nx.is_directed_acyclic_graph(h):
+        n = max(h.nodes, key=lambda x: (h.in_degree(x) * h.out_degree(x), str(x)))
+        cut.append(n)
+        h.remove_node(n)
+    return [n for n in cut if g.nodes[n]["kind"] == "gate"] or cut
+
+
+# ---------------------------------------------------------------------------------------------
+# Presentation helpers
+
+def net_label(graph: nx.DiGraph, n: str) -> str:
+    d = graph.nodes[n]
+    return d.get("port") or d.get("name") or n
+
+
+def witness_json(graph, c: Classification) -> dict[str, Any]:
+    inputs = {net_label(graph, n): v for n, v in sorted(c.before.items())
+              if n not in c.changes}
+    trans = {net_label(graph, n): [a, b] for n, (a, b) in sorted(c.changes.items())}
+    return {"inputs": inputs, "transition": trans}
+
+
+def witness_text(graph, c: Classification) -> str:
+    moves = ", ".join(f"{net_label(graph, n)} {'rises' if b > a else 'falls'}"
+                      for n, (a, b) in sorted(c.changes.items()) if a != b)
+    held = ", ".join(f"{net_label(graph, n)}={v}" for n, v in sorted(
+        c.before.items(), key=lambda x: net_label(graph, x[0])) if n not in c.changes)
+    return f"{moves} with {held}" if held else moves
+
+
+def glitch_text(c: Classification) -> str:
+    if c.glitch is None:
+        return f"not reproduced by timed simulation ({c.how})" if c.how else ""
+    g = c.glitch
+    what = (f"pulse at t={_num(g.time)} of width {_num(g.width)}, {len(g.changes)} changes")
+    if c.how == "nominal":
+        return f"glitches with the nominal delays ({c.assignment.mode}): {what}"
+    if c.how in ("min-corner", "within-bounds"):
+        return f"glitches within the delay bounds ({c.how}): {what}"
+    return ("hazardous under arbitrary delays but not with the nominal delays; it glitches "
+            f"with the delay assignment below: {what}")
+
+
+def _num(x) -> str:
+    if x is None:
+        return "?"
+    return str(int(x)) if float(x).is_integer() else f"{x:g}"
+
+
+def waveform_nets(graph, c: Classification, evidence: Mapping[str, Any] | None) -> list[str]:
+    ev = evidence or {}
+    nets: list[str] = []
+    for n in c.changes:
+        nets.append(n)
+    stem = ev.get("stem_node")
+    if stem:
+        nets.append(stem)
+    fp, sp = list(ev.get("fast_path") or []), list(ev.get("slow_path") or [])
+    for n in (fp[1:-1] + sp[1:-1])[:6]:
+        nets.append(n)
+    if ev.get("reconvergence_node"):
+        nets.append(ev["reconvergence_node"])
+    nets.append(c.target)
+    out = []
+    for n in nets:
+        if n in graph and n not in out:
+            out.append(n)
+    return out
+
+
+def witness_trace(graph, c: Classification, nets: Sequence[str], settle: float = 0.0):
+    asg = c.assignment or DelayAssignment()
+    _, tr = replay(graph, c.target, c.before, c.after, asg, settle=settle, watch=nets)
+    return tr
+
+
+def diagram_lines(graph, c: Classification, nets: Sequence[str], ascii_only=False) -> list[str]:
+    tr = witness_trace(graph, c, nets)
+    c.trace = tr
+    names = {n: net_label(graph, n) for n in nets}
+    return timing_diagram(tr, nets, names, ascii_only=ascii_only)
+
+
+def fix_for(graph, c: Classification, evidence: Mapping[str, Any] | None, sink_role) -> str:
+    ev = evidence or {}
+    cands = []
+    if ev.get("reconvergence_node"):
+        cands.append(ev["reconvergence_node"])
+    n = graph.nodes[c.target].get("inputs", [c.target])[0] if \
+        graph.nodes[c.target]["kind"] == "sink" else c.target
+    for _ in range(6):
+        if n not in cands:
+            cands.append(n)
+        d = graph.nodes[n]
+        if d["kind"] != "gate" or d["op"] not in ("buf", "not"):
+            break
+        n = d["inputs"][0]
+    if c.classification in ("static-1-hazard", "static-0-hazard") and not c.function_hazard:
+        f = _fixes.consensus_fix(graph, c.target, c.classification, c.before, c.after, cands)
+        if f:
+            return f["text"] + " (checked: the hazard is gone with it)"
+    if c.function_hazard:
+        return ("function hazard: no logic implementation is glitch-free for this input change; "
+                "make the inputs change one at a time or register the result. "
+                + _fixes.fallback_fix(graph, c.target, None, (), sink_role))
+    skew = ev.get("skew")
+    if skew is None and c.glitch is not None:
+        skew = c.glitch.width
+    return _fixes.fallback_fix(graph, c.target, skew, ev.get("fast_path") or (), sink_role)
+
+
+# ---------------------------------------------------------------------------------------------
+# The pipeline entry point
+
+def _sensitive(graph, context, sink) -> bool:
+    if context is not None:
+        try:
+            return sink in context.sensitive_sinks
+        except Exception:  # noqa: BLE001 - a context without the analysis
+            pass
+    d = graph.nodes[sink]
+    return d.get("role") in ASYNC_ROLES or bool(d.get("asynchronous"))
+
+
+def refine(design, diagnostics: Sequence[Diagnostic], context=None,
+           options: Mapping[str, Any] | None = None) -> list[Diagnostic]:
+    """Classify the findings of the structural rules.
+
+    ``unbalanced-reconvergence`` and ``unregistered-async`` findings become static-1, static-0 or
+    dynamic hazards (error when proven at a glitch-sensitive sink), stay warnings when
+    inconclusive or structural only, and are dropped when proven absent (kept with
+    ``show_proven_absent``). ``combinational-loop`` findings gain an ``oscillation`` finding when
+    the loop can oscillate. Other findings pass through unchanged.
+    """
+    opts = options_with_defaults(options)
+    graph = design.graph if hasattr(design, "graph") else design
+    out: list[Diagnostic] = []
+    cache: dict[tuple, Classification] = {}
+    for d in diagnostics:
+        ev = d.evidence if isinstance(d.evidence, Mapping) else {}
+        try:
+            if d.kind == "unbalanced-reconvergence" and ev.get("stem_node") in graph:
+                out.extend(_refine_reconvergence(graph, d, ev, context, opts, cache))
+            elif d.kind == "unregistered-async" and ev.get("sink_node") in graph:
+                out.extend(_refine_async(graph, d, ev, context, opts, cache))
+            elif d.kind == "combinational-loop" and ev.get("scc"):
+                out.append(d)
+                osc = _refine_loop(graph, d, ev)
+                if osc is not None:
+                    out.append(osc)
+            else:
+                out.append(d)
+        except (Budget, RuntimeError, KeyError) as exc:
+            out.append(replace(d, notes=tuple(d.notes) + (f"prover: inconclusive ({exc})",)))
+    return out
+
+
+def _refine_reconvergence(graph, d, ev, context, opts, cache):
+    stem = ev["stem_node"]
+    sinks = [s for s in ev.get("sink_nodes") or [] if s in graph]
+    sinks.sort(key=lambda s: not _sensitive(graph, context, s))
+    results = []
+    for s in sinks[: int(opts["max_sinks"])]:
+        key = (stem, s)
+        if key not in cache:
+            srcs = stem_sources(graph, stem, s, int(opts["max_sources"]))
+            cache[key] = combine(classify_sources(graph, s, srcs, opts)) or Classification(
+                s, "inconclusive", {}, reason="no changing input found for the stem")
+        results.append(cache[key])
+    c = combine(results)
+    if c is None:
+        return [d]
+    return [x for x in [_apply(graph, d, c, ev, context, opts)] if x is not None]
+
+
+def _refine_async(graph, d, ev, context, opts, cache):
+    sink = ev["sink_node"]
+    srcs = [s for s in ev.get("source_nodes") or [] if s in graph][: int(opts["max_sources"])]
+    key = ("async", sink, tuple(srcs))
+    if key not in cache:
+        cache[key] = combine(classify_sources(graph, sink, srcs, opts)) or Classification(
+            sink, "inconclusive", {}, reason="no changing source")
+    c = cache[key]
+    return [x for x in [_apply(graph, d, c, ev, context, opts)] if x is not None]
+
+
+def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts) -> Diagnostic | None:
+    sens = _sensitive(graph, context, c.target)
+    sink_role = graph.nodes[c.target].get("role")
+    evidence = dict(d.evidence)
+    evidence["classification"] = c.classification
+    evidence["proof"] = {k: p.to_json() for k, p in c.proofs.items()}
+    notes = list(d.notes)
+    if c.classification == "hazard-free":
+        if not opts["show_proven_absent"]:
+            return None
+        notes.append(f"proven hazard-free under arbitrary delays ({c.reason})")
+        return replace(d, severity=Severity.INFO, evidence=evidence, notes=tuple(notes),
+                       message=d.message + "; proven hazard-free")
+    if c.classification == "inconclusive":
+        notes.append(f"hazard proof inconclusive: {c.reason}")
+        evidence["inconclusive_reason"] = c.reason
+        return replace(d, severity=max(Severity.WARNING, min(d.severity, Severity.WARNING)),
+                       evidence=evidence, notes=tuple(notes))
+    kind = c.classification
+    evidence["witness"] = witness_json(graph, c)
+    evidence["function_hazard"] = bool(c.function_hazard)
+    glitch = c.glitch.to_json() if c.glitch else {"occurs": False}
+    glitch["how"] = c.how
+    if c.assignment is not None:
+        glitch["delays"] = c.assignment.to_json()
+    evidence["glitch"] = glitch
+    tname = net_label(graph, c.target)
+    label = {"static-1-hazard": "static-1 hazard", "static-0-hazard": "static-0 hazard",
+             "dynamic-hazard": "dynamic hazard"}[kind]
+    msg = f"{label} at {tname}: {witness_text(graph, c)}"
+    if c.function_hazard:
+        msg += " (function hazard)"
+    gt = glitch_text(c)
+    notes.append(f"proof: {c.reason}")
+    notes.append(f"witness: {witness_text(graph, c)}")
+    if gt:
+        notes.append(f"timed simulation: {gt}")
+    if c.assignment is not None and c.how not in ("nominal",):
+        notes += ["  " + x for x in c.assignment.describe(graph)[1:]]
+    if opts["waveforms"] and c.before:
+        nets = waveform_nets(graph, c, ev)
+        notes += diagram_lines(graph, c, nets)
+    sev = Severity.ERROR if sens else Severity.WARNING
+    return replace(d, kind=kind, severity=sev, message=msg, evidence=evidence,
+                   notes=tuple(notes), fix=fix_for(graph, c, ev, sink_role))
+
+
+def _refine_loop(graph, d: Diagnostic, ev) -> Diagnostic | None:
+    comp = [n for n in ev["scc"] if n in graph]
+    v = loop_behaviour(graph, comp)
+    if v.behaviour != "oscillation":
+        return None
+    ins = ", ".join(f"{net_label(graph, n)}={x}" for n, x in sorted(v.inputs.items()))
+    evidence = {"scc": list(comp), "cycle": list(ev.get("cycle") or []), "inputs":
+                {net_label(graph, n): x for n, x in v.inputs.items()},
+                "behaviour": v.behaviour, "reason": v.reason,
+                "key": f"osc:{ev.get('key', '')}"}
+    return replace(d, kind="oscillation", severity=Severity.ERROR,
+                   message=f"loop oscillates when {ins}: it has no stable state",
+                   evidence=evidence, notes=tuple(d.notes) + (
+                       f"ternary simulation from the unknown state leaves the loop X and no "
+                       f"binary state is stable for {ins}",),
+                   fix="break the feedback with a register, or make the loop's inversion count "
+                       "even so it can hold a value")
