@@ -196,3 +196,164 @@ def test_missing_file(tmp_path):
     with pytest.raises(ParseError) as ei:
         parse_sdf(str(tmp_path / "none.sdf"))
     assert "cannot read SDF file" in str(ei.value)
+
+
+# ------------------------------------------------------------------------------------------
+# Back-annotation through load_design
+
+FIX = ROOT / "fixtures" / "sdf"
+PRESS_LIB = str(ROOT / "fixtures" / "liberty" / "press_cells.lib")
+
+
+def _press_design():
+    from hazlint.design import load_design
+    from hazlint.liberty import read_liberty
+    lib = read_liberty(PRESS_LIB)
+    return load_design(str(FIX / "press_valve.v"), library=lib), lib
+
+
+@pytest.mark.skipif(not os.path.exists(OSTA_SDF), reason="Debian opensta examples not installed")
+def test_opensta_example_annotates_every_instance():
+    from hazlint.config import load_config
+    from hazlint.design import load_design
+    cfg = load_config(path=str(FIX / "opensta_example1_cells.toml"))
+    lib = cfg.library()
+    design = load_design(f"{OSTA}/example1.v", library=lib)
+    rep = annotate(design, OSTA_SDF, corner="minmax", library=lib)
+    assert rep.complete, rep.lines()
+    # every CELL of the shipped SDF names an instance of example1.v
+    assert rep.annotated_instances == ["r1", "r2", "r3", "u1", "u2"]
+    assert rep.instances_without_iopath == []
+    assert (rep.iopaths_applied, rep.interconnects_applied) == (6, 10)
+    g = design.graph
+    u2 = next(n for n, d in g.nodes(data=True) if d.get("instance") == "top.u2")
+    # (IOPATH A1 ZN (1:1:1) (1.1:1.1:1.1)) as written in the file: rise 1, fall 1.1
+    assert g.nodes[u2]["pins"] == ["A1", "A2"]
+    assert g.nodes[u2]["delays"] == [Delay(1.0, 1.0, 1.1, 1.1)] * 2
+    # (INTERCONNECT in1 r1/D (0.011:0.011:0.011) (0.01:0.01:0.01))
+    r1 = next(r for r in design.registers if r.instance == "top.r1")
+    d_sink = r1.pins["data"]
+    assert g.edges[design.input_node["in1"], d_sink]["wire"] == Delay(0.011, 0.011, 0.01, 0.01)
+    # (IOPATH CK Q (1:1:1) (1.1:1.1:1.1)) lands on the state node
+    assert g.nodes[r1.outputs["Q"]]["arc_delays"] == {"CK": Delay(1.0, 1.0, 1.1, 1.1)}
+
+
+def test_report_lists_what_does_not_fit():
+    design, lib = _press_design()
+    text = sdf_text("""
+ (CELL (CELLTYPE "BUFX1") (INSTANCE u_gone) (DELAY (ABSOLUTE (IOPATH A Y (1)))))
+ (CELL (CELLTYPE "INVX1") (INSTANCE u_hands) (DELAY (ABSOLUTE (IOPATH A Y (1)))))
+ (CELL (CELLTYPE "NAND2X1") (INSTANCE u_n1) (DELAY (ABSOLUTE (IOPATH C Y (1)))))
+ (CELL (CELLTYPE "press_valve") (INSTANCE) (DELAY (ABSOLUTE
+   (INTERCONNECT u_inv/Y u_n1/B (1))
+   (INTERCONNECT guard_closed u_nope/A (1)))))
+""").replace('"top"', '"press_valve"')
+    rep = annotate(design, "inline.sdf", text=text, library=lib)
+    assert not rep.complete
+    assert [m[0] for m in rep.missing_instances] == ["u_gone"]
+    assert rep.celltype_mismatches == [("u_hands", "INVX1", "AND2X1", 6)]
+    assert [(a[0], a[2], a[3]) for a in rep.arcs_missing] == [("u_n1", "C", "Y")]
+    assert [u[1] for u in rep.unmatched_interconnects] == ["u_n1/B", "u_nope/A"]
+    assert "guard_closed" in rep.unmatched_interconnects[0][3]   # what really drives u_n1/B
+    assert ("u_out", "NAND2X1") in rep.instances_without_iopath
+    assert any("u_gone" in line for line in rep.lines())
+
+
+def test_corner_and_timescale_conversion():
+    design, lib = _press_design()
+    assert design.timescale[0] == pytest.approx(1e-9)
+    rep = annotate(design, str(FIX / "press_valve.sdf"), corner="minmax", library=lib)
+    assert rep.complete and rep.scale == pytest.approx(0.1)     # 100 ps units -> 1 ns
+    g = design.graph
+    inv = next(n for n, d in g.nodes(data=True) if d.get("instance") == "press_valve.u_inv")
+    # (IOPATH A Y (15:20:25) (12:14:16)) in 100 ps: rise 1.5..2.5 ns, fall 1.2..1.6 ns
+    assert g.nodes[inv]["delays"][0] == pytest.approx(Delay(1.5, 2.5, 1.2, 1.6))
+    n2 = next(n for n, d in g.nodes(data=True) if d.get("instance") == "press_valve.u_n2")
+    assert g.edges[inv, n2]["wire"] == pytest.approx(Delay(0.3, 0.5, 0.3, 0.5))
+    with pytest.raises(ConfigError):
+        annotate(design, str(FIX / "press_valve.sdf"), corner="fast")
+
+
+def _iverilog_netlist(corner: str, tmp: Path) -> Path:
+    """The fixture netlist for Icarus Verilog: iverilog 11 ignores INTERCONNECT in SDF
+    ("SDF WARNING: INTERCONNECT not supported"), so each interconnect delay of the SDF is written
+    into the netlist as a delayed assign in front of the pin it feeds."""
+    from hazlint.sdf import delay_of as dly
+    sdf = parse_sdf(str(FIX / "press_valve.sdf"))
+    text = (FIX / "press_valve.v").read_text()
+    extra = []
+    for k, ic in enumerate(sdf.interconnects):
+        inst, pin = ic.dest
+        d = dly(ic.values, corner, sdf.timescale / 1e-9)
+        assert d.rise_max == d.fall_max       # the timed simulator's wires take one value
+        m = re.search(rf"(\b{inst}\s*\(.*?\.{pin}\()(\w+)(\))", text)
+        net = m.group(2)
+        text = text[:m.start(2)] + f"{net}__w{k}" + text[m.end(2):]
+        extra.append(f"  wire {net}__w{k};\n  assign #({d.rise_max:g}) {net}__w{k} = {net};")
+    text = text.replace("endmodule", "\n".join(extra) + "\nendmodule")
+    out = tmp / "press_valve_iv.v"
+    out.write_text(text)
+    return out
+
+
+STIMULUS = [  # (input, value) every 10 ns from t = 20: hands on, maintenance, guard toggles
+    ("two_hand_left", 1), ("two_hand_right", 1), ("maint_key", 1), ("guard_closed", 1),
+    ("guard_closed", 0), ("maint_key", 0), ("guard_closed", 1), ("two_hand_right", 0),
+    ("guard_closed", 0), ("maint_key", 1), ("two_hand_left", 0), ("two_hand_right", 1),
+    ("guard_closed", 1), ("two_hand_left", 1), ("guard_closed", 0),
+]
+WATCH = ["hands", "guard_n", "n1", "n2", "valve_enable", "mismatch", "alarm_n"]
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(shutil.which("iverilog") is None, reason="iverilog not installed")
+@pytest.mark.parametrize("corner", ["min", "max"])
+def test_transition_times_equal_icarus_sdf_annotate(corner, tmp_path):
+    from hazlint.analysis.timedsim import DelayAssignment, simulate
+    from hazlint.liberty import verilog_models
+    design, lib = _press_design()
+    rep = annotate(design, str(FIX / "press_valve.sdf"), corner=corner, library=lib)
+    assert rep.complete and len(rep.annotated_instances) == 7
+    # Icarus: cell models with specify paths from the Liberty functions, the SDF applied by
+    # $sdf_annotate, the corner chosen with -Tmin / -Tmax
+    (tmp_path / "cells.v").write_text("`timescale 1ns/1ps\n" + verilog_models(
+        lib, specify=True, cells=["AND2X1", "INVX1", "NAND2X1", "XOR2X1", "AOI21X1"]))
+    net = _iverilog_netlist(corner, tmp_path)
+    ins = ["guard_closed", "two_hand_left", "two_hand_right", "maint_key"]
+    tb = ["`timescale 1ns/1ps", "module tb;"]
+    tb += [f"  reg {i} = 0;" for i in ins]
+    tb.append("  wire valve_enable, alarm_n;")
+    tb.append("  press_valve dut(" + ", ".join(f".{p}({p})" for p in ins + ["valve_enable",
+                                                                           "alarm_n"]) + ");")
+    for w in WATCH:
+        tb.append(f'  always @(dut.{w}) $display("%0.3f {w} %b", $realtime, dut.{w});')
+    tb.append("  initial begin")
+    tb.append(f'    $sdf_annotate("{FIX / "press_valve.sdf"}", dut);')
+    tb.append("    #20;")
+    for name, v in STIMULUS:
+        tb.append(f"    {name} = {v}; #10;")
+    tb.append("    $finish;\n  end\nendmodule")
+    (tmp_path / "tb.v").write_text("\n".join(tb) + "\n")
+    subprocess.run(["iverilog", "-gspecify", f"-T{corner}", "-o", str(tmp_path / "sim"),
+                    str(tmp_path / "tb.v"), str(net), str(tmp_path / "cells.v")],
+                   check=True, capture_output=True, text=True)
+    run = subprocess.run(["vvp", "-n", str(tmp_path / "sim")], check=True, capture_output=True,
+                         text=True)
+    theirs = []
+    for line in run.stdout.splitlines():
+        m = re.fullmatch(r"(\d+\.\d+) (\w+) ([01xz])", line.strip())
+        if m and float(m.group(1)) >= 20.0:
+            theirs.append((round(float(m.group(1)), 3), m.group(2), int(m.group(3))))
+    # hazlint's timed simulator on the annotated gate graph, the same stimulus
+    events = [(20.0 + 10.0 * k, design.input_node[name], v)
+              for k, (name, v) in enumerate(STIMULUS)]
+    nodes = {design.net_node(w): w for w in WATCH}
+    trace = simulate(design.graph, {design.input_node[i]: 0 for i in ins}, events,
+                     assignment=DelayAssignment(corner=corner, mode="inertial"), watch=nodes)
+    ours = sorted((round(t, 3), nodes[n], v) for n in nodes for t, v in trace.changes(n, 20.0))
+    theirs.sort()
+    assert len(theirs) > 20
+    # the static-1 hazard on valve_enable shows in both: it falls and rises while
+    # guard_closed changes with hands and maint_key at 1
+    assert sum(1 for _, w, v in theirs if w == "valve_enable") >= 4
+    assert ours == theirs

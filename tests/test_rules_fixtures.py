@@ -1,0 +1,134 @@
+"""Each rule on its Verilog fixtures (real front end and flattener), with the exact findings
+expected, and the external checks on benchmark netlists."""
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import pytest
+
+from hazlint.api import lint
+from hazlint.config import Config, config_from_table, load_config
+from hazlint.diagnostics import Severity
+
+HERE = Path(__file__).resolve().parent
+RULES = HERE.parent / "fixtures" / "rules"
+DEMO = HERE.parent / "fixtures" / "demo"
+
+
+def findings(result):
+    return sorted((os.path.basename(d.path), d.line, d.rule, d.kind) for d in result.diagnostics)
+
+
+def lint_fixture(name, **kw):
+    return lint([str(RULES / name)], config=Config(root=str(RULES)), cwd=str(RULES),
+                prove=False, **kw)
+
+
+EXPECTED = {
+    "loop_hier.v": [("loop_hier.v", 7, "comb-loop", "combinational-loop")],
+    "latch_pair.v": [("latch_pair.v", 5, "comb-loop", "combinational-loop")],
+    "reconv_skew.v": [("reconv_skew.v", 4, "async-from-logic", "unregistered-async"),
+                      ("reconv_skew.v", 9, "skewed-reconvergence", "unbalanced-reconvergence")],
+    "reconv_balanced.v": [],
+    "async_reset_logic.v": [("async_reset_logic.v", 8, "async-from-logic", "unregistered-async")],
+    "clock_gated.v": [("clock_gated.v", 8, "async-from-logic", "unregistered-async")],
+    "reset_registered.v": [],
+    "clock_static_enable.v": [],
+}
+
+
+@pytest.mark.parametrize("name", sorted(EXPECTED))
+def test_fixture_findings(name):
+    assert findings(lint_fixture(name)) == EXPECTED[name]
+
+
+def test_loop_evidence_crosses_the_module_boundary():
+    (d,) = lint_fixture("loop_hier.v").diagnostics
+    hops = d.flows[0]
+    assert {h.instance for h in hops} >= {"loop_hier.g_and", "loop_hier.u_inv.g_not"}
+    assert [h.location.line for h in hops[:-1]] in ([7, 14], [14, 7])
+
+
+def test_storage_pair_is_info_and_does_not_fail_the_run():
+    r = lint_fixture("latch_pair.v")
+    (d,) = r.diagnostics
+    assert d.severity == Severity.INFO and d.evidence["storage_element"] == "nor"
+    assert r.exit_code() == 0 and r.exit_code("info") == 1
+
+
+def test_waiver_comment_and_stale_waiver():
+    r = lint_fixture("waived.v")
+    assert findings(r) == [("waived.v", 8, "unused-waiver", "waiver-unused")]
+    (w,) = r.waived
+    assert w.rule == "comb-loop" and w.waived.startswith("set/reset storage pair")
+    assert r.counts["waived"] == 1
+
+
+def test_demo_shows_each_rule_and_the_corrected_version_is_clean():
+    r = lint(config=load_config(DEMO), cwd=str(DEMO), prove=False)
+    assert findings(r) == [
+        ("fault_latch.v", 11, "async-from-logic", "unregistered-async"),
+        ("press_top.v", 6, "async-from-logic", "unregistered-async"),
+        ("press_top.v", 18, "skewed-reconvergence", "unbalanced-reconvergence"),
+        ("press_top.v", 28, "comb-loop", "combinational-loop"),
+    ]
+    rec = next(d for d in r.diagnostics if d.rule == "skewed-reconvergence")
+    assert r.design.graph.nodes[rec.evidence["stem_node"]].get("port") == "maint_key"
+    fixed = lint(config=load_config(DEMO / "fixed"), cwd=str(DEMO / "fixed"), prove=False)
+    assert fixed.diagnostics == [] and fixed.exit_code() == 0
+
+
+# ---- external references -----------------------------------------------------------------------
+
+def _netlist(name):
+    import importlib.resources
+    return str(importlib.resources.files("circuitgraph") / "netlists" / name)
+
+
+@pytest.mark.parametrize("name", ["c17.v", "c432.v", "c880.v", "c1908.v"])
+def test_iscas85_is_loop_free(name):
+    # ISCAS-85 circuits are combinational and loop-free (Brglez & Fujiwara 1985)
+    r = lint([_netlist(name)], config=Config(root=str(HERE)), cwd=str(HERE),
+             select=["comb-loop"], prove=False)
+    assert r.design.summary()["gates"] > 0
+    assert r.diagnostics == []
+
+
+S27_CELLS = {"ff": {"inputs": ["CK", "D"], "outputs": {"Q": "IQ"},
+                    "ff": {"clocked_on": "CK", "next_state": "D"}}}
+
+
+def test_iscas89_s27_registers_break_every_loop():
+    # ISCAS-89 s27 has feedback only through its three flip-flops (Brglez, Bryan & Kozminski
+    # 1989); with the ff cell declared as a register the loop rule finds nothing, and without
+    # it the flip-flops are black boxes, which also cut the graph
+    cfg = config_from_table({"cells": S27_CELLS}, None)
+    r = lint([_netlist("s27.v")], config=cfg, cwd=str(HERE), select=["comb-loop"], prove=False)
+    assert len([x for x in r.design.registers if x.kind == "ff"]) == 3
+    assert r.diagnostics == []
+    # the same netlist with one register replaced by a buffer has a real loop
+    text = Path(_netlist("s27.v")).read_text()
+    assert "ff DFF_1_Q_reg(.CK (clk), .D (n_21), .Q (G6));" in text
+    looped = text.replace("ff DFF_1_Q_reg(.CK (clk), .D (n_21), .Q (G6));", "buf b1 (G6, n_21);")
+    r2 = lint([_netlist("s27.v")], config=cfg, cwd=str(HERE), select=["comb-loop"],
+              prove=False, texts={_netlist("s27.v"): looped})
+    assert [d.kind for d in r2.diagnostics] == ["combinational-loop"]
+
+
+@pytest.mark.slow
+def test_c6288_reconvergence_evidence_is_consistent():
+    # c6288 is a 16x16 array multiplier (Brglez & Fujiwara 1985; Hansen, Yalcin & Hayes 1999)
+    # with an astronomically large number of paths: the DP must not enumerate them. Every
+    # reported path must be a real path of the graph whose delays add up to its arrival.
+    r = lint([_netlist("c6288.v")], config=Config(root=str(HERE)), cwd=str(HERE),
+             select=["skewed-reconvergence"], prove=False)
+    g = r.design.graph
+    assert len(r.diagnostics) > 100
+    for d in r.diagnostics[:: max(1, len(r.diagnostics) // 200)]:
+        ev = d.evidence
+        for path, flow in ((ev["fast_path"], d.flows[0]), (ev["slow_path"], d.flows[1])):
+            assert path[0] == ev["stem_node"] and path[-1] == ev["reconvergence_node"]
+            assert all(g.has_edge(u, v) for u, v in zip(path, path[1:]))
+            assert flow[-1].arrival == sum(h.delay for h in flow)
+        assert ev["skew"] == ev["slow_arrival"] - ev["fast_arrival"] > 0
