@@ -1,0 +1,302 @@
+"""The hazlint language server (LSP over stdio, built on pygls 2.x).
+
+Diagnostics are published when a document is opened or saved, and after a pause in typing
+(``debounce`` seconds after the last ``didChange``). The design is loaded the way the command
+line loads it: configuration is discovered from the document's folder upwards (so a project's
+configuration file, its file list and top module apply); without a configuration the document
+is linted on its own. The text of every open document is used in place of the file on disk, so
+unsaved edits count. Each published diagnostic carries its evidence (the fanout stem, the gates
+along the reconvergent paths, the loop) as ``relatedInformation``.
+
+Linting runs in a worker thread, one run at a time; the result is published from the event loop.
+A run superseded by a newer edit of the same document is dropped instead of published.
+"""
+from __future__ import annotations
+
+import asyncio
+import logging
+import os
+import threading
+from typing import Any, Iterable
+
+from lsprotocol import types
+from pygls.lsp.server import LanguageServer
+from pygls.uris import from_fs_path, to_fs_path
+
+from . import __version__
+from .diagnostics import Diagnostic, Severity
+from .errors import HazlintError
+
+log = logging.getLogger("hazlint.lsp")
+
+SOURCE = "hazlint"
+VERILOG_SUFFIXES = (".v", ".vh", ".vg", ".verilog", ".vlib", ".sv", ".svh")
+_SEVERITY = {Severity.ERROR: types.DiagnosticSeverity.Error,
+             Severity.WARNING: types.DiagnosticSeverity.Warning,
+             Severity.INFO: types.DiagnosticSeverity.Information}
+
+
+def _norm(path: str) -> str:
+    return os.path.normcase(os.path.realpath(path))
+
+
+# ---------------------------------------------------------------------------------------------
+# linting a document (pure: no protocol objects involved until the conversion below)
+
+
+def lint_document(path: str, texts: dict[str, str],
+                  workspace_root: str | None = None) -> tuple[list[Diagnostic], str | None, Any]:
+    """Lint the design containing ``path``; returns (findings, root, error).
+
+    ``texts`` maps absolute paths of open documents to their current text. ``error`` is a
+    :class:`HazlintError` when the design could not be loaded (syntax error while typing), else
+    None.
+    """
+    from .api import lint
+    folder = os.path.dirname(os.path.abspath(path))
+    try:
+        result = _lint_with_config(lint, path, folder, texts, workspace_root)
+    except HazlintError as exc:
+        return [], None, exc
+    return list(getattr(result, "diagnostics", ()) or ()), getattr(result, "root", None), None
+
+
+def _lint_with_config(lint, path, folder, texts, workspace_root):
+    """Same discovery as the CLI: configuration from the document's folder upwards. When the
+    configuration names the design's files, load that design and keep the findings touching
+    this document; otherwise lint the document alone."""
+    config = _discover_config(folder, workspace_root)
+    if config is not None and _config_files(config):
+        result = lint(None, config=config, cwd=folder, texts=texts, changed=[path])
+        files = {_norm(_abs(f, getattr(result, "root", None) or folder))
+                 for f in _result_files(result)}
+        if not files or _norm(path) in files:
+            return result
+    return lint([path], config=config, cwd=folder, texts=texts)
+
+
+def _discover_config(folder: str, workspace_root: str | None):
+    """The configuration the CLI would use when run from the document's folder. A broken
+    configuration file is reported like any input error."""
+    from .config import find_config, load_config
+    if find_config(folder) is None and workspace_root and find_config(workspace_root):
+        return load_config(workspace_root)
+    return load_config(folder)
+
+
+def _config_files(config) -> list:
+    files = config.get("files") if isinstance(config, dict) else getattr(config, "files", None)
+    return list(files or [])
+
+
+def _result_files(result) -> list:
+    design = getattr(result, "design", None)
+    return list(getattr(design, "files", None) or [])
+
+
+def _abs(p: str, root: str) -> str:
+    return p if os.path.isabs(p) else os.path.join(root, p)
+
+
+def _line_text(text: str | None, line0: int) -> str:
+    if text is None:
+        return ""
+    lines = text.splitlines()
+    return lines[line0] if 0 <= line0 < len(lines) else ""
+
+
+def _range(line: int, column: int, text: str | None) -> types.Range:
+    """From the reported column to the end of the line's text (the gate or statement)."""
+    l0 = max(0, (line or 1) - 1)
+    c0 = max(0, (column or 1) - 1)
+    content = _line_text(text, l0)
+    end = len(content.rstrip())
+    if end <= c0:
+        end = c0 + 1
+    return types.Range(start=types.Position(line=l0, character=c0),
+                       end=types.Position(line=l0, character=end))
+
+
+def _location(path: str, line: int, column: int, root: str | None, texts: dict[str, str]):
+    ap = _abs(path, root or os.getcwd())
+    text = texts.get(ap)
+    if text is None:
+        try:
+            with open(ap, encoding="utf-8", errors="replace") as fh:
+                text = fh.read()
+        except OSError:
+            text = None
+    return types.Location(uri=from_fs_path(ap), range=_range(line, column, text))
+
+
+def to_lsp(d: Diagnostic, text: str | None, root: str | None,
+           texts: dict[str, str]) -> types.Diagnostic:
+    related: list[types.DiagnosticRelatedInformation] = []
+    for r in d.related:
+        if r.location.path:
+            related.append(types.DiagnosticRelatedInformation(
+                location=_location(r.location.path, r.location.line, r.location.column, root,
+                                   texts),
+                message=r.message))
+    for i, flow in enumerate(d.flows):
+        label = "loop" if d.kind in ("combinational-loop", "oscillation") else f"path {i + 1}"
+        for h in flow:
+            if h.location is None or not h.location.path:
+                continue
+            related.append(types.DiagnosticRelatedInformation(
+                location=_location(h.location.path, h.location.line, h.location.column, root,
+                                   texts),
+                message=f"{label}: {h.describe()}"))
+    message = d.message
+    if d.fix:
+        message += f"\nfix: {d.fix}"
+    return types.Diagnostic(
+        range=_range(d.line, d.column, text), message=message,
+        severity=_SEVERITY.get(d.severity, types.DiagnosticSeverity.Warning),
+        code=d.rule, source=SOURCE,
+        related_information=related or None,
+        data={"kind": d.kind, "instance": d.instance})
+
+
+def error_to_lsp(exc: HazlintError, text: str | None) -> types.Diagnostic:
+    return types.Diagnostic(range=_range(exc.line or 1, exc.column or 1, text),
+                            message=exc.message, severity=types.DiagnosticSeverity.Error,
+                            source=SOURCE, code="input-error")
+
+
+def diagnostics_by_document(path: str, diags: Iterable[Diagnostic], root: str | None, error,
+                            texts: dict[str, str]) -> dict[str, list[types.Diagnostic]]:
+    """LSP diagnostics for every open document (and ``path``) from one lint run."""
+    want = {_norm(p): p for p in texts}
+    want.setdefault(_norm(path), path)
+    out: dict[str, list[types.Diagnostic]] = {p: [] for p in want.values()}
+    if error is not None:
+        epath = error.path and _norm(_abs(error.path, root or os.path.dirname(path)))
+        target = want.get(epath) if epath else None
+        target = target or path
+        # an error elsewhere in the design is shown on this document's first line
+        e = error if target != path or epath == _norm(path) else HazlintError(
+            str(error), line=1)
+        out[target] = [error_to_lsp(e, texts.get(target))]
+        return out
+    for d in diags:
+        if not d.location.path:
+            continue
+        key = _norm(_abs(d.location.path, root or os.path.dirname(path)))
+        if key in want:
+            p = want[key]
+            out[p].append(to_lsp(d, texts.get(p), root, texts))
+    return out
+
+
+# ---------------------------------------------------------------------------------------------
+# the server
+
+
+class HazlintServer(LanguageServer):
+    def __init__(self, debounce: float = 0.4):
+        super().__init__("hazlint", __version__,
+                         text_document_sync_kind=types.TextDocumentSyncKind.Incremental)
+        self.debounce = debounce
+        self.generation: dict[str, int] = {}       # uri -> edit counter
+        self.pending: dict[str, asyncio.TimerHandle] = {}
+        self._lint_lock = threading.Lock()
+
+    # paths and texts of the open documents
+    def open_texts(self) -> dict[str, str]:
+        texts = {}
+        for uri, doc in self.workspace.text_documents.items():
+            p = to_fs_path(uri)
+            if p:
+                texts[os.path.abspath(p)] = doc.source
+        return texts
+
+    def workspace_root(self) -> str | None:
+        try:
+            return self.workspace.root_path
+        except Exception:
+            return None
+
+    def _lint_blocking(self, path: str, texts: dict[str, str]):
+        with self._lint_lock:
+            return lint_document(path, texts, self.workspace_root())
+
+    async def lint_and_publish(self, uri: str) -> None:
+        path = to_fs_path(uri)
+        if not path:
+            return
+        path = os.path.abspath(path)
+        gen = self.generation.get(uri, 0)
+        texts = self.open_texts()
+        loop = asyncio.get_running_loop()
+        try:
+            diags, root, error = await loop.run_in_executor(None, self._lint_blocking, path,
+                                                            texts)
+        except Exception as exc:   # a bug must not take the editor session down
+            log.exception("lint failed")
+            self.window_log_message(types.LogMessageParams(
+                type=types.MessageType.Error, message=f"hazlint: internal error: {exc}"))
+            return
+        if self.generation.get(uri, 0) != gen:
+            return                 # the document changed meanwhile; a newer run will publish
+        by_doc = diagnostics_by_document(path, diags, root, error, texts)
+        for p, items in by_doc.items():
+            doc_uri = from_fs_path(p)
+            version = None
+            if doc_uri in self.workspace.text_documents:
+                version = self.workspace.get_text_document(doc_uri).version
+            self.text_document_publish_diagnostics(types.PublishDiagnosticsParams(
+                uri=doc_uri, diagnostics=items, version=version))
+
+    def schedule(self, uri: str, delay: float) -> None:
+        self.generation[uri] = self.generation.get(uri, 0) + 1
+        old = self.pending.pop(uri, None)
+        if old is not None:
+            old.cancel()
+        loop = asyncio.get_running_loop()
+
+        def fire():
+            self.pending.pop(uri, None)
+            asyncio.ensure_future(self.lint_and_publish(uri))
+
+        if delay <= 0:
+            fire()
+        else:
+            self.pending[uri] = loop.call_later(delay, fire)
+
+
+def _wanted(uri: str) -> bool:
+    p = to_fs_path(uri) or ""
+    return p.lower().endswith(VERILOG_SUFFIXES)
+
+
+def create_server(debounce: float = 0.4) -> HazlintServer:
+    server = HazlintServer(debounce=debounce)
+
+    @server.feature(types.TEXT_DOCUMENT_DID_OPEN)
+    async def did_open(ls: HazlintServer, params: types.DidOpenTextDocumentParams):
+        if _wanted(params.text_document.uri):
+            ls.schedule(params.text_document.uri, 0)
+
+    @server.feature(types.TEXT_DOCUMENT_DID_SAVE,
+                    types.TextDocumentSaveRegistrationOptions(include_text=False))
+    async def did_save(ls: HazlintServer, params: types.DidSaveTextDocumentParams):
+        if _wanted(params.text_document.uri):
+            ls.schedule(params.text_document.uri, 0)
+
+    @server.feature(types.TEXT_DOCUMENT_DID_CHANGE)
+    async def did_change(ls: HazlintServer, params: types.DidChangeTextDocumentParams):
+        if _wanted(params.text_document.uri):
+            ls.schedule(params.text_document.uri, ls.debounce)
+
+    @server.feature(types.TEXT_DOCUMENT_DID_CLOSE)
+    async def did_close(ls: HazlintServer, params: types.DidCloseTextDocumentParams):
+        uri = params.text_document.uri
+        ls.generation[uri] = ls.generation.get(uri, 0) + 1
+        old = ls.pending.pop(uri, None)
+        if old is not None:
+            old.cancel()
+        ls.text_document_publish_diagnostics(types.PublishDiagnosticsParams(uri=uri,
+                                                                           diagnostics=[]))
+
+    return server

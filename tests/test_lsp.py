@@ -1,0 +1,213 @@
+"""The language server, spoken to over stdio by a real subprocess (``hazlint lsp``).
+
+The client below frames JSON-RPC messages with Content-Length headers itself (LSP base
+protocol), so nothing of pygls is used on the client side.
+"""
+from __future__ import annotations
+
+import json
+import os
+import queue
+import subprocess
+import sys
+import threading
+from pathlib import Path
+
+import pytest
+
+HAZARD = """\
+module press_valve(input guard_closed, input two_hand, input maint_key, output valve_enable);
+  wire n_guard, run, bypass;
+  not g_inv (n_guard, guard_closed);
+  and g_run (run, two_hand, guard_closed);
+  and g_byp (bypass, maint_key, n_guard);
+  or  g_out (valve_enable, run, bypass);
+endmodule
+"""
+# guard_closed fans out at line 3/4 and reconverges one gate apart at g_out (line 6): the
+# reconvergence rule documents that it reports at the reconvergence gate.
+HAZARD_LINE = 6
+
+FIXED = """\
+module press_valve(input guard_closed, input two_hand, input maint_key, output valve_enable);
+  wire run;
+  and g_run (run, two_hand, guard_closed);
+  and g_out (valve_enable, run, maint_key);
+endmodule
+"""
+
+LOOP = """\
+module press_valve(input guard_closed, input two_hand, output valve_enable);
+  wire n1, n2;
+  nand g1 (n1, guard_closed, n2);
+  and  g2 (n2, n1, two_hand);
+  assign valve_enable = n2;
+endmodule
+"""
+LOOP_LINE = 3   # the loop rule reports at the loop's first gate in source order
+
+
+class Client:
+    """A minimal LSP client over the server's stdin/stdout."""
+
+    def __init__(self, cwd: Path):
+        env = dict(os.environ, HAZLINT_CACHE_DIR=str(cwd / ".cache"))
+        self.proc = subprocess.Popen(
+            [sys.executable, "-m", "hazlint.cli", "lsp", "--debounce", "0.2"], cwd=cwd,
+            stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
+        self.inbox: queue.Queue = queue.Queue()
+        self.next_id = 0
+        self.stderr: list[bytes] = []
+        threading.Thread(target=self._read, daemon=True).start()
+        threading.Thread(target=lambda: self.stderr.extend(self.proc.stderr), daemon=True).start()
+
+    def _read(self):
+        out = self.proc.stdout
+        while True:
+            headers = {}
+            while True:
+                line = out.readline()
+                if not line:
+                    self.inbox.put(None)
+                    return
+                line = line.strip()
+                if not line:
+                    break
+                k, _, v = line.decode("ascii").partition(":")
+                headers[k.strip().lower()] = v.strip()
+            body = out.read(int(headers["content-length"]))
+            self.inbox.put(json.loads(body))
+
+    def send(self, msg: dict):
+        body = json.dumps(dict(msg, jsonrpc="2.0")).encode("utf-8")
+        self.proc.stdin.write(b"Content-Length: %d\r\n\r\n" % len(body) + body)
+        self.proc.stdin.flush()
+
+    def notify(self, method, params):
+        self.send({"method": method, "params": params})
+
+    def request(self, method, params):
+        self.next_id += 1
+        self.send({"id": self.next_id, "method": method, "params": params})
+        return self.wait(lambda m: m.get("id") == self.next_id and "method" not in m)
+
+    def wait(self, pred, timeout=120):
+        # a generous timeout only guards against a hung server; nothing is timed
+        while True:
+            try:
+                m = self.inbox.get(timeout=timeout)
+            except queue.Empty:
+                raise AssertionError("no message from the server; stderr:\n"
+                                     + b"".join(self.stderr).decode(errors="replace"))
+            if m is None:
+                raise AssertionError("server closed its output; stderr:\n"
+                                     + b"".join(self.stderr).decode(errors="replace"))
+            if m.get("method") == "window/logMessage" and m["params"].get("type") == 1:
+                raise AssertionError(m["params"]["message"])
+            if pred(m):
+                return m
+
+    def diagnostics(self, uri, version=None):
+        return self.wait(lambda m: m.get("method") == "textDocument/publishDiagnostics"
+                         and m["params"]["uri"] == uri
+                         and (version is None or m["params"].get("version") == version)
+                         )["params"]["diagnostics"]
+
+    def close(self):
+        try:
+            self.proc.stdin.close()
+        except OSError:
+            pass
+        try:
+            self.proc.wait(timeout=30)
+        except subprocess.TimeoutExpired:
+            self.proc.kill()
+            self.proc.wait()
+
+
+def start(tmp_path, root_uri):
+    c = Client(tmp_path)
+    init = c.request("initialize", {"processId": os.getpid(), "rootUri": root_uri,
+                                    "capabilities": {}, "workspaceFolders": None})
+    caps = init["result"]["capabilities"]
+    assert caps["textDocumentSync"]["openClose"] is True
+    assert init["result"]["serverInfo"]["name"] == "hazlint"
+    c.notify("initialized", {})
+    return c
+
+
+def shutdown(c):
+    reply = c.request("shutdown", None)
+    assert reply.get("result") is None and "error" not in reply
+    c.notify("exit", None)
+    c.proc.stdin.close()
+    assert c.proc.wait(timeout=30) == 0
+
+
+@pytest.mark.slow
+def test_open_change_fix_shutdown(tmp_path):
+    rtl = tmp_path / "rtl"
+    rtl.mkdir()
+    # a project configuration the CLI would use: the LSP must discover it from the document
+    (tmp_path / "hazlint.toml").write_text('files = ["rtl/*.v"]\ntop = "press_valve"\n')
+    doc = rtl / "press_valve.v"
+    doc.write_text(HAZARD)
+    uri = doc.as_uri()
+    c = start(tmp_path, tmp_path.as_uri())
+    try:
+        c.notify("textDocument/didOpen", {"textDocument": {
+            "uri": uri, "languageId": "verilog", "version": 1, "text": HAZARD}})
+        diags = c.diagnostics(uri, 1)
+        assert diags, "expected the reconvergent-fanout finding"
+        hz = [d for d in diags if d["code"] == "skewed-reconvergence"]
+        assert len(hz) == 1
+        assert hz[0]["range"]["start"]["line"] == HAZARD_LINE - 1      # LSP lines are 0-based
+        assert hz[0]["source"] == "hazlint"
+        # evidence as related information, pointing into the same document
+        rel = hz[0].get("relatedInformation") or []
+        assert rel and all(r["location"]["uri"] == uri for r in rel)
+        rel_lines = {r["location"]["range"]["start"]["line"] for r in rel}
+        assert {2, 3, 4} & rel_lines                 # the gates on the branches (lines 3-5)
+
+        # the editor buffer changes (not saved): the fixed text must be linted, not the file
+        c.notify("textDocument/didChange", {
+            "textDocument": {"uri": uri, "version": 2},
+            "contentChanges": [{"text": FIXED}]})
+        assert c.diagnostics(uri, 2) == []
+
+        # typing a loop into the buffer; a burst of changes is linted once after the pause
+        half = LOOP[: len(LOOP) // 2]
+        c.notify("textDocument/didChange", {"textDocument": {"uri": uri, "version": 3},
+                                            "contentChanges": [{"text": half}]})
+        c.notify("textDocument/didChange", {"textDocument": {"uri": uri, "version": 4},
+                                            "contentChanges": [{"text": LOOP}]})
+        diags = c.diagnostics(uri, 4)
+        loops = [d for d in diags if d["code"] == "comb-loop"]
+        assert loops and loops[0]["range"]["start"]["line"] == LOOP_LINE - 1
+
+        # saved with the fixed text: the diagnostics go away again
+        doc.write_text(FIXED)
+        c.notify("textDocument/didChange", {"textDocument": {"uri": uri, "version": 5},
+                                            "contentChanges": [{"text": FIXED}]})
+        c.notify("textDocument/didSave", {"textDocument": {"uri": uri}})
+        assert c.diagnostics(uri, 5) == []
+        shutdown(c)
+    finally:
+        c.close()
+
+
+@pytest.mark.slow
+def test_syntax_error_is_a_diagnostic_not_a_crash(tmp_path):
+    doc = tmp_path / "broken.v"
+    text = "module m(input a, output y);\n  and g1 (y, a\nendmodule\n"
+    doc.write_text(text)
+    c = start(tmp_path, tmp_path.as_uri())
+    try:
+        c.notify("textDocument/didOpen", {"textDocument": {
+            "uri": doc.as_uri(), "languageId": "verilog", "version": 1, "text": text}})
+        diags = c.diagnostics(doc.as_uri(), 1)
+        assert len(diags) == 1 and diags[0]["severity"] == 1       # Error
+        assert diags[0]["range"]["start"]["line"] in (1, 2)        # the open gate / endmodule
+        shutdown(c)
+    finally:
+        c.close()
