@@ -400,7 +400,9 @@ def witness_json(graph, c: Classification) -> dict[str, Any]:
     inputs = {net_label(graph, n): v for n, v in sorted(c.before.items())
               if n not in c.changes}
     trans = {net_label(graph, n): [a, b] for n, (a, b) in sorted(c.changes.items())}
-    return {"inputs": inputs, "transition": trans}
+    return {"inputs": inputs, "transition": trans,
+            "before_nodes": dict(sorted(c.before.items())),
+            "after_nodes": dict(sorted(c.after.items()))}
 
 
 def witness_text(graph, c: Classification) -> str:
@@ -608,6 +610,7 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts) -> Diagno
         notes += ["  " + x for x in c.assignment.describe(graph)[1:]]
     if opts["waveforms"] and c.before:
         nets = waveform_nets(graph, c, ev)
+        evidence["waveform_nets"] = nets
         notes += diagram_lines(graph, c, nets)
     sev = Severity.ERROR if sens else Severity.WARNING
     return replace(d, kind=kind, severity=sev, message=msg, evidence=evidence,
