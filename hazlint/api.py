@@ -69,7 +69,7 @@ def _norm(p: str) -> str:
 
 
 def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | None = None,
-         top=None, include_dirs=None, defines=None, use_cache: bool = True):
+         top=None, include_dirs=None, defines=None, use_cache: bool = True, progress=None):
     """Read and elaborate the design with the configured library, then apply SDF."""
     from .frontend.reader import read_sources
     from .flatten import elaborate
@@ -86,6 +86,8 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     if "cache" in params and use_cache:
         from .cache import open_cache
         kwargs["cache"] = open_cache(config.cache_dir)
+    if progress is not None and "progress" in params:
+        kwargs["progress"] = progress
     if texts:
         if "texts" not in params:
             raise HazlintError("this build cannot lint unsaved editor text (the reader takes "
@@ -157,8 +159,8 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
          changed: Iterable[str] | None = None, select: Iterable[str] | None = None,
          ignore: Iterable[str] = (), prove: bool = True, top=None,
          include_dirs: Sequence[str] | None = None, defines: Mapping[str, str] | None = None,
-         baseline: str | None = None, rule_options: Mapping[str, Mapping[str, Any]] | None = None
-         ) -> LintResult:
+         baseline: str | None = None, rule_options: Mapping[str, Mapping[str, Any]] | None = None,
+         use_cache: bool = True, progress=None) -> LintResult:
     """Lint a design. ``files`` default to the configured ones; ``texts`` (path -> text)
     overrides file contents; ``changed`` keeps only findings located in those files or whose
     evidence runs through them; ``select``/``ignore`` add to the configuration's."""
@@ -177,7 +179,7 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
         if not os.path.isfile(p) and not (texts and any(_norm(k) == _norm(p) for k in texts)):
             raise HazlintError(f"file not found: {relpath(p, cwd)}", path=p)
     design = load(paths, config, texts=texts, top=top, include_dirs=include_dirs,
-                  defines=defines)
+                  defines=defines, use_cache=use_cache, progress=progress)
 
     sel = list(select) if select is not None else config.select
     ign = list(config.ignore) + list(ignore)

@@ -176,11 +176,11 @@ class ParseCache:
     def store(self, key: str, data: Mapping[str, Any],
               deps: Iterable[str] | Mapping[str, str] | None = None) -> None:
         """Write one entry atomically. ``deps``: files (or file -> sha256) the entry depends on
-        besides the content in the key; by default the ``includes`` of a cached SourceFile."""
+        besides the content in the key (the reader checks its own include digests, which also
+        cover unsaved editor text, inside ``data``)."""
         if not self.enabled:
             return
-        if deps is None:
-            deps = [p for p in (data.get("includes") or []) if isinstance(p, str)]
+        deps = deps or ()
         if isinstance(deps, Mapping):
             dep_map = {str(k): str(v) for k, v in deps.items()}
         else:

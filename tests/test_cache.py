@@ -52,7 +52,7 @@ def test_included_file_change_invalidates(tmp_path):
     inc.write_text("`define W 4\n")
     c = ParseCache(tmp_path / "c")
     k = make_key("`include \"defs.vh\"")
-    c.store(k, {"path": "a.v", "includes": [str(inc)]})
+    c.store(k, {"path": "a.v"}, deps=[str(inc)])
     assert c.load(k) is not None
     inc.write_text("`define W 8\n")
     assert c.load(k) is None

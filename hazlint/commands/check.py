@@ -49,6 +49,12 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="hide findings recorded in this baseline file")
     p.add_argument("--write-baseline", metavar="FILE",
                    help="record the current findings in FILE and exit 0")
+    p.add_argument("-j", "--jobs", type=int, metavar="N",
+                   help="parse files in N worker processes (configuration 'jobs')")
+    p.add_argument("--cache-dir", metavar="DIR",
+                   help="parse cache folder (configuration 'cache_dir'; default: per-user "
+                        "cache folder, or the HAZLINT_CACHE_DIR environment variable)")
+    p.add_argument("--no-cache", action="store_true", help="neither read nor write the cache")
     p.add_argument("--color", choices=("auto", "always", "never"), default="auto",
                    help="colour the text output (auto: only on a terminal, not with NO_COLOR)")
     p.add_argument("--brief", action="store_true", help="text: no evidence lines")
@@ -94,12 +100,33 @@ def run(args) -> int:
         files = [] if config.files else files
         if not config.files and not changed:
             return EXIT_CLEAN        # nothing staged and no design configured
-    result = lint(files or None, config=config, cwd=cwd, changed=changed,
-                  select=_csv(args.select) or None, ignore=_csv(args.ignore),
-                  prove=not args.no_prove, top=args.top,
-                  include_dirs=([os.path.abspath(d) for d in args.include_dirs]
-                                if args.include_dirs else None),
-                  defines=_defines(args.defines), baseline=args.baseline)
+    if args.jobs is not None:
+        if args.jobs < 1:
+            raise HazlintError(f"--jobs must be at least 1, got {args.jobs}")
+        config.jobs = args.jobs
+    if args.cache_dir:
+        config.cache_dir = os.path.abspath(args.cache_dir)
+    from ..progress import terminal_progress
+    progress = terminal_progress()
+    try:
+        result = _lint(lint, args, files, config, cwd, changed, progress)
+    finally:
+        if progress is not None:
+            progress.close()
+    return _report(args, result, renderer)
+
+
+def _lint(lint, args, files, config, cwd, changed, progress):
+    return lint(files or None, config=config, cwd=cwd, changed=changed,
+                select=_csv(args.select) or None, ignore=_csv(args.ignore),
+                prove=not args.no_prove, top=args.top,
+                include_dirs=([os.path.abspath(d) for d in args.include_dirs]
+                              if args.include_dirs else None),
+                defines=_defines(args.defines), baseline=args.baseline,
+                use_cache=not args.no_cache, progress=progress)
+
+
+def _report(args, result, renderer) -> int:
     if args.write_baseline:
         from ..baseline import write_baseline
         n = write_baseline(args.write_baseline, result.diagnostics, result.root)

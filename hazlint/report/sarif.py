@@ -63,7 +63,7 @@ def rule_descriptor(rule_id: str, rule: Any = None) -> dict:
     if doc:
         doc = str(doc).strip()
         desc["fullDescription"] = {"text": doc.split("\n\n", 1)[0].strip()}
-        desc["help"] = {"text": doc, "markdown": doc}
+        desc["help"] = {"text": doc}
     else:
         desc["help"] = {"text": str(summary).strip() or rule_id}
     if sev is not None:
