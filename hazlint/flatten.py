@@ -1931,3 +1931,47 @@ def elaborate(sources: Sequence[ir.SourceFile], top=None, library=None,
 
 def glob_match(name: str, patterns: Iterable[str]) -> bool:
     return any(fnmatch.fnmatchcase(name, p) for p in patterns)
+
+
+_PREC = {"||": 1, "&&": 2, "|": 3, "^": 4, "~^": 4, "^~": 4, "&": 5, "==": 6, "!=": 6,
+         "===": 6, "!==": 6, "<": 7, "<=": 7, ">": 7, ">=": 7, "<<": 8, ">>": 8, "<<<": 8,
+         ">>>": 8, "+": 9, "-": 9, "*": 10, "/": 10, "%": 10, "**": 11}
+
+
+def _expr_text(e, parent: int = 0) -> str:
+    """An IR expression as Verilog source text (for messages)."""
+    try:
+        tag = e[0]
+        if tag == "id":
+            return e[1]
+        if tag == "num":
+            _, w, v, xz, _s = e
+            return f"{w}'d{v}" if w and not xz else (str(v) if not w else f"{w}'b{v:b}")
+        if tag == "real":
+            return str(e[1])
+        if tag == "str":
+            return f'"{e[1]}"'
+        if tag == "bit":
+            return f"{_expr_text(e[1], 12)}[{_expr_text(e[2])}]"
+        if tag == "part":
+            return f"{_expr_text(e[1], 12)}[{_expr_text(e[2])}:{_expr_text(e[3])}]"
+        if tag == "ipart":
+            return f"{_expr_text(e[1], 12)}[{_expr_text(e[2])}{e[4]}:{_expr_text(e[3])}]"
+        if tag == "concat":
+            return "{" + ", ".join(_expr_text(x) for x in e[1]) + "}"
+        if tag == "repl":
+            return "{" + _expr_text(e[1]) + "{" + ", ".join(_expr_text(x) for x in e[2]) + "}}"
+        if tag == "unop":
+            return f"{e[1]}{_expr_text(e[2], 12)}"
+        if tag == "binop":
+            p = _PREC.get(e[1], 5)
+            s = f"{_expr_text(e[2], p)} {e[1]} {_expr_text(e[3], p + 1)}"
+            return f"({s})" if p < parent else s
+        if tag == "cond":
+            s = f"{_expr_text(e[1], 1)} ? {_expr_text(e[2])} : {_expr_text(e[3])}"
+            return f"({s})" if parent else s
+        if tag == "call":
+            return f"{e[1]}(" + ", ".join(_expr_text(x) for x in e[2]) + ")"
+    except (IndexError, TypeError):
+        pass
+    return str(e)
