@@ -26,6 +26,7 @@ from pygls.uris import from_fs_path, to_fs_path
 from . import __version__
 from .diagnostics import Diagnostic, Severity
 from .errors import HazlintError
+from .report.sarif import _hop_message
 
 log = logging.getLogger("hazlint.lsp")
 
@@ -44,21 +45,24 @@ def _norm(path: str) -> str:
 # linting a document (pure: no protocol objects involved until the conversion below)
 
 
-def lint_document(path: str, texts: dict[str, str],
-                  workspace_root: str | None = None) -> tuple[list[Diagnostic], str | None, Any]:
-    """Lint the design containing ``path``; returns (findings, root, error).
+def lint_document(path: str, texts: dict[str, str], workspace_root: str | None = None
+                  ) -> tuple[list[Diagnostic], str | None, Any, list[str]]:
+    """Lint the design containing ``path``; returns (findings, root, error, files).
 
     ``texts`` maps absolute paths of open documents to their current text. ``error`` is a
     :class:`HazlintError` when the design could not be loaded (syntax error while typing), else
-    None.
+    None. ``files`` are the design's source files (absolute), the documents this run speaks for.
     """
     from .api import lint
     folder = os.path.dirname(os.path.abspath(path))
     try:
         result = _lint_with_config(lint, path, folder, texts, workspace_root)
     except HazlintError as exc:
-        return [], None, exc
-    return list(getattr(result, "diagnostics", ()) or ()), getattr(result, "root", None), None
+        return [], None, exc, [path]
+    root = getattr(result, "root", None) or folder
+    files = [_abs(f, root) for f in
+             list(getattr(result, "files", None) or []) + _result_files(result)]
+    return list(getattr(result, "diagnostics", ()) or ()), root, None, files or [path]
 
 
 def _lint_with_config(lint, path, folder, texts, workspace_root):
@@ -146,7 +150,7 @@ def to_lsp(d: Diagnostic, text: str | None, root: str | None,
             related.append(types.DiagnosticRelatedInformation(
                 location=_location(h.location.path, h.location.line, h.location.column, root,
                                    texts),
-                message=f"{label}: {h.describe()}"))
+                message=f"{label}: {_hop_message(h)}"))
     message = d.message
     if d.fix:
         message += f"\nfix: {d.fix}"
@@ -165,14 +169,18 @@ def error_to_lsp(exc: HazlintError, text: str | None) -> types.Diagnostic:
 
 
 def diagnostics_by_document(path: str, diags: Iterable[Diagnostic], root: str | None, error,
-                            texts: dict[str, str]) -> dict[str, list[types.Diagnostic]]:
-    """LSP diagnostics for every open document (and ``path``) from one lint run."""
-    want = {_norm(p): p for p in texts}
-    want.setdefault(_norm(path), path)
+                            texts: dict[str, str], files: Iterable[str] = ()
+                            ) -> dict[str, list[types.Diagnostic]]:
+    """LSP diagnostics from one lint run for ``path`` and the open documents among ``files``
+    (the run's sources); other open documents keep what they had."""
+    in_run = {_norm(f) for f in files}
+    want = {_norm(p): p for p in texts if _norm(p) in in_run}
+    want[_norm(path)] = path
     out: dict[str, list[types.Diagnostic]] = {p: [] for p in want.values()}
     if error is not None:
         epath = error.path and _norm(_abs(error.path, root or os.path.dirname(path)))
-        target = want.get(epath) if epath else None
+        open_docs = {_norm(p): p for p in texts}
+        target = (want.get(epath) or open_docs.get(epath)) if epath else None
         target = target or path
         # an error elsewhere in the design is shown on this document's first line
         e = error if target != path or epath == _norm(path) else HazlintError(
@@ -230,8 +238,8 @@ class HazlintServer(LanguageServer):
         texts = self.open_texts()
         loop = asyncio.get_running_loop()
         try:
-            diags, root, error = await loop.run_in_executor(None, self._lint_blocking, path,
-                                                            texts)
+            diags, root, error, files = await loop.run_in_executor(
+                None, self._lint_blocking, path, texts)
         except Exception as exc:   # a bug must not take the editor session down
             log.exception("lint failed")
             self.window_log_message(types.LogMessageParams(
@@ -239,7 +247,7 @@ class HazlintServer(LanguageServer):
             return
         if self.generation.get(uri, 0) != gen:
             return                 # the document changed meanwhile; a newer run will publish
-        by_doc = diagnostics_by_document(path, diags, root, error, texts)
+        by_doc = diagnostics_by_document(path, diags, root, error, texts, files)
         for p, items in by_doc.items():
             doc_uri = from_fs_path(p)
             version = None

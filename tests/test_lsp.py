@@ -208,6 +208,16 @@ def test_syntax_error_is_a_diagnostic_not_a_crash(tmp_path):
         diags = c.diagnostics(doc.as_uri(), 1)
         assert len(diags) == 1 and diags[0]["severity"] == 1       # Error
         assert diags[0]["range"]["start"]["line"] in (1, 2)        # the open gate / endmodule
+
+        # a sub-project with its own configuration: the server applies it like the CLI would
+        sub = tmp_path / "sub"
+        sub.mkdir()
+        (sub / "hazlint.toml").write_text('ignore = ["skewed-reconvergence"]\n')
+        other = sub / "valve.v"
+        other.write_text(HAZARD)
+        c.notify("textDocument/didOpen", {"textDocument": {
+            "uri": other.as_uri(), "languageId": "verilog", "version": 1, "text": HAZARD}})
+        assert c.diagnostics(other.as_uri(), 1) == []
         shutdown(c)
     finally:
         c.close()
