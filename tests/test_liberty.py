@@ -127,7 +127,8 @@ def test_unmodelled_cells_are_skipped_with_reason():
         pin (C) { direction : input ; } pin (D) { direction : input ; }
         pin (E) { direction : input ; }
         pin (Q) { direction : output ; function : "IQ & E" ; } }
-      cell (OK) { pin (A) { direction : input ; } pin (Y) { direction : output ; function : "A" ; } }
+      cell (OK) { pin (A) { direction : input ; }
+        pin (Y) { direction : output ; function : "A" ; } }
     """)
     lib = read_liberty("x.lib", text=text)
     assert set(lib.cells) == {"OK"}
@@ -297,7 +298,8 @@ BAD = [
     ('library (t) {\n cell (A) {\n  pin (Y) { direction : output ; function : "Q" ; }\n }\n}\n',
      3, "unknown pin 'Q'"),
     ('library (t) {\n cell (A) { pin (A) { direction : input ; }\n  pin (Y) { direction : output ;'
-     ' function : "A" ;\n   timing () { related_pin : "A" ;\n    cell_rise (nope) { values ("1") ; }'
+     ' function : "A" ;\n   timing () { related_pin : "A" ;\n'
+     '    cell_rise (nope) { values ("1") ; }'
      ' } } }\n}\n', 5, "undefined template 'nope'"),
     ('library (t) {\n lu_table_template (t2) { variable_1 : input_net_transition ;\n'
      '  index_1 ("0.1, 0.2") ; }\n cell (A) { pin (A) { direction : input ; }\n'

@@ -8,10 +8,12 @@ Verilog's ``$sdf_annotate`` (Debian ``iverilog``) for transition times.
 from __future__ import annotations
 
 import glob
+import json
 import os
 import re
 import shutil
 import subprocess
+import sys
 from pathlib import Path
 
 import pytest
@@ -50,29 +52,46 @@ def test_opensta_example_parses():
     assert min(i.line for i in s.interconnects) == 19
 
 
-SDF_TIMING_DATA = None
 try:
-    import sdf_timing  # noqa: F401
-    from sdf_timing import sdfparse
+    import sdf_timing
     SDF_TIMING_DATA = os.path.join(os.path.dirname(sdf_timing.__file__), "tests", "data")
 except ImportError:      # optional: only this cross-check needs it
-    sdfparse = None
+    SDF_TIMING_DATA = None
 
-
-def _theirs(ref):
-    out = set()
+# sdf-timing runs in a fresh interpreter: its ply parser tables clash with pyverilog's once both
+# are loaded in one process (seen here as spurious syntax errors)
+_THEIRS = r"""
+import json, sys
+from sdf_timing import sdfparse
+out = {}
+for f in sys.argv[1:]:
+    ref = sdfparse.parse(open(f).read())
+    rows = []
     for insts in ref.get("cells", {}).values():
         for inst, ents in insts.items():
             for e in ents.values():
                 if e["type"] not in ("iopath", "interconnect"):
                     continue
                 dp = e["delay_paths"]
-                keys = [k for k in ("fast", "nominal", "slow") if k in dp]
                 vals = []
-                for k in keys:
-                    t = tuple(dp[k][m] for m in ("min", "avg", "max"))
-                    vals.append(None if t == (None, None, None) else t)
-                out.add((e["type"], inst, e["from_pin"], e["to_pin"], tuple(vals)))
+                for k in [k for k in ("fast", "nominal", "slow") if k in dp]:
+                    t = [dp[k][m] for m in ("min", "avg", "max")]
+                    vals.append(None if t == [None, None, None] else t)
+                rows.append([e["type"], inst, e["from_pin"], e["to_pin"], vals])
+    out[f] = {"rows": rows, "insts": [i for c in ref.get("cells", {}).values() for i in c if i]}
+print(json.dumps(out))
+"""
+
+
+def _theirs(files):
+    run = subprocess.run([sys.executable, "-c", _THEIRS, *files], check=True,
+                         capture_output=True, text=True)
+    data = json.loads(run.stdout)
+    out = {}
+    for f, d in data.items():
+        rows = {(r[0], r[1], r[2], r[3], tuple(tuple(v) if v else None for v in r[4]))
+                for r in d["rows"]}
+        out[f] = (rows, d["insts"])
     return out
 
 
@@ -100,12 +119,11 @@ def test_values_agree_with_sdf_timing_on_its_own_test_files():
     files = sorted(glob.glob(os.path.join(SDF_TIMING_DATA, "*.sdf")))
     assert len(files) >= 10
     compared = 0
+    reference = _theirs(files)
     for f in files:
-        text = Path(f).read_text()
-        ref = sdfparse.parse(text)
+        rows, insts = reference[f]
         s = parse_sdf(f)
-        insts = [i for cell in ref.get("cells", {}).values() for i in cell if i]
-        theirs = {t if t[0] == "iopath" else ("interconnect", None, *t[2:]) for t in _theirs(ref)}
+        theirs = {t if t[0] == "iopath" else ("interconnect", None, *t[2:]) for t in rows}
         ours = _ours(s, insts)
         if "escaped" in f:      # sdf-timing keeps backslashes; we drop them (IEEE 1497 escapes)
             theirs = {(t[0], t[1], t[2], t[3].replace("\\", ""), t[4]) for t in theirs}
