@@ -67,25 +67,33 @@ class HzLexer(VerilogLexer):
     def __init__(self, error_func=None):
         super().__init__(error_func or self._raise)
         self.attrs_at: dict[int, list] = {}
-        self._pending_attrs: list | None = None
-        self.depth = 0
 
     def build(self, **kwargs):
         self.lexer = lex(object=self, **kwargs)
 
     def input(self, data):
         self.attrs_at = {}
-        self._pending_attrs = None
-        self.depth = 0
         self.lexer.input(data)
         self.lexer.lineno = 1
 
     def token(self):
-        tok = self.lexer.token()
-        if self._pending_attrs is not None and tok is not None:
-            self.attrs_at[tok.lexpos] = self._pending_attrs
-            self._pending_attrs = None
-        return tok
+        return self.lexer.token()
+
+    def check_nesting(self, data: str) -> None:
+        """Refuse bracket nesting deeper than :data:`MAX_NESTING` (quick scan first; comments
+        and strings are only taken out when the quick scan finds deep nesting)."""
+        if _max_depth(data) <= MAX_NESTING:
+            return
+        clean = _COMMENTS_STRINGS.sub(lambda m: re.sub(r"[^\n]", " ", m.group()), data)
+        depth = 0
+        for m in _BRACKETS.finditer(clean):
+            if m.group() in "([{":
+                depth += 1
+                if depth > MAX_NESTING:
+                    raise LexError("brackets nested deeper than %d levels" % MAX_NESTING,
+                                   clean.count("\n", 0, m.start()) + 1, m.start(), m.group())
+            else:
+                depth -= 1
 
     @staticmethod
     def _raise(msg, line, column):  # pragma: no cover - replaced by _fail
@@ -107,10 +115,12 @@ class HzLexer(VerilogLexer):
         r"\(\*(?!\s*\))[\s\S]*?\*\)"
         lineno = t.lexer.lineno
         t.lexer.lineno += t.value.count("\n")
-        entries = _split_attribute(t.value[2:-2])
-        if self._pending_attrs is None:
-            self._pending_attrs = []
-        self._pending_attrs.append((lineno, entries))
+        entries = [(lineno, _split_attribute(t.value[2:-2]))]
+        # key: where the next token starts (after blanks and comments); an attribute right
+        # before this one was keyed at our start, so carry it along
+        end = _SKIP.match(t.lexer.lexdata, t.lexpos + len(t.value)).end()
+        before = self.attrs_at.pop(t.lexpos, None)
+        self.attrs_at[end] = (before or []) + entries
         return None
 
     def t_DIRECTIVE(self, t):
@@ -204,36 +214,6 @@ class HzLexer(VerilogLexer):
             t.type = self.reserved.get(v, "ID")
         return t
 
-    def t_LPAREN(self, t):
-        r"\("
-        self._open(t)
-        return t
-
-    def t_RPAREN(self, t):
-        r"\)"
-        self.depth -= 1
-        return t
-
-    def t_LBRACKET(self, t):
-        r"\["
-        self._open(t)
-        return t
-
-    def t_RBRACKET(self, t):
-        r"\]"
-        self.depth -= 1
-        return t
-
-    def t_LBRACE(self, t):
-        r"\{"
-        self._open(t)
-        return t
-
-    def t_RBRACE(self, t):
-        r"\}"
-        self.depth -= 1
-        return t
-
     def t_NEWLINE(self, t):
         r"\n+"
         t.lexer.lineno += len(t.value)
@@ -242,14 +222,26 @@ class HzLexer(VerilogLexer):
         self._fail("illegal character %r" % t.value[0], t, t.value[0])
 
     # ---------------------------------------------------------------------------------------------
-    def _open(self, t):
-        self.depth += 1
-        if self.depth > MAX_NESTING:
-            self._fail("brackets nested deeper than %d levels" % MAX_NESTING, t, t.value)
-
     def column(self, lexpos: int) -> int:
         data = self.lexer.lexdata
         return lexpos - (data.rfind("\n", 0, lexpos) + 1) + 1
+
+
+_SKIP = re.compile(r"(?:\s+|//[^\n]*|/\*[\s\S]*?\*/)*")
+_BRACKETS = re.compile(r"[()\[\]{}]")
+_COMMENTS_STRINGS = re.compile(r'//[^\n]*|/\*[\s\S]*?\*/|"(?:[^"\\\n]|\\.)*"')
+
+
+def _max_depth(data: str) -> int:
+    depth = best = 0
+    for ch in _BRACKETS.findall(data):
+        if ch in "([{":
+            depth += 1
+            if depth > best:
+                best = depth
+        else:
+            depth -= 1
+    return best
 
 
 _ATTR_ITEM = re.compile(r"\s*([A-Za-z_][A-Za-z_0-9$]*)\s*(?:=\s*(.*?))?\s*$", re.S)

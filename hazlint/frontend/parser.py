@@ -297,9 +297,11 @@ class HzParser(VerilogParser):
 
     # ------------------------------------------------------------------ parsing
     def parse(self, text, debug=0):
-        self._last_tok = None
         try:
-            return self.parser.parse(text, lexer=self.lexer, debug=debug)
+            self.lexer.check_nesting(text)
+            self.lexer.input(text)
+            # the ply lexer itself goes to the LR driver: no wrapper call per token
+            return self.parser.parse(None, lexer=self.lexer.lexer, debug=debug)
         except LexError as exc:
             raise SyntaxErr(exc.message, exc.lineno, exc.lexpos, exc.construct) from None
         except vparser.ParseError as exc:

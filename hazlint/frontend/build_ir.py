@@ -1,0 +1,632 @@
+"""AST -> IR: turn the parser's output into :mod:`hazlint.frontend.ir` objects.
+
+Locations go through the preprocessor's line map to the original ``file:line``; columns come
+from token positions (1 when unknown). Attributes found by the lexer are attached to the
+construct that starts right after them. Expression nesting is limited
+(:data:`MAX_EXPR_DEPTH`) so a pathological input gives a :class:`~hazlint.errors.ParseError`.
+"""
+from __future__ import annotations
+
+import re
+
+from pyverilog.vparser import ast as va
+
+from ..errors import ParseError
+from . import ir
+from . import parser as hp
+
+MAX_EXPR_DEPTH = 500
+
+# built-in gate primitives (IEEE 1364 gate types): a positional #(...) on these is a delay
+GATE_PRIMITIVES = frozenset((
+    "and", "nand", "or", "nor", "xor", "xnor", "buf", "not", "bufif0", "bufif1", "notif0",
+    "notif1", "nmos", "pmos", "rnmos", "rpmos", "cmos", "rcmos", "tran", "rtran", "tranif0",
+    "tranif1", "rtranif0", "rtranif1", "pullup", "pulldown"))
+
+_UNOPS = {va.Uminus: "-", va.Uplus: "+", va.Ulnot: "!", va.Unot: "~", va.Uand: "&",
+          va.Unand: "~&", va.Uor: "|", va.Unor: "~|", va.Uxor: "^", va.Uxnor: "~^"}
+_BINOPS = {va.Power: "**", va.Times: "*", va.Divide: "/", va.Mod: "%", va.Plus: "+",
+           va.Minus: "-", va.Sll: "<<", va.Srl: ">>", va.Sla: "<<<", va.Sra: ">>>",
+           va.LessThan: "<", va.GreaterThan: ">", va.LessEq: "<=", va.GreaterEq: ">=",
+           va.Eq: "==", va.NotEq: "!=", va.Eql: "===", va.NotEql: "!==", va.And: "&",
+           va.Xor: "^", va.Xnor: "~^", va.Or: "|", va.Land: "&&", va.Lor: "||"}
+_ALWAYS_KIND = {va.AlwaysFF: "always_ff", va.AlwaysComb: "always_comb",
+                va.AlwaysLatch: "always_latch", va.Always: "always"}
+_CASE_KIND = {va.CasexStatement: "casex", va.CasezStatement: "casez",
+              va.UniqueCaseStatement: "case", va.CaseStatement: "case"}
+
+_NUMBER = re.compile(r"(\d*)\s*'([sS]?)([bBoOdDhH])\s*([0-9a-fA-FxXzZ?_]+)$")
+_BITS = {"b": 1, "o": 3, "h": 4}
+
+
+def parse_number(text: str):
+    """Verilog integer literal -> ``("num", width, value, xz, signed)`` (see ir.py)."""
+    t = text.replace("_", "")
+    if t.isdigit():
+        return ("num", None, int(t), 0, True)
+    m = _NUMBER.match(t)
+    if not m:
+        raise ValueError(text)
+    size, signed, base, digits = m.group(1), bool(m.group(2)), m.group(3).lower(), m.group(4)
+    width = int(size) if size else None
+    value = xz = 0
+    if base == "d":
+        low = digits.lower()
+        if low in ("x", "z", "?"):
+            w = width or 32
+            xz = (1 << w) - 1
+            value = 0 if low == "x" else xz
+        else:
+            value = int(digits)
+    else:
+        bits = _BITS[base]
+        full = (1 << bits) - 1
+        for ch in digits.lower():
+            value <<= bits
+            xz <<= bits
+            if ch == "x":
+                xz |= full
+            elif ch in "z?":
+                xz |= full
+                value |= full
+            else:
+                value |= int(ch, 16)
+        nbits = bits * len(digits)
+        first = digits[0].lower()
+        if width is not None and width > nbits and first in "xz?":
+            ext = ((1 << width) - 1) ^ ((1 << nbits) - 1)   # extend with x / z
+            xz |= ext
+            if first != "x":
+                value |= ext
+    if width is not None:
+        mask = (1 << width) - 1
+        value &= mask
+        xz &= mask
+    return ("num", width, value, xz, signed)
+
+
+def attr_value(text):
+    """Attribute value text -> Python value: None (bare flag), int, or str."""
+    if text is None:
+        return None
+    t = text.strip()
+    if len(t) >= 2 and t[0] == '"' and t[-1] == '"':
+        return t[1:-1]
+    try:
+        n = parse_number(t)
+        if n[3] == 0:
+            return n[2]
+    except ValueError:
+        pass
+    return t
+
+
+class Builder:
+    def __init__(self, path: str, pre, lexer):
+        self.path = path
+        self.pre = pre
+        self.lmap = pre.line_map
+        self.text = lexer.lexer.lexdata
+        self.attrs_at = lexer.attrs_at
+        self.notes: list = []
+
+    # ------------------------------------------------------------------ locations
+    def loc(self, lineno, pos=None) -> ir.Loc:
+        p, line = self.lmap.lookup(lineno or 1)
+        col = 1
+        if pos is not None:
+            col = pos - (self.text.rfind("\n", 0, pos) + 1) + 1
+        return ir.Loc(p, line, col)
+
+    def attrs(self, pos) -> dict:
+        if pos is None:
+            return {}
+        found = self.attrs_at.get(pos)
+        if not found:
+            return {}
+        out = {}
+        for _line, entries in found:
+            for name, value in entries:
+                if name is None:
+                    continue
+                out[name] = attr_value(value)
+        return out
+
+    def error(self, message, lineno, construct=None):
+        p, line = self.lmap.lookup(lineno or 1)
+        raise ParseError(message, path=p, line=line, construct=construct)
+
+    # ------------------------------------------------------------------ expressions
+    def expr(self, n, depth=0):
+        if n is None:
+            return None
+        if depth > MAX_EXPR_DEPTH:
+            self.error(f"expression nested deeper than {MAX_EXPR_DEPTH} levels",
+                       getattr(n, "lineno", 0), "expression")
+        t = type(n)
+        d = depth + 1
+        if t is va.Identifier:
+            if n.scope is not None:
+                return ("id", self._scoped(n))
+            return ("id", n.name)
+        if t is va.IntConst:
+            try:
+                return parse_number(n.value)
+            except ValueError:
+                self.error("malformed number", n.lineno, n.value)
+        if t is va.Rvalue or t is va.Lvalue:
+            return self.expr(n.var, depth)
+        op = _BINOPS.get(t)
+        if op is not None:
+            return ("binop", op, self.expr(n.left, d), self.expr(n.right, d))
+        op = _UNOPS.get(t)
+        if op is not None:
+            return ("unop", op, self.expr(n.right, d))
+        if t is va.Pointer:
+            return ("bit", self.expr(n.var, d), self.expr(n.ptr, d))
+        if t is va.Partselect:
+            return ("part", self.expr(n.var, d), self.expr(n.msb, d), self.expr(n.lsb, d))
+        if t is hp.IPart:
+            return ("ipart", self.expr(n.var, d), self.expr(n.base, d), self.expr(n.width, d),
+                    n.sign)
+        if t is va.Concat or t is va.LConcat:
+            return ("concat", [self.expr(x, d) for x in n.list])
+        if t is va.Repeat:
+            return ("repl", self.expr(n.times, d), [self.expr(x, d) for x in n.value.list])
+        if t is va.Cond:
+            return ("cond", self.expr(n.cond, d), self.expr(n.true_value, d),
+                    self.expr(n.false_value, d))
+        if t is va.FloatConst:
+            return ("real", float(n.value))
+        if t is va.StringConst:
+            return ("str", n.value)
+        if t is va.FunctionCall:
+            name = self._scoped(n.name) if n.name.scope is not None else n.name.name
+            return ("call", name, [self.expr(x, d) for x in n.args])
+        if t is va.SystemCall:
+            return ("call", "$" + n.syscall, [self.expr(x, d) for x in n.args])
+        if t is hp.MinTypMax:
+            return self.expr(n.typ, depth)
+        self.error(f"unsupported expression ({t.__name__})", getattr(n, "lineno", 0),
+                   t.__name__)
+
+    def _scoped(self, ident) -> str:
+        parts = []
+        for label in ident.scope.labellist:
+            s = label.name
+            if label.loop is not None:
+                e = self.expr(label.loop)
+                s += f"[{e[2]}]" if e[0] == "num" else "[" + _text(e) + "]"
+            parts.append(s)
+        parts.append(ident.name)
+        return ".".join(parts)
+
+    def width(self, w):
+        if w is None:
+            return None
+        return (self.expr(w.msb), self.expr(w.lsb))
+
+    def delay(self, spec):
+        if spec is None:
+            return None
+        return [(self.expr(m.min), self.expr(m.typ), self.expr(m.max)) for m in spec.values]
+
+    # ------------------------------------------------------------------ modules
+    def module(self, m) -> ir.Module:
+        line = m.lineno
+        st = self.pre.state.at(line)
+        mod = ir.Module(name=m.name, timescale=st["timescale"], celldefine=st["celldefine"],
+                        default_nettype=st["default_nettype"],
+                        loc=self.loc(line, getattr(m, "hz_pos", None)),
+                        attrs=self.attrs(getattr(m, "hz_pos", None)))
+        for decl in m.paramlist.params:
+            for prm in decl.list:
+                mod.params.append(self._param(prm, False, decl))
+        ansi = False
+        for port in m.portlist.ports:
+            if isinstance(port, va.Ioport):
+                ansi = True
+                self._ansi_port(mod, port)
+            else:
+                mod.port_order.append(port.name)
+        self._port_first_decl = {}
+        mod.items = self.items(m.items, mod, ansi)
+        for name in mod.port_order:
+            if name not in mod.ports:
+                self.error(f"port '{name}' of module '{m.name}' has no direction declaration",
+                           line, name)
+        return mod
+
+    def _ansi_port(self, mod, io):
+        first, second = io.first, io.second
+        pos = getattr(io, "hz_pos", None)
+        attr_pos = getattr(io, "hz_attrs_from", None) or pos
+        kind = self._net_kind(second) if second is not None else "wire"
+        mod.port_order.append(first.name)
+        mod.ports[first.name] = ir.Port(
+            name=first.name, direction=_direction(first), width=self.width(first.width),
+            net_type=kind, signed=bool(first.signed or (second is not None and second.signed)),
+            loc=self.loc(first.lineno, pos), attrs=self.attrs(attr_pos))
+
+    def _param(self, prm, local, decl):
+        pos = getattr(decl, "hz_pos", None)
+        return ir.Param(name=prm.name, value=self.expr(prm.value), local=local,
+                        width=self.width(prm.width), loc=self.loc(prm.lineno, pos))
+
+    @staticmethod
+    def _net_kind(v) -> str:
+        k = getattr(v, "hz_kind", None)
+        if k:
+            return k
+        if isinstance(v, va.Reg):
+            return "reg"
+        if isinstance(v, va.Tri):
+            return "tri"
+        if isinstance(v, va.Integer):
+            return "integer"
+        if type(v).__name__ == "Logic":
+            return "reg"
+        return "wire"
+
+    def items(self, nodes, mod, ansi=False) -> list:
+        out: list = []
+        for n in nodes:
+            self._item(n, out, mod, ansi)
+        return out
+
+    def _item(self, n, out, mod, ansi):
+        t = type(n)
+        if t is va.Decl:
+            self._decl(n, out, mod)
+        elif t is hp.InstanceGroup:
+            self._instances(n, out)
+        elif t is hp.AssignGroup:
+            loc = self.loc(n.lineno, n.hz_pos)
+            attrs = self.attrs(n.hz_pos)
+            delay = self.delay(n.delay)
+            for lhs, rhs, line in n.pairs:
+                out.append(ir.Assign(lhs=self.expr(lhs), rhs=self.expr(rhs), delay=delay,
+                                     loc=loc if line == n.lineno else self.loc(line),
+                                     attrs=attrs))
+        elif isinstance(n, va.Always):
+            pos = getattr(n, "hz_pos", None)
+            sens, star = self._sens(n.sens_list)
+            out.append(ir.Always(sens=sens, star=star, body=self.stmt(n.statement),
+                                 kind=_ALWAYS_KIND.get(t, "always"),
+                                 loc=self.loc(n.lineno, pos), attrs=self.attrs(pos)))
+        elif t is va.Initial:
+            out.append(ir.Initial(loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
+        elif t is va.GenerateStatement:
+            for x in n.items:
+                self._item(x, out, mod, ansi)
+        elif t is va.ForStatement:
+            out.append(self._genfor(n, mod))
+        elif t is va.IfStatement:
+            out.append(self._genif(n, mod))
+        elif t is hp.GenCaseNode:
+            out.append(self._gencase(n, mod))
+        elif t is va.Block:
+            out.append(ir.GenBlock(name=n.scope, items=self.items(n.statements, mod),
+                                   loc=self.loc(n.lineno)))
+        elif t is hp.SpecifyBlock:
+            for s in n.items:
+                if isinstance(s, hp.SpecParams):
+                    for name, value in s.params:
+                        v = value.var if isinstance(value, va.Rvalue) else value
+                        out.append(ir.Param(name=name, value=self.expr(v), local=True,
+                                            loc=self.loc(s.lineno)))
+                else:
+                    out.append(self._specpath(s))
+        elif t is va.Function:
+            out.append(ir.Unsupported(what=f"function {n.name}",
+                                      loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
+        elif t is va.Task:
+            out.append(ir.Unsupported(what=f"task {n.name}",
+                                      loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
+        elif n is None:
+            pass
+        else:
+            out.append(ir.Unsupported(what=type(n).__name__,
+                                      loc=self.loc(getattr(n, "lineno", 0))))
+
+    def _decl(self, decl, out, mod):
+        dpos = getattr(decl, "hz_pos", None)
+        attrs = self.attrs(dpos)
+        for v in decl.list:
+            t = type(v)
+            pos = getattr(v, "hz_pos", dpos)
+            if t in (va.Input, va.Output, va.Inout):
+                port = mod.ports.get(v.name)
+                if port is None:
+                    if v.name not in mod.port_order:
+                        self.notes.append((self.loc(v.lineno, pos),
+                                           f"'{v.name}' is declared {_direction(v)} but is not "
+                                           f"in the port list of '{mod.name}'"))
+                        mod.port_order.append(v.name)
+                    port = mod.ports[v.name] = ir.Port(name=v.name, direction=_direction(v))
+                port.direction = _direction(v)
+                port.width = self.width(v.width) or port.width
+                port.signed = port.signed or bool(v.signed)
+                port.loc = self.loc(v.lineno, pos)
+                if attrs:
+                    port.attrs.update(attrs)
+            elif t is va.Parameter or t is va.Localparam:
+                out.append(self._param(v, t is va.Localparam, decl))
+            elif t is va.Supply:
+                name = v.name
+                kind = "supply1" if v.value.value == "1" else "supply0"
+                if name in mod.ports:
+                    mod.ports[name].net_type = kind
+                else:
+                    out.append(ir.Net(name=name, kind=kind, width=self.width(v.width),
+                                      loc=self.loc(v.lineno, pos), attrs=dict(attrs)))
+            elif t is va.Assign:
+                out.append(ir.Assign(lhs=self.expr(v.left), rhs=self.expr(v.right),
+                                     delay=self.delay(v.ldelay) if isinstance(
+                                         v.ldelay, hp.DelaySpec) else None,
+                                     loc=self.loc(v.lineno, dpos), attrs=dict(attrs)))
+            elif t is va.Genvar:
+                continue
+            elif t is va.Real:
+                out.append(ir.Unsupported(what=f"real variable {v.name}",
+                                          loc=self.loc(v.lineno, pos)))
+            elif isinstance(v, va.Variable):
+                kind = self._net_kind(v)
+                width = self.width(v.width)
+                signed = bool(v.signed)
+                if kind == "integer":
+                    signed = True
+                port = mod.ports.get(v.name)
+                if port is not None and v.name in mod.port_order:
+                    port.net_type = kind
+                    port.width = port.width or width
+                    port.signed = port.signed or signed
+                    if attrs:
+                        port.attrs.update(attrs)
+                    continue
+                array = None
+                if v.dimensions is not None and v.dimensions.lengths:
+                    ln = v.dimensions.lengths[0]
+                    array = (self.expr(ln.msb), self.expr(ln.lsb))
+                out.append(ir.Net(name=v.name, kind=kind, width=width, signed=signed,
+                                  array=array, loc=self.loc(v.lineno, pos), attrs=dict(attrs)))
+                if getattr(v, "value", None) is not None and kind == "integer":
+                    out.append(ir.Unsupported(what=f"initial value of integer {v.name}",
+                                              loc=self.loc(v.lineno, pos)))
+            else:
+                out.append(ir.Unsupported(what=t.__name__, loc=self.loc(v.lineno, pos)))
+
+    def _instances(self, g, out):
+        attrs = self.attrs(g.hz_pos)
+        cell = g.cell
+        delay = self.delay(g.delay)
+        params = []
+        if g.params:
+            params = [(a.paramname, self.expr(a.argname)) for a in g.params]
+        if cell in GATE_PRIMITIVES and delay is not None:
+            params = []                 # on a gate primitive a positional #(...) is a delay
+        for name, ports, array, line, pos in g.bodies:
+            conns = []
+            for pa in ports:
+                conns.append((pa.portname, self.expr(pa.argname)
+                              if pa.argname is not None else None))
+            out.append(ir.Instance(
+                cell=cell, name=name or "", connections=conns, params=list(params),
+                delay=delay, array=self.width(array),
+                loc=self.loc(line, pos if pos is not None else g.hz_pos), attrs=dict(attrs)))
+
+    # ------------------------------------------------------------------ generate
+    def _block_items(self, st, mod):
+        if isinstance(st, va.Block):
+            return st.scope, self.items(st.statements, mod)
+        if st is None:
+            return None, []
+        return None, self.items([st], mod)
+
+    def _genfor(self, n, mod) -> ir.GenFor:
+        if not isinstance(n.pre, va.BlockingSubstitution) or not isinstance(
+                n.post, va.BlockingSubstitution):
+            self.error("generate for loop needs an initial assignment and a step",
+                       n.lineno, "for")
+        var = self.expr(n.pre.left)
+        if var[0] != "id":
+            self.error("generate for loop variable must be a plain name", n.lineno, "for")
+        name, items = self._block_items(n.statement, mod)
+        return ir.GenFor(var=var[1], init=self.expr(n.pre.right), cond=self.expr(n.cond),
+                         step=self.expr(n.post.right), name=name, items=items,
+                         loc=self.loc(n.lineno, getattr(n, "hz_pos", None)))
+
+    def _genif(self, n, mod) -> ir.GenIf:
+        name, then_items = self._block_items(n.true_statement, mod)
+        else_name, else_items = None, []
+        if isinstance(n.false_statement, va.IfStatement):
+            else_items = [self._genif(n.false_statement, mod)]
+        elif n.false_statement is not None:
+            else_name, else_items = self._block_items(n.false_statement, mod)
+        return ir.GenIf(cond=self.expr(n.cond), then_items=then_items, else_items=else_items,
+                        name=name, else_name=else_name,
+                        loc=self.loc(n.lineno, getattr(n, "hz_pos", None)))
+
+    def _gencase(self, n, mod) -> ir.GenCase:
+        cases = []
+        for labels, body in n.cases:
+            name, items = self._block_items(body, mod)
+            cases.append(([self.expr(x) for x in labels] if labels is not None else None,
+                          name, items))
+        return ir.GenCase(expr=self.expr(n.expr), cases=cases, loc=self.loc(n.lineno, n.hz_pos))
+
+    # ------------------------------------------------------------------ specify
+    def _specpath(self, s) -> ir.SpecifyPath:
+        return ir.SpecifyPath(
+            sources=[self.expr(x) for x in s.sources],
+            destinations=[self.expr(x) for x in s.dests],
+            delay=[(self.expr(m.min), self.expr(m.typ), self.expr(m.max)) for m in s.delay],
+            full=bool(s.full), edge=s.edge, polarity=s.polarity,
+            condition=self.expr(s.condition), loc=self.loc(s.lineno, s.hz_pos))
+
+    # ------------------------------------------------------------------ statements
+    def _sens(self, sl):
+        sens, star = [], False
+        if sl is None:
+            return sens, star
+        for s in sl.list:
+            if s.type == "all":
+                star = True
+            else:
+                sens.append((s.type, self.expr(s.sig)))
+        return sens, star
+
+    def stmt(self, s):
+        if s is None:
+            return None
+        t = type(s)
+        if t is va.Block:
+            return ("block", [self.stmt(x) for x in s.statements])
+        if t is va.IfStatement:
+            return ("if", self.expr(s.cond), self.stmt(s.true_statement),
+                    self.stmt(s.false_statement))
+        if t is va.BlockingSubstitution:
+            return ("assign", "=", self.expr(s.left), self.expr(s.right), self._line(s))
+        if t is va.NonblockingSubstitution:
+            return ("assign", "<=", self.expr(s.left), self.expr(s.right), self._line(s))
+        if t in _CASE_KIND:
+            cases = []
+            for c in s.caselist:
+                labels = [self.expr(x) for x in c.cond] if c.cond is not None else None
+                cases.append((labels, self.stmt(c.statement)))
+            return ("case", _CASE_KIND[t], self.expr(s.comp), cases)
+        if t is va.EventStatement and not s.senslist.list:
+            return ("block", [])        # a lone ';'
+        what = {va.ForStatement: "for loop", va.WhileStatement: "while loop",
+                va.ForeverStatement: "forever loop", va.WaitStatement: "wait statement",
+                va.EventStatement: "event control", va.ParallelBlock: "fork/join block",
+                va.SingleStatement: "delay, system task or disable statement",
+                va.Decl: "declaration in a block"}.get(t, t.__name__)
+        return ("other", what, self._line(s))
+
+    def _line(self, s) -> int:
+        return self.lmap.lookup(getattr(s, "lineno", 1) or 1)[1]
+
+    # ------------------------------------------------------------------ UDPs
+    def primitive(self, pd) -> ir.Primitive:
+        names = []
+        outputs, inputs, regs = set(), set(), set()
+        initial = None
+        for port in pd.portlist.ports:
+            if isinstance(port, va.Ioport):
+                names.append(port.first.name)
+                (outputs if isinstance(port.first, va.Output) else inputs).add(port.first.name)
+                if isinstance(port.second, va.Reg):
+                    regs.add(port.first.name)
+            else:
+                names.append(port.name)
+        for item in pd.items:
+            if isinstance(item, hp.UdpInitial):
+                initial = _udp_level(self.expr(item.value))
+                if initial is None:
+                    self.error("UDP initial value must be 0, 1 or x", item.lineno, item.name)
+                continue
+            for v in item.list:
+                if isinstance(v, va.Output):
+                    outputs.add(v.name)
+                elif isinstance(v, va.Input):
+                    inputs.add(v.name)
+                elif isinstance(v, va.Reg):
+                    regs.add(v.name)
+        if not names:
+            self.error(f"primitive '{pd.name}' has no ports", pd.lineno, pd.name)
+        out_name = names[0]
+        if out_name not in outputs:
+            self.error(f"the first port of primitive '{pd.name}' must be its output",
+                       pd.lineno, out_name)
+        sequential = out_name in regs
+        prim = ir.Primitive(name=pd.name, output=out_name, inputs=names[1:],
+                            sequential=sequential, initial=initial,
+                            timescale=self.pre.state.at(pd.lineno)["timescale"],
+                            loc=self.loc(pd.lineno, pd.hz_pos))
+        prim.rows = self._udp_rows(pd, len(names) - 1, sequential)
+        return prim
+
+    def _udp_rows(self, pd, n_inputs, sequential):
+        raw = pd.table
+        body_start = len("table")
+        body = raw[body_start:len(raw) - len("endtable")]
+        # blank out comments, keeping newlines so row lines stay right
+        body = re.sub(r"//[^\n]*|/\*[\s\S]*?\*/",
+                      lambda m: re.sub(r"[^\n]", " ", m.group()), body)
+        rows = []
+        offset = 0
+        for chunk in body.split(";"):
+            stripped = chunk.strip()
+            lead = len(chunk) - len(chunk.lstrip())
+            line = pd.table_line + body[:offset + lead].count("\n")
+            offset += len(chunk) + 1
+            if not stripped:
+                continue
+            fields = stripped.split(":")
+            want = 3 if sequential else 2
+            if len(fields) != want:
+                self.error(f"UDP table row needs {want} fields separated by ':'", line,
+                           stripped)
+            syms = []
+            for f in fields:
+                s = re.sub(r"\s+", "", f)
+                toks = re.findall(r"\([01xX?bB]{2}\)|[01xX?bBrRfFpPnN*\-]", s)
+                if "".join(toks) != s:
+                    self.error("bad symbol in UDP table row", line, stripped)
+                syms.append([x.lower() for x in toks])
+            ins = syms[0]
+            if len(ins) != n_inputs:
+                self.error(f"UDP table row has {len(ins)} input values, primitive "
+                           f"'{pd.name}' has {n_inputs} inputs", line, stripped)
+            state = None
+            if sequential:
+                if len(syms[1]) != 1:
+                    self.error("UDP table row: one current-state value expected", line,
+                               stripped)
+                state = syms[1][0]
+            if len(syms[-1]) != 1:
+                self.error("UDP table row: one output value expected", line, stripped)
+            rows.append({"inputs": ins, "state": state, "output": syms[-1][0],
+                         "line": self.lmap.lookup(line)[1]})
+        return rows
+
+
+def _udp_level(e):
+    if e is None or e[0] != "num":
+        return None
+    if e[3]:
+        return "x" if e[2] == 0 else None
+    return {0: "0", 1: "1"}.get(e[2])
+
+
+def _direction(v) -> str:
+    if isinstance(v, va.Input):
+        return "input"
+    if isinstance(v, va.Output):
+        return "output"
+    return "inout"
+
+
+def _text(e) -> str:
+    """Short readable text of an IR expression (for hierarchical names)."""
+    k = e[0]
+    if k == "id":
+        return e[1]
+    if k == "num":
+        return str(e[2])
+    if k == "binop":
+        return f"{_text(e[2])}{e[1]}{_text(e[3])}"
+    return k
+
+
+def build_source(path: str, ast, pre, lexer) -> tuple[list, list, list]:
+    """Modules, primitives and notes of one parsed file."""
+    b = Builder(path, pre, lexer)
+    modules, prims = [], []
+    for d in ast.description.definitions:
+        if isinstance(d, va.ModuleDef):
+            modules.append(b.module(d))
+        elif isinstance(d, hp.PrimitiveDef):
+            prims.append(b.primitive(d))
+    return modules, prims, b.notes
