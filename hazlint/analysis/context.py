@@ -43,6 +43,7 @@ class AnalysisContext:
         self.design = design
         self.config = config
         self._options = {k: dict(v) for k, v in (options or {}).items()}
+        self._hop_cache: dict[str, tuple] = {}
 
     # ---- options -------------------------------------------------------------------------------
     def options(self, rule_id: str) -> dict[str, Any]:
@@ -184,16 +185,25 @@ class AnalysisContext:
         return d.get("port") or d.get("name") or n
 
     def hop(self, n: str, delay: float | None = None, arrival: float | None = None) -> Hop:
-        d = self.graph.nodes[n]
-        inst = d.get("instance", "") or ""
-        gate = inst.rsplit(".", 1)[-1] if d["kind"] in ("gate", "blackbox") else ""
-        cell = (d.get("cell") or d.get("op") or "") if d["kind"] in ("gate", "blackbox") else ""
-        if d["kind"] == "state":
-            gate = (d.get("register") or "").rsplit(".", 1)[-1]
-            cell = d.get("cell") or "register"
-        loc = self.location(n) if d.get("path") else None
-        return Hop(net=self.net_name(n), gate=gate, cell=cell, location=loc, instance=inst,
+        net, gate, cell, loc, inst = self._hop_base(n)
+        return Hop(net=net, gate=gate, cell=cell, location=loc, instance=inst,
                    delay=delay, arrival=arrival)
+
+    def _hop_base(self, n: str):
+        base = self._hop_cache.get(n)
+        if base is None:
+            d = self.graph.nodes[n]
+            inst = d.get("instance", "") or ""
+            kind = d["kind"]
+            gate = inst.rsplit(".", 1)[-1] if kind in ("gate", "blackbox") else ""
+            cell = (d.get("cell") or d.get("op") or "") if kind in ("gate", "blackbox") else ""
+            if kind == "state":
+                gate = (d.get("register") or "").rsplit(".", 1)[-1]
+                cell = d.get("cell") or "register"
+            loc = self.location(n) if d.get("path") else None
+            base = (self.net_name(n), gate, cell, loc, inst)
+            self._hop_cache[n] = base
+        return base
 
     def describe(self, n: str) -> str:
         """Short human name of a node: the net, its port, or the sink pin."""

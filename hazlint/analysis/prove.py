@@ -220,7 +220,7 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
         if p.function_hazard is None and sum(a != b for a, b in changes.values()) > 1:
             c.function_hazard = function_hazard(graph, order, target, c.before, c.after)
         c.reason = p.reason or p.method
-        if replay_glitch:
+        if replay_glitch and not _nominal_reversed(graph, c, k, order):
             asg, gl, how = search_assignment(graph, target, c.before, c.after, order,
                                              trials=int(opts["search_trials"]),
                                              seed=int(opts["seed"]),
@@ -243,6 +243,23 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
         else:
             c.reason = "; ".join(sorted({p.reason for p in proofs.values() if p.reason}))
     return c
+
+
+def _nominal_reversed(graph, c: Classification, kind: str, order) -> bool:
+    """Hazard kinds are the same for a change and its reverse (time reversal of the transient
+    algebra); when the reverse change glitches with the nominal delays and the given one does
+    not, show the reverse."""
+    need = 3 if kind == "dynamic-hazard" else 2
+    for before, after, flip in ((c.before, c.after, False), (c.after, c.before, True)):
+        asg = DelayAssignment("max", mode="inertial")
+        gl, _ = replay(graph.subgraph(order), c.target, before, after, asg, watch=[c.target])
+        if gl.occurs and len(gl.changes) >= need:
+            if flip:
+                c.before, c.after = dict(c.after), dict(c.before)
+                c.changes = {n: (b, a) for n, (a, b) in c.changes.items()}
+            c.assignment, c.glitch, c.how = asg, gl, "nominal"
+            return True
+    return False
 
 
 def combine(results: Sequence[Classification]) -> Classification | None:
@@ -446,6 +463,9 @@ def waveform_nets(graph, c: Classification, evidence: Mapping[str, Any] | None) 
     if ev.get("reconvergence_node"):
         nets.append(ev["reconvergence_node"])
     nets.append(c.target)
+    d = graph.nodes[c.target]
+    if d["kind"] == "sink" and d.get("inputs"):
+        nets = [n for n in nets if n != d["inputs"][0]]
     out = []
     for n in nets:
         if n in graph and n not in out:
@@ -453,9 +473,23 @@ def waveform_nets(graph, c: Classification, evidence: Mapping[str, Any] | None) 
     return out
 
 
-def witness_trace(graph, c: Classification, nets: Sequence[str], settle: float = 0.0):
+def witness_lead(c: Classification) -> float:
+    """When the drawn witness changes its inputs: a round time before which all is steady."""
+    end = 1.0
+    if c.glitch is not None and c.glitch.changes:
+        end = max(t for t, _ in c.glitch.changes)
+    lead = 1.0
+    while lead * 4 < end:
+        lead *= 10
+    return lead
+
+
+def witness_trace(graph, c: Classification, nets: Sequence[str] | None,
+                  settle: float | None = None):
+    """Replay the witness (inputs change at ``settle``, by default :func:`witness_lead`)."""
     asg = c.assignment or DelayAssignment()
-    _, tr = replay(graph, c.target, c.before, c.after, asg, settle=settle, watch=nets)
+    at = witness_lead(c) if settle is None else settle
+    _, tr = replay(graph, c.target, c.before, c.after, asg, settle=at, watch=nets)
     return tr
 
 
@@ -603,6 +637,10 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts) -> Diagno
         msg += " (function hazard)"
     gt = glitch_text(c)
     notes.append(f"proof: {c.reason}")
+    others = [k2 for k2 in c.present_kinds if k2 != kind]
+    if others:
+        notes.append("also possible for other values of the held inputs: " + ", ".join(others))
+    evidence["present_kinds"] = c.present_kinds
     notes.append(f"witness: {witness_text(graph, c)}")
     if gt:
         notes.append(f"timed simulation: {gt}")

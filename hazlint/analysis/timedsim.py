@@ -391,18 +391,33 @@ def search_assignment(graph: nx.DiGraph, target: str, before: Mapping[str, int],
         asg = DelayAssignment("max", wires=wires, mode="transport")
         gl = run(asg)
         if gl:
-            return _shrink(asg, run), run(_shrink(asg, run)), "arbitrary"
+            small = _shrink(asg, run)
+            return small, run(small), "arbitrary"
     return None, None, f"no glitching delay assignment found in {trials} trials"
 
 
 def _shrink(asg: DelayAssignment, run) -> DelayAssignment:
-    """Drop extra wire delays that are not needed for the glitch (a shorter, clearer report)."""
+    """Drop the extra wire delays the glitch does not need, then lower each remaining one to the
+    smallest integer that still glitches (bisection): a short report with the delay difference
+    that matters."""
     wires = dict(asg.wires)
+
+    def ok(w):
+        return run(DelayAssignment(asg.corner, dict(asg.pins), w, asg.mode)) is not None
     for e in sorted(wires, key=lambda e: wires[e]):
         trial = dict(wires)
         del trial[e]
-        if run(DelayAssignment(asg.corner, dict(asg.pins), trial, asg.mode)):
+        if ok(trial):
             wires = trial
+    for e in sorted(wires):
+        lo, hi = 0, int(wires[e])          # hi glitches; find the least that does
+        while hi - lo > 1:
+            mid = (lo + hi) // 2
+            if ok(dict(wires, **{e: float(mid)})):
+                hi = mid
+            else:
+                lo = mid
+        wires[e] = float(hi)
     return DelayAssignment(asg.corner, dict(asg.pins), wires, asg.mode)
 
 

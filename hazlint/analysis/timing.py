@@ -111,6 +111,30 @@ class StemTiming:
         self.solver = solver
         self.stem = stem
         self.cone = cone        # topological order, stem first
+        self._chains: dict = {}
+
+    def chain(self, node: int, slow: bool, make, tag: str = "") -> tuple:
+        """The fastest/slowest path from the stem to ``node`` as a tuple of
+        ``make(node index, hop delay, arrival)`` items, stem first. Paths from one stem form a
+        tree of back-pointers, so each node's tuple is built once from its parent's (memoised
+        per ``tag``): many findings of one stem share their path prefixes."""
+        s = self.solver
+        back = s.bmax if slow else s.bmin
+        arr = s.amax if slow else s.amin
+        fanin = s.tg.fanin
+        memo = self._chains.setdefault((tag, slow), {})
+        todo = []
+        n = node
+        while n not in memo:
+            if n == self.stem:
+                memo[n] = (make(n, 0.0, 0.0),)
+                break
+            todo.append(n)
+            n = fanin[n][back[n]][0]
+        for n in reversed(todo):
+            p, _pin, dmin, dmax = fanin[n][back[n]]
+            memo[n] = memo[p] + (make(n, dmax if slow else dmin, arr[n]),)
+        return memo[node]
 
     @property
     def arrival_min(self):

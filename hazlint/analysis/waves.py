@@ -168,8 +168,10 @@ def svg(trace: Trace, nodes: Sequence[str], names: dict[str, str], t0: float | N
     ay = top + row_h * len(nodes) + 8
     parts.append(f'<line x1="{label_w}" y1="{ay}" x2="{label_w + plot_w}" y2="{ay}" '
                  f'stroke="#444444"/>')
-    for k in range(6):
-        t = lo + k * (hi - lo) / 5
+    tick = _nice_step(hi - lo, 6)
+    first = -(-lo // tick) * tick
+    for k in range(int((hi - first) // tick) + 1):
+        t = first + k * tick
         parts.append(f'<line x1="{x(t):.1f}" y1="{ay}" x2="{x(t):.1f}" y2="{ay + 5}" '
                      f'stroke="#444444"/>')
         parts.append(f'<text x="{x(t):.1f}" y="{ay + 18}" text-anchor="middle">'

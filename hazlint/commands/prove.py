@@ -183,9 +183,14 @@ def classification_from_evidence(g, ev):
     if target is None or target not in g:
         return None
     c = Classification(target, ev.get("classification", ""), changes, before, after)
-    delays = (ev.get("glitch") or {}).get("delays")
-    if delays:
-        c.assignment = DelayAssignment.from_json(delays)
+    gl = ev.get("glitch") or {}
+    if gl.get("delays"):
+        c.assignment = DelayAssignment.from_json(gl["delays"])
+    if gl.get("occurs"):
+        from ..analysis.timedsim import Glitch
+        c.glitch = Glitch(True, [tuple(x) for x in gl.get("changes", [])], gl.get("time"),
+                          gl.get("width"), gl.get("mode", "inertial"))
+        c.how = gl.get("how", "")
     return c
 
 
@@ -255,6 +260,7 @@ def _write_waves(args, k, title, g, c, nets):
     if args.svg:
         hl = None
         if c.glitch is not None and c.glitch.time is not None:
-            hl = (c.glitch.time, c.glitch.time + (c.glitch.width or 0))
+            lead = P.witness_lead(c)
+            hl = (lead + c.glitch.time, lead + c.glitch.time + (c.glitch.width or 0))
         with open(name(args.svg), "w") as fh:
             fh.write(waves.svg(tr, nets, names, title=title, highlight=hl))
