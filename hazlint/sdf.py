@@ -631,23 +631,35 @@ class _Index:
             if cell is not None and out_pin not in cell.outputs:
                 return [], f"the cell has no output pin '{out_pin}'"
             return nodes, ""
-        # several outputs and no pin tag: choose by the library's functions if we have them
+        # several outputs and no pin tag: tell them apart by their Boolean functions
         cell = self.library.get(self.cell_of.get(rel, "")) if self.library else None
-        if cell is not None and out_pin in cell.outputs:
-            order = [o for o in cell.outputs if o in cell.functions]
-            # the flattener emits outputs in cell.outputs order, skipping unconnected ones;
-            # without a pin tag only a one-to-one count is safe
-            if len(order) == len(nodes) and all(
-                    g.nodes[n].get("pins") == [p for p in cell.inputs + cell.inouts
-                                               if p in expr_vars_of(cell.functions[o])]
-                    for n, o in zip(nodes, order)):
-                return [nodes[order.index(out_pin)]], ""
-        return [], "the instance has several outputs and the graph does not say which is which"
+        if cell is None or out_pin not in cell.functions:
+            return [], ("the instance has several outputs and the graph does not say which is "
+                        "which" + ("" if cell else " (give the cell library)"))
+        want = [n for n in nodes if _same_function(g.nodes[n], cell.functions[out_pin])]
+        others = [o for o, f in cell.functions.items() if o != out_pin and any(
+            _same_function(g.nodes[n], f) for n in want)]
+        if len(want) == 1 and not others:
+            return want, ""
+        return [], f"cannot tell output '{out_pin}' from the cell's other outputs"
 
 
-def expr_vars_of(e) -> list[str]:
-    from .library import expr_vars
-    return expr_vars(e)
+def _same_function(d, fn, max_pins: int = 12) -> bool:
+    """Whether a gate node computes the Liberty function ``fn`` of its pins (truth tables,
+    bit-parallel over all 2^k input combinations)."""
+    from .library import bind_expr, expr_vars
+    from .logic import eval_expr, eval_op
+    pins = list(d.get("pins") or [])
+    if not set(expr_vars(fn)) <= set(pins) or len(pins) > max_pins or len(set(pins)) != len(pins):
+        return False
+    width = 1 << len(pins)
+    mask = (1 << width) - 1
+    ins = [sum(1 << v for v in range(width) if (v >> k) & 1) for k in range(len(pins))]
+    try:
+        mine = eval_op(d["op"], ins, mask, d.get("expr"))
+    except (ValueError, IndexError, KeyError):
+        return False
+    return mine == eval_expr(bind_expr(fn, {p: k for k, p in enumerate(pins)}), ins, mask)
 
 
 def annotate(design, sdf_path: str, *, corner: str = "max", library=None,
@@ -855,6 +867,15 @@ def _drives(idx: _Index, node: str, source: tuple[str, ...], sdf_design: str) ->
         port = source[-1]
         return design.input_node.get(port) == node
     rel = idx.find(source[:-1], sdf_design)
-    if rel is None:
+    if rel is None or idx.rel(d.get("instance") or "") != rel:
         return False
-    return idx.rel(d.get("instance") or "") == rel
+    pin = source[-1]
+    if d.get("kind") == "state" and rel in idx.registers:
+        st = idx.register_output(idx.registers[rel], pin)
+        return st is None or st == node       # unknown pin mapping: the instance must do
+    if d.get("kind") == "gate":
+        nodes, why = idx.gate_nodes_for_output(rel, pin)
+        if nodes:
+            return node in nodes
+        return "output pin" not in why and "output is" not in why   # ambiguous: trust the SDF
+    return True

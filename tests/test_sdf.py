@@ -385,3 +385,55 @@ def test_transition_times_equal_icarus_sdf_annotate(corner, tmp_path):
     # guard_closed changes with hands and maint_key at 1
     assert sum(1 for _, w, v in theirs if w == "valve_enable") >= 4
     assert ours == theirs
+
+
+def test_multi_output_three_state_and_register_cells():
+    from hazlint.design import load_design
+    from hazlint.liberty import read_liberty
+    lib = read_liberty(PRESS_LIB)
+    design = load_design(str(FIX / "press_fault.v"), library=lib)
+    text = sdf_text("""
+ (CELL (CELLTYPE "HAX1") (INSTANCE u_ha) (DELAY (ABSOLUTE
+   (IOPATH A S (1:2:3) (4:5:6)) (IOPATH B S (1.5) (2.5))
+   (IOPATH A CO (7:8:9) (10:11:12)))))
+ (CELL (CELLTYPE "TBUFX1") (INSTANCE u_tb) (DELAY (ABSOLUTE
+   (IOPATH A Y (0.7) (0.8)) (IOPATH OE Y (0.9) (1.0)))))
+ (CELL (CELLTYPE "DFFRX1") (INSTANCE u_ff) (DELAY (ABSOLUTE
+   (IOPATH (posedge CK) Q (2:2:2) (3:3:3)) (IOPATH (posedge CK) QN (4) (5))
+   (IOPATH RN Q () (6)))))
+ (CELL (CELLTYPE "press_fault") (INSTANCE) (DELAY (ABSOLUTE
+   (INTERCONNECT estop_n u_ff/RN (0.25))
+   (INTERCONNECT u_ha/S u_ff/D (0.125))
+   (INTERCONNECT u_ha/CO u_ff/D (0.5)))))
+""").replace('"top"', '"press_fault"')
+    rep = annotate(design, "fault.sdf", text=text, corner="minmax", library=lib)
+    g = design.graph
+    nodes = {n: d for n, d in g.nodes(data=True) if d.get("instance") == "press_fault.u_ha"}
+    s_node = design.net_node("differ")
+    co_node = design.net_node("both")
+    assert set(nodes) == {s_node, co_node}
+    # each output got its own IOPATHs (told apart by function: S is XOR, CO is AND)
+    assert g.nodes[s_node]["delays"] == [Delay(1, 3, 4, 6), Delay(1.5, 1.5, 2.5, 2.5)]
+    assert g.nodes[co_node]["delays"][0] == Delay(7, 9, 10, 12)
+    assert g.nodes[co_node]["delays"][1] == lib.cells["HAX1"].arcs[("B", "CO")]   # not in SDF
+    # three-state cell: the data path and the enable path
+    tb = {n: d for n, d in g.nodes(data=True) if d.get("instance") == "press_fault.u_tb"}
+    by_pins = {tuple(d["pins"]): d for d in tb.values()}
+    assert by_pins[("A",)]["delays"] == [Delay(0.7, 0.7, 0.8, 0.8)]
+    assert by_pins[("OE",)]["delays"] == [Delay(0.9, 0.9, 1.0, 1.0)]
+    # register: clock-to-output arcs on the state nodes; "()" rise keeps nothing to keep
+    ff = next(r for r in design.registers if r.instance == "press_fault.u_ff")
+    q, qn = ff.outputs["Q"], ff.outputs["QN"]
+    assert g.nodes[q]["arc_delays"]["CK"] == Delay(2, 2, 3, 3)
+    assert g.nodes[qn]["arc_delays"]["CK"] == Delay(4, 4, 5, 5)
+    assert g.nodes[q]["arc_delays"]["RN"] == Delay(0, 0, 6, 6)
+    # interconnects onto the register's reset and data pins
+    assert g.edges[design.input_node["estop_n"], ff.pins["reset"]]["wire"] == Delay.fixed(0.25)
+    assert g.edges[s_node, ff.pins["data"]]["wire"] == Delay.fixed(0.125)
+    # the SDF claims CO drives D; the design says S does
+    assert [(u[0], u[1]) for u in rep.unmatched_interconnects] == [("u_ha/CO", "u_ff/D")]
+    assert not rep.arcs_missing and not rep.missing_instances
+    # without the library the register's pins cannot be told apart, and the report says so
+    design2 = load_design(str(FIX / "press_fault.v"), library=lib)
+    rep2 = annotate(design2, "fault.sdf", text=text, corner="minmax")
+    assert any("give the cell library" in u[3] for u in rep2.unmatched_interconnects)
