@@ -351,7 +351,7 @@ class Preprocessor:
                     pos = rest_at
                 elif name in self.macros:
                     body, pos, used = self._use_macro(name, path, lines, i + consumed, rest_at)
-                    parts.append(self._expand_text(body, path, lineno, 1, set()))
+                    parts.append(self._expand_text(body, path, lineno, 1, {name}))
                     if used:
                         # arguments spanned lines: go on with the tail of the last one
                         consumed += used
