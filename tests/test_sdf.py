@@ -437,3 +437,28 @@ def test_multi_output_three_state_and_register_cells():
     design2 = load_design(str(FIX / "press_fault.v"), library=lib)
     rep2 = annotate(design2, "fault.sdf", text=text, corner="minmax")
     assert any("give the cell library" in u[3] for u in rep2.unmatched_interconnects)
+
+
+def test_configured_liberty_and_sdf_through_the_command_line(tmp_path):
+    import sys as _sys
+    (tmp_path / "hazlint.toml").write_text(
+        f'liberty = ["{PRESS_LIB}"]\nsdf = "{FIX / "press_valve.sdf"}"\n')
+    run = subprocess.run([_sys.executable, "-m", "hazlint.cli", "summary",
+                          str(FIX / "press_valve.v")], cwd=tmp_path, capture_output=True,
+                         text=True)
+    assert run.returncode == 0, run.stderr
+    assert "NAND2X1     3" in run.stdout
+    run = subprocess.run([_sys.executable, "-m", "hazlint.cli", "check",
+                          str(FIX / "press_valve.v")], cwd=tmp_path, capture_output=True,
+                         text=True)
+    assert run.returncode in (0, 1) and "Traceback" not in run.stderr, run.stderr
+    # a broken SDF: exit code 2 and one file:line message
+    bad = tmp_path / "bad.sdf"
+    bad.write_text("(DELAYFILE\n (CELL (CELLTYPE \"INVX1\") (INSTANCE u_inv)\n  (DELAY "
+                   "(ABSOLUTE (IOPATH A Y (1:2))))))\n")
+    (tmp_path / "hazlint.toml").write_text(f'liberty = ["{PRESS_LIB}"]\nsdf = "{bad}"\n')
+    run = subprocess.run([_sys.executable, "-m", "hazlint.cli", "check",
+                          str(FIX / "press_valve.v")], cwd=tmp_path, capture_output=True,
+                         text=True)
+    assert run.returncode == 2 and "Traceback" not in run.stderr
+    assert f"{bad}:3: error: SDF" in run.stderr
