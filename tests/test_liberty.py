@@ -465,3 +465,29 @@ def test_yosys_mapped_function_equals_icarus(mapped):
 def _cell_inputs(lib, cell):
     return [p for p in ("C", "D", "R") if p in lib.cells[cell].inputs]
 
+
+
+def test_load_design_with_a_liberty_path(tmp_path):
+    from hazlint.design import load_design
+    v = tmp_path / "latch.v"
+    v.write_text("module fault_hold(input guard_closed, input maint_key, output hold, output y);\n"
+                 "  wire one, g_n;\n"
+                 "  TIEHI  u_one (.Y(one));\n"
+                 "  INVX1  u_inv (.A(guard_closed), .Y(g_n));\n"
+                 "  NAND2X1 u_nd (.A(g_n), .B(maint_key), .Y(y));\n"
+                 "  DLATCHX1 u_lat (.D(one), .G(g_n), .Q(hold));\n"
+                 "endmodule\n")
+    design = load_design(str(v), library=PRESS)       # a .lib path: read by read_liberty
+    lib = read_liberty(PRESS)
+    g = design.graph
+    nd = design.net_node("y")
+    assert g.nodes[nd]["cell"] == "NAND2X1" and g.nodes[nd]["pins"] == ["A", "B"]
+    # delays per pin come from the Liberty arcs (tables at their first breakpoints)
+    assert g.nodes[nd]["delays"] == [lib.cells["NAND2X1"].arcs[("A", "Y")],
+                                     lib.cells["NAND2X1"].arcs[("B", "Y")]]
+    (lat,) = design.registers
+    assert lat.kind == "latch" and lat.cell == "DLATCHX1" and lat.active["enable"] == 1
+    assert g.nodes[g.nodes[lat.pins["enable"]]["inputs"][0]]["name"] == "g_n"
+    # the truth table of the combinational part: y = !( !guard & maint )
+    out = design.evaluate({"guard_closed": 0b0101, "maint_key": 0b0011}, 4)
+    assert out["y"] == 0b1101
