@@ -60,8 +60,9 @@ OPTIONS = (
 def find_reconvergences(design, context, scope: str = "outputs", min_skew: float = 0.0):
     """Worst reconvergence per (stem, sink in scope), grouped by gate.
 
-    Yields ``(stem, gate, Reconvergence, sinks, fast_path, slow_path)`` with node ids; paths are
-    lists of (node id, hop delay, arrival). Work per stem is linear in its fanout cone.
+    Yields :class:`Finding` objects (stem and gate node ids, the :class:`Reconvergence`, the
+    sinks, the fastest and slowest paths as node-id tuples). Work per stem is linear in its
+    fanout cone plus the length of the reported paths.
     """
     tg = context.timing_graph
     solver = context.arrival_solver
@@ -101,15 +102,34 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
                 by_gate.setdefault(worst[t], []).append(t)
         for gi in sorted(by_gate, key=lambda i: rank_i[i]):
             r = found[gi]
-            slow_src = fanin[gi][r.slow_pin][0]
-            fast_src = fanin[gi][r.fast_pin][0]
-            slow = st.path_to(slow_src, True) + [(gi, fanin[gi][r.slow_pin][3], r.slow_arrival)]
-            fast = st.path_to(fast_src, False) + [(gi, fanin[gi][r.fast_pin][2], r.fast_arrival)]
             sinks = sorted((order[t] for t in by_gate[gi]), key=lambda n: rank[n])
-            yield (stem, order[gi], r,
-                   sinks,
-                   [(order[i], d, a) for i, d, a in fast],
-                   [(order[i], d, a) for i, d, a in slow])
+            yield Finding(stem, order[gi], r, sinks, st)
+
+
+class Finding:
+    """One reported reconvergence. Its paths are walked from the back-pointers on demand, while
+    the stem's arrival arrays are current (before the generator advances to the next stem)."""
+
+    __slots__ = ("stem", "gate", "r", "sinks", "st")
+
+    def __init__(self, stem, gate, r, sinks, st):
+        self.stem, self.gate, self.r, self.sinks, self.st = stem, gate, r, sinks, st
+
+    def path(self, slow: bool, make=None):
+        """(node ids, items) of the slowest/fastest path, stem first, ending at the gate.
+        ``make(node id, delay, arrival)`` builds the items (default: the triple itself)."""
+        st = self.st
+        tg = st.solver.tg
+        order = tg.order
+        gi = tg.index[self.gate]
+        r = self.r
+        k = r.slow_pin if slow else r.fast_pin
+        src, _pin, dmin, dmax = tg.fanin[gi][k]
+        tag = "raw" if make is None else "made"
+        make = make or (lambda n, dl, a: (n, dl, a))
+        pairs = st.chain(src, slow, lambda i, dl, a: (order[i], make(order[i], dl, a)), tag)
+        last = make(self.gate, dmax if slow else dmin, r.slow_arrival if slow else r.fast_arrival)
+        return [n for n, _ in pairs] + [self.gate], tuple(x for _, x in pairs) + (last,)
 
 
 def _better(a, b, rank_i) -> bool:
@@ -122,8 +142,8 @@ def check(design, context):
     opts = context.options(ID)
     g = design.graph
     sens = context.sensitive_sinks
-    for stem, gate, r, sinks, fast, slow in find_reconvergences(
-            design, context, opts["scope"], opts["min_skew"]):
+    for f in find_reconvergences(design, context, opts["scope"], opts["min_skew"]):
+        stem, gate, r, sinks = f.stem, f.gate, f.r, f.sinks
         d = g.nodes[gate]
         stem_name = context.net_name(stem)
         sink_names = [context.describe(t) for t in sinks]
@@ -137,12 +157,12 @@ def check(design, context):
                f"{(d.get('instance') or gate).rsplit('.', 1)[-1]} with skew {num(r.skew)} "
                f"(pin {slow_pin} at {num(r.slow_arrival)}, pin {fast_pin} at "
                f"{num(r.fast_arrival)}), {reach}")
-        fast_hops = tuple(context.hop(n, dl, a) for n, dl, a in fast)
-        slow_hops = tuple(context.hop(n, dl, a) for n, dl, a in slow)
+        fast_ids, fast_hops = f.path(False, context.hop)
+        slow_ids, slow_hops = f.path(True, context.hop)
         notes = (f"stem {stem_name}" + (f" ({context.location(stem)})"
                                         if g.nodes[stem].get("path") else ""),
-                 "fast path: " + " -> ".join(f"{h.net}@{num(h.arrival)}" for h in fast_hops),
-                 "slow path: " + " -> ".join(f"{h.net}@{num(h.arrival)}" for h in slow_hops),
+                 "fast path: " + _path_text(fast_hops),
+                 "slow path: " + _path_text(slow_hops),
                  f"skew {num(r.skew)}; worst reconvergence of this stem for "
                  f"{name_list(sink_names, 4)}")
         yield Diagnostic(
@@ -151,10 +171,19 @@ def check(design, context):
             message=msg,
             evidence={"stem_node": stem, "reconvergence_node": gate, "sink_nodes": list(sinks),
                       "skew": r.skew,
-                      "fast_path": [n for n, _, _ in fast], "slow_path": [n for n, _, _ in slow],
+                      "fast_path": fast_ids, "slow_path": slow_ids,
                       "fast_arrival": r.fast_arrival, "slow_arrival": r.slow_arrival,
                       "slow_pin": slow_pin, "fast_pin": fast_pin,
                       "key": stable_key("reconv", stem, gate)},
             notes=notes, flows=(fast_hops, slow_hops),
             fix=("balance the branch delays, add the consensus term that holds the output "
                  "while the branches disagree, or register the signal before the sensitive sink"))
+
+
+def _path_text(hops, keep: int = 4) -> str:
+    """``a@0 -> b@1 -> ...``; long paths show their first and last hops and the gate count."""
+    parts = [f"{h.net}@{num(h.arrival)}" for h in
+             (hops if len(hops) <= 2 * keep else hops[:keep] + hops[-keep:])]
+    if len(hops) > 2 * keep:
+        parts.insert(keep, f"... {len(hops) - 2 * keep} more ...")
+    return " -> ".join(parts) + f" ({len(hops) - 1} gates)"

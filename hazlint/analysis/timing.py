@@ -115,26 +115,33 @@ class StemTiming:
 
     def chain(self, node: int, slow: bool, make, tag: str = "") -> tuple:
         """The fastest/slowest path from the stem to ``node`` as a tuple of
-        ``make(node index, hop delay, arrival)`` items, stem first. Paths from one stem form a
-        tree of back-pointers, so each node's tuple is built once from its parent's (memoised
-        per ``tag``): many findings of one stem share their path prefixes."""
+        ``make(node index, hop delay, arrival)`` items, stem first, walked back along the
+        back-pointers. Items are made once per node and reused by later paths of this stem
+        (memoised per ``tag``)."""
         s = self.solver
         back = s.bmax if slow else s.bmin
         arr = s.amax if slow else s.amin
         fanin = s.tg.fanin
-        memo = self._chains.setdefault((tag, slow), {})
-        todo = []
+        memo = self._chains.get((tag, slow))
+        if memo is None:
+            memo = self._chains[(tag, slow)] = {}
+        stem = self.stem
+        out = []
         n = node
-        while n not in memo:
-            if n == self.stem:
-                memo[n] = (make(n, 0.0, 0.0),)
-                break
-            todo.append(n)
-            n = fanin[n][back[n]][0]
-        for n in reversed(todo):
-            p, _pin, dmin, dmax = fanin[n][back[n]]
-            memo[n] = memo[p] + (make(n, dmax if slow else dmin, arr[n]),)
-        return memo[node]
+        while n != stem:
+            item = memo.get(n)
+            k = back[n]
+            if item is None:
+                p, _pin, dmin, dmax = fanin[n][k]
+                item = memo[n] = make(n, dmax if slow else dmin, arr[n])
+            out.append(item)
+            n = fanin[n][k][0]
+        item = memo.get(stem)
+        if item is None:
+            item = memo[stem] = make(stem, 0.0, 0.0)
+        out.append(item)
+        out.reverse()
+        return tuple(out)
 
     @property
     def arrival_min(self):
