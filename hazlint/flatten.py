@@ -1142,13 +1142,14 @@ class Elaborator:
                                  instance=path, loc=inst.loc, expr=en_expr)
                 self._add_driver("gate", bits[0], op="bufif0", inputs=[data, en_sig],
                                  pins=[out, "three_state"], delays=[ZERO_DELAY, ZERO_DELAY],
-                                 cell=cell.name, instance=path, loc=inst.loc, tri=True)
+                                 cell=cell.name, instance=path, loc=inst.loc, tri=True,
+                                 out_pin=out)
                 self.add_sink(en_sig, "tristate_enable", f"{self.rel(scope, inst.name)}.{out}.en",
                               inst.loc, path, active=0)
             else:
                 self._add_driver("gate", bits[0], op=op, inputs=ins, pins=used, delays=delays,
                                  cell=cell.name, instance=path, loc=inst.loc, expr=expr,
-                                 attrs=inst.attrs)
+                                 attrs=inst.attrs, out_pin=out)
 
     def _expr_signal(self, scope, e, pin_sig, loc) -> tuple[str, int]:
         """Signal and active level for a control expression over pins: a plain pin or its
@@ -1158,6 +1159,15 @@ class Elaborator:
         if e[0] == "not" and e[1][0] == "var":
             return pin_sig(e[1][1]), 0
         return self._expr_gates(scope, e, pin_sig, loc), 1
+
+    @staticmethod
+    def _pin_of(e) -> dict:
+        """``{"pin": name}`` when a control expression is one cell pin (or its inversion)."""
+        if e is not None and e[0] == "var":
+            return {"pin": e[1]}
+        if e is not None and e[0] == "not" and e[1][0] == "var":
+            return {"pin": e[1][1]}
+        return {}
 
     def _expr_gates(self, scope, e, pin_sig, loc) -> str:
         tag = e[0]
@@ -1190,7 +1200,8 @@ class Elaborator:
             clk, level = self._expr_signal(scope, seq.clocked_on, pin_sig, loc)
             reg.clock_edge = "posedge" if level == 1 else "negedge"
             reg.pins["clock"] = self.add_sink(clk, "clock", f"{name}.clock", loc, path,
-                                              register=name, active=reg.clock_edge)
+                                              register=name, active=reg.clock_edge,
+                                              **self._pin_of(seq.clocked_on))
             data_e = seq.next_state
         else:
             if seq.enable is None or seq.data_in is None:
@@ -1199,14 +1210,15 @@ class Elaborator:
             en, level = self._expr_signal(scope, seq.enable, pin_sig, loc)
             reg.active["enable"] = level
             reg.pins["enable"] = self.add_sink(en, "enable", f"{name}.enable", loc, path,
-                                               register=name, active=level)
+                                               register=name, active=level,
+                                               **self._pin_of(seq.enable))
             data_e = seq.data_in
         q_net = None
         for out, which in seq.state_outputs.items():
             bits = conns.get(out)
             if bits:
                 self._add_driver("state", bits[0], op="buf", instance=path, loc=loc,
-                                 cell=cell.name, register=name, state=which)
+                                 cell=cell.name, register=name, state=which, out_pin=out)
                 reg.outputs[which] = bits[0]
                 q_net = q_net or (bits[0] if which == "Q" else None)
         for out, fn in cell.functions.items():   # outputs that are functions of the state
@@ -1214,7 +1226,7 @@ class Elaborator:
             if bits and set(lib.expr_vars(fn)) <= {"IQ", "IQN"}:
                 which = "QN" if fn in (("var", "IQN"), ("not", ("var", "IQ"))) else "Q"
                 self._add_driver("state", bits[0], op="buf", instance=path, loc=loc,
-                                 cell=cell.name, register=name, state=which)
+                                 cell=cell.name, register=name, state=which, out_pin=out)
                 reg.outputs[which] = bits[0]
         if not reg.outputs:
             hidden = self.fresh(scope, "q")
@@ -1230,7 +1242,8 @@ class Elaborator:
                 return reg.outputs.get("QN") or C0
             return pin_sig(p)
         d = self._expr_gates(scope, data_e, data_pin, loc)
-        reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path, register=name)
+        reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path, register=name,
+                                         **self._pin_of(data_e))
         for role, e in (("reset", seq.clear), ("set", seq.preset)):
             if e is None:
                 continue
@@ -1239,7 +1252,7 @@ class Elaborator:
                 continue
             reg.active[role] = level
             reg.pins[role] = self.add_sink(sig, role, f"{name}.{role}", loc, path,
-                                           register=name, active=level)
+                                           register=name, active=level, **self._pin_of(e))
         self.registers.append(reg)
         if seq.kind == "latch":
             self.latch_paths.append((reg.pins["data"], reg.pins["enable"],
@@ -1283,7 +1296,7 @@ class Elaborator:
             elif active is not None:
                 reg.active[role] = active
                 kw["active"] = active
-            sid = self.add_sink(ins[i], role, f"{name}.{pin}", inst.loc, path, **kw)
+            sid = self.add_sink(ins[i], role, f"{name}.{pin}", inst.loc, path, pin=pin, **kw)
             reg.pins.setdefault(role, sid)
         self.registers.append(reg)
         if kind == "latch" and "enable" in reg.pins and "data" in reg.pins:
@@ -1682,7 +1695,7 @@ class Elaborator:
             attrs["expr"] = d["expr"]
         if d.get("attrs"):
             attrs["attrs"] = d["attrs"]
-        for k in ("register", "state", "port", "reason"):
+        for k in ("register", "state", "port", "reason", "out_pin", "tri"):
             if k in d:
                 attrs[k] = d[k]
         if d["kind"] == "const":

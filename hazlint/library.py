@@ -256,6 +256,8 @@ class Library:
     def merge(self, other: "Library") -> "Library":
         merged = Library(self.cells)
         merged.cells.update(other.cells)
+        # what the readers could not use (e.g. Liberty cells skipped with a reason) stays known
+        merged.skipped = {**getattr(self, "skipped", {}), **getattr(other, "skipped", {})}
         return merged
 
 
