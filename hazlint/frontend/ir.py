@@ -95,6 +95,14 @@ class Instance:
     connections have the port name, positional ones None; an empty ``.p()`` has expr None.
     ``params`` likewise for ``#(...)`` parameter overrides of modules; ``delay`` holds a gate
     primitive's or UDP's ``#`` delay instead.
+
+    How the reader fills them (it cannot know yet whether a cell name is a UDP or a module):
+    a named ``#(.W(4))`` goes to ``params`` only; a bare ``#5`` / ``#2.5`` / ``#d`` or a list
+    with ``min:typ:max`` goes to ``delay`` only; a positional plain list ``#(a, b)`` goes to
+    both (``params`` as ``(None, expr)``, ``delay`` as ``(e, e, e)`` triples), except on the
+    built-in gate primitives (``and`` ... ``pulldown``), where it is a delay only. ``name`` is
+    ``""`` for an unnamed gate instance. Attribute values in ``attrs`` (here and elsewhere) are
+    None for a bare flag, an int for a plain number, else the text (string quotes removed).
     """
 
     cell: str
@@ -257,23 +265,39 @@ def to_json(obj: Any) -> Any:
 def from_json(data: Any) -> Any:
     """Inverse of :func:`to_json`. Lists come back as tuples (expressions are tuples) except for
     the list-typed dataclass fields, which come back as lists."""
+    # hot path of a warm (cached) run: field lists are looked up once per class and scalars
+    # are not recursed into
     if isinstance(data, dict):
-        if "_t" in data:
-            cls = _CLASSES[data["_t"]]
+        name = data.get("_t")
+        if name is not None:
+            cls = _CLASSES[name]
             kwargs = {}
-            for f in dataclasses.fields(cls):
-                if f.name in data:
-                    v = from_json(data[f.name])
-                    if isinstance(v, tuple) and _is_list_field(f):
-                        v = list(v)
-                    kwargs[f.name] = v
+            for fname, is_list in _field_info(cls):
+                if fname in data:
+                    v = data[fname]
+                    if isinstance(v, (dict, list)):
+                        v = from_json(v)
+                        if is_list and isinstance(v, tuple):
+                            v = list(v)
+                    kwargs[fname] = v
             return cls(**kwargs)
         if "_d" in data:
             return {_hashable(from_json(k)): from_json(v) for k, v in data["_d"]}
         return {k: from_json(v) for k, v in data.items()}
     if isinstance(data, list):
-        return tuple(from_json(x) for x in data)
+        return tuple([from_json(x) if isinstance(x, (dict, list)) else x for x in data])
     return data
+
+
+_FIELD_INFO: dict = {}
+
+
+def _field_info(cls) -> tuple:
+    info = _FIELD_INFO.get(cls)
+    if info is None:
+        info = _FIELD_INFO[cls] = tuple((f.name, _is_list_field(f))
+                                        for f in dataclasses.fields(cls))
+    return info
 
 
 def _hashable(x):
