@@ -103,7 +103,7 @@ def check(design, context):
         first_gates = sorted(gates, key=lambda n: rank[n])[:3]
         if first_gates:
             notes.append("logic starts at: " + "; ".join(
-                context.hop(n).describe() for n in first_gates))
+                context.hop_text(context.hop(n)) for n in first_gates))
         flows = tuple(tuple(context.hop(n) for n in path)
                       for path in _paths_to_sink(g, sink, toggling, gates, rank, limit=8))
         yield Diagnostic(

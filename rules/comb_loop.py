@@ -129,7 +129,7 @@ def _cycle_evidence(ctx, cycle: list[str]):
     hops = tuple(ctx.hop(n) for n in cycle) + (ctx.hop(cycle[0]),)
     notes = [f"loop of {len(cycle)} gate{'s' if len(cycle) != 1 else ''}:"]
     for i, h in enumerate(hops[:-1], 1):
-        notes.append(f"  {i}. {h.describe()}")
+        notes.append(f"  {i}. {ctx.hop_text(h)}")
     notes.append(f"  back to {hops[0].net}")
     return hops, notes
 
@@ -202,7 +202,7 @@ def _latch_loops(design, context, opts, comb_nodes):
         latch_name = reg.name if reg is not None else latch
         names = [context.describe(n) for n in cycle]
         notes = [f"loop through latch {latch_name} while it is transparent:"]
-        notes += [f"  {i}. {hp.describe()}" for i, hp in enumerate(hops[:-1], 1)]
+        notes += [f"  {i}. {context.hop_text(hp)}" for i, hp in enumerate(hops[:-1], 1)]
         notes.append(f"  through {latch_name} back to {hops[0].net}")
         yield Diagnostic(
             rule=ID, kind="combinational-loop", severity=severity(opts["latch_loop_severity"]),

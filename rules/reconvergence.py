@@ -151,15 +151,18 @@ def check(design, context):
         reach = (f"reaching glitch-sensitive {name_list(sens_names, 3)}" if sens_names
                  else f"reaching {name_list(sink_names, 3)}")
         pins = d.get("pins") or []
+        ins = d.get("inputs") or []
         slow_pin = pins[r.slow_pin] if r.slow_pin < len(pins) else str(r.slow_pin)
         fast_pin = pins[r.fast_pin] if r.fast_pin < len(pins) else str(r.fast_pin)
+        slow_net = context.net_name(ins[r.slow_pin]) if r.slow_pin < len(ins) else slow_pin
+        fast_net = context.net_name(ins[r.fast_pin]) if r.fast_pin < len(ins) else fast_pin
         msg = (f"fanout of {stem_name} reconverges at {d.get('cell') or d.get('op')} "
                f"{(d.get('instance') or gate).rsplit('.', 1)[-1]} with skew {num(r.skew)} "
-               f"(pin {slow_pin} at {num(r.slow_arrival)}, pin {fast_pin} at "
+               f"(through {slow_net} at {num(r.slow_arrival)}, through {fast_net} at "
                f"{num(r.fast_arrival)}), {reach}")
         fast_ids, fast_hops = f.path(False, context.hop)
         slow_ids, slow_hops = f.path(True, context.hop)
-        notes = (f"stem {stem_name}" + (f" ({context.location(stem)})"
+        notes = (f"stem {stem_name}" + (f" ({context.where(stem)})"
                                         if g.nodes[stem].get("path") else ""),
                  "fast path: " + _path_text(fast_hops),
                  "slow path: " + _path_text(slow_hops),

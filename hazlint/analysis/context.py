@@ -205,6 +205,27 @@ class AnalysisContext:
             self._hop_cache[n] = base
         return base
 
+    def display_path(self, path: str) -> str:
+        """A path as reports print it: relative to the project root when there is one."""
+        root = getattr(self.config, "root", None)
+        if not root or not path:
+            return path
+        from ..api import relpath
+        return relpath(path, root)
+
+    def where(self, n: str) -> str:
+        """``path:line`` of a node for evidence text (relative to the project root)."""
+        loc = self.location(n)
+        return f"{self.display_path(loc.path)}:{loc.line}" if loc.path else ""
+
+    def hop_text(self, h: Hop) -> str:
+        """Like :meth:`Hop.describe`, with the path relative to the project root."""
+        where = (f" ({self.display_path(h.location.path)}:{h.location.line})"
+                 if h.location else "")
+        via = f" via {h.cell} {h.gate}" if h.gate else ""
+        t = "" if h.arrival is None else f" @{h.arrival:g}"
+        return f"{h.net}{t}{via}{where}"
+
     def describe(self, n: str) -> str:
         """Short human name of a node: the net, its port, or the sink pin."""
         d = self.graph.nodes[n]

@@ -1,0 +1,127 @@
+"""The lint command end to end, as a user runs it (real subprocess, real front end)."""
+from __future__ import annotations
+
+import json
+import os
+import re
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+HERE = Path(__file__).resolve().parent
+FIX = HERE.parent / "fixtures"
+LINE = re.compile(r"^(?P<path>[^\s:][^:]*):(?P<line>\d+):(?P<col>\d+): "
+                  r"(?P<sev>error|warning|info): (?P<msg>.*) \[(?P<rule>[a-z0-9-]+)\]$")
+
+
+def hazlint(*args, cwd, env=None):
+    e = dict(os.environ)
+    e.pop("NO_COLOR", None)
+    e.update(env or {})
+    return subprocess.run([sys.executable, "-m", "hazlint.cli", *args], cwd=cwd, env=e,
+                          capture_output=True, text=True, timeout=300)
+
+
+@pytest.fixture
+def demo(tmp_path):
+    d = tmp_path / "demo"
+    shutil.copytree(FIX / "demo", d)
+    return d
+
+
+def test_demo_text_output_exit_code_and_caution(demo):
+    p = hazlint("--no-prove", cwd=demo)
+    assert p.returncode == 1, p.stderr
+    heads = [m.groupdict() for m in map(LINE.match, p.stdout.splitlines()) if m]
+    assert [(h["path"], h["line"], h["rule"]) for h in heads] == [
+        ("fault_latch.v", "11", "async-from-logic"),
+        ("press_top.v", "6", "async-from-logic"),
+        ("press_top.v", "18", "skewed-reconvergence"),
+        ("press_top.v", "28", "comb-loop")]
+    lines = p.stdout.splitlines()
+    # evidence lines are indented under their finding; the summary and caution close the output
+    assert lines[1].startswith("    ")
+    assert lines[-2].startswith("hazlint: 4 findings (3 errors, 1 warning)")
+    assert "does not make a machine safe" in lines[-1]
+    assert "\033[" not in p.stdout          # not a terminal: no colour
+
+
+def test_corrected_demo_exits_clean(demo):
+    p = hazlint("--no-prove", cwd=demo / "fixed")
+    assert p.returncode == 0, p.stdout + p.stderr
+    assert p.stdout.splitlines()[0].startswith("hazlint: 0 findings")
+
+
+def test_json_is_deterministic_and_relative(demo):
+    a = hazlint("--no-prove", "--format", "json", cwd=demo)
+    b = hazlint("--no-prove", "--format", "json", cwd=demo / "fixed" / "..")
+    assert a.returncode == 1 and a.stdout == b.stdout
+    rows = json.loads(a.stdout)
+    assert {r["path"] for r in rows} == {"press_top.v", "fault_latch.v"}
+    for r in rows:
+        assert set(r) >= {"rule", "kind", "severity", "path", "line", "column", "instance",
+                          "message", "evidence", "fix"}
+        assert "key" in r["evidence"]
+
+
+def test_fail_on_select_and_ignore(demo):
+    assert hazlint("--no-prove", "--fail-on", "never", cwd=demo).returncode == 0
+    p = hazlint("--no-prove", "--select", "skewed-reconvergence", "--fail-on", "error", cwd=demo)
+    assert p.returncode == 0 and "[skewed-reconvergence]" in p.stdout
+    p = hazlint("--no-prove", "--ignore", "comb-loop,async-from-logic", "--format", "json",
+                cwd=demo)
+    assert [r["rule"] for r in json.loads(p.stdout)] == ["skewed-reconvergence"]
+
+
+def test_files_on_the_command_line_without_configuration(tmp_path):
+    shutil.copy(FIX / "rules" / "clock_gated.v", tmp_path)
+    p = hazlint("--no-prove", "clock_gated.v", cwd=tmp_path)
+    assert p.returncode == 1
+    assert p.stdout.startswith("clock_gated.v:8:")
+
+
+def test_input_errors_exit_2_without_traceback(tmp_path, demo):
+    (demo / "hazlint.toml").write_text((demo / "hazlint.toml").read_text()
+                                       + "\nasync_ports = [\"x\"]\n")
+    p = hazlint(cwd=demo)
+    assert p.returncode == 2 and "async_ports" in p.stderr and "hazlint.toml:" in p.stderr
+    assert "Traceback" not in p.stderr
+    (tmp_path / "bad.v").write_text("module m(a); input a; wire ; endmodule\n")
+    p = hazlint("bad.v", cwd=tmp_path)
+    assert p.returncode == 2 and "bad.v:1" in p.stderr and "Traceback" not in p.stderr
+    p = hazlint("missing.v", cwd=tmp_path)
+    assert p.returncode == 2 and "missing.v" in p.stderr
+
+
+def test_rule_option_error_and_unknown_rule(demo):
+    cfg = demo / "hazlint.toml"
+    cfg.write_text(cfg.read_text().replace('scope = "async"', 'scope = "sometimes"'))
+    p = hazlint(cwd=demo)
+    assert p.returncode == 2 and "scope" in p.stderr
+    p = hazlint("--select", "no-such-rule", cwd=demo / "fixed")
+    assert p.returncode == 2 and "no-such-rule" in p.stderr
+
+
+def test_changed_keeps_findings_in_or_through_the_changed_files(demo):
+    p = hazlint("--no-prove", "--changed", "status_lamp.v", "--format", "json", cwd=demo)
+    rows = json.loads(p.stdout)
+    # the loop is reported in press_top.v but its evidence runs through status_lamp.v
+    assert [r["rule"] for r in rows] == ["comb-loop"] and p.returncode == 1
+    p = hazlint("--no-prove", "--changed", "two_hand.v", "--format", "json", cwd=demo)
+    assert "comb-loop" not in [r["rule"] for r in json.loads(p.stdout)]
+
+
+def test_rules_and_explain_commands(tmp_path):
+    p = hazlint("rules", cwd=tmp_path)
+    assert p.returncode == 0
+    ids = [ln.split()[0] for ln in p.stdout.splitlines()[:3]]
+    assert ids == ["async-from-logic", "comb-loop", "skewed-reconvergence"]
+    p = hazlint("explain", "skewed-reconvergence", cwd=tmp_path)
+    assert p.returncode == 0
+    for section in ("What it finds", "Why it matters", "Example", "How to fix", "min_skew"):
+        assert section in p.stdout
+    p = hazlint("explain", "nope", cwd=tmp_path)
+    assert p.returncode == 2 and "unknown rule" in p.stderr
