@@ -91,6 +91,27 @@ def make_key(content: str | bytes, *, defines: Mapping[str, Any] | None = None,
     return h.hexdigest()
 
 
+def code_stamp() -> str:
+    """The hazlint version plus a stamp of the reader's own source files (name, size, mtime).
+
+    The version alone is not enough while hazlint itself is being edited (a development
+    checkout keeps one version number across many reader changes); an entry written by
+    different reader code is then a miss rather than stale IR.
+    """
+    h = hashlib.sha256(__version__.encode())
+    here = Path(__file__).resolve().parent
+    for folder in (here / "frontend",):
+        try:
+            entries = sorted(os.scandir(folder), key=lambda e: e.name)
+        except OSError:
+            continue
+        for e in entries:
+            if e.name.endswith(".py"):
+                st = e.stat()
+                h.update(f"{e.name}\0{st.st_size}\0{st.st_mtime_ns}\0".encode())
+    return f"{__version__}+{h.hexdigest()[:16]}"
+
+
 class ParseCache:
     """JSON entry store with ``load(key) -> dict | None`` and ``store(key, dict)``.
 
@@ -100,10 +121,10 @@ class ParseCache:
     """
 
     def __init__(self, directory: str | os.PathLike | None = None, *, enabled: bool = True,
-                 namespace: str = "parse", version: str = __version__):
+                 namespace: str = "parse", version: str | None = None):
         self.directory = Path(directory).expanduser() if directory else default_cache_dir()
         self.namespace = namespace
-        self.version = version
+        self.version = version if version is not None else code_stamp()
         self.enabled = enabled
         self.hits = self.misses = self.stores = self.dropped = 0
         self.warning: str | None = None

@@ -116,3 +116,12 @@ def test_progress_only_after_delay_and_only_on_terminal():
     q(5, 10, "x.v")
     q.close()
     assert pipe.getvalue() == ""
+
+
+def test_entry_from_other_reader_code_is_a_miss(tmp_path):
+    # the entry records which reader code wrote it (version + source stamp)
+    k = make_key("module m; endmodule")
+    ParseCache(tmp_path, version="0.1.0+aaaa").store(k, {"a": 1})
+    assert ParseCache(tmp_path, version="0.1.0+bbbb").load(k) is None
+    assert ParseCache(tmp_path, version="0.1.0+aaaa").load(k) == {"a": 1}
+    assert ParseCache(tmp_path).version.startswith("0.1.0+")
