@@ -21,9 +21,10 @@ the intended order), shadowing the base class ones.
 """
 from __future__ import annotations
 
+import functools
 import re
 
-from ply.lex import TOKEN, lex
+from ply.lex import TOKEN, LexToken, lex
 from pyverilog.vparser.lexer import VerilogLexer
 
 MAX_NESTING = 1000
@@ -64,6 +65,10 @@ class HzLexer(VerilogLexer):
     t_PATH_PARALLEL = r"=>"
     t_PATH_FULL = r"\*>"
 
+    # blanks as one regex match per run (ply's t_ignore steps one character per loop turn)
+    t_ignore = ""
+    t_ignore_BLANKS = r"[ \t\r\f\v]+"
+
     def __init__(self, error_func=None):
         super().__init__(error_func or self._raise)
         self.attrs_at: dict[int, list] = {}
@@ -78,6 +83,73 @@ class HzLexer(VerilogLexer):
 
     def token(self):
         return self.lexer.token()
+
+    def fast_tokens(self):
+        """A token function for the LR driver over the text given to :meth:`input`.
+
+        Blanks, newlines, identifiers, keywords and ``, ; ( )`` (the bulk of a netlist) are
+        matched here with one small regular expression; at any other character the ply lexer
+        takes over for one token (comments, numbers, operators, attributes, UDP tables, timing
+        checks), so both paths produce the same tokens as the ply rules alone would.
+        """
+        return functools.partial(next, self._fast(), None)
+
+    def _fast(self):
+        lx = self.lexer
+        data = lx.lexdata
+        match = _FAST.match
+        reserved = self.reserved
+        n = len(data)
+        pos = 0
+        lineno = 1
+        ply_token = lx.token
+        Tok = LexToken
+        while pos < n:
+            m = match(data, pos)
+            kind = m.lastgroup
+            end = m.end()
+            if kind == "id":
+                v = m.group()
+                ty = reserved.get(v, "ID")
+                if v == "table":
+                    kind = "other"
+                else:
+                    t = Tok()
+                    t.type, t.value, t.lineno, t.lexpos = ty, v, lineno, pos
+                    pos = end
+                    yield t
+                    continue
+            elif kind == "ws":
+                pos = end
+                continue
+            elif kind == "nl":
+                lineno += end - pos
+                pos = end
+                continue
+            elif kind == "punct":
+                v = m.group()
+                t = Tok()
+                t.type, t.value, t.lineno, t.lexpos = _PUNCT[v], v, lineno, pos
+                pos = end
+                yield t
+                continue
+            elif kind == "esc":
+                t = Tok()
+                t.type, t.value, t.lineno, t.lexpos = "ID", m.group()[1:], lineno, pos
+                pos = end
+                yield t
+                continue
+            # anything else: one token (or skipped text) from the ply rules
+            lx.lexpos = pos
+            lx.lineno = lineno
+            t = ply_token()
+            pos = lx.lexpos
+            lineno = lx.lineno
+            if t is None:
+                if pos >= n:
+                    return
+                continue
+            yield t
 
     def check_nesting(self, data: str) -> None:
         """Refuse bracket nesting deeper than :data:`MAX_NESTING` (quick scan first; comments
@@ -227,6 +299,9 @@ class HzLexer(VerilogLexer):
         return lexpos - (data.rfind("\n", 0, lexpos) + 1) + 1
 
 
+_FAST = re.compile(r"(?P<ws>[ \t\r\f\v]+)|(?P<nl>\n+)|(?P<id>[a-zA-Z_][a-zA-Z_0-9$]*)"
+                   r"|(?P<punct>[,;)]|\((?!\*))|(?P<esc>\\\S+)|(?P<other>[\s\S])")
+_PUNCT = {",": "COMMA", ";": "SEMICOLON", "(": "LPAREN", ")": "RPAREN"}
 _SKIP = re.compile(r"(?:\s+|//[^\n]*|/\*[\s\S]*?\*/)*")
 _BRACKETS = re.compile(r"[()\[\]{}]")
 _COMMENTS_STRINGS = re.compile(r'//[^\n]*|/\*[\s\S]*?\*/|"(?:[^"\\\n]|\\.)*"')

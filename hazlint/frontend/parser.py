@@ -171,20 +171,27 @@ def _stock_list_actions():
     return appends, ones, empties
 
 
+# The actions below touch ``p.slice`` directly (same effect as ``p[0] = ...`` plus
+# ``p.set_lineno(0, p.lineno(1))``): they run hundreds of thousands of times on a netlist.
+
 def _make_append(doc, k):
     def action(self, p):
-        lst = p[1]
-        lst.append(p[k])
-        p[0] = lst
-        p.set_lineno(0, p.lineno(1))
+        s = p.slice
+        first = s[1]
+        lst = first.value
+        lst.append(s[k].value)
+        s[0].value = lst
+        s[0].lineno = getattr(first, "lineno", 0)
     action.__doc__ = doc
     return action
 
 
 def _make_one(doc):
     def action(self, p):
-        p[0] = [p[1]]
-        p.set_lineno(0, p.lineno(1))
+        s = p.slice
+        first = s[1]
+        s[0].value = [first.value]
+        s[0].lineno = getattr(first, "lineno", 0)
     action.__doc__ = doc
     return action
 
@@ -300,8 +307,9 @@ class HzParser(VerilogParser):
         try:
             self.lexer.check_nesting(text)
             self.lexer.input(text)
-            # the ply lexer itself goes to the LR driver: no wrapper call per token
-            return self.parser.parse(None, lexer=self.lexer.lexer, debug=debug)
+            self._text = text
+            return self.parser.parse(None, lexer=self.lexer.lexer, debug=debug,
+                                     tokenfunc=self.lexer.fast_tokens())
         except LexError as exc:
             raise SyntaxErr(exc.message, exc.lineno, exc.lexpos, exc.construct) from None
         except vparser.ParseError as exc:
@@ -311,9 +319,31 @@ class HzParser(VerilogParser):
 
     def p_error(self, p):
         if p is None:
-            raise SyntaxErr("unexpected end of input", self.lexer.lexer.lineno, None, "EOF")
+            raise SyntaxErr("unexpected end of input", self._text.rstrip().count("\n") + 1,
+                            None, "EOF")
         value = p.value if p.type != "TABLE" else "table"
         raise SyntaxErr("syntax error", p.lineno, p.lexpos, str(value)[:40])
+
+    # ------------------------------------------------------------------ hot paths
+    def p_identifier(self, p):
+        'identifier : ID'
+        s = p.slice
+        tok = s[1]
+        s[0].value = vast.Identifier(tok.value, None, lineno=tok.lineno)
+        s[0].lineno = tok.lineno
+
+    def p_expression_id(self, p):
+        'expression : identifier'
+        s = p.slice
+        s[0].value = s[1].value
+        s[0].lineno = getattr(s[1], "lineno", 0)
+
+    def p_instance_port_list(self, p):
+        'instance_port_list : expression'
+        s = p.slice
+        line = getattr(s[1], "lineno", 0)
+        s[0].value = vast.PortArg(None, s[1].value, lineno=line)
+        s[0].lineno = line
 
     # ------------------------------------------------------------------ definitions
     def p_definition_primitive(self, p):
