@@ -70,3 +70,56 @@ def test_bad_baseline_is_a_clear_error(tmp_path, text, what):
     assert what in str(e.value) and str(f) in str(e.value)
     with pytest.raises(ConfigError):
         load_baseline(tmp_path / "missing.json")
+
+
+# ---------------------------------------------------------------------------------------------
+# through the command line: record, then fail only on new findings
+
+VALVE = """\
+module press_valve(input guard_closed, input two_hand, input maint_key, output valve_enable);
+  wire n_guard, run, bypass;
+  not g_inv (n_guard, guard_closed);
+  and g_run (run, two_hand, guard_closed);
+  and g_byp (bypass, maint_key, n_guard);
+  or  g_out (valve_enable, run, bypass);
+endmodule
+"""
+LOOP_GATES = """\
+  wire l1, l2;
+  nand g_l1 (l1, maint_key, l2);
+  and  g_l2 (l2, l1, two_hand);
+endmodule
+"""
+
+
+def cli(cwd, *args):
+    import os
+    import subprocess
+    import sys
+    return subprocess.run([sys.executable, "-m", "hazlint.cli", "check", "--no-prove", *args],
+                          cwd=cwd, capture_output=True, text=True,
+                          env=dict(os.environ, HAZLINT_CACHE_DIR=str(cwd / ".c")))
+
+
+@pytest.mark.slow
+def test_cli_baseline_survives_edits_and_catches_new_findings(tmp_path):
+    v = tmp_path / "valve.v"
+    v.write_text(VALVE)
+    w = cli(tmp_path, "--write-baseline", "base.json", "valve.v")
+    assert w.returncode == 0, w.stderr
+    assert len(json.loads((tmp_path / "base.json").read_text())["findings"]) == 1
+    assert cli(tmp_path, "valve.v").returncode == 1                 # without: it fails
+    assert cli(tmp_path, "--baseline", "base.json", "valve.v").returncode == 0
+    # an unrelated edit moves every line down: still the known finding
+    v.write_text("// press valve, reviewed 2024\n\n" + VALVE)
+    r = cli(tmp_path, "--baseline", "base.json", "--format", "json", "valve.v")
+    assert r.returncode == 0 and json.loads(r.stdout) == [], r.stdout + r.stderr
+    # a new hazard elsewhere: only that one is reported
+    v.write_text("// press valve, reviewed 2024\n\n" + VALVE.replace("endmodule", LOOP_GATES))
+    r = cli(tmp_path, "--baseline", "base.json", "--format", "json", "valve.v")
+    assert r.returncode == 1, r.stderr
+    assert {f["rule"] for f in json.loads(r.stdout)} == {"comb-loop"}
+    # a broken baseline file is an input error, exit 2, no traceback
+    (tmp_path / "bad.json").write_text("{")
+    r = cli(tmp_path, "--baseline", "bad.json", "valve.v")
+    assert r.returncode == 2 and "bad.json" in r.stderr and "Traceback" not in r.stderr

@@ -4,6 +4,8 @@ from __future__ import annotations
 import json
 import os
 
+import pytest
+
 from hazlint.cache import ParseCache, make_key, open_cache
 from hazlint.frontend import ir
 
@@ -125,3 +127,57 @@ def test_entry_from_other_reader_code_is_a_miss(tmp_path):
     assert ParseCache(tmp_path, version="0.1.0+bbbb").load(k) is None
     assert ParseCache(tmp_path, version="0.1.0+aaaa").load(k) == {"a": 1}
     assert ParseCache(tmp_path).version.startswith("0.1.0+")
+
+
+# ---------------------------------------------------------------------------------------------
+# through the command line
+
+VALVE = """\
+module press_valve(input guard_closed, input two_hand, input maint_key, output valve_enable);
+  wire n_guard, run, bypass;
+  not g_inv (n_guard, guard_closed);
+  and g_run (run, two_hand, guard_closed);
+  and g_byp (bypass, maint_key, n_guard);
+  or  g_out (valve_enable, run, bypass);
+endmodule
+"""
+
+
+def cli(cwd, *args):
+    import subprocess
+    import sys
+    env = dict(os.environ)
+    env.pop("HAZLINT_CACHE_DIR", None)
+    return subprocess.run([sys.executable, "-m", "hazlint.cli", "check", "--no-prove",
+                           "--format", "json", *args], cwd=cwd, capture_output=True, text=True,
+                          env=env)
+
+
+@pytest.mark.slow
+def test_cli_cache_dir_no_cache_jobs_and_corruption(tmp_path):
+    (tmp_path / "valve.v").write_text(VALVE)
+    (tmp_path / "top.v").write_text(
+        "module top(input g, input h, input k, output v);\n"
+        "  press_valve u (.guard_closed(g), .two_hand(h), .maint_key(k), .valve_enable(v));\n"
+        "endmodule\n")
+    cache = tmp_path / "cache"
+    cold = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
+    assert cold.returncode == 1, cold.stderr
+    entries = sorted(cache.rglob("*.json"))
+    assert len(entries) == 2                       # one entry per source file
+    stamp = [p.stat().st_mtime_ns for p in entries]
+    warm = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
+    assert warm.stdout == cold.stdout
+    assert [p.stat().st_mtime_ns for p in entries] == stamp     # served, not rewritten
+    # a corrupted entry is dropped and rebuilt; the result does not change
+    entries[0].write_text('{"format": 1, "key": "')
+    again = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
+    assert again.stdout == cold.stdout and again.returncode == 1
+    assert json.loads(entries[0].read_text())["format"] == 1
+    # parallel parsing gives the same findings
+    par = cli(tmp_path, "--no-cache", "-j", "2", "top.v", "valve.v")
+    assert par.stdout == cold.stdout, par.stderr
+    # --no-cache writes nothing, anywhere under the given folder
+    nc = tmp_path / "unused"
+    cli(tmp_path, "--no-cache", "--cache-dir", str(nc), "top.v", "valve.v")
+    assert not nc.exists()

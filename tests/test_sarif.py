@@ -152,3 +152,71 @@ def test_render_reads_a_lint_result(schema, tmp_path):
     log = json.loads(sarif.render(result))
     validate(schema, log)
     assert log["runs"][0]["results"][0]["ruleId"] == "reconvergent-hazard"
+
+
+# ---------------------------------------------------------------------------------------------
+# through the command line, on the press demo
+
+
+DEMO = os.path.join(os.path.dirname(__file__), os.pardir, "fixtures", "demo")
+
+
+def run_cli(*args, cwd):
+    import subprocess
+    import sys
+    return subprocess.run([sys.executable, "-m", "hazlint.cli", *args], cwd=cwd,
+                          capture_output=True, text=True,
+                          env=dict(os.environ, HAZLINT_CACHE_DIR=os.path.join(cwd, ".c")))
+
+
+@pytest.mark.slow
+def test_cli_sarif_on_demo_matches_json_and_validates(schema, tmp_path):
+    import shutil
+    demo = tmp_path / "demo"
+    shutil.copytree(DEMO, demo)
+    s = run_cli("check", "--format", "sarif", "--no-prove", cwd=str(demo))
+    j = run_cli("check", "--format", "json", "--no-prove", cwd=str(demo))
+    assert s.returncode == j.returncode == 1, s.stderr + j.stderr
+    assert s.stderr == ""                  # nothing but the log: no progress, no summary
+    log = json.loads(s.stdout)
+    validate(schema, log)
+    run = log["runs"][0]
+    findings = json.loads(j.stdout)
+    got = [(r["ruleId"], r["locations"][0]["physicalLocation"]["artifactLocation"]["uri"],
+            r["locations"][0]["physicalLocation"]["region"]["startLine"])
+           for r in run["results"]]
+    assert sorted(got) == sorted((f["rule"], f["path"], f["line"]) for f in findings)
+    assert all(r["locations"][0]["physicalLocation"]["artifactLocation"]["uriBaseId"]
+               == "SRCROOT" for r in run["results"])
+    assert run["originalUriBaseIds"]["SRCROOT"]["uri"] == demo.as_uri() + "/"
+    # every rule that reported is described, with its documentation as help
+    described = {r["id"]: r for r in run["tool"]["driver"]["rules"]}
+    for r in run["results"]:
+        assert described[r["ruleId"]]["help"]["text"]
+        assert run["tool"]["driver"]["rules"][r["ruleIndex"]]["id"] == r["ruleId"]
+        assert r["codeFlows"], r["ruleId"]         # every finding here has evidence paths
+    # the code flows carry the same hops as the JSON evidence paths, in order
+    for r in run["results"]:
+        f = next(f for f in findings if (f["rule"], f["line"]) == (
+            r["ruleId"], r["locations"][0]["physicalLocation"]["region"]["startLine"]))
+        want = [[(h.get("path"), h.get("line")) for h in p] for p in f["evidence"]["paths"]]
+        have = [[(h["location"]["physicalLocation"]["artifactLocation"]["uri"],
+                  h["location"]["physicalLocation"]["region"]["startLine"])
+                 if "physicalLocation" in h["location"] else (None, None)
+                 for h in cf["threadFlows"][0]["locations"]] for cf in r["codeFlows"]]
+        assert have == want, r["ruleId"]
+
+
+@pytest.mark.slow
+def test_cli_annotations_on_demo(tmp_path):
+    import shutil
+    demo = tmp_path / "demo"
+    shutil.copytree(DEMO, demo)
+    a = run_cli("check", "--format", "annotations", "--no-prove", cwd=str(demo))
+    j = run_cli("check", "--format", "json", "--no-prove", cwd=str(demo))
+    lines = a.stdout.splitlines()
+    findings = json.loads(j.stdout)
+    assert a.returncode == 1 and len(lines) == len(findings)
+    for line, f in zip(lines, sorted(findings, key=lambda f: (f["path"], f["line"]))):
+        assert line.startswith(f"::{'error' if f['severity'] == 'error' else 'warning'} "
+                               f"file={f['path']},line={f['line']},")
