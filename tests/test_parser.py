@@ -403,3 +403,15 @@ def test_unwritable_cache_dir_builds_in_memory(tmp_path):
     out = subprocess.run([sys.executable, "-c", _PROBE], cwd=tmp_path, env=env, text=True,
                          capture_output=True, check=True).stdout.split("\n")
     assert out[0] == "generated" and out[1] == "None"
+
+
+@pytest.mark.parametrize("text, line, construct", [
+    ("module m(a);\n\n  input reg a;\nendmodule\n", 3, "a"),
+    ("module m(input reg a);\nendmodule\n", 1, "a"),
+    ("module m;\n input x = 1;\nendmodule\n", 2, "x"),
+])
+def test_invalid_declarations_name_line_and_signal(tmp_path, text, line, construct):
+    # the stock checks raise without a location; the reader must still say where
+    with pytest.raises(ParseError) as err:
+        _read(tmp_path, text)
+    assert (err.value.line, err.value.construct) == (line, construct)

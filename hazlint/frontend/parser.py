@@ -313,9 +313,17 @@ class HzParser(VerilogParser):
         except LexError as exc:
             raise SyntaxErr(exc.message, exc.lineno, exc.lexpos, exc.construct) from None
         except vparser.ParseError as exc:
-            # stock semantic checks (e.g. "input reg") raise without a location
-            tok = self.lexer.lexer
-            raise SyntaxErr("invalid declaration (%s)" % exc, tok.lineno, None, None) from None
+            # a stock semantic check (no location): parse again with the plain ply lexer,
+            # whose line counter then tells where it failed
+            line = 1
+            try:
+                self.lexer.input(text)
+                self.parser.parse(None, lexer=self.lexer.lexer)
+            except vparser.ParseError:
+                line = self.lexer.lexer.lineno
+            except Exception:
+                pass
+            raise SyntaxErr("invalid construct (%s)" % exc, line, None, None) from None
 
     def p_error(self, p):
         if p is None:
@@ -446,8 +454,11 @@ class HzParser(VerilogParser):
         p.slice[0].lexpos = p.lexpos(1)
 
     def create_ioport(self, sigtypes, name, width=None, dimensions=None, lineno=0):
-        self.typecheck_ioport(sigtypes)
-        node = VerilogParser.create_ioport(self, sigtypes, name, width, dimensions, lineno)
+        try:
+            node = VerilogParser.create_ioport(self, sigtypes, name, width, dimensions, lineno)
+        except vparser.ParseError:
+            raise SyntaxErr("invalid port declaration '%s'" % " ".join(sigtypes), lineno,
+                            None, name) from None
         kinds = [s for s in sigtypes if s in _EXTRA_NET_KINDS]
         if kinds:
             node.second = vast.Wire(name=name, width=width, signed='signed' in sigtypes,
@@ -456,7 +467,11 @@ class HzParser(VerilogParser):
         return node
 
     def create_decl(self, sigtypes, name, width=None, dimensions=None, lineno=0):
-        decls = VerilogParser.create_decl(self, sigtypes, name, width, dimensions, lineno)
+        try:
+            decls = VerilogParser.create_decl(self, sigtypes, name, width, dimensions, lineno)
+        except vparser.ParseError:
+            raise SyntaxErr("invalid declaration '%s'" % " ".join(sigtypes), lineno, None,
+                            name) from None
         for s in sigtypes:
             if s in _EXTRA_NET_KINDS:
                 w = vast.Wire(name=name, width=width, signed='signed' in sigtypes,
@@ -503,12 +518,10 @@ class HzParser(VerilogParser):
         p[0] = p[1]
         p.set_lineno(0, p.lineno(1))
 
-    def typecheck_declassign(self, sigtypes):
-        if not any(s in sigtypes for s in ("reg", "wire") + _EXTRA_NET_KINDS + ("tri",)):
-            raise vparser.ParseError("declaration with an initial value needs a net type")
-
     def create_declassign(self, sigtypes, name, assign, width=None, lineno=0):
-        self.typecheck_declassign(sigtypes)
+        if not any(s in sigtypes for s in ("reg", "wire", "tri") + _EXTRA_NET_KINDS):
+            raise SyntaxErr("a declaration with an initial value needs a net type", lineno,
+                            None, name)
         decls = [d for d in self.create_decl([s for s in sigtypes], name, width=width,
                                              lineno=lineno)]
         decls.append(assign)
