@@ -19,7 +19,6 @@ from typing import Iterable
 
 import networkx as nx
 
-MULTI = -1          # label: paths from more than one fanout branch of the stem
 INF = math.inf
 
 
@@ -116,32 +115,39 @@ class StemTiming:
     def chain(self, node: int, slow: bool, make, tag: str = "") -> tuple:
         """The fastest/slowest path from the stem to ``node`` as a tuple of
         ``make(node index, hop delay, arrival)`` items, stem first, walked back along the
-        back-pointers. Items are made once per node and reused by later paths of this stem
-        (memoised per ``tag``)."""
+        back-pointers. The paths of one stem form a tree, so every node already placed on an
+        earlier path of this stem (per ``tag``) ends the walk: its prefix is copied from that
+        path instead of walked again."""
         s = self.solver
         back = s.bmax if slow else s.bmin
         arr = s.amax if slow else s.amin
         fanin = s.tg.fanin
-        memo = self._chains.get((tag, slow))
+        key = (tag, slow)
+        memo = self._chains.get(key)
         if memo is None:
-            memo = self._chains[(tag, slow)] = {}
+            memo = self._chains[key] = {}
         stem = self.stem
-        out = []
+        walked = []
         n = node
-        while n != stem:
-            item = memo.get(n)
-            k = back[n]
-            if item is None:
-                p, _pin, dmin, dmax = fanin[n][k]
-                item = memo[n] = make(n, dmax if slow else dmin, arr[n])
-            out.append(item)
-            n = fanin[n][k][0]
-        item = memo.get(stem)
-        if item is None:
-            item = memo[stem] = make(stem, 0.0, 0.0)
-        out.append(item)
-        out.reverse()
-        return tuple(out)
+        while True:
+            hit = memo.get(n)
+            if hit is not None:
+                path, i = hit
+                prefix = path[:i + 1]
+                break
+            if n == stem:
+                prefix = ()
+                walked.append((n, 0.0, 0.0))
+                break
+            p, _pin, dmin, dmax = fanin[n][back[n]]
+            walked.append((n, dmax if slow else dmin, arr[n]))
+            n = p
+        walked.reverse()
+        out = prefix + tuple(make(i, dl, a) for i, dl, a in walked)
+        base = len(prefix)
+        for k, (i, _dl, _a) in enumerate(walked):
+            memo[i] = (out, base + k)
+        return out
 
     @property
     def arrival_min(self):
@@ -180,15 +186,15 @@ class ArrivalSolver:
         self.amax = [-INF] * n
         self.bmin = [0] * n
         self.bmax = [0] * n
-        self.label = [None] * n      # None: not in the current cone
+        self.dom = [-1] * n          # immediate dominator in the current cone; -1: not in it
         self._touched: list[int] = []
 
     def _reset(self):
-        amin, amax, label = self.amin, self.amax, self.label
+        amin, amax, dom = self.amin, self.amax, self.dom
         for i in self._touched:
             amin[i] = INF
             amax[i] = -INF
-            label[i] = None
+            dom[i] = -1
         self._touched = []
 
     def cone_of(self, stem: int) -> list[int]:
@@ -203,32 +209,40 @@ class ArrivalSolver:
                     stack.append(v)
         return sorted(seen)
 
-    def solve(self, stem: int, gate_nodes: Iterable[int] | None = None,
-              on_reconvergence=None) -> StemTiming:
+    def solve(self, stem: int, on_reconvergence=None) -> StemTiming:
         """Fill arrival arrays for ``stem``'s cone. ``on_reconvergence(Reconvergence)`` is called
-        for every gate where two different branches of the stem meet (in topological order)."""
+        for every gate where paths from two different fanout branches of the stem meet for the
+        first time (in topological order).
+
+        "For the first time" is decided with dominators of the cone (the stem is the root): two
+        input pins of a gate reconverge *at this stem* when the nearest common dominator of
+        their drivers is the stem itself. When every path to both pins passes through some
+        other node, the branches really split at that node, a later stem, and the reconvergence
+        is that stem's; so each reconvergence is attributed to the nearest stem that causes it.
+        On a DAG visited in topological order, a node's immediate dominator is the nearest
+        common dominator of its predecessors (Cooper, Harvey & Kennedy, "A Simple, Fast
+        Dominance Algorithm", 2001, with one pass sufficing in topological order).
+        """
         self._reset()
         cone = self.cone_of(stem)
         self._touched = cone
-        amin, amax, bmin, bmax, label = self.amin, self.amax, self.bmin, self.bmax, self.label
+        amin, amax, bmin, bmax, dom = self.amin, self.amax, self.bmin, self.bmax, self.dom
         fanin = self.tg.fanin
         amin[stem] = 0.0
         amax[stem] = 0.0
-        label[stem] = MULTI   # never read as a pin label: reads of the stem get their own branch
+        dom[stem] = stem
         for v in cone[1:]:
             lo = INF
             hi = -INF
             klo = khi = 0
-            lab = None
+            d = -1
             reached = []
             for k, (p, pin, dmin, dmax) in enumerate(fanin[v]):
                 if p == stem:
-                    pl = v * 4096 + pin + 1          # this read of the stem is its own branch
                     a_lo = dmin
                     a_hi = dmax
                 else:
-                    pl = label[p]
-                    if pl is None:
+                    if dom[p] < 0:
                         continue
                     a_lo = amin[p] + dmin
                     a_hi = amax[p] + dmax
@@ -238,13 +252,20 @@ class ArrivalSolver:
                 if a_hi > hi:
                     hi = a_hi
                     khi = k
-                if lab is None:
-                    lab = pl
-                elif pl != lab:
-                    lab = MULTI
-                reached.append((k, pl, a_lo, a_hi))
-            if lab == MULTI and len(reached) >= 2 and on_reconvergence is not None:
-                r = _worst_pair(reached)
+                # nearest common dominator of the drivers so far (indices are topological)
+                if d < 0:
+                    d = p
+                elif d != p:
+                    a, b = d, p
+                    while a != b:
+                        while a > b:
+                            a = dom[a]
+                        while b > a:
+                            b = dom[b]
+                    d = a
+                reached.append((k, p, a_lo, a_hi))
+            if d == stem and len(reached) >= 2 and on_reconvergence is not None:
+                r = _worst_pair(reached, dom, stem)
                 if r is not None:
                     skew, ks, kf, ts, tf = r
                     on_reconvergence(Reconvergence(v, skew, ks, kf, ts, tf))
@@ -252,19 +273,29 @@ class ArrivalSolver:
             amax[v] = hi
             bmin[v] = klo
             bmax[v] = khi
-            label[v] = lab
+            dom[v] = d
         return StemTiming(self, stem, cone)
 
 
-def _worst_pair(reached):
+def _meet(dom, a: int, b: int) -> int:
+    while a != b:
+        while a > b:
+            a = dom[a]
+        while b > a:
+            b = dom[b]
+    return a
+
+
+def _worst_pair(reached, dom, stem):
     """Largest (slow arrival through pin a) - (fast arrival through pin b) over pin pairs whose
-    paths start on different branches. ``reached``: (fanin position, label, lo, hi)."""
+    paths first meet here, i.e. whose drivers' nearest common dominator is the stem.
+    ``reached``: (fanin position, driver, lo, hi)."""
     best = None
-    for ka, la, _lo_a, hi_a in reached:
-        for kb, lb, lo_b, _hi_b in reached:
+    for ka, pa, _lo_a, hi_a in reached:
+        for kb, pb, lo_b, _hi_b in reached:
             if ka == kb:
                 continue
-            if la == lb and la != MULTI:
+            if pa != stem and pb != stem and (pa == pb or _meet(dom, pa, pb) != stem):
                 continue
             skew = hi_a - lo_b
             if best is None or skew > best[0]:
