@@ -76,6 +76,8 @@ def test_module_parameter_overrides_named_and_positional(tmp_path):
           sub #(.W(4), .D(2)) u1 (.a(a), .y(y), .nc());
           sub #(4, 2) u2 (a, y);
           sub u3 [3:0] (.a(a), .y(y));
+          sub u4 (a, , y);
+          sub u5 ();
         endmodule
         """)
     inst = _by_name(m.items, ir.Instance)
@@ -86,6 +88,8 @@ def test_module_parameter_overrides_named_and_positional(tmp_path):
     assert inst["u2"].delay == [_same(_n(4)), _same(_n(2))]
     assert inst["u2"].connections == [(None, ("id", "a")), (None, ("id", "y"))]
     assert inst["u3"].array == (_n(3), _n(0))
+    assert inst["u4"].connections == [(None, ("id", "a")), (None, None), (None, ("id", "y"))]
+    assert inst["u5"].connections == []
 
 
 # ------------------------------------------------------------------------------- UDPs

@@ -406,6 +406,8 @@ class Builder:
         if cell in GATE_PRIMITIVES and delay is not None:
             params = []                 # on a gate primitive a positional #(...) is a delay
         for name, ports, array, line, pos in g.bodies:
+            if len(ports) == 1 and ports[0].portname is None and ports[0].argname is None:
+                ports = []              # "u ()": no connections
             conns = []
             for pa in ports:
                 conns.append((pa.portname, self.expr(pa.argname)

@@ -745,6 +745,14 @@ class HzParser(VerilogParser):
         p[0] = ('', p[2], None, p.lineno(1), None)
         p.set_lineno(0, p.lineno(1))
 
+    p_instance_ports_list_empty = None
+
+    def p_instance_port_list_empty(self, p):
+        'instance_port_list : empty'
+        # an unconnected positional port (``u (a, , b)``); ``()`` also comes here and is
+        # turned back into "no connections" by the IR builder
+        p[0] = vast.PortArg(None, None, lineno=p.lineno(1))
+
     def p_parameterlist(self, p):
         'parameterlist : parameterlist_ne'
         p[0] = p[1]
