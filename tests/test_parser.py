@@ -375,6 +375,7 @@ _PROBE = ("import os, sys; from hazlint.frontend.parser import HzParser; p = HzP
           "print(p.tables_source); print(p.tables_path); print(sorted(os.listdir('.')))")
 
 
+@pytest.mark.slow
 def test_parser_tables_cached_per_user_and_not_in_cwd(tmp_path):
     env = dict(os.environ, XDG_CACHE_HOME=str(tmp_path / "cache"),
                PYTHONPATH=str(REPO) + os.pathsep + os.environ.get("PYTHONPATH", ""))
@@ -398,6 +399,7 @@ def test_parser_tables_cached_per_user_and_not_in_cwd(tmp_path):
         assert fh.read(1) == b"{"                          # JSON, not a pickle
 
 
+@pytest.mark.slow
 def test_unwritable_cache_dir_builds_in_memory(tmp_path):
     ro = tmp_path / "ro"
     ro.mkdir()
