@@ -204,8 +204,9 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
     diags = run_rules(design, rules, context, config.severity)
     if prove:
         diags = refine(design, diags, context, config.prove)
+    # front-end notes ride along unless their rule id is ignored or a selection leaves it out
     diags = list(diags) + [n for n in (design.notes or []) if isinstance(n, Diagnostic)
-                           and n.rule not in ign]
+                           and n.rule not in ign and (sel is None or n.rule in sel)]
 
     # waivers: inline comments in every source read, plus the waiver file
     sources = list(dict.fromkeys(list(getattr(design, "files", []) or []) + paths))
