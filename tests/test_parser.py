@@ -421,3 +421,43 @@ def test_invalid_declarations_name_line_and_signal(tmp_path, text, line, constru
     with pytest.raises(ParseError) as err:
         _read(tmp_path, text)
     assert (err.value.line, err.value.construct) == (line, construct)
+
+
+def test_attribute_on_non_ansi_port_declaration(tmp_path):
+    m = _module(tmp_path, """
+        module press (guard_closed, valve_enable);
+          input guard_closed;
+          (* hazlint_async *) output valve_enable;
+          assign valve_enable = guard_closed;
+        endmodule
+        """)
+    assert m.ports["valve_enable"].attrs == {"hazlint_async": None}
+    assert m.ports["guard_closed"].attrs == {}
+
+
+def test_expression_operators_and_literals(tmp_path):
+    m = _module(tmp_path, """
+        module e (input [3:0] a, b, output [7:0] y);
+          assign y = {~a & b | a ^ b, ~^a, !a && b || a != b, a === b ? 4'hx : 4'bz1?0,
+                      -a + b * 2 / 3 % 5 ** 2, a << 1 >> 1 <<< 1 >>> 1, &a, ~&a, |a, ~|a,
+                      ^a, a <= b, a >= b, a < b, a > b, a == b, a !== b, f(a, b), $signed(a),
+                      8'sd5, 3.5e1, "txt"};
+        endmodule
+        """)
+    (a,) = [it for it in m.items if isinstance(it, ir.Assign)]
+    parts = a.rhs[1]
+    assert parts[0] == ("binop", "|", ("binop", "&", ("unop", "~", ("id", "a")), ("id", "b")),
+                        ("binop", "^", ("id", "a"), ("id", "b")))     # & binds tighter than |
+    assert parts[1] == ("unop", "~^", ("id", "a"))
+    assert parts[2][1] == "||" and parts[2][2][1] == "&&" and parts[2][3][1] == "!="
+    cond = parts[3]
+    assert cond[0] == "cond" and cond[1][1] == "==="
+    assert cond[2] == ("num", 4, 0, 0b1111, False)            # 4'hx: all x
+    assert cond[3] == ("num", 4, 0b1110, 0b1010, False)       # 4'bz1?0: z 1 z 0
+    assert parts[4][1] == "+" and parts[4][2] == ("unop", "-", ("id", "a"))
+    assert [p[1] for p in parts[6:10]] == ["&", "~&", "|", "~|"]
+    assert [p[1] for p in parts[11:17]] == ["<=", ">=", "<", ">", "==", "!=="]
+    assert parts[17] == ("call", "f", [("id", "a"), ("id", "b")])
+    assert parts[18] == ("call", "$signed", [("id", "a")])
+    assert parts[19] == ("num", 8, 5, 0, True)
+    assert parts[20] == ("real", 35.0) and parts[21] == ("str", "txt")
