@@ -126,3 +126,36 @@ def test_rules_and_explain_commands(tmp_path):
         assert section in p.stdout
     p = hazlint("explain", "nope", cwd=tmp_path)
     assert p.returncode == 2 and "unknown rule" in p.stderr
+
+
+def _run_on_pty(args, cwd, env):
+    """Run hazlint with stdout on a real pseudo-terminal; returns what it printed."""
+    import pty
+    master, slave = pty.openpty()
+    try:
+        p = subprocess.Popen([sys.executable, "-m", "hazlint.cli", *args], cwd=cwd, env=env,
+                             stdout=slave, stderr=subprocess.PIPE)
+        os.close(slave)
+        chunks = []
+        while True:
+            try:
+                data = os.read(master, 65536)
+            except OSError:
+                break
+            if not data:
+                break
+            chunks.append(data)
+        p.wait(timeout=300)
+    finally:
+        os.close(master)
+    return b"".join(chunks).decode("utf-8", "replace")
+
+
+def test_colour_only_on_a_terminal_and_not_with_no_color(demo):
+    env = dict(os.environ)
+    env.pop("NO_COLOR", None)
+    assert "\033[" in _run_on_pty(["--no-prove"], demo, env)
+    env["NO_COLOR"] = "1"
+    out = _run_on_pty(["--no-prove"], demo, env)
+    assert "\033[" not in out and "[comb-loop]" in out
+    assert "\033[" in hazlint("--no-prove", "--color", "always", cwd=demo).stdout
