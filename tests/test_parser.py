@@ -461,3 +461,22 @@ def test_expression_operators_and_literals(tmp_path):
     assert parts[18] == ("call", "$signed", [("id", "a")])
     assert parts[19] == ("num", 8, 5, 0, True)
     assert parts[20] == ("real", 35.0) and parts[21] == ("str", "txt")
+
+
+def test_bare_named_block_in_generate_region(tmp_path):
+    m = _module(tmp_path, """
+        module b (input a, output y);
+          generate
+            begin : stage
+              wire t;
+              buf u (t, a);
+            end
+            if (1) buf v (y, a);
+          endgenerate
+        endmodule
+        """)
+    blk, gif = m.items
+    assert isinstance(blk, ir.GenBlock) and blk.name == "stage"
+    assert [type(x).__name__ for x in blk.items] == ["Net", "Instance"]
+    assert isinstance(gif, ir.GenIf) and gif.name is None
+    assert isinstance(gif.then_items[0], ir.Instance)

@@ -832,7 +832,24 @@ class HzParser(VerilogParser):
         | generate_if
         | generate_for
         | generate_case
+        | generate_block
         """
+        p[0] = p[1]
+        p.set_lineno(0, p.lineno(1))
+
+    # a generate block is now a generate item itself, so the bodies take generate_item only
+    def p_generate_if_true_item(self, p):
+        'gif_true_item : generate_item'
+        p[0] = p[1]
+        p.set_lineno(0, p.lineno(1))
+
+    def p_generate_if_false_item(self, p):
+        'gif_false_item : generate_item'
+        p[0] = p[1]
+        p.set_lineno(0, p.lineno(1))
+
+    def p_generate_forcontent(self, p):
+        'generate_forcontent : generate_item'
         p[0] = p[1]
         p.set_lineno(0, p.lineno(1))
 
@@ -859,8 +876,7 @@ class HzParser(VerilogParser):
         p[0] = (None, p[3])
 
     def p_gen_case_body(self, p):
-        '''gen_case_body : generate_item
-        | generate_block'''
+        'gen_case_body : generate_item'
         p[0] = p[1]
 
     # ------------------------------------------------------------------ UDP
