@@ -480,3 +480,15 @@ def test_bare_named_block_in_generate_region(tmp_path):
     assert [type(x).__name__ for x in blk.items] == ["Net", "Instance"]
     assert isinstance(gif, ir.GenIf) and gif.name is None
     assert isinstance(gif.then_items[0], ir.Instance)
+
+
+def test_defparam_is_kept_as_unsupported_and_macromodule_is_a_module(tmp_path):
+    m = _module(tmp_path, """
+        macromodule top (input a, output y);
+          sub u1 (a, y);
+          defparam u1.W = 4;
+        endmodule
+        """)
+    assert m.name == "top"
+    (d,) = [it for it in m.items if isinstance(it, ir.Unsupported)]
+    assert d.what == "defparam u1.W = 4" and (d.loc.line, d.loc.col) == (4, 3)

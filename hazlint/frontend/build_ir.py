@@ -317,6 +317,11 @@ class Builder:
                                             loc=self.loc(s.lineno)))
                 else:
                     out.append(self._specpath(s))
+        elif t is hp.Defparams:
+            for target, value in n.pairs:
+                out.append(ir.Unsupported(
+                    what=f"defparam {_text(self.expr(target))} = {_text(self.expr(value))}",
+                    loc=self.loc(n.lineno, n.hz_pos)))
         elif t is va.Function:
             out.append(ir.Unsupported(what=f"function {n.name}",
                                       loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))

@@ -31,7 +31,7 @@ MAX_NESTING = 1000
 
 _EXTRA_KEYWORDS = (
     "PRIMITIVE", "ENDPRIMITIVE", "SPECIFY", "ENDSPECIFY", "SPECPARAM", "IFNONE",
-    "WAND", "WOR", "TRI0", "TRI1", "TRIAND", "TRIOR",
+    "WAND", "WOR", "TRI0", "TRI1", "TRIAND", "TRIOR", "DEFPARAM",
 )
 _STRENGTHS = ("strong0", "strong1", "pull0", "pull1", "weak0", "weak1", "highz0", "highz1")
 
@@ -57,6 +57,7 @@ class HzLexer(VerilogLexer):
         reserved[_kw.lower()] = _kw
     for _kw in _STRENGTHS:
         reserved[_kw] = "STRENGTH"
+    reserved["macromodule"] = "MODULE"
     del _kw
 
     tokens = tuple(VerilogLexer.tokens) + _EXTRA_KEYWORDS + (

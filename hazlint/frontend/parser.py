@@ -129,6 +129,11 @@ class SpecParams:
         self.params, self.lineno = params, lineno
 
 
+class Defparams:
+    def __init__(self, pairs, lineno, pos):
+        self.pairs, self.lineno, self.hz_pos = pairs, lineno, pos
+
+
 class GenCaseNode:
     def __init__(self, expr, cases, lineno, pos):
         self.expr, self.cases, self.lineno, self.hz_pos = expr, cases, lineno, pos
@@ -575,9 +580,28 @@ class HzParser(VerilogParser):
         | function
         | task
         | specify_block
+        | defparam
         """
         p[0] = p[1]
         p.set_lineno(0, p.lineno(1))
+
+    def p_defparam(self, p):
+        'defparam : DEFPARAM defparam_list SEMICOLON'
+        p[0] = Defparams(p[2], p.lineno(1), p.lexpos(1))
+        p.set_lineno(0, p.lineno(1))
+
+    def p_defparam_list(self, p):
+        'defparam_list : defparam_list COMMA defparam_one'
+        p[1].append(p[3])
+        p[0] = p[1]
+
+    def p_defparam_list_one(self, p):
+        'defparam_list : defparam_one'
+        p[0] = [p[1]]
+
+    def p_defparam_one(self, p):
+        'defparam_one : identifier EQUALS rvalue'
+        p[0] = (p[1], p[3])
 
     # ------------------------------------------------------------------ delays and strengths
     def p_delays(self, p):
