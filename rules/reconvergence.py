@@ -67,43 +67,47 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
     tg = context.timing_graph
     solver = context.arrival_solver
     order = tg.order
-    fanin = tg.fanin
-    scope_set = {tg.index[n] for n in context.scope_sinks(scope) if n in tg.index}
-    if not scope_set:
+    sinks, reach = context.scope_reach(scope)
+    if not sinks:
         return
     rank = context.source_rank
     rank_i = [rank[n] for n in order]
     for stem in sorted(context.stems, key=lambda n: rank[n]):
         si = tg.index.get(stem)
-        if si is None:
+        if si is None or not reach[si]:
             continue
-        found: dict[int, object] = {}
+        found: list = []
 
         def note(r, found=found):
-            if r.skew > 0 and r.skew >= min_skew:
-                found[r.gate] = r
+            if r.skew > 0 and r.skew >= min_skew and reach[r.gate]:
+                found.append(r)
 
         st = solver.solve(si, on_reconvergence=note)
         if not found:
             continue
-        # worst reconvergence upstream of every node: forward DP over the cone
-        worst: dict[int, int] = {}
-        for v in st.cone[1:]:
-            best = v if v in found else -1
-            for p, _pin, _a, _b in fanin[v]:
-                w = worst.get(p, -1)
-                if w >= 0 and (best < 0 or _better(found[w], found[best], rank_i)):
-                    best = w
-            if best >= 0:
-                worst[v] = best
-        by_gate: dict[int, list[int]] = {}
-        for t in st.cone:
-            if t in scope_set and t in worst:
-                by_gate.setdefault(worst[t], []).append(t)
-        for gi in sorted(by_gate, key=lambda i: rank_i[i]):
-            r = found[gi]
-            sinks = sorted((order[t] for t in by_gate[gi]), key=lambda n: rank[n])
-            yield Finding(stem, order[gi], r, sinks, st)
+        # every sink in scope goes to the worst reconvergence that reaches it (ties: the gate
+        # first in source order); sinks are bits of the precomputed reachability sets
+        found.sort(key=lambda r: (-r.skew, rank_i[r.gate]))
+        remaining = reach[si]
+        chosen = []
+        for r in found:
+            bits = reach[r.gate] & remaining
+            if bits:
+                remaining &= ~bits
+                chosen.append((r, bits))
+                if not remaining:
+                    break
+        for r, bits in sorted(chosen, key=lambda x: rank_i[x[0].gate]):
+            yield Finding(stem, order[r.gate], r, _bits_to_sinks(bits, sinks), st)
+
+
+def _bits_to_sinks(bits: int, sinks: list[str]) -> list[str]:
+    out = []
+    while bits:
+        low = bits & -bits
+        out.append(sinks[low.bit_length() - 1])
+        bits ^= low
+    return out
 
 
 class Finding:
@@ -130,12 +134,6 @@ class Finding:
         pairs = st.chain(src, slow, lambda i, dl, a: (order[i], make(order[i], dl, a)), tag)
         last = make(self.gate, dmax if slow else dmin, r.slow_arrival if slow else r.fast_arrival)
         return [n for n, _ in pairs] + [self.gate], tuple(x for _, x in pairs) + (last,)
-
-
-def _better(a, b, rank_i) -> bool:
-    if a.skew != b.skew:
-        return a.skew > b.skew
-    return rank_i[a.gate] < rank_i[b.gate]
 
 
 def check(design, context):

@@ -44,6 +44,7 @@ class AnalysisContext:
         self.config = config
         self._options = {k: dict(v) for k, v in (options or {}).items()}
         self._hop_cache: dict[str, tuple] = {}
+        self._reach_cache: dict[str, tuple] = {}
 
     # ---- options -------------------------------------------------------------------------------
     def options(self, rule_id: str) -> dict[str, Any]:
@@ -127,6 +128,28 @@ class AnalysisContext:
         else:
             raise ValueError(f"unknown scope {scope!r}")
         return sorted(s)
+
+    def scope_reach(self, scope: str) -> tuple[list[str], list[int]]:
+        """(sinks in scope sorted in source order, per timing-graph node the set of those sinks
+        it reaches as a bit mask). One pass in reverse topological order, computed once per
+        scope."""
+        cached = self._reach_cache.get(scope)
+        if cached is None:
+            tg = self.timing_graph
+            rank = self.source_rank
+            sinks = sorted((n for n in self.scope_sinks(scope) if n in tg.index),
+                           key=lambda n: rank[n])
+            reach = [0] * len(tg.order)
+            for k, n in enumerate(sinks):
+                reach[tg.index[n]] = 1 << k
+            fanout = tg.fanout
+            for i in range(len(tg.order) - 1, -1, -1):
+                m = reach[i]
+                for w in fanout[i]:
+                    m |= reach[w]
+                reach[i] = m
+            cached = self._reach_cache[scope] = (sinks, reach)
+        return cached
 
     @cached_property
     def stems(self) -> list[str]:

@@ -13,6 +13,7 @@ predecessor arrival plus arc delay), restricted to a single launching point.
 """
 from __future__ import annotations
 
+import heapq
 import math
 from dataclasses import dataclass
 from typing import Iterable
@@ -33,6 +34,7 @@ class TimingGraph:
     fanout: list[list[int]]                # distinct successor indices
     reads: list[list[tuple[int, int]]]     # (successor index, pin index) per read of the net
     cut_edges: list[tuple[str, str]]       # edges dropped to break combinational loops
+    preds: list[list[int]] = None          # distinct predecessor indices
 
     @classmethod
     def build(cls, g: nx.DiGraph) -> "TimingGraph":
@@ -84,7 +86,8 @@ class TimingGraph:
                     if vi not in seen:
                         seen.append(vi)
             fanout[ui] = sorted(seen)
-        return cls(order, index, fanin, fanout, reads, cut)
+        return cls(order, index, fanin, fanout, reads, cut,
+                   [sorted({p for p, _, _, _ in f}) for f in fanin])
 
 
 @dataclass
@@ -187,6 +190,8 @@ class ArrivalSolver:
         self.bmin = [0] * n
         self.bmax = [0] * n
         self.dom = [-1] * n          # immediate dominator in the current cone; -1: not in it
+        self.top = [0] * n           # the stem's dominator-tree child above each node
+        self.left = [0] * n          # successors not yet visited
         self._touched: list[int] = []
 
     def _reset(self):
@@ -209,7 +214,7 @@ class ArrivalSolver:
                     stack.append(v)
         return sorted(seen)
 
-    def solve(self, stem: int, on_reconvergence=None) -> StemTiming:
+    def solve(self, stem: int, on_reconvergence=None, complete: bool = False) -> StemTiming:
         """Fill arrival arrays for ``stem``'s cone. ``on_reconvergence(Reconvergence)`` is called
         for every gate where paths from two different fanout branches of the stem meet for the
         first time (in topological order).
@@ -222,16 +227,31 @@ class ArrivalSolver:
         On a DAG visited in topological order, a node's immediate dominator is the nearest
         common dominator of its predecessors (Cooper, Harvey & Kennedy, "A Simple, Fast
         Dominance Algorithm", 2001, with one pass sufficing in topological order).
+
+        The cone is discovered lazily (a heap of topological positions) and the sweep stops as
+        soon as no further reconvergence of this stem is possible: when the stem's own reads are
+        all done and every node still waiting for successors lies under one child of the stem
+        in the dominator tree, every later node is dominated by that child. ``complete`` sweeps
+        the whole cone regardless (arrival times everywhere).
         """
         self._reset()
-        cone = self.cone_of(stem)
-        self._touched = cone
         amin, amax, bmin, bmax, dom = self.amin, self.amax, self.bmin, self.bmax, self.dom
-        fanin = self.tg.fanin
+        top, left = self.top, self.left
+        tg = self.tg
+        fanin, fanout, preds = tg.fanin, tg.fanout, tg.preds
         amin[stem] = 0.0
         amax[stem] = 0.0
         dom[stem] = stem
-        for v in cone[1:]:
+        left[stem] = len(fanout[stem])
+        visited = [stem]
+        heap = list(fanout[stem])
+        heapq.heapify(heap)
+        queued = set(heap)
+        open_tops: dict[int, int] = {}      # dominator-tree child of the stem -> open nodes
+        push, pop = heapq.heappush, heapq.heappop
+        while heap:
+            v = pop(heap)
+            visited.append(v)
             lo = INF
             hi = -INF
             klo = khi = 0
@@ -274,7 +294,33 @@ class ArrivalSolver:
             bmin[v] = klo
             bmax[v] = khi
             dom[v] = d
-        return StemTiming(self, stem, cone)
+            # bookkeeping of the open frontier, for the early stop
+            for p in preds[v]:
+                if dom[p] < 0:
+                    continue
+                left[p] -= 1
+                if left[p] == 0 and p != stem:
+                    t = top[p]
+                    c = open_tops[t] - 1
+                    if c:
+                        open_tops[t] = c
+                    else:
+                        del open_tops[t]
+            outs = fanout[v]
+            if outs:
+                t = v if d == stem else top[d]
+                top[v] = t
+                left[v] = len(outs)
+                open_tops[t] = open_tops.get(t, 0) + 1
+                for w in outs:
+                    if w not in queued:
+                        queued.add(w)
+                        push(heap, w)
+            if not complete and left[stem] == 0 and len(open_tops) <= 1:
+                break
+        self._touched = visited
+        visited.sort()
+        return StemTiming(self, stem, visited)
 
 
 def _meet(dom, a: int, b: int) -> int:
