@@ -492,3 +492,34 @@ def test_defparam_is_kept_as_unsupported_and_macromodule_is_a_module(tmp_path):
     assert m.name == "top"
     (d,) = [it for it in m.items if isinstance(it, ir.Unsupported)]
     assert d.what == "defparam u1.W = 4" and (d.loc.line, d.loc.col) == (4, 3)
+
+
+def test_grammar_has_no_reduce_reduce_conflicts():
+    import types
+
+    import ply.yacc as yacc
+
+    class Log:
+        def __init__(self):
+            self.lines = []
+
+        def warning(self, msg, *args):
+            self.lines.append(msg % args)
+
+        error = warning
+
+        def info(self, *args):
+            pass
+
+        debug = critical = info
+
+    p = hp.HzParser.__new__(hp.HzParser)
+    p.lexer = hp.HzLexer()
+    p.lexer.build()
+    p.tokens = p.lexer.tokens
+    missing = types.ModuleType("no_tables")
+    missing._tabversion = "none"
+    log = Log()
+    yacc.yacc(module=p, method="LALR", debug=True, debuglog=Log(), errorlog=log,
+              write_tables=False, tabmodule=missing, outputdir=str(REPO), start="source_text")
+    assert not [line for line in log.lines if "reduce/reduce" in line or "never reduced" in line]
