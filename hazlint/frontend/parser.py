@@ -329,6 +329,11 @@ class HzParser(VerilogParser):
             except Exception:
                 pass
             raise SyntaxErr("invalid construct (%s)" % exc, line, None, None) from None
+        finally:
+            # ply keeps its stacks (and with them the whole AST) on the parser object
+            self.parser.statestack = []
+            self.parser.symstack = []
+            self._text = ""
 
     def p_error(self, p):
         if p is None:

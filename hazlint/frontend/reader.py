@@ -11,6 +11,7 @@ import gc
 import hashlib
 import json
 import os
+import threading
 from typing import Callable
 
 from .. import __version__
@@ -21,6 +22,7 @@ from .parser import SyntaxErr, get_parser
 from .preprocess import Preprocessor, digest_text, read_text
 
 CACHE_FORMAT = 1
+_PARSE_LOCK = threading.RLock()
 
 
 def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[str, str] = None,
@@ -92,13 +94,14 @@ def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) ->
     """Preprocess, parse and build the IR of one file."""
     # the AST and IR are acyclic and all stay alive until the end: cyclic GC passes over
     # hundreds of thousands of young objects would only cost time
-    gc_was_enabled = gc.isenabled()
-    gc.disable()
-    try:
-        return _read_one(path, include_dirs, defines, root, texts)
-    finally:
-        if gc_was_enabled:
-            gc.enable()
+    with _PARSE_LOCK:          # one parser per process (a language server may call from threads)
+        gc_was_enabled = gc.isenabled()
+        gc.disable()
+        try:
+            return _read_one(path, include_dirs, defines, root, texts)
+        finally:
+            if gc_was_enabled:
+                gc.enable()
 
 
 def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
