@@ -9,7 +9,6 @@ import textwrap
 from pathlib import Path
 
 import pytest
-from ply.lex import LexToken
 from ply.yacc import YaccProduction, YaccSymbol
 from pyverilog.vparser.parser import VerilogParser
 
