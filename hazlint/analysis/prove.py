@@ -29,7 +29,7 @@ from . import fixes as _fixes
 from .symbolic import Budget, HazardProof, bdd_hazards
 from .satcheck import sat_hazards
 from .ternary import (HAZARD_KINDS, CyclicCone, IntAlgebra, cone, free_sources, function_hazard,
-                      hazard_planes, ternary_fixpoint, bool_gate)
+                      hazard_planes, propagate, ternary_fixpoint, bool_gate, ternary_gate)
 from .timedsim import DelayAssignment, Glitch, replay, search_assignment, simulate
 from .waves import timing_diagram
 
@@ -672,3 +672,229 @@ def _refine_loop(graph, d: Diagnostic, ev) -> Diagnostic | None:
                        f"binary state is stable for {ins}",),
                    fix="break the feedback with a register, or make the loop's inversion count "
                        "even so it can hold a value")
+
+
+# ---------------------------------------------------------------------------------------------
+# Whole-design classification (every output, every single-input change)
+
+def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
+                     options: Mapping[str, Any] | None = None, rounds: int = 3,
+                     vectors: int = 256) -> dict[tuple[str, str], dict[str, HazardProof]]:
+    """For every target (default: every sink) and every free source in its cone, decide each
+    hazard kind for a single change of that source.
+
+    One explicit ternary/transient pass covers all (source, vector) pairs at once: lane block
+    *i* holds ``vectors`` random side-input vectors with source *i* changing. What the random
+    vectors do not show is settled per pair by the structural path count, then BDD, then SAT,
+    else reported inconclusive.
+    """
+    opts = options_with_defaults(options)
+    g = graph
+    if targets is None:
+        targets = [n for n, d in g.nodes(data=True) if d["kind"] == "sink"]
+    order = cone(g, targets)
+    srcs = free_sources(g, order)
+    index = {n: i for i, n in enumerate(srcs)}
+    width = len(srcs) * vectors
+    A = IntAlgebra(width)
+    rng = random.Random(opts["seed"])
+    block = (1 << vectors) - 1
+    found: dict[tuple[str, str], dict[str, HazardProof]] = {}
+    # support of each target, by bit sets over sources (DP over the topological order)
+    sup: dict[str, int] = {}
+    for n in order:
+        d = g.nodes[n]
+        if n in index:
+            sup[n] = 1 << index[n]
+        else:
+            v = 0
+            for i in d.get("inputs") or ():
+                v |= sup.get(i, 0)
+            sup[n] = v
+    for _ in range(rounds):
+        va, vb = {}, {}
+        for n in srcs:
+            r = rng.getrandbits(width)
+            own = block << (index[n] * vectors)
+            va[n] = r & ~own & A.mask
+            vb[n] = r | own
+        ta, tb, tx, tr = _planes_inputs(A, va, vb, srcs)
+        ra = propagate(g, order, ta, A, ternary_gate)
+        rb = propagate(g, order, tb, A, ternary_gate)
+        rx = propagate(g, order, tx, A, ternary_gate)
+        rt = propagate(g, order, tr, A, _transient)
+        for t in targets:
+            a0, a1 = ra[t]
+            b0, b1 = rb[t]
+            x0, x1 = rx[t]
+            h = rt[t][2]
+            one_a, zero_a = a1 & ~a0, a0 & ~a1
+            one_b, zero_b = b1 & ~b0, b0 & ~b1
+            xm = x0 & x1
+            planes = {"static-1-hazard": one_a & one_b & xm,
+                      "static-0-hazard": zero_a & zero_b & xm,
+                      "dynamic-hazard": ((one_a & zero_b) | (zero_a & one_b)) & h}
+            s = sup[t]
+            while s:
+                i = (s & -s).bit_length() - 1
+                s &= s - 1
+                x = srcs[i]
+                res = found.setdefault((t, x), {})
+                for k, lanes in planes.items():
+                    if k in res:
+                        continue
+                    lanes = (lanes >> (i * vectors)) & block
+                    if lanes:
+                        lane = (lanes & -lanes).bit_length() - 1 + i * vectors
+                        wit = {n: (va[n] >> lane) & 1 for n in srcs if n != x and
+                               sup[t] >> index[n] & 1}
+                        res[k] = HazardProof(k, "present", witness=wit, method="simulation")
+    # what the random vectors left open: structural proof, then shared BDD / SAT per source
+    open_pairs: dict[str, list[str]] = {}
+    for t in targets:
+        s = sup[t]
+        t_order = None
+        while s:
+            i = (s & -s).bit_length() - 1
+            s &= s - 1
+            x = srcs[i]
+            res = found.setdefault((t, x), {})
+            rest = [k for k in HAZARD_KINDS if k not in res]
+            if not rest:
+                continue
+            if t_order is None:
+                t_order = cone(g, [t])
+            if path_count(g, t_order, x, t) <= 1:
+                for k in rest:
+                    res[k] = HazardProof(k, "absent", method="structural",
+                                         reason="a single path from the changing input")
+                continue
+            open_pairs.setdefault(x, []).append(t)
+    if open_pairs:
+        _prove_open(g, order, targets, srcs, open_pairs, found, opts)
+    return found
+
+
+def _var_order(g, order, targets, srcs) -> list[str]:
+    """Sources in depth-first fan-in order from the targets (a common BDD ordering
+    heuristic: inputs that meet early in the logic get neighbouring levels)."""
+    seen, out = set(), []
+    src_set = set(srcs)
+    for t in targets:
+        stack = [(t, iter(g.nodes[t].get("inputs") or ()))]
+        seen.add(t)
+        while stack:
+            n, it = stack[-1]
+            nxt = next(it, None)
+            if nxt is None:
+                stack.pop()
+                if n in src_set:
+                    out.append(n)
+                continue
+            if nxt not in seen:
+                seen.add(nxt)
+                stack.append((nxt, iter(g.nodes[nxt].get("inputs") or ())))
+    return out + [n for n in srcs if n not in set(out)]
+
+
+def _prove_open(g, order, targets, srcs, open_pairs, found, opts):
+    from .satcheck import CNFAlgebra, SOLVER
+    from .symbolic import BACKEND, BDDAlgebra
+    from .ternary import SharedPlanes, has_three_state
+    if has_three_state(g, order):
+        for x, ts in open_pairs.items():
+            for t in ts:
+                rest = [k for k in HAZARD_KINDS if k not in found[(t, x)]]
+                found[(t, x)].update(prove_symbolic(g, cone(g, [t]), t, {x: (0, 1)}, rest, opts))
+        return
+    todo = dict(open_pairs)
+    budget_time = float(opts.get("bdd_circuit_time", 10.0))
+    try:
+        if opts.get("engine", "sat") == "sat":
+            raise Budget("SAT engine chosen")
+        A = BDDAlgebra(node_budget=int(opts["node_budget"]) * 10,
+                       deadline=time.perf_counter() + budget_time)
+        names = {n: f"v{k}" for k, n in enumerate(_var_order(g, order, targets, srcs))}
+        sv = {n: A.var(names[n]) for n in names}
+        sp = SharedPlanes(g, order, A, sv)
+        back = {v: n for n, v in names.items()}
+        for x in list(todo):
+            planes = sp.planes(x, todo[x])
+            for t in todo[x]:
+                res = found[(t, x)]
+                for k in [k for k in HAZARD_KINDS if k not in res]:
+                    u = planes[t][k]
+                    if u == A.false:
+                        res[k] = HazardProof(k, "absent", method="bdd",
+                                             reason=f"BDD ({BACKEND})")
+                    else:
+                        pick = A.bdd.pick(u) or {}
+                        wit = {back[v]: int(bool(b)) for v, b in pick.items() if v in back}
+                        wit.pop(x, None)
+                        res[k] = HazardProof(k, "present", witness=wit, method="bdd")
+            del todo[x]
+        return
+    except Budget as exc:
+        bdd_reason = exc.reason
+    # SAT: one incremental solver for the whole design
+    from pysat.solvers import Solver
+    C = CNFAlgebra()
+    sv = {n: C.new() for n in srcs}
+    sp = SharedPlanes(g, order, C, sv)
+    cb = int(opts["conflict_budget"])
+    base_n, base_memo = len(C.clauses), dict(C._memo)
+    for x, ts in todo.items():
+        # a fresh solver per changing source: the design's binary clauses plus this source's
+        # planes (earlier planes would only slow the search down)
+        del C.clauses[base_n:]
+        C._memo = dict(base_memo)
+        planes = sp.planes(x, ts)
+        with Solver(name=SOLVER, bootstrap_with=C.clauses) as solver:
+            for t in ts:
+                res = found[(t, x)]
+                for k in [k for k in HAZARD_KINDS if k not in res]:
+                    lit = planes[t][k]
+                    if lit == -1:
+                        res[k] = HazardProof(k, "absent", method="sat", reason="folded")
+                        continue
+                    solver.conf_budget(cb)
+                    r = solver.solve_limited(assumptions=[lit])
+                    if r is None:
+                        res[k] = HazardProof(k, "inconclusive", method="sat",
+                                             reason=f"{bdd_reason}; SAT conflict budget ({cb}) "
+                                                    "exceeded")
+                    elif r:
+                        model = solver.get_model()
+                        wit = {n: int(model[v - 1] > 0) for n, v in sv.items() if n != x}
+                        res[k] = HazardProof(k, "present", witness=wit, method="sat")
+                    else:
+                        res[k] = HazardProof(k, "absent", method="sat",
+                                             reason=f"{bdd_reason}; unsatisfiable")
+
+
+def _planes_inputs(A, va, vb, srcs):
+    from .ternary import lanes_planes
+    return lanes_planes(A, va, vb, srcs)
+
+
+def _transient(A, op, ins, expr=None):
+    from .ternary import transient_gate
+    return transient_gate(A, op, ins, expr)
+
+
+def prove_symbolic(graph, order, target, changes, kinds, opts) -> dict[str, HazardProof]:
+    """BDD within the node budget, then SAT within the conflict budget, else inconclusive."""
+    t0 = time.perf_counter()
+    try:
+        return bdd_hazards(graph, order, target, changes, None, kinds,
+                           node_budget=int(opts["node_budget"]),
+                           time_budget=float(opts["check_time"]) / 2)
+    except Budget as exc:
+        bdd_reason = exc.reason
+    left = float(opts["check_time"]) - (time.perf_counter() - t0)
+    res = sat_hazards(graph, order, target, changes, None, kinds,
+                      conflict_budget=int(opts["conflict_budget"]), time_budget=max(0.05, left))
+    for p in res.values():
+        if p.status == "inconclusive":
+            p.reason = f"{bdd_reason}; {p.reason}"
+    return res

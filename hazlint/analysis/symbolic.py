@@ -47,11 +47,12 @@ class BDDAlgebra:
 
     def _tick(self):
         self._ops += 1
-        if self._ops & 63 == 0:
-            if len(self.bdd) > self.node_budget:
-                raise Budget(f"BDD exceeded {self.node_budget} nodes")
+        if self._ops & 255 == 0:
             if self.deadline is not None and time.perf_counter() > self.deadline:
                 raise Budget("BDD time budget exceeded")
+            # counting live nodes is costly in CUDD: look less often
+            if self._ops & 4095 == 0 and len(self.bdd) > self.node_budget:
+                raise Budget(f"BDD exceeded {self.node_budget} nodes")
 
     def var(self, name: str):
         self.bdd.declare(name)

@@ -432,3 +432,81 @@ def _lub_fixpoint(graph, nodes, vals, A):
         if not changed:
             break
     return vals
+
+
+class SharedPlanes:
+    """Hazard conditions for many (target, changing source) pairs over one algebra.
+
+    The binary function of every net is computed once; for a changing source ``x`` only the nets
+    in ``x``'s fan-out get the dual-rail ternary and transient values (everything else is a
+    steady binary value). Valid for cones without three-state drivers (whose disabled state is
+    X only in the ternary runs); :func:`has_three_state` tells.
+    """
+
+    def __init__(self, graph: nx.DiGraph, order: Sequence[str], A, source_values: Mapping):
+        self.g = graph
+        self.order = list(order)
+        self.pos = {n: i for i, n in enumerate(self.order)}
+        self.A = A
+        self.f = propagate(graph, self.order, dict(source_values), A, bool_gate)
+
+    def fanout(self, x: str) -> list[str]:
+        seen = {x}
+        stack = [x]
+        while stack:
+            n = stack.pop()
+            for s in self.g.successors(n):
+                if s in self.pos and s not in seen:
+                    seen.add(s)
+                    stack.append(s)
+        seen.discard(x)
+        return sorted(seen, key=self.pos.__getitem__)
+
+    def planes(self, x: str, targets: Iterable[str]) -> dict[str, dict[str, Any]]:
+        A, g, f = self.A, self.g.nodes, self.f
+        fo = self.fanout(x)
+        fos = set(fo)
+        fa, fb, tx, tr = {x: A.false}, {x: A.true}, {x: (A.true, A.true)}, \
+            {x: (A.false, A.true, A.false)}
+
+        def get(m, n, kind):
+            v = m.get(n)
+            if v is not None:
+                return v
+            b = f[n]
+            if kind == 0:
+                return b
+            if kind == 1:
+                return (A.not_(b), b)
+            return (b, b, A.false)
+        for n in fo:
+            d = g[n]
+            if d["kind"] == "sink":
+                i = d["inputs"][0]
+                fa[n], fb[n] = get(fa, i, 0), get(fb, i, 0)
+                tx[n], tr[n] = get(tx, i, 1), get(tr, i, 2)
+                continue
+            if d["kind"] != "gate":
+                continue
+            ins = d["inputs"]
+            op, e = d["op"], d.get("expr")
+            fa[n] = bool_gate(A, op, [get(fa, i, 0) for i in ins], e)
+            fb[n] = bool_gate(A, op, [get(fb, i, 0) for i in ins], e)
+            tx[n] = ternary_gate(A, op, [get(tx, i, 1) for i in ins], e)
+            tr[n] = transient_gate(A, op, [get(tr, i, 2) for i in ins], e)
+        out = {}
+        for t in targets:
+            if t not in fos:
+                continue
+            a, b = fa[t], fb[t]
+            x0, x1 = tx[t]
+            xm = A.and_(x0, x1)
+            out[t] = {"static-1-hazard": A.and_(a, b, xm),
+                      "static-0-hazard": A.and_(A.not_(a), A.not_(b), xm),
+                      "dynamic-hazard": A.and_(A.xor(a, b), tr[t][2])}
+        return out
+
+
+def has_three_state(graph: nx.DiGraph, order: Iterable[str]) -> bool:
+    from ..logic import THREE_STATE
+    return any(graph.nodes[n].get("op") in THREE_STATE for n in order)
