@@ -159,3 +159,24 @@ def test_colour_only_on_a_terminal_and_not_with_no_color(demo):
     out = _run_on_pty(["--no-prove"], demo, env)
     assert "\033[" not in out and "[comb-loop]" in out
     assert "\033[" in hazlint("--no-prove", "--color", "always", cwd=demo).stdout
+
+
+def test_baseline_round_trip_and_waiver_file(demo):
+    p = hazlint("--no-prove", "--write-baseline", "base.json", cwd=demo)
+    assert p.returncode == 0 and "recorded 5" in p.stderr
+    p = hazlint("--no-prove", "--baseline", "base.json", cwd=demo)
+    assert p.returncode == 0 and "5 in baseline" in p.stdout
+    # a waiver file entry by instance pattern, and one that matches nothing
+    (demo / "accepted.toml").write_text(
+        '[[accept]]\nrule = "comb-loop"\ninstance = "press_top.g_lamp*"\n'
+        'reason = "lamp hold term, reviewed"\n\n'
+        '[[accept]]\nrule = "comb-loop"\ninstance = "press_top.nowhere.*"\nreason = "stale"\n')
+    cfg = demo / "hazlint.toml"
+    cfg.write_text('waiver_file = "accepted.toml"\n' + cfg.read_text())
+    p = hazlint("--no-prove", "--format", "json", cwd=demo)
+    rows = json.loads(p.stdout)
+    assert "comb-loop" not in [r["rule"] for r in rows]
+    stale = [r for r in rows if r["rule"] == "unused-waiver"]
+    assert [(r["path"], r["line"], r["kind"]) for r in stale] == [
+        ("accepted.toml", 6, "waiver-unused")]
+    assert "1 waived" in hazlint("--no-prove", cwd=demo).stdout

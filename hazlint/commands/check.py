@@ -129,7 +129,9 @@ def _lint(lint, args, files, config, cwd, changed, progress):
 def _report(args, result, renderer) -> int:
     if args.write_baseline:
         from ..baseline import write_baseline
-        n = write_baseline(args.write_baseline, result.diagnostics, result.root)
+        # everything found now, including what an existing baseline already accounted for
+        n = write_baseline(args.write_baseline, result.diagnostics + result.baselined,
+                           result.root)
         print(f"hazlint: recorded {n} finding(s) in {args.write_baseline}", file=sys.stderr)
         return EXIT_CLEAN
     out_stream = sys.stdout
