@@ -17,9 +17,8 @@ package would register its own, so there is one plugin mechanism.
 """
 from __future__ import annotations
 
-import importlib
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from functools import lru_cache
 from importlib import metadata
 from typing import Any, Callable, Iterable, Mapping

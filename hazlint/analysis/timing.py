@@ -16,7 +16,6 @@ from __future__ import annotations
 import heapq
 import math
 from dataclasses import dataclass
-from typing import Iterable
 
 import networkx as nx
 
