@@ -73,10 +73,10 @@ def cone_report(context, sink: str):
 def check(design, context):
     g = design.graph
     roles = set(context.options(ID)["roles"])
-    rank = context.source_rank
     for sink, role in context.sensitive_sinks.items():
         if role not in roles:
             continue
+        rank = context.source_rank
         gates, toggling, quiet, stems = cone_report(context, sink)
         # clean: a buffer/inverter chain from one source, or logic whose other inputs are
         # constant or quasi-static and where the one toggling source does not reconverge

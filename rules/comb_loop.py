@@ -137,9 +137,10 @@ def _cycle_evidence(ctx, cycle: list[str]):
 def check(design, context):
     g = design.graph
     opts = context.options(ID)
-    rank = context.source_rank
     reported_nodes: set[str] = set()
-    for comp in sorted(nontrivial_sccs(g), key=lambda c: min(rank[n] for n in c)):
+    comps = nontrivial_sccs(g)
+    rank = context.source_rank if comps or design.latch_paths else {}
+    for comp in sorted(comps, key=lambda c: min(rank[n] for n in c)):
         start = min(comp, key=lambda n: rank[n])
         cycle = shortest_cycle(g, start, comp)
         reported_nodes |= comp
