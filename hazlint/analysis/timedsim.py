@@ -39,9 +39,10 @@ INF = float("inf")
 
 @dataclass
 class DelayAssignment:
-    """Delays for one simulation: per gate pin ``(node, pin) -> (rise, fall)``, per edge wire
-    ``(u, v) -> delay`` (transport, added in front of every pin of ``v`` fed by ``u``), and the
-    corner for everything not listed. JSON-able through :meth:`to_json`."""
+    """Delays for one simulation: per gate pin ``(node, pin) -> (rise, fall)``, extra wire
+    delays ``(u, v) -> delay`` (transport, in front of every pin of ``v`` fed by ``u``) or
+    ``(u, v, pin) -> delay`` (that pin only), and the corner for everything not listed.
+    JSON-able through :meth:`to_json`."""
 
     corner: str = "max"
     pins: dict[tuple[str, int], tuple[float, float]] = field(default_factory=dict)
@@ -52,14 +53,16 @@ class DelayAssignment:
         return {"corner": self.corner, "mode": self.mode,
                 "pins": [{"node": n, "pin": p, "rise": r, "fall": f}
                          for (n, p), (r, f) in sorted(self.pins.items())],
-                "wires": [{"from": u, "to": v, "delay": w}
-                          for (u, v), w in sorted(self.wires.items())]}
+                "wires": [dict({"from": k[0], "to": k[1], "delay": w},
+                               **({"pin": k[2]} if len(k) > 2 else {}))
+                          for k, w in sorted(self.wires.items())]}
 
     @classmethod
     def from_json(cls, d: Mapping[str, Any]) -> "DelayAssignment":
         return cls(corner=d.get("corner", "max"), mode=d.get("mode", "inertial"),
                    pins={(p["node"], p["pin"]): (p["rise"], p["fall"]) for p in d.get("pins", [])},
-                   wires={(w["from"], w["to"]): w["delay"] for w in d.get("wires", [])})
+                   wires={((w["from"], w["to"], w["pin"]) if "pin" in w else
+                           (w["from"], w["to"])): w["delay"] for w in d.get("wires", [])})
 
     def describe(self, graph: nx.DiGraph | None = None) -> list[str]:
         def nm(n):
@@ -69,8 +72,9 @@ class DelayAssignment:
         out = [f"{self.mode} delays, {self.corner} corner elsewhere"]
         for (n, p), (r, f) in sorted(self.pins.items()):
             out.append(f"pin {p} of {nm(n)}: rise {_num(r)}, fall {_num(f)}")
-        for (u, v), w in sorted(self.wires.items()):
-            out.append(f"extra delay {_num(w)} on the wire {nm(u)} -> {nm(v)}")
+        for k, w in sorted(self.wires.items()):
+            pin = f" pin {k[2]}" if len(k) > 2 else ""
+            out.append(f"extra delay {_num(w)} on the wire {nm(k[0])} -> {nm(k[1])}{pin}")
         return out
 
 
@@ -150,7 +154,7 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
             gdelay[n] = [asg.pins.get((n, p)) or pin_delay(d, p, asg.corner)
                          for p in range(len(ins))]
         for p, u in enumerate(ins):
-            w = asg.wires.get((u, n))
+            w = asg.wires.get((u, n, p), asg.wires.get((u, n)))
             if w is None:
                 e = g.edges[u, n] if g.has_edge(u, n) else {}
                 wd = e.get("wire")
@@ -375,7 +379,7 @@ def search_assignment(graph: nx.DiGraph, target: str, before: Mapping[str, int],
         gl = run(asg)
         if gl:
             return asg, gl, "within-bounds"
-    edges = [(u, v) for v in gates for u in dict.fromkeys(graph.nodes[v]["inputs"])
+    edges = [(u, v, p) for v in gates for p, u in enumerate(graph.nodes[v]["inputs"])
              if u in moving or u in changing]
     scale = 2.0 * max(1.0, _depth(graph, order, moving)) * _max_delay(graph, gates)
     for k in range(budget - n_bounded):
@@ -413,7 +417,7 @@ def _shrink(asg: DelayAssignment, run) -> DelayAssignment:
         lo, hi = 0, int(wires[e])          # hi glitches; find the least that does
         while hi - lo > 1:
             mid = (lo + hi) // 2
-            if ok(dict(wires, **{e: float(mid)})):
+            if ok({**wires, e: float(mid)}):
                 hi = mid
             else:
                 lo = mid
