@@ -48,7 +48,7 @@ raw = open(entry, "rb").read()
 t4 = time.process_time()
 doc = json.loads(raw)
 t5 = time.process_time()
-ir.from_json(doc["data"]["ir"])
+ir.from_compact(doc["data"]["ir"])
 t6 = time.process_time()
 print(json.dumps({"import": t_import, "decode": t5 - t4, "rebuild": t6 - t5,
                   "entry_bytes": len(raw), "read": t2 - t1, "elaborate": t3 - t2,

@@ -181,3 +181,145 @@ def test_cli_cache_dir_no_cache_jobs_and_corruption(tmp_path):
     nc = tmp_path / "unused"
     cli(tmp_path, "--no-cache", "--cache-dir", str(nc), "top.v", "valve.v")
     assert not nc.exists()
+
+
+# ---------------------------------------------------------------------------------------------
+# positional encoding (Codec) and the compact IR
+
+from dataclasses import dataclass, field  # noqa: E402
+import enum  # noqa: E402
+
+from hazlint.cache import Codec, CodecError  # noqa: E402
+
+
+@dataclass
+class _Pt:
+    name: str
+    at: tuple = ()
+    tags: list = field(default_factory=list)
+
+
+@dataclass(frozen=True)
+class _Val:
+    lo: float
+    hi: float
+
+
+class _Level(enum.IntEnum):
+    LOW = 0
+    HIGH = 1
+
+
+def _through_json(doc):
+    return json.loads(json.dumps(doc, separators=(",", ":")))
+
+
+def test_codec_keeps_python_types():
+    codec = Codec([_Pt, _Val, _Level], shared=[_Val], interned={_Pt: ("name",)})
+    v = _Val(1.0, 2.5)
+    obj = {"pts": [_Pt("p", (3, "x"), [v, v, ()]), _Pt("p", ((1,), [2]), [])],
+           (1, "k"): (True, None, 0.1, -3),     # a tuple key, a tuple starting with a bool
+           "empty": ([], (), {}), "lvl": [_Level.HIGH, _Level.LOW],
+           "ints": (1, 2), "neg": (-1, -4), "nested": [[-3, 1], (-2,)]}
+    doc = _through_json(codec.encode(obj))
+    back = codec.decode(doc)
+    assert back == obj
+    # exact types, not only equality (1 == True, [] != () but check the insides too)
+    assert type(back["empty"][0]) is list and type(back["empty"][1]) is tuple
+    assert type(back["ints"]) is tuple and type(back["nested"][0]) is list
+    assert back[(1, "k")][0] is True and type(back["lvl"][0]) is _Level
+    # shared values are written once and come back as one object
+    assert len(doc["shared"]) == 1
+    assert back["pts"][0].tags[0] is back["pts"][0].tags[1]
+    assert doc["strings"] == ["p"]      # interned field: one string for both points
+
+
+def test_codec_rejects_what_it_does_not_know():
+    codec = Codec([_Pt])
+    with pytest.raises(CodecError):
+        codec.encode({"s": {1, 2}})          # a set is not plain data
+    with pytest.raises(CodecError):
+        codec.encode(_Val(1, 2))             # not a registered class
+    doc = _through_json(codec.encode(_Pt("a")))
+    bad_docs = []
+    for mutate in (lambda d: d.update(codec=99),
+                   lambda d: d["classes"][0].__setitem__(0, "os.system"),
+                   lambda d: d["classes"][0][1].append("extra"),
+                   lambda d: d.update(root=[7, "a"]),
+                   lambda d: d.update(root=[-9]),
+                   lambda d: d.update(root=[-3, "odd"]),
+                   lambda d: d.update(root=[0, "a", []])):
+        d = json.loads(json.dumps(doc))
+        mutate(d)
+        bad_docs.append(d)
+    for d in bad_docs:
+        with pytest.raises(CodecError):
+            codec.decode(d)
+
+
+def test_codec_reads_an_older_class_layout_by_name():
+    codec = Codec([_Pt])
+    doc = _through_json(codec.encode(_Pt("a", (1,), ["t"])))
+    # an entry written when the class had fields in another order and no 'tags'
+    doc["classes"] = [["_Pt", ["at", "name"]]]
+    doc["root"] = [0, [-2, 1], "a"]
+    assert codec.decode(doc) == _Pt("a", (1,), [])
+
+
+def _bench_netlists():
+    import importlib.resources
+    base = importlib.resources.files("circuitgraph")
+    return [base.joinpath(f"netlists/{n}") for n in ("c7552.v", "sin.v", "c17.v")]
+
+
+def _fixture_files():
+    from pathlib import Path
+    root = Path(__file__).resolve().parent.parent / "fixtures"
+    return sorted(p for p in root.rglob("*.v") if "inc" not in p.parts)
+
+
+@pytest.mark.slow
+def test_compact_ir_round_trip_on_benchmarks_and_fixtures():
+    import importlib.resources
+
+    from hazlint.errors import HazlintError
+    from hazlint.frontend.reader import read_sources
+    sources = []
+    for p in _bench_netlists():
+        with importlib.resources.as_file(p) as f:
+            sources += read_sources([str(f)])
+    n_fixtures = 0
+    for p in _fixture_files():
+        try:
+            sources += read_sources([str(p)], include_dirs=[str(p.parent / "inc")])
+            n_fixtures += 1
+        except HazlintError:
+            pass           # fixtures that show a reader error have no IR to round-trip
+    assert n_fixtures >= 20
+    for sf in sources:
+        doc = ir.to_compact(sf)
+        text = json.dumps(doc, separators=(",", ":"))
+        back = ir.from_compact(json.loads(text))
+        assert back == sf, sf.path
+        if sum(len(m.items) for m in sf.modules) > 1000:
+            # on a netlist the old named form is several times larger (field names per object)
+            assert 2 * len(text) < len(json.dumps(ir.to_json(sf), separators=(",", ":")))
+
+
+def test_corrupted_compact_entry_is_removed_by_the_reader(tmp_path):
+    from hazlint.frontend.reader import read_sources
+    src = tmp_path / "valve.v"
+    src.write_text(VALVE)
+    c = ParseCache(tmp_path / "c")
+    first = read_sources([str(src)], cache=c)
+    (entry,) = (tmp_path / "c").rglob("*.json")
+    doc = json.loads(entry.read_text())
+    doc["data"]["ir"]["root"] = [99, "junk"]          # valid JSON, not an IR we can use
+    entry.write_text(json.dumps(doc))
+    again = read_sources([str(src)], cache=ParseCache(tmp_path / "c"))
+    assert again == first                              # parsed afresh
+    doc = json.loads(entry.read_text())                # and the entry was rewritten
+    assert ir.from_compact(doc["data"]["ir"]) == first[0]
+    entry.write_bytes(entry.read_bytes()[:100])        # truncated
+    c3 = ParseCache(tmp_path / "c")
+    assert read_sources([str(src)], cache=c3) == first and c3.dropped == 1

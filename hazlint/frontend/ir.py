@@ -306,3 +306,35 @@ def _hashable(x):
 
 def _is_list_field(f) -> bool:
     return f.default_factory is list if f.default_factory is not dataclasses.MISSING else False
+
+
+# ---------------------------------------------------------------------------------------------
+# Compact JSON (the parse cache's format): positional, field names once per entry
+
+COMPACT_FORMAT = 1
+_CODEC = None
+
+
+def _codec():
+    global _CODEC
+    if _CODEC is None:
+        from ..cache import Codec
+        _CODEC = Codec(_CLASSES.values(), interned={Loc: ("path",)})
+    return _CODEC
+
+
+def to_compact(obj: Any) -> dict:
+    """A positional JSON encoding of IR (see :class:`hazlint.cache.Codec`): each object is a
+    list of its field values, field names are written once per entry in a class table, and
+    location paths once in a string table. :func:`from_compact` gives back an equal object
+    (lists stay lists, tuples tuples)."""
+    doc = _codec().encode(obj)
+    doc["ir"] = COMPACT_FORMAT
+    return doc
+
+
+def from_compact(doc: Any) -> Any:
+    """Inverse of :func:`to_compact`; raises ``ValueError`` on an entry it cannot read."""
+    if not isinstance(doc, dict) or doc.get("ir") != COMPACT_FORMAT:
+        raise ValueError("not a compact IR document")
+    return _codec().decode(doc)

@@ -21,7 +21,7 @@ from .build_ir import build_source
 from .parser import SyntaxErr, get_parser
 from .preprocess import Preprocessor, digest_text, read_text
 
-CACHE_FORMAT = 1
+CACHE_FORMAT = 2        # 2: positional IR (ir.to_compact)
 _PARSE_LOCK = threading.RLock()
 
 
@@ -179,11 +179,22 @@ def _from_cache(cache, key, texts):
                 return None
         except HazlintError:
             return None
+    # decoding builds many small acyclic objects: no cyclic GC passes meanwhile
+    gc_was_enabled = gc.isenabled()
+    gc.disable()
     try:
-        sf = ir.from_json(data["ir"])
-    except (KeyError, TypeError, ValueError):
+        sf = ir.from_compact(data["ir"])
+    except (KeyError, TypeError, ValueError, AttributeError):
+        sf = None
+    finally:
+        if gc_was_enabled:
+            gc.enable()
+    if not isinstance(sf, ir.SourceFile):
+        discard = getattr(cache, "discard", None)
+        if discard is not None:
+            discard(key)            # valid JSON but not an entry we can use: remove it
         return None
-    return sf if isinstance(sf, ir.SourceFile) else None
+    return sf
 
 
 def _to_cache(cache, key, sf: ir.SourceFile, texts) -> None:
@@ -194,7 +205,7 @@ def _to_cache(cache, key, sf: ir.SourceFile, texts) -> None:
         except HazlintError:
             return
     try:
-        cache.store(key, {"format": CACHE_FORMAT, "ir": ir.to_json(sf), "deps": deps,
+        cache.store(key, {"format": CACHE_FORMAT, "ir": ir.to_compact(sf), "deps": deps,
                           "includes": list(sf.includes)})
     except Exception:
         pass
