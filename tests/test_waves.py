@@ -1,0 +1,53 @@
+"""Waveform output: VCD (read back with pyvcd's reader), terminal timing diagram, SVG."""
+from __future__ import annotations
+
+import io
+import xml.etree.ElementTree as ET
+
+from hazlint.analysis.timedsim import build_graph, replay
+from hazlint.analysis.waves import svg, timing_diagram, vcd_text
+
+
+def _trace():
+    g = build_graph(["A", "B", "C"], [("nb", "not", ["B"], 2), ("t1", "and", ["A", "nb"], 1),
+                                      ("t2", "and", ["B", "C"], 1), ("F", "or", ["t1", "t2"], 1)],
+                    ["F"])
+    gl, tr = replay(g, "<sink>F", {"A": 1, "B": 1, "C": 1}, {"A": 1, "B": 0, "C": 1}, settle=10)
+    return gl, tr, ["B", "nb", "t1", "t2", "F"]
+
+
+def test_vcd_reads_back_with_the_same_changes():
+    from vcd.reader import TokenKind, tokenize
+    gl, tr, nets = _trace()
+    text = vcd_text(tr, nets, {n: n for n in nets})
+    ids, changes, now = {}, [], 0
+    for tok in tokenize(io.BytesIO(text.encode())):
+        if tok.kind is TokenKind.VAR:
+            ids[tok.var.id_code] = tok.var.reference
+        elif tok.kind is TokenKind.CHANGE_TIME:
+            now = tok.time_change
+        elif tok.kind is TokenKind.CHANGE_SCALAR and now > 0:
+            changes.append((now, ids[tok.scalar_change.id_code], int(tok.scalar_change.value)))
+    want = sorted((t, n, v) for n in nets for t, v in tr.waves[n][1:])
+    assert sorted(changes) == want
+    # the static-1 pulse on F: down at 12, up at 14 (B falls at 10, nb is 2 slower)
+    assert [(t, v) for t, n, v in changes if n == "F"] == [(12, 0), (14, 1)]
+
+
+def test_terminal_diagram_rows_and_marks():
+    gl, tr, nets = _trace()
+    lines = timing_diagram(tr, nets, {n: n for n in nets}, ascii_only=True)
+    assert len(lines) == len(nets) + 1
+    f_row = lines[nets.index("F")]
+    assert "\\" in f_row and "/" in f_row and "12f" in f_row and "14r" in f_row
+    assert all(ch in "_-/\\| " for ch in lines[0].split(" ", 1)[1].split("  ")[0].strip())
+
+
+def test_svg_is_well_formed_with_one_trace_per_net():
+    gl, tr, nets = _trace()
+    text = svg(tr, nets, {n: n for n in nets}, title="static-1 hazard", highlight=(12, 14))
+    root = ET.fromstring(text)
+    ns = "{http://www.w3.org/2000/svg}"
+    assert len(root.findall(f"{ns}polyline")) == len(nets)
+    labels = [t.text for t in root.findall(f"{ns}text")]
+    assert "static-1 hazard" in labels and "F" in labels
