@@ -70,10 +70,12 @@ def _norm(p: str) -> str:
 
 def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | None = None,
          top=None, include_dirs=None, defines=None, use_cache: bool = True, progress=None):
-    """Read and elaborate the design with the configured library, then apply SDF."""
+    """Read and elaborate the design with the configured library, then apply SDF.
+
+    With the cache on, an unchanged design comes from the design cache
+    (:mod:`hazlint.design_cache`) without reading or elaborating anything."""
     from .frontend.reader import read_sources
     from .flatten import elaborate
-    library = config.library()
     kwargs: dict[str, Any] = {
         "include_dirs": list(include_dirs if include_dirs is not None else config.include_dirs),
         "defines": dict(config.defines, **(defines or {})),
@@ -93,11 +95,27 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
             raise HazlintError("this build cannot lint unsaved editor text (the reader takes "
                                "no 'texts')")
         kwargs["texts"] = {os.path.abspath(k): v for k, v in texts.items()}
-    sources = read_sources(list(files), **kwargs)
     chosen_top = top if top is not None else config.top
     if isinstance(chosen_top, list) and len(chosen_top) == 1:
         chosen_top = chosen_top[0]
-    design = elaborate(sources, top=chosen_top, library=library)
+
+    def load_fresh():
+        library = config.library()
+        sources = read_sources(list(files), **kwargs)
+        design = elaborate(sources, top=chosen_top, library=library)
+        _apply_sdf(design, config, library)
+        return design, sources
+
+    if not use_cache:
+        return load_fresh()[0]
+    from .design_cache import load_cached, open_design_cache
+    return load_cached(list(files), config, texts=kwargs.get("texts"), top=chosen_top,
+                       include_dirs=kwargs["include_dirs"], defines=kwargs["defines"],
+                       root=kwargs.get("root"), load_fresh=load_fresh,
+                       cache=open_design_cache(config.cache_dir))
+
+
+def _apply_sdf(design, config: Config, library) -> None:
     if config.sdf:
         try:
             sdf = importlib.import_module("hazlint.sdf")
@@ -112,7 +130,6 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
                 raise ConfigError(f"SDF file not found: {p}", path=config.path,
                                   line=config.key_lines.get("sdf"))
             annotate(design, p, corner="minmax", library=library)
-    return design
 
 
 def run_rules(design, rules: Sequence[Rule], context: AnalysisContext,
