@@ -65,26 +65,18 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
     fanout cone plus the length of the reported paths.
     """
     tg = context.timing_graph
-    solver = context.arrival_solver
     order = tg.order
     sinks, reach = context.scope_reach(scope)
     if not sinks:
         return
     rank = context.source_rank
     rank_i = [rank[n] for n in order]
-    for stem in sorted(context.stems, key=lambda n: rank[n]):
-        si = tg.index.get(stem)
-        if si is None or not reach[si]:
-            continue
-        found: list = []
-
-        def note(r, found=found):
-            if r.skew > 0 and r.skew >= min_skew and reach[r.gate]:
-                found.append(r)
-
-        st = solver.solve(si, on_reconvergence=note)
+    stem_ids = [tg.index[n] for n in context.stems if n in tg.index and reach[tg.index[n]]]
+    for si, st, found in context.stem_reconvergences(stem_ids, min_skew):
+        found = [r for r in found if reach[r.gate]]
         if not found:
             continue
+        stem = order[si]
         # every sink in scope goes to the worst reconvergence that reaches it (ties: the gate
         # first in source order); sinks are bits of the precomputed reachability sets
         found.sort(key=lambda r: (-r.skew, rank_i[r.gate]))
