@@ -125,7 +125,8 @@ class Finding:
         make = make or (lambda n, dl, a: (n, dl, a))
         pairs = st.chain(src, slow, lambda i, dl, a: (order[i], make(order[i], dl, a)), tag)
         last = make(self.gate, dmax if slow else dmin, r.slow_arrival if slow else r.fast_arrival)
-        return [n for n, _ in pairs] + [self.gate], tuple(x for _, x in pairs) + (last,)
+        ids, items = zip(*pairs)
+        return list(ids) + [self.gate], items + (last,)
 
 
 def check(design, context):

@@ -44,6 +44,7 @@ class AnalysisContext:
         self.config = config
         self._options = {k: dict(v) for k, v in (options or {}).items()}
         self._hop_cache: dict[str, tuple] = {}
+        self._hops: dict[tuple, Hop] = {}
         self._reach_cache: dict[str, tuple] = {}
 
     # ---- options -------------------------------------------------------------------------------
@@ -242,9 +243,15 @@ class AnalysisContext:
         return d.get("port") or d.get("name") or n
 
     def hop(self, n: str, delay: float | None = None, arrival: float | None = None) -> Hop:
-        net, gate, cell, loc, inst = self._hop_base(n)
-        return Hop(net=net, gate=gate, cell=cell, location=loc, instance=inst,
-                   delay=delay, arrival=arrival)
+        """The evidence hop of node ``n`` (shared: hops are frozen values, and the same node at
+        the same arrival recurs across the findings of many stems)."""
+        key = (n, delay, arrival)
+        h = self._hops.get(key)
+        if h is None:
+            net, gate, cell, loc, inst = self._hop_base(n)
+            h = self._hops[key] = Hop(net=net, gate=gate, cell=cell, location=loc,
+                                      instance=inst, delay=delay, arrival=arrival)
+        return h
 
     def _hop_base(self, n: str):
         base = self._hop_cache.get(n)
