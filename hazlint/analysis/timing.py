@@ -482,7 +482,8 @@ class BatchArrivalSolver:
                         reach = [(k, int(P[i, k]), float(lo_pin[i, k, b]), float(hi_pin[i, k, b]))
                                  for k in range(len(tg.fanin[v])) if reached[i, k, b]]
                         r = _worst_pair(reach, _DomColumn(dom, b), stems[b])
-                        if r is not None:
+                        if r is not None and (min_skew is None
+                                              or (r[0] > 0 and r[0] >= min_skew)):
                             skew, ks, kf, ts, tf = r
                             found[b].append(Reconvergence(v, skew, ks, kf, ts, tf))
             amin[V] = lo
