@@ -751,9 +751,9 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
                         res[k] = HazardProof(k, "present", witness=wit, method="simulation")
     # what the random vectors left open: structural proof, then shared BDD / SAT per source
     open_pairs: dict[str, list[str]] = {}
+    counts: dict[str, dict[str, int]] = {}
     for t in targets:
         s = sup[t]
-        t_order = None
         while s:
             i = (s & -s).bit_length() - 1
             s &= s - 1
@@ -762,9 +762,9 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
             rest = [k for k in HAZARD_KINDS if k not in res]
             if not rest:
                 continue
-            if t_order is None:
-                t_order = cone(g, [t])
-            if path_count(g, t_order, x, t) <= 1:
+            if x not in counts:
+                counts[x] = _path_counts(g, order, x)
+            if counts[x].get(t, 0) <= 1:
                 for k in rest:
                     res[k] = HazardProof(k, "absent", method="structural",
                                          reason="a single path from the changing input")
@@ -773,6 +773,26 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
     if open_pairs:
         _prove_open(g, order, targets, srcs, open_pairs, found, opts)
     return found
+
+
+def _path_counts(g, order, source, cap=2) -> dict[str, int]:
+    """Paths (pin-wise) from ``source`` to every node, capped (DP over the topological order of
+    ``source``'s fan-out only)."""
+    cnt = {source: 1}
+    stack, fo = [source], {source}
+    while stack:
+        n = stack.pop()
+        for s in g.successors(n):
+            if s not in fo:
+                fo.add(s)
+                stack.append(s)
+    for n in order:
+        if n == source or n not in fo:
+            continue
+        c = sum(cnt.get(i, 0) for i in g.nodes[n].get("inputs") or ())
+        if c:
+            cnt[n] = min(c, cap)
+    return cnt
 
 
 def _var_order(g, order, targets, srcs) -> list[str]:
@@ -842,30 +862,55 @@ def _prove_open(g, order, targets, srcs, open_pairs, found, opts):
     sv = {n: C.new() for n in srcs}
     sp = SharedPlanes(g, order, C, sv)
     cb = int(opts["conflict_budget"])
-    base_n, base_memo = len(C.clauses), dict(C._memo)
     for x, ts in todo.items():
-        # a fresh solver per changing source: the design's binary clauses plus this source's
-        # planes (earlier planes would only slow the search down)
-        del C.clauses[base_n:]
-        C._memo = dict(base_memo)
         planes = sp.planes(x, ts)
-        with Solver(name=SOLVER, bootstrap_with=C.clauses) as solver:
+        roots = [lit for t in ts for lit in planes[t].values()]
+        statics = {}
+        for t in ts:
+            # one query for "any static hazard" first: most open pairs are hazard-free
+            p1, p0 = planes[t]["static-1-hazard"], planes[t]["static-0-hazard"]
+            statics[t] = C.or_(p1, p0)
+            roots.append(statics[t])
+        # cone of influence: only the clauses these queries depend on, renumbered densely
+        # (solvers size their arrays by the largest variable)
+        cls = C.cone_clauses(roots)
+        ren: dict[int, int] = {}
+        for c in cls:
+            for l in c:
+                if abs(l) not in ren:
+                    ren[abs(l)] = len(ren) + 1
+        dense = [[ren[l] if l > 0 else -ren[-l] for l in c] for c in cls]
+        src_dense = {n: ren[v] for n, v in sv.items() if v in ren}
+        with Solver(name=SOLVER, bootstrap_with=dense) as solver:
+            def ask(lit):
+                if lit == -1:
+                    return False, None
+                if lit == 1:
+                    return True, {n: 0 for n in sv if n != x}
+                solver.conf_budget(cb)
+                r = solver.solve_limited(assumptions=[ren[lit] if lit > 0 else -ren[-lit]])
+                if r:
+                    model = solver.get_model()      # literal of variable v at index v - 1
+                    m = len(model)
+                    return True, {n: int(v <= m and model[v - 1] > 0)
+                                  for n, v in src_dense.items() if n != x}
+                return r, None
             for t in ts:
                 res = found[(t, x)]
+                rest = [k for k in HAZARD_KINDS if k not in res]
+                if "static-1-hazard" in rest and "static-0-hazard" in rest:
+                    r, _ = ask(statics[t])
+                    if r is False:
+                        for k in ("static-1-hazard", "static-0-hazard"):
+                            res[k] = HazardProof(k, "absent", method="sat",
+                                                 reason=f"{bdd_reason}; unsatisfiable")
                 for k in [k for k in HAZARD_KINDS if k not in res]:
-                    lit = planes[t][k]
-                    if lit == -1:
-                        res[k] = HazardProof(k, "absent", method="sat", reason="folded")
-                        continue
-                    solver.conf_budget(cb)
-                    r = solver.solve_limited(assumptions=[lit])
+                    r, wit = ask(planes[t][k])
                     if r is None:
                         res[k] = HazardProof(k, "inconclusive", method="sat",
                                              reason=f"{bdd_reason}; SAT conflict budget ({cb}) "
                                                     "exceeded")
                     elif r:
-                        model = solver.get_model()
-                        wit = {n: int(model[v - 1] > 0) for n, v in sv.items() if n != x}
                         res[k] = HazardProof(k, "present", witness=wit, method="sat")
                     else:
                         res[k] = HazardProof(k, "absent", method="sat",

@@ -31,6 +31,8 @@ class CNFAlgebra:
         self.false = -1
         self._memo: dict[tuple, int] = {}
         self.var_budget = var_budget
+        # for cone-of-influence loading: a defined variable -> (its clauses, its operands)
+        self.defs: dict[int, tuple[list[list[int]], tuple[int, ...]]] = {}
 
     def new(self) -> int:
         self.nvars += 1
@@ -59,9 +61,10 @@ class CNFAlgebra:
         v = self._memo.get(key)
         if v is None:
             v = self.new()
-            for x in lits:
-                self.clauses.append([-v, x])
-            self.clauses.append([v, *(-x for x in lits)])
+            cls = [[-v, x] for x in lits]
+            cls.append([v, *(-x for x in lits)])
+            self.clauses += cls
+            self.defs[v] = (cls, tuple(abs(x) for x in lits))
             self._memo[key] = v
         return v
 
@@ -87,9 +90,28 @@ class CNFAlgebra:
         v = self._memo.get(key)
         if v is None:
             v = self.new()
-            self.clauses += [[-v, a, b], [-v, -a, -b], [v, -a, b], [v, a, -b]]
+            cls = [[-v, a, b], [-v, -a, -b], [v, -a, b], [v, a, -b]]
+            self.clauses += cls
+            self.defs[v] = (cls, (a, b))
             self._memo[key] = v
         return -v if neg else v
+
+
+    def cone_clauses(self, lits) -> list[list[int]]:
+        """The clauses that define ``lits`` (transitively): all a query on them needs."""
+        out: list[list[int]] = [[1]]
+        seen: set[int] = set()
+        stack = [abs(l) for l in lits]
+        while stack:
+            v = stack.pop()
+            if v in seen:
+                continue
+            seen.add(v)
+            d = self.defs.get(v)
+            if d is not None:
+                out += d[0]
+                stack.extend(d[1])
+        return out
 
 
 def sat_hazards(graph, order: Sequence[str], target: str, changes: Mapping[str, tuple[int, int]],
