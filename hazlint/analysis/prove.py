@@ -892,18 +892,34 @@ def _prove_open(g, order, targets, srcs, open_pairs, found, opts):
                 if r:
                     model = solver.get_model()      # literal of variable v at index v - 1
                     m = len(model)
+                    last_model[:] = model
                     return True, {n: int(v <= m and model[v - 1] > 0)
                                   for n, v in src_dense.items() if n != x}
                 return r, None
+
+            def holds(lit):
+                if lit in (1, -1):
+                    return lit == 1
+                v = ren.get(abs(lit))
+                if v is None or v > len(last_model):
+                    return False
+                return (last_model[v - 1] > 0) == (lit > 0)
+            last_model: list[int] = []
             for t in ts:
                 res = found[(t, x)]
                 rest = [k for k in HAZARD_KINDS if k not in res]
                 if "static-1-hazard" in rest and "static-0-hazard" in rest:
-                    r, _ = ask(statics[t])
+                    r, wit = ask(statics[t])
                     if r is False:
                         for k in ("static-1-hazard", "static-0-hazard"):
                             res[k] = HazardProof(k, "absent", method="sat",
                                                  reason=f"{bdd_reason}; unsatisfiable")
+                    elif r:
+                        # the model shows one of the two kinds: no second query for it
+                        for k in ("static-1-hazard", "static-0-hazard"):
+                            if holds(planes[t][k]):
+                                res[k] = HazardProof(k, "present", witness=wit, method="sat")
+                                break
                 for k in [k for k in HAZARD_KINDS if k not in res]:
                     r, wit = ask(planes[t][k])
                     if r is None:
