@@ -464,8 +464,19 @@ class SharedPlanes:
 
     def planes(self, x: str, targets: Iterable[str]) -> dict[str, dict[str, Any]]:
         A, g, f = self.A, self.g.nodes, self.f
+        targets = list(targets)
         fo = self.fanout(x)
         fos = set(fo)
+        # only the part of x's fan-out that reaches the targets
+        need = set()
+        stack = [t for t in targets if t in fos]
+        while stack:
+            n = stack.pop()
+            if n in need:
+                continue
+            need.add(n)
+            stack.extend(p for p in self.g.predecessors(n) if p in fos and p not in need)
+        fo = [n for n in fo if n in need]
         fa, fb, tx, tr = {x: A.false}, {x: A.true}, {x: (A.true, A.true)}, \
             {x: (A.false, A.true, A.false)}
 
