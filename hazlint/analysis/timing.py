@@ -213,7 +213,8 @@ class ArrivalSolver:
                     stack.append(v)
         return sorted(seen)
 
-    def solve(self, stem: int, on_reconvergence=None, complete: bool = False) -> StemTiming:
+    def solve(self, stem: int, on_reconvergence=None, complete: bool = False,
+              budget: int | None = None) -> StemTiming | None:
         """Fill arrival arrays for ``stem``'s cone. ``on_reconvergence(Reconvergence)`` is called
         for every gate where paths from two different fanout branches of the stem meet for the
         first time (in topological order).
@@ -231,7 +232,9 @@ class ArrivalSolver:
         soon as no further reconvergence of this stem is possible: when the stem's own reads are
         all done and every node still waiting for successors lies under one child of the stem
         in the dominator tree, every later node is dominated by that child. ``complete`` sweeps
-        the whole cone regardless (arrival times everywhere).
+        the whole cone regardless (arrival times everywhere). With a ``budget``, a sweep that
+        would visit more nodes than that gives up and returns None (the caller then hands the
+        stem to the batch solver).
         """
         self._reset()
         amin, amax, bmin, bmax, dom = self.amin, self.amax, self.bmin, self.bmax, self.dom
@@ -317,6 +320,9 @@ class ArrivalSolver:
                         push(heap, w)
             if not complete and left[stem] == 0 and len(open_tops) <= 1:
                 break
+            if budget is not None and len(visited) > budget:
+                self._touched = visited
+                return None
         self._touched = visited
         visited.sort()
         return StemTiming(self, stem, visited)
