@@ -222,10 +222,12 @@ def test_rule_gives_the_same_findings_with_either_solver():
     rng = random.Random(7)
     design = _random_dag(rng, 40)
     out = []
-    for threshold in (10**9, 0):
+    # scalar only; batch only (every scalar sweep over budget at once); scalar then batch
+    for threshold, budget in ((10**9, 0), (0, 0), (0, 6)):
         ctx = AnalysisContext(design, None, {RULE.id: RULE.resolve_options({})})
         ctx.BATCH_MIN_NODES = threshold
-        out.append([(d.evidence["stem_node"], d.evidence["reconvergence_node"],
-                     d.evidence["sink_nodes"], d.evidence["skew"], d.evidence["fast_path"],
-                     d.evidence["slow_path"], d.message) for d in RULE.check(design, ctx)])
-    assert out[0] and out[0] == out[1]
+        ctx.SCALAR_BUDGET_MIN, ctx.SCALAR_BUDGET_DIVISOR = budget, 10**9
+        out.append(sorted((d.evidence["stem_node"], d.evidence["reconvergence_node"],
+                           d.evidence["sink_nodes"], d.evidence["skew"], d.evidence["fast_path"],
+                           d.evidence["slow_path"], d.message) for d in RULE.check(design, ctx)))
+    assert out[0] and out[0] == out[1] == out[2]
