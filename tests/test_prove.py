@@ -71,7 +71,9 @@ def test_refine_severity_absent_and_inconclusive():
     rng = random.Random(3)
     big = random_circuit(rng, 10, 60, 1, ops=("xor", "and", "or", "nand"))
     sink = next(n for n, x in big.nodes(data=True) if x["kind"] == "sink")
-    src = free_sources(big, cone(big, [sink]))[0]
+    from hazlint.analysis.prove import path_count
+    order = cone(big, [sink])
+    src = next(s for s in free_sources(big, order) if path_count(big, order, s, sink) > 1)
     c = classify(big, sink, {src: (0, 1)}, options={"sim_vectors": 1, "node_budget": 1,
                                                     "check_time": 0.0, "conflict_budget": 0})
     if c.classification != "inconclusive":

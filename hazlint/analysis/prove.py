@@ -434,7 +434,8 @@ def glitch_text(c: Classification) -> str:
     if c.glitch is None:
         return f"not reproduced by timed simulation ({c.how})" if c.how else ""
     g = c.glitch
-    what = (f"pulse at t={_num(g.time)} of width {_num(g.width)}, {len(g.changes)} changes")
+    what = (f"pulse {_num(g.time)} after the change, {_num(g.width)} wide, "
+            f"{len(g.changes)} output changes")
     if c.how == "nominal":
         return f"glitches with the nominal delays ({c.assignment.mode}): {what}"
     if c.how in ("min-corner", "within-bounds"):

@@ -127,6 +127,8 @@ def bdd_hazards(graph, order: Sequence[str], target: str, changes: Mapping[str, 
         else:
             va[n] = vb[n] = A.var(names[n])
     planes = hazard_planes(graph, order, target, A, va, vb, srcs)
+    if len(A.bdd) > node_budget:
+        raise Budget(f"BDD exceeded {node_budget} nodes")
     fh = None
     moving = [n for n, (a, b) in changes.items() if a != b]
     if 2 <= len(moving) <= 4:
