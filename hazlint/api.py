@@ -69,11 +69,13 @@ def _norm(p: str) -> str:
 
 
 def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | None = None,
-         top=None, include_dirs=None, defines=None, use_cache: bool = True, progress=None):
+         top=None, include_dirs=None, defines=None, use_cache: bool = True, progress=None,
+         cache_info: dict | None = None):
     """Read and elaborate the design with the configured library, then apply SDF.
 
     With the cache on, an unchanged design comes from the design cache
-    (:mod:`hazlint.design_cache`) without reading or elaborating anything."""
+    (:mod:`hazlint.design_cache`) without reading or elaborating anything; ``cache_info``
+    (a dict, optional) receives the ``design_key`` used."""
     from .frontend.reader import read_sources
     from .flatten import elaborate
     kwargs: dict[str, Any] = {
@@ -112,7 +114,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     return load_cached(list(files), config, texts=kwargs.get("texts"), top=chosen_top,
                        include_dirs=kwargs["include_dirs"], defines=kwargs["defines"],
                        root=kwargs.get("root"), load_fresh=load_fresh,
-                       cache=open_design_cache(config.cache_dir))
+                       cache=open_design_cache(config.cache_dir), info=cache_info)
 
 
 def _apply_sdf(design, config: Config, library) -> None:
@@ -195,8 +197,10 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
     for p in paths:
         if not os.path.isfile(p) and not (texts and any(_norm(k) == _norm(p) for k in texts)):
             raise HazlintError(f"file not found: {relpath(p, cwd)}", path=p)
+    cache_info: dict = {}
     design = load(paths, config, texts=texts, top=top, include_dirs=include_dirs,
-                  defines=defines, use_cache=use_cache, progress=progress)
+                  defines=defines, use_cache=use_cache, progress=progress,
+                  cache_info=cache_info)
 
     sel = list(select) if select is not None else config.select
     ign = list(config.ignore) + list(ignore)
@@ -218,12 +222,26 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
                               line=config.key_lines.get("severity"))
     context = AnalysisContext(design, config, opts)
 
-    diags = run_rules(design, rules, context, config.severity)
-    if prove:
-        diags = refine(design, diags, context, config.prove)
-    # front-end notes ride along unless their rule id is ignored or a selection leaves it out
-    diags = list(diags) + [n for n in (design.notes or []) if isinstance(n, Diagnostic)
-                           and n.rule not in ign and (sel is None or n.rule in sel)]
+    # findings before waivers/baseline come from the result cache when nothing they depend
+    # on changed (design key, configuration, rules); waivers and the rest are redone below
+    rcache = rkey = None
+    if use_cache and cache_info.get("design_key"):
+        from .design_cache import open_result_cache, result_key
+        rcache = open_result_cache(config.cache_dir)
+        if rcache is not None:
+            rkey = result_key(cache_info["design_key"], config, select=sel, ignore=ign,
+                              prove=prove, options=opts, rules=rules)
+    diags = rcache.load(rkey) if rkey else None
+    if diags is None:
+        diags = run_rules(design, rules, context, config.severity)
+        if prove:
+            diags = refine(design, diags, context, config.prove)
+        # front-end notes ride along unless their rule id is ignored or a selection leaves
+        # it out
+        diags = list(diags) + [n for n in (design.notes or []) if isinstance(n, Diagnostic)
+                               and n.rule not in ign and (sel is None or n.rule in sel)]
+        if rkey and not texts:
+            rcache.store(rkey, diags)
 
     # waivers: inline comments in every source read, plus the waiver file
     sources = list(dict.fromkeys(list(getattr(design, "files", []) or []) + paths))

@@ -473,7 +473,8 @@ def open_design_cache(directory: str | os.PathLike | None = None, *,
 
 
 def load_cached(paths: Sequence[str], config, *, texts=None, top=None, include_dirs=(),
-                defines=None, root=None, load_fresh, cache: DesignCache | None = None):
+                defines=None, root=None, load_fresh, cache: DesignCache | None = None,
+                info: dict | None = None):
     """The design for ``paths`` from ``cache`` when an entry matches, else ``load_fresh()``
     (returning ``(design, sources)``), stored for the next run. Entries are not written for
     unsaved editor text (``texts``): each keystroke would leave one behind."""
@@ -482,6 +483,8 @@ def load_cached(paths: Sequence[str], config, *, texts=None, top=None, include_d
     key = design_key(paths, texts=texts, top=top, include_dirs=include_dirs, defines=defines,
                      root=root, cells=config.cells, cells_source=config.path,
                      liberty=config.liberty, sdf=config.sdf, sdf_corner="minmax")
+    if info is not None:
+        info["design_key"] = key
     if key is not None:
         design = cache.load(key, texts)
         if design is not None:
@@ -493,5 +496,90 @@ def load_cached(paths: Sequence[str], config, *, texts=None, top=None, include_d
     return design
 
 
-__all__ = ["DesignCache", "code_stamp", "decode_design", "design_key", "encode_design",
+# ---------------------------------------------------------------------------------------------
+# findings of a run (before waivers, baseline and the changed-files filter)
+
+RESULT_FORMAT = 1
+RESULT_NAMESPACE = "result"
+
+
+def result_key(design_key: str, config, *, select, ignore, prove: bool,
+               options: Mapping[str, Any], rules: Iterable[Any]) -> str | None:
+    """sha256 over what decides the findings of a design: the design key, the whole
+    configuration table plus the resolved rule options, the selection, whether the prover ran
+    (and its options), and which rules ran with a stamp of each rule's module file (rules from
+    other distributions are not covered by :func:`code_stamp`)."""
+    import sys
+    ran = []
+    for r in rules:
+        mod = sys.modules.get(getattr(r.check, "__module__", ""), None)
+        f = getattr(mod, "__file__", None)
+        try:
+            st = os.stat(f) if f else None
+        except OSError:
+            st = None
+        ran.append([r.id, r.origin, str(r.severity), f,
+                    [st.st_size, st.st_mtime_ns] if st else None])
+    material = {
+        "format": RESULT_FORMAT, "design": design_key, "raw": config.raw,
+        "config_path": config.path, "root": config.root, "severity": config.severity,
+        "async_outputs": config.async_outputs, "sync_inputs": config.sync_inputs,
+        "prove_options": config.prove, "select": None if select is None else list(select),
+        "ignore": list(ignore), "prove": bool(prove), "options": options, "rules": ran,
+    }
+    try:
+        text = json.dumps(material, sort_keys=True, default=repr)
+    except (TypeError, ValueError):
+        return None
+    return hashlib.sha256(text.encode("utf-8", "surrogateescape")).hexdigest()
+
+
+class ResultCache:
+    """Findings (a list of :class:`~hazlint.diagnostics.Diagnostic`) by :func:`result_key`,
+    in namespace ``result``, stamped with :func:`code_stamp`."""
+
+    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None):
+        self.store_ = ParseCache(directory, namespace=RESULT_NAMESPACE,
+                                 version=version if version is not None else code_stamp())
+
+    @property
+    def enabled(self) -> bool:
+        return self.store_.enabled
+
+    def load(self, key: str):
+        try:
+            data = self.store_.load(key)
+        except Exception:
+            return None
+        if data is None:
+            return None
+        from .diagnostics import Diagnostic
+        try:
+            if data.get("format") != RESULT_FORMAT:
+                raise CodecError("not a result entry of this format")
+            diags = _codec().decode(data)
+            if not isinstance(diags, list) or not all(isinstance(d, Diagnostic) for d in diags):
+                raise CodecError("not a list of findings")
+        except (ValueError, RecursionError, AttributeError):
+            self.store_.discard(key)
+            return None
+        return diags
+
+    def store(self, key: str, diagnostics) -> bool:
+        try:
+            doc = _codec().encode(list(diagnostics))
+        except (CodecError, RecursionError):
+            return False
+        doc["format"] = RESULT_FORMAT
+        before = self.store_.stores
+        self.store_.store(key, doc)
+        return self.store_.stores > before
+
+
+def open_result_cache(directory: str | os.PathLike | None = None) -> ResultCache | None:
+    c = ResultCache(directory)
+    return c if c.enabled else None
+
+
+__all__ = ["DesignCache", "ResultCache", "result_key", "open_result_cache", "code_stamp", "decode_design", "design_key", "encode_design",
            "load_cached", "open_design_cache", "default_cache_dir"]

@@ -163,17 +163,21 @@ def test_cli_cache_dir_no_cache_jobs_and_corruption(tmp_path):
     cache = tmp_path / "cache"
     cold = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
     assert cold.returncode == 1, cold.stderr
-    entries = sorted(cache.rglob("*.json"))
+    entries = sorted((cache / "parse").rglob("*.json"))
     assert len(entries) == 2                       # one entry per source file
+    assert len(list((cache / "design").rglob("*.json"))) == 1     # and one for the design
     stamp = [p.stat().st_mtime_ns for p in entries]
     warm = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
     assert warm.stdout == cold.stdout
     assert [p.stat().st_mtime_ns for p in entries] == stamp     # served, not rewritten
-    # a corrupted entry is dropped and rebuilt; the result does not change
+    # corrupted entries (the design's and a file's) are dropped and rebuilt; same result
+    (design_entry,) = (cache / "design").rglob("*.json")
+    design_entry.write_bytes(design_entry.read_bytes()[:200])
     entries[0].write_text('{"format": 1, "key": "')
     again = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
     assert again.stdout == cold.stdout and again.returncode == 1
     assert json.loads(entries[0].read_text())["format"] == 1
+    assert json.loads(design_entry.read_text())["format"] == 1
     # parallel parsing gives the same findings
     par = cli(tmp_path, "--no-cache", "-j", "2", "top.v", "valve.v")
     assert par.stdout == cold.stdout, par.stderr
