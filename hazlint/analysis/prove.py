@@ -863,8 +863,19 @@ def _prove_open(g, order, targets, srcs, open_pairs, found, opts):
     sv = {n: C.new() for n in srcs}
     sp = SharedPlanes(g, order, C, sv)
     cb = int(opts["conflict_budget"])
+    # each source's planes are thrown away after its solver: restore the shared encoding
+    base = (C.nvars, len(C.clauses), dict(C._memo), dict(C.defs))
     for x, ts in todo.items():
-        planes = sp.planes(x, ts)
+        C.nvars, C._memo, C.defs = base[0], dict(base[2]), dict(base[3])
+        del C.clauses[base[1]:]
+        try:
+            planes = sp.planes(x, ts)
+        except Budget as exc:
+            for t in ts:
+                for k in [k for k in HAZARD_KINDS if k not in found[(t, x)]]:
+                    found[(t, x)][k] = HazardProof(k, "inconclusive", method="sat",
+                                                   reason=f"{bdd_reason}; {exc.reason}")
+            continue
         roots = [lit for t in ts for lit in planes[t].values()]
         statics = {}
         for t in ts:
