@@ -148,7 +148,7 @@ def _codec() -> Codec:
         from .diagnostics import Diagnostic, Hop, Location, Related, Severity
         from .library import Delay
         _CODEC = Codec([Delay, Location, Hop, Related, Diagnostic, Severity, Register, BlackBox],
-                       shared=[Delay, Location])
+                       shared=[Delay, Location, Hop])
     return _CODEC
 
 
