@@ -359,9 +359,11 @@ class Codec:
         if t in self.shared:
             j = st.shared_index.get(x)
             if j is None:
+                # fields first: a shared value inside gets the lower index, so decoding the
+                # table in order always finds what an entry refers to
+                encoded = self._enc_fields(x, t, i, st)
                 j = st.shared_index[x] = len(st.shared)
-                st.shared.append(None)          # reserve the slot: values may nest
-                st.shared[j] = self._enc_fields(x, t, i, st)
+                st.shared.append(encoded)
             return [T_SHARED, j]
         return self._enc_fields(x, t, i, st)
 

@@ -238,6 +238,22 @@ def test_codec_keeps_python_types():
     assert doc["strings"] == ["p"]      # interned field: one string for both points
 
 
+@dataclass(frozen=True)
+class _Pair:
+    a: _Val
+    b: _Val
+
+
+def test_codec_shared_values_inside_shared_values():
+    codec = Codec([_Pair, _Val], shared=[_Pair, _Val])
+    v, w = _Val(1.0, 2.0), _Val(3.0, 4.0)
+    obj = [_Pair(v, w), _Pair(w, v), _Pair(v, w)]
+    doc = _through_json(codec.encode(obj))
+    assert len(doc["shared"]) == 4
+    back = codec.decode(doc)
+    assert back == obj and back[0] is back[2] and back[0].a is back[1].b
+
+
 def test_codec_rejects_what_it_does_not_know():
     codec = Codec([_Pt])
     with pytest.raises(CodecError):

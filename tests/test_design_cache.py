@@ -411,3 +411,15 @@ def test_result_cache_hits_misses_and_redoes_waivers(tmp_path, monkeypatch):
         e.write_text('{"format": 1, "hazlint": "x", "key": "')
     again = run(cfg())
     assert again.diagnostics == waived.diagnostics and len(calls) == n + 4
+
+
+def test_result_cache_round_trip_on_a_benchmark(tmp_path):
+    # ISCAS c432 from circuitgraph==0.2.1: many findings with paths of hops and locations
+    from hazlint.api import lint
+    res = lint([netlist("c432.v")], cwd=str(tmp_path), prove=False, use_cache=False)
+    assert len(res.diagnostics) > 10 and any(d.flows for d in res.diagnostics)
+    c = dc.ResultCache(tmp_path / "cache")
+    assert c.store("12" * 32, res.diagnostics)
+    back = dc.ResultCache(tmp_path / "cache").load("12" * 32)
+    assert back == res.diagnostics
+    assert [d.to_json() for d in back] == [d.to_json() for d in res.diagnostics]
