@@ -76,32 +76,34 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     With the cache on, an unchanged design comes from the design cache
     (:mod:`hazlint.design_cache`) without reading or elaborating anything; ``cache_info``
     (a dict, optional) receives the ``design_key`` used."""
-    from .frontend.reader import read_sources
-    from .flatten import elaborate
-    kwargs: dict[str, Any] = {
-        "include_dirs": list(include_dirs if include_dirs is not None else config.include_dirs),
-        "defines": dict(config.defines, **(defines or {})),
-    }
-    params = inspect.signature(read_sources).parameters
-    optional = {"root": config.root, "jobs": config.jobs}
-    for k, v in optional.items():
-        if k in params and v is not None:
-            kwargs[k] = v
-    if "cache" in params and use_cache:
-        from .cache import open_cache
-        kwargs["cache"] = open_cache(config.cache_dir)
-    if progress is not None and "progress" in params:
-        kwargs["progress"] = progress
-    if texts:
-        if "texts" not in params:
-            raise HazlintError("this build cannot lint unsaved editor text (the reader takes "
-                               "no 'texts')")
-        kwargs["texts"] = {os.path.abspath(k): v for k, v in texts.items()}
+    # the reader and the flattener (pyverilog and its parser tables) are imported only when
+    # the design has to be built: a warm run from the design cache does not need them
+    include_dirs = list(include_dirs if include_dirs is not None else config.include_dirs)
+    defines = dict(config.defines, **(defines or {}))
+    abs_texts = {os.path.abspath(k): v for k, v in texts.items()} if texts else None
     chosen_top = top if top is not None else config.top
     if isinstance(chosen_top, list) and len(chosen_top) == 1:
         chosen_top = chosen_top[0]
 
     def load_fresh():
+        from .frontend.reader import read_sources
+        from .flatten import elaborate
+        kwargs: dict[str, Any] = {"include_dirs": include_dirs, "defines": defines}
+        params = inspect.signature(read_sources).parameters
+        optional = {"root": config.root, "jobs": config.jobs}
+        for k, v in optional.items():
+            if k in params and v is not None:
+                kwargs[k] = v
+        if "cache" in params and use_cache:
+            from .cache import open_cache
+            kwargs["cache"] = open_cache(config.cache_dir)
+        if progress is not None and "progress" in params:
+            kwargs["progress"] = progress
+        if abs_texts:
+            if "texts" not in params:
+                raise HazlintError("this build cannot lint unsaved editor text (the reader "
+                                   "takes no 'texts')")
+            kwargs["texts"] = abs_texts
         library = config.library()
         sources = read_sources(list(files), **kwargs)
         design = elaborate(sources, top=chosen_top, library=library)
@@ -111,10 +113,10 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     if not use_cache:
         return load_fresh()[0]
     from .design_cache import load_cached, open_design_cache
-    return load_cached(list(files), config, texts=kwargs.get("texts"), top=chosen_top,
-                       include_dirs=kwargs["include_dirs"], defines=kwargs["defines"],
-                       root=kwargs.get("root"), load_fresh=load_fresh,
-                       cache=open_design_cache(config.cache_dir), info=cache_info)
+    return load_cached(list(files), config, texts=abs_texts, top=chosen_top,
+                       include_dirs=include_dirs, defines=defines, root=config.root,
+                       load_fresh=load_fresh, cache=open_design_cache(config.cache_dir),
+                       info=cache_info)
 
 
 def _apply_sdf(design, config: Config, library) -> None:
