@@ -38,6 +38,8 @@ Options
 """
 from __future__ import annotations
 
+import heapq
+
 from hazlint.diagnostics import Diagnostic, Severity
 
 from hazlint.plugins import Option
@@ -73,22 +75,23 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
     rank_i = [rank[n] for n in order]
     stem_ids = [tg.index[n] for n in context.stems if n in tg.index and reach[tg.index[n]]]
     for si, st, found in context.stem_reconvergences(stem_ids, min_skew):
-        found = [r for r in found if reach[r.gate]]
-        if not found:
+        # every sink in scope goes to the worst reconvergence that reaches it (ties: the gate
+        # first in source order); sinks are bits of the precomputed reachability sets. A heap
+        # gives the reconvergences in that order and stops once every sink is taken (one gate
+        # per reconvergence of a stem, so the keys never tie).
+        keys = [(-r.skew, rank_i[r.gate], k) for k, r in enumerate(found) if reach[r.gate]]
+        if not keys:
             continue
         stem = order[si]
-        # every sink in scope goes to the worst reconvergence that reaches it (ties: the gate
-        # first in source order); sinks are bits of the precomputed reachability sets
-        found.sort(key=lambda r: (-r.skew, rank_i[r.gate]))
+        heapq.heapify(keys)
         remaining = reach[si]
         chosen = []
-        for r in found:
+        while keys and remaining:
+            r = found[heapq.heappop(keys)[2]]
             bits = reach[r.gate] & remaining
             if bits:
                 remaining &= ~bits
                 chosen.append((r, bits))
-                if not remaining:
-                    break
         for r, bits in sorted(chosen, key=lambda x: rank_i[x[0].gate]):
             yield Finding(stem, order[r.gate], r, _bits_to_sinks(bits, sinks), st)
 

@@ -123,6 +123,8 @@ class StemTiming:
         s = self.solver
         back = s.bmax if slow else s.bmin
         arr = s.amax if slow else s.amin
+        bget = getattr(back, "get", None) or back.__getitem__
+        aget = getattr(arr, "get", None) or arr.__getitem__
         fanin = s.tg.fanin
         key = (tag, slow)
         memo = self._chains.get(key)
@@ -141,8 +143,8 @@ class StemTiming:
                 prefix = ()
                 walked.append((n, 0.0, 0.0))
                 break
-            p, _pin, dmin, dmax = fanin[n][back[n]]
-            walked.append((n, dmax if slow else dmin, arr[n]))
+            p, _pin, dmin, dmax = fanin[n][bget(n)]
+            walked.append((n, dmax if slow else dmin, aget(n)))
             n = p
         walked.reverse()
         out = prefix + tuple(make(i, dl, a) for i, dl, a in walked)
@@ -287,7 +289,7 @@ class ArrivalSolver:
                     d = a
                 reached.append((k, p, a_lo, a_hi))
             if d == stem and len(reached) >= 2 and on_reconvergence is not None:
-                r = _worst_pair(reached, dom, stem)
+                r = _worst_pair_top(reached, top, stem)
                 if r is not None:
                     skew, ks, kf, ts, tf = r
                     on_reconvergence(Reconvergence(v, skew, ks, kf, ts, tf))
@@ -335,6 +337,24 @@ def _meet(dom, a: int, b: int) -> int:
         while b > a:
             b = dom[b]
     return a
+
+
+def _worst_pair_top(reached, top, stem):
+    """:func:`_worst_pair` with the stem's dominator-tree child above each driver (``top``):
+    two drivers other than the stem meet first at the stem exactly when they lie under
+    different children of the stem in the dominator tree (same pair order, same ties)."""
+    best = None
+    for ka, pa, _lo_a, hi_a in reached:
+        ta = top[pa] if pa != stem else -1
+        for kb, pb, lo_b, _hi_b in reached:
+            if ka == kb:
+                continue
+            if ta >= 0 and pb != stem and ta == top[pb]:
+                continue
+            skew = hi_a - lo_b
+            if best is None or skew > best[0]:
+                best = (skew, ka, kb, hi_a, lo_b)
+    return best
 
 
 def _worst_pair(reached, dom, stem):
@@ -435,6 +455,9 @@ class BatchArrivalSolver:
         amin[st_arr, cols] = 0.0
         amax[st_arr, cols] = 0.0
         dom[st_arr, cols] = st_arr
+        # the stem's dominator-tree child above each node (the stem itself for the stem)
+        top = np.full((n + 1, B), -1, dtype=np.int64)
+        top[st_arr, cols] = st_arr
         found: list[list[Reconvergence]] = [[] for _ in stems]
         first = min(self.plan.level[s] for s in stems)
         stem_pos = {s: [b for b in range(B) if stems[b] == s] for s in set(stems)}
@@ -473,30 +496,31 @@ class BatchArrivalSolver:
                     s01 = hi_pin[ii, 0, bb] - lo_pin[ii, 1, bb]
                     s10 = hi_pin[ii, 1, bb] - lo_pin[ii, 0, bb]
                     take10 = s10 > s01
-                    for i, b, t10, a, c in zip(ii.tolist(), bb.tolist(), take10.tolist(),
-                                               s01.tolist(), s10.tolist()):
-                        v = int(V[i])
-                        if t10:
-                            found[b].append(Reconvergence(v, c, 1, 0, float(hi_pin[i, 1, b]),
-                                                          float(lo_pin[i, 0, b])))
-                        else:
-                            found[b].append(Reconvergence(v, a, 0, 1, float(hi_pin[i, 0, b]),
-                                                          float(lo_pin[i, 1, b])))
+                    ka = take10.astype(np.int64)
+                    kb = 1 - ka
+                    skews = np.where(take10, s10, s01)
+                    ts = hi_pin[ii, ka, bb]
+                    tf = lo_pin[ii, kb, bb]
+                    keep = None
                 else:
-                    for i, b in zip(ii.tolist(), bb.tolist()):
-                        v = int(V[i])
-                        reach = [(k, int(P[i, k]), float(lo_pin[i, k, b]), float(hi_pin[i, k, b]))
-                                 for k in range(len(tg.fanin[v])) if reached[i, k, b]]
-                        r = _worst_pair(reach, _DomColumn(dom, b), stems[b])
-                        if r is not None and (min_skew is None
-                                              or (r[0] > 0 and r[0] >= min_skew)):
-                            skew, ks, kf, ts, tf = r
-                            found[b].append(Reconvergence(v, skew, ks, kf, ts, tf))
+                    ka, kb, skews, ts, tf, keep = _worst_pairs(
+                        np, ii, bb, P, hi_pin, lo_pin, reached, top, st_arr, min_skew)
+                if keep is not None:
+                    ii, bb = ii[keep], bb[keep]
+                Vl = V[ii].tolist()
+                for v, b, sk, a1, a2, t1, t2 in zip(Vl, bb.tolist(), skews.tolist(),
+                                                    ka.tolist(), kb.tolist(), ts.tolist(),
+                                                    tf.tolist()):
+                    found[b].append(Reconvergence(v, sk, a1, a2, t1, t2))
+            # dominator-tree child of the stem: the node itself where its idom is the stem
+            Tn = np.where(d == st_arr[None, :], V[:, None],
+                          np.where(d >= 0, top[np.maximum(d, 0), cols[None, :]], -1))
             amin[V] = lo
             amax[V] = hi
             dom[V] = d
             bmin[V] = klo
             bmax[V] = khi
+            top[V] = Tn
             # a stem that is itself a gate keeps its own launch point in its column
             for s, bs in stem_pos.items():
                 if self.plan.level[s] == lv:
@@ -504,6 +528,7 @@ class BatchArrivalSolver:
                         amin[s, b] = 0.0
                         amax[s, b] = 0.0
                         dom[s, b] = s
+                        top[s, b] = s
         for b, s in enumerate(stems):
             if not found[b]:
                 yield s, None, []
@@ -514,11 +539,47 @@ class BatchArrivalSolver:
             yield s, StemTiming(col, s, []), found[b]
 
 
+def _worst_pairs(np, ii, bb, P, hi_pin, lo_pin, reached, top, st_arr, min_skew):
+    """:func:`_worst_pair` for many candidate gates of a level at once (rows ``ii``, columns
+    ``bb``): pin pairs (a, b), a != b, both reached, qualify when either driver is the stem or
+    the drivers lie under different children of the stem in the dominator tree; the largest
+    hi[a] - lo[b] wins, first in (a, b) order on ties, as in the scalar loop. Returns
+    (slow pins, fast pins, skews, slow arrivals, fast arrivals, rows kept)."""
+    K = P.shape[1]
+    m = len(ii)
+    outs = []
+    step = max(1, 2_000_000 // (K * K))
+    eye = ~np.eye(K, dtype=bool)
+    for c in range(0, m, step):
+        i2, b2 = ii[c:c + step], bb[c:c + step]
+        hi = hi_pin[i2, :, b2]                      # (m, K)
+        lo = lo_pin[i2, :, b2]
+        R = reached[i2, :, b2]
+        Pd = P[i2]
+        isstem = Pd == st_arr[b2][:, None]
+        Tp = top[np.minimum(Pd, top.shape[0] - 1), b2[:, None]]
+        ok = (R[:, :, None] & R[:, None, :] & eye[None, :, :]
+              & (isstem[:, :, None] | isstem[:, None, :] | (Tp[:, :, None] != Tp[:, None, :])))
+        S = np.where(ok, hi[:, :, None] - lo[:, None, :], -INF).reshape(len(i2), K * K)
+        j = S.argmax(axis=1)
+        rows = np.arange(len(i2))
+        best = S[rows, j]
+        valid = ok.reshape(len(i2), K * K).any(axis=1)
+        if min_skew is not None:
+            valid &= (best > 0) & (best >= min_skew)
+        ka, kb = j // K, j % K
+        outs.append((ka, kb, best, hi[rows, ka], lo[rows, kb], valid))
+    ka, kb, best, ts, tf, valid = (np.concatenate(x) for x in zip(*outs))
+    return ka[valid], kb[valid], best[valid], ts[valid], tf[valid], valid
+
+
 class _ColView:
     """One column of a batch array, read element by element (paths touch few nodes)."""
 
     def __init__(self, arr, b, conv):
         self.arr, self.b, self.conv = arr, b, conv
+        # a strided view of the column; .item gives a Python float/int without a Python frame
+        self.get = arr[:, b].item
 
     def __getitem__(self, i):
         return self.conv(self.arr[i, self.b])
