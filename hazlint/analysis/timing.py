@@ -465,8 +465,14 @@ class BatchArrivalSolver:
             if lv <= first:
                 continue            # nothing below the shallowest stem is in any cone
             reached = dom[P] >= 0                                   # (n, K, B)
-            if not reached.any():
+            rows = reached.any(axis=2).any(axis=1)
+            if not rows.any():
                 continue
+            if not rows.all():
+                # rows no column reaches keep their initial values (INF, -INF, -1, 0): only
+                # the reached rows are computed and written back
+                sel = np.nonzero(rows)[0]
+                V, P, DMIN, DMAX, reached = V[sel], P[sel], DMIN[sel], DMAX[sel], reached[sel]
             lo_pin = np.where(reached, amin[P] + DMIN[:, :, None], INF)
             hi_pin = np.where(reached, amax[P] + DMAX[:, :, None], -INF)
             klo = lo_pin.argmin(axis=1)
