@@ -39,7 +39,13 @@ class LintResult:
     context: Any = None
 
     def relpath(self, path: str) -> str:
-        return relpath(path, self.root)
+        # a report asks for the same few source paths once per evidence hop (millions of times
+        # on a large netlist), so each answer is kept; the cwd does not change during a run
+        memo = self.__dict__.setdefault("_relpaths", {})
+        rel = memo.get(path)
+        if rel is None:
+            rel = memo[path] = relpath(path, self.root)
+        return rel
 
     def exit_code(self, fail_on: str | None = None) -> int:
         level = fail_on or self.config.fail_on

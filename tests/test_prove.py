@@ -166,3 +166,50 @@ def test_prove_command_on_fixtures(tmp_path):
     assert "function hazard" in r.stdout, r.stdout
     r = _cli("prove", os.path.join(FIX, "press_valve.v"), "--transition", "nosuch+")
     assert r.returncode == 2 and "nosuch" in r.stderr and "Traceback" not in r.stderr
+
+
+def test_classify_outputs_on_chosen_sources_and_pairs_agrees_with_single_checks():
+    # the restricted, chunked batch (what refine uses) decides exactly what one check per
+    # (target, source) decides
+    rng = random.Random(29)
+    for _ in range(5):
+        g = random_circuit(rng, 7, 18, 3)
+        sinks = [n for n, x in g.nodes(data=True) if x["kind"] == "sink"]
+        srcs = free_sources(g, cone(g, sinks))
+        chosen = set(rng.sample(srcs, max(1, len(srcs) // 2)))
+        wanted = {(t, x) for t in sinks for x in chosen if rng.random() < 0.7}
+        res = classify_outputs(g, sinks, options={"seed": 2}, changing=chosen, wanted=wanted,
+                               chunk=2)
+        assert set(res) <= wanted
+        for (t, x), proofs in res.items():
+            single = classify(g, t, {x: (0, 1)}, replay_glitch=False).proofs
+            for k in HAZARD_KINDS:
+                assert proofs[k].status == single[k].status, (t, x, k)
+
+
+def test_refine_batch_and_finding_limit_on_iscas_c432():
+    # ISCAS-85 c432 (Brglez & Fujiwara 1985; netlist of the PyPI package circuitgraph==0.2.1)
+    import importlib.resources
+    from hazlint import api
+    from hazlint.analysis import prove as P
+    path = str(importlib.resources.files("circuitgraph") / "netlists" / "c432.v")
+    res = api.lint([path], prove=False, use_cache=False)
+    diags = res.diagnostics[:40]
+    out = refine(res.design, diags, res.context, {"max_findings": 4,
+                                                  "show_proven_absent": True})
+    assert len(out) == len(diags)
+    full = [d for d in out if "glitch" in d.evidence and "how" in d.evidence["glitch"]
+            and (d.evidence["glitch"]["occurs"] or d.evidence["glitch"]["how"])]
+    left = [d for d in out if any("left out" in n for n in d.notes)]
+    assert len(full) <= 4 and left, (len(full), len(left))
+    assert all("waveform_nets" not in d.evidence for d in left)
+    # the batched verdict equals the one-by-one proof (no batch, no known proofs)
+    opts = P.options_with_defaults({})
+    for d, o in list(zip(diags, out))[:12]:
+        plan = P._plan(res.design.graph, d, res.context, opts)
+        per_sink = [P.combine(P.classify_sources(res.design.graph, s, xs, opts,
+                                                 replay_glitch=False)) for s, xs in plan[1]]
+        one = P.combine([c for c in per_sink if c is not None])
+        assert o.evidence["classification"] == one.classification, d.message
+    kinds = {d.evidence["classification"] for d in out}
+    assert "static-1-hazard" in kinds or "static-0-hazard" in kinds

@@ -40,6 +40,7 @@ DEFAULTS: dict[str, Any] = {
     "sim_vectors": 256,          # random side-input vectors simulated at once
     "max_sources": 12,           # changing sources tried per finding
     "max_sinks": 3,              # sinks classified per reconvergence finding
+    "max_findings": 200,         # findings per run given timed replay, delay search, waveform
     "search_trials": 150,        # timed simulations when searching a glitching delay assignment
     "show_proven_absent": False,
     "waveforms": True,
@@ -194,16 +195,22 @@ class Classification:
 
 def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, int]],
              fixed: Mapping[str, int] | None = None, options: Mapping[str, Any] | None = None,
-             order: Sequence[str] | None = None, replay_glitch: bool = True) -> Classification:
+             order: Sequence[str] | None = None, replay_glitch: bool = True,
+             proofs: Mapping[str, HazardProof] | None = None) -> Classification:
     """Classify the change at ``target`` and, for a proven hazard, replay its witness in the
-    timed simulator (nominal delays first, then a search for a glitching assignment)."""
+    timed simulator (nominal delays first, then a search for a glitching assignment).
+    ``proofs`` (every hazard kind decided already, e.g. by :func:`classify_outputs`) skips the
+    proof step."""
     opts = options_with_defaults(options)
     try:
         order = order or cone(graph, [target])
     except CyclicCone:
         return Classification(target, "inconclusive", dict(changes),
                               reason="combinational loop in the cone")
-    proofs = prove_transition(graph, target, changes, fixed, HAZARD_KINDS, opts, order)
+    if proofs is None or any(k not in proofs for k in HAZARD_KINDS):
+        proofs = prove_transition(graph, target, changes, fixed, HAZARD_KINDS, opts, order)
+    else:
+        proofs = dict(proofs)
     c = Classification(target, "hazard-free", dict(changes), proofs=proofs)
     present = [k for k in CLASS_ORDER if proofs[k].status == "present"]
     if present:
@@ -230,7 +237,7 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
                 # a transport glitch that inertial gates also show is reported as inertial
                 if asg.mode == "transport":
                     inert = DelayAssignment(asg.corner, asg.pins, asg.wires, "inertial")
-                    g2, _ = replay(graph, target, c.before, c.after, inert)
+                    g2, _ = replay(graph, target, c.before, c.after, inert, watch=[target])
                     if g2.occurs and len(g2.changes) >= (3 if k == "dynamic-hazard" else 2):
                         c.assignment, c.glitch = inert, g2
             else:
@@ -252,7 +259,7 @@ def _nominal_reversed(graph, c: Classification, kind: str, order) -> bool:
     need = 3 if kind == "dynamic-hazard" else 2
     for before, after, flip in ((c.before, c.after, False), (c.after, c.before, True)):
         asg = DelayAssignment("max", mode="inertial")
-        gl, _ = replay(graph.subgraph(order), c.target, before, after, asg, watch=[c.target])
+        gl, _ = replay(graph, c.target, before, after, asg, watch=[c.target])
         if gl.occurs and len(gl.changes) >= need:
             if flip:
                 c.before, c.after = dict(c.after), dict(c.before)
@@ -304,10 +311,15 @@ def stem_sources(graph: nx.DiGraph, stem: str, target: str, limit: int) -> list[
     return out[:limit]
 
 
-def classify_sources(graph, target, sources, options, order=None) -> list[Classification]:
+def classify_sources(graph, target, sources, options, order=None, known=None,
+                     replay_glitch=True) -> list[Classification]:
+    """Single changes of ``sources`` (in turn, up to the first proven hazard) at ``target``.
+    ``known`` maps (target, source) to proofs decided beforehand."""
     out = []
     for s in sources:
-        c = classify(graph, target, {s: (0, 1)}, options=options, order=order)
+        pre = known.get((target, s)) if known else None
+        c = classify(graph, target, {s: (0, 1)}, options=options, order=order,
+                     replay_glitch=replay_glitch, proofs=pre)
         out.append(c)
         if c.proven:
             break
@@ -551,18 +563,31 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     inconclusive or structural only, and are dropped when proven absent (kept with
     ``show_proven_absent``). ``combinational-loop`` findings gain an ``oscillation`` finding when
     the loop can oscillate. Other findings pass through unchanged.
+
+    Cost: the single changes every finding needs are first decided together, in one batched
+    pass (:func:`classify_outputs`: bit-parallel ternary simulation, then shared BDD or SAT).
+    The timed replay, delay search and waveform of a proven hazard are then done for the first
+    ``max_findings`` findings in order of importance (glitch-sensitive sinks first, then the
+    larger skew); the others keep their classification and witness, with a note saying the
+    replay was left out. Findings whose change the batch could not decide (a loop in the cone)
+    are proven one by one within the same limit, else reported inconclusive with that reason.
     """
     opts = options_with_defaults(options)
     graph = design.graph if hasattr(design, "graph") else design
+    plans = [_plan(graph, d, context, opts) for d in diagnostics]
+    known = _decide_batch(graph, plans, opts)
+    limit = int(opts["max_findings"])
+    rank = sorted((i for i, p in enumerate(plans) if p is not None),
+                  key=lambda i: plans[i][0])
+    full = set(rank[:limit]) if limit >= 0 else set(rank)
     out: list[Diagnostic] = []
     cache: dict[tuple, Classification] = {}
-    for d in diagnostics:
+    for i, d in enumerate(diagnostics):
         ev = d.evidence if isinstance(d.evidence, Mapping) else {}
         try:
-            if d.kind == "unbalanced-reconvergence" and ev.get("stem_node") in graph:
-                out.extend(_refine_reconvergence(graph, d, ev, context, opts, cache))
-            elif d.kind == "unregistered-async" and ev.get("sink_node") in graph:
-                out.extend(_refine_async(graph, d, ev, context, opts, cache))
+            if plans[i] is not None:
+                out.extend(_refine_planned(graph, d, ev, plans[i][1], context, opts, cache,
+                                           known, i in full, limit))
             elif d.kind == "combinational-loop" and ev.get("scc"):
                 out.append(d)
                 osc = _refine_loop(graph, d, ev)
@@ -575,36 +600,91 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     return out
 
 
-def _refine_reconvergence(graph, d, ev, context, opts, cache):
-    stem = ev["stem_node"]
-    sinks = [s for s in ev.get("sink_nodes") or [] if s in graph]
-    sinks.sort(key=lambda s: not _sensitive(graph, context, s))
+def _plan(graph, d: Diagnostic, context, opts):
+    """(priority key, [(sink, [changing sources])]) for a finding the prover classifies."""
+    ev = d.evidence if isinstance(d.evidence, Mapping) else {}
+    if d.kind == "unbalanced-reconvergence" and ev.get("stem_node") in graph:
+        stem = ev["stem_node"]
+        sinks = [s for s in ev.get("sink_nodes") or [] if s in graph]
+        sinks.sort(key=lambda s: not _sensitive(graph, context, s))
+        sinks = sinks[: int(opts["max_sinks"])]
+        work = [(s, stem_sources(graph, stem, s, int(opts["max_sources"]))) for s in sinks]
+        sens = any(_sensitive(graph, context, s) for s in sinks)
+        skew = ev.get("skew")
+        skew = float(skew) if isinstance(skew, (int, float)) else 0.0
+        return (0 if sens else 2, -skew, d.sort_key()), work
+    if d.kind == "unregistered-async" and ev.get("sink_node") in graph:
+        sink = ev["sink_node"]
+        srcs = [s for s in ev.get("source_nodes") or [] if s in graph][: int(opts["max_sources"])]
+        return (1, 0.0, d.sort_key()), [(sink, srcs)]
+    return None
+
+
+def _decide_batch(graph, plans, opts) -> dict[tuple[str, str], dict[str, HazardProof]]:
+    """Every (sink, source) single change the plans need, decided in one batched pass. Sinks
+    whose fan-in cone holds a combinational loop are left out (proven one by one)."""
+    wanted = {(s, x) for p in plans if p is not None for s, xs in p[1] for x in xs}
+    if not wanted:
+        return {}
+    targets = sorted({s for s, _ in wanted})
+    looped = _behind_loops(graph)
+    targets = [t for t in targets if t not in looped]
+    if not targets:
+        return {}
+    keep = set(targets)
+    wanted = {(s, x) for s, x in wanted if s in keep}
+    try:
+        res = classify_outputs(graph, targets, opts, changing={x for _, x in wanted},
+                               wanted=wanted, vectors=max(1, int(opts["sim_vectors"])))
+    except (CyclicCone, Budget, RuntimeError):
+        return {}
+    return {k: v for k, v in res.items() if all(kind in v for kind in HAZARD_KINDS)}
+
+
+def _behind_loops(graph) -> set[str]:
+    """Nodes that a combinational loop can reach (their fan-in cone is cyclic)."""
+    seeds = [n for comp in nx.strongly_connected_components(graph)
+             if len(comp) > 1 for n in comp]
+    seeds += [n for n in graph if graph.has_edge(n, n)]
+    seen = set(seeds)
+    stack = list(seeds)
+    while stack:
+        for v in graph.successors(stack.pop()):
+            if v not in seen:
+                seen.add(v)
+                stack.append(v)
+    return seen
+
+
+def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit):
     results = []
-    for s in sinks[: int(opts["max_sinks"])]:
-        key = (stem, s)
+    for s, srcs in work:
+        key = (s, tuple(srcs), full)
+        if not full and (s, tuple(srcs), True) in cache:
+            key = (s, tuple(srcs), True)
         if key not in cache:
-            srcs = stem_sources(graph, stem, s, int(opts["max_sources"]))
-            cache[key] = combine(classify_sources(graph, s, srcs, opts)) or Classification(
-                s, "inconclusive", {}, reason="no changing input found for the stem")
+            if not full and not all((s, x) in known for x in srcs):
+                c = Classification(s, "inconclusive", {}, reason=(
+                    f"not proven: beyond the prover's limit of {limit} findings per run "
+                    "(option max_findings)"))
+            else:
+                c = combine(classify_sources(graph, s, srcs, opts, known=known,
+                                             replay_glitch=full)) or Classification(
+                    s, "inconclusive", {}, reason="no changing input found for the stem"
+                    if d.kind == "unbalanced-reconvergence" else "no changing source")
+            cache[key] = c
         results.append(cache[key])
     c = combine(results)
     if c is None:
         return [d]
-    return [x for x in [_apply(graph, d, c, ev, context, opts)] if x is not None]
+    replayed = full or c.glitch is not None or bool(c.how)
+    o = opts if full else dict(opts, waveforms=False)
+    x = _apply(graph, d, c, ev, context, o, replayed=replayed, limit=limit)
+    return [x] if x is not None else []
 
 
-def _refine_async(graph, d, ev, context, opts, cache):
-    sink = ev["sink_node"]
-    srcs = [s for s in ev.get("source_nodes") or [] if s in graph][: int(opts["max_sources"])]
-    key = ("async", sink, tuple(srcs))
-    if key not in cache:
-        cache[key] = combine(classify_sources(graph, sink, srcs, opts)) or Classification(
-            sink, "inconclusive", {}, reason="no changing source")
-    c = cache[key]
-    return [x for x in [_apply(graph, d, c, ev, context, opts)] if x is not None]
-
-
-def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts) -> Diagnostic | None:
+def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed: bool = True,
+           limit: int | None = None) -> Diagnostic | None:
     sens = _sensitive(graph, context, c.target)
     sink_role = graph.nodes[c.target].get("role")
     evidence = dict(d.evidence)
@@ -645,6 +725,9 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts) -> Diagno
     notes.append(f"witness: {witness_text(graph, c)}")
     if gt:
         notes.append(f"timed simulation: {gt}")
+    elif not replayed:
+        notes.append(f"timed replay, delay search and waveform left out: beyond the prover's "
+                     f"limit of {limit} fully shown findings per run (option max_findings)")
     if c.assignment is not None and c.how not in ("nominal",):
         notes += ["  " + x for x in c.assignment.describe(graph)[1:]]
     if opts["waveforms"] and c.before:
@@ -652,8 +735,9 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts) -> Diagno
         evidence["waveform_nets"] = nets
         notes += diagram_lines(graph, c, nets)
     sev = Severity.ERROR if sens else Severity.WARNING
+    fix = fix_for(graph, c, ev, sink_role) if replayed else d.fix
     return replace(d, kind=kind, severity=sev, message=msg, evidence=evidence,
-                   notes=tuple(notes), fix=fix_for(graph, c, ev, sink_role))
+                   notes=tuple(notes), fix=fix)
 
 
 def _refine_loop(graph, d: Diagnostic, ev) -> Diagnostic | None:
@@ -680,14 +764,18 @@ def _refine_loop(graph, d: Diagnostic, ev) -> Diagnostic | None:
 
 def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
                      options: Mapping[str, Any] | None = None, rounds: int = 3,
-                     vectors: int = 256) -> dict[tuple[str, str], dict[str, HazardProof]]:
-    """For every target (default: every sink) and every free source in its cone, decide each
+                     vectors: int = 256, changing: Iterable[str] | None = None,
+                     wanted: set[tuple[str, str]] | None = None, chunk: int = 64
+                     ) -> dict[tuple[str, str], dict[str, HazardProof]]:
+    """For every target (default: every sink) and every free source in its cone (or only the
+    ``changing`` ones; only the (target, source) pairs in ``wanted`` when given), decide each
     hazard kind for a single change of that source.
 
-    One explicit ternary/transient pass covers all (source, vector) pairs at once: lane block
-    *i* holds ``vectors`` random side-input vectors with source *i* changing. What the random
-    vectors do not show is settled per pair by the structural path count, then BDD, then SAT,
-    else reported inconclusive.
+    One explicit ternary/transient pass covers many (source, vector) pairs at once: lane block
+    *i* holds ``vectors`` random side-input vectors with source *i* changing (``chunk`` sources
+    per pass, so the bit-vectors stay a bounded size). What the random vectors do not show is
+    settled per pair by the structural path count, then BDD, then SAT, else reported
+    inconclusive.
     """
     opts = options_with_defaults(options)
     g = graph
@@ -696,8 +784,14 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
     order = cone(g, targets)
     srcs = free_sources(g, order)
     index = {n: i for i, n in enumerate(srcs)}
-    width = len(srcs) * vectors
-    A = IntAlgebra(width)
+    if changing is None:
+        chg = list(srcs)
+    else:
+        want_src = set(changing)
+        chg = [n for n in srcs if n in want_src]
+    chg_mask = 0
+    for n in chg:
+        chg_mask |= 1 << index[n]
     rng = random.Random(opts["seed"])
     block = (1 << vectors) - 1
     found: dict[tuple[str, str], dict[str, HazardProof]] = {}
@@ -712,53 +806,74 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
             for i in d.get("inputs") or ():
                 v |= sup.get(i, 0)
             sup[n] = v
-    for _ in range(rounds):
-        va, vb = {}, {}
-        for n in srcs:
-            r = rng.getrandbits(width)
-            own = block << (index[n] * vectors)
-            va[n] = r & ~own & A.mask
-            vb[n] = r | own
-        ta, tb, tx, tr = _planes_inputs(A, va, vb, srcs)
-        ra = propagate(g, order, ta, A, ternary_gate)
-        rb = propagate(g, order, tb, A, ternary_gate)
-        rx = propagate(g, order, tx, A, ternary_gate)
-        rt = propagate(g, order, tr, A, _transient)
-        for t in targets:
-            a0, a1 = ra[t]
-            b0, b1 = rb[t]
-            x0, x1 = rx[t]
-            h = rt[t][2]
-            one_a, zero_a = a1 & ~a0, a0 & ~a1
-            one_b, zero_b = b1 & ~b0, b0 & ~b1
-            xm = x0 & x1
-            planes = {"static-1-hazard": one_a & one_b & xm,
-                      "static-0-hazard": zero_a & zero_b & xm,
-                      "dynamic-hazard": ((one_a & zero_b) | (zero_a & one_b)) & h}
-            s = sup[t]
-            while s:
-                i = (s & -s).bit_length() - 1
-                s &= s - 1
-                x = srcs[i]
-                res = found.setdefault((t, x), {})
-                for k, lanes in planes.items():
-                    if k in res:
+    chunk = max(1, int(chunk))
+    for c0 in range(0, len(chg), chunk):
+        part = chg[c0:c0 + chunk]
+        lane_of = {n: k for k, n in enumerate(part)}
+        part_mask = 0
+        for n in part:
+            part_mask |= 1 << index[n]
+        width = len(part) * vectors
+        A = IntAlgebra(width)
+        for _ in range(rounds):
+            va, vb = {}, {}
+            for n in srcs:
+                r = rng.getrandbits(width)
+                if n in lane_of:
+                    own = block << (lane_of[n] * vectors)
+                    va[n] = r & ~own & A.mask
+                    vb[n] = r | own
+                else:
+                    va[n] = vb[n] = r
+            ta, tb, tx, tr = _planes_inputs(A, va, vb, srcs)
+            ra = propagate(g, order, ta, A, ternary_gate)
+            rb = propagate(g, order, tb, A, ternary_gate)
+            rx = propagate(g, order, tx, A, ternary_gate)
+            rt = propagate(g, order, tr, A, _transient)
+            for t in targets:
+                s = sup[t] & part_mask
+                if not s:
+                    continue
+                a0, a1 = ra[t]
+                b0, b1 = rb[t]
+                x0, x1 = rx[t]
+                h = rt[t][2]
+                one_a, zero_a = a1 & ~a0, a0 & ~a1
+                one_b, zero_b = b1 & ~b0, b0 & ~b1
+                xm = x0 & x1
+                planes = {"static-1-hazard": one_a & one_b & xm,
+                          "static-0-hazard": zero_a & zero_b & xm,
+                          "dynamic-hazard": ((one_a & zero_b) | (zero_a & one_b)) & h}
+                while s:
+                    i = (s & -s).bit_length() - 1
+                    s &= s - 1
+                    x = srcs[i]
+                    if wanted is not None and (t, x) not in wanted:
                         continue
-                    lanes = (lanes >> (i * vectors)) & block
-                    if lanes:
-                        lane = (lanes & -lanes).bit_length() - 1 + i * vectors
-                        wit = {n: (va[n] >> lane) & 1 for n in srcs if n != x and
-                               sup[t] >> index[n] & 1}
-                        res[k] = HazardProof(k, "present", witness=wit, method="simulation")
+                    base = lane_of[x] * vectors
+                    res = found.setdefault((t, x), {})
+                    for k, lanes in planes.items():
+                        if k in res:
+                            continue
+                        lanes = (lanes >> base) & block
+                        if lanes:
+                            lane = (lanes & -lanes).bit_length() - 1 + base
+                            wit = {n: (va[n] >> lane) & 1 for n in srcs if n != x and
+                                   sup[t] >> index[n] & 1}
+                            res[k] = HazardProof(
+                                k, "present", witness=wit, method="simulation",
+                                reason=f"found by ternary simulation of {vectors} vectors")
     # what the random vectors left open: structural proof, then shared BDD / SAT per source
     open_pairs: dict[str, list[str]] = {}
     counts: dict[str, dict[str, int]] = {}
     for t in targets:
-        s = sup[t]
+        s = sup[t] & chg_mask
         while s:
             i = (s & -s).bit_length() - 1
             s &= s - 1
             x = srcs[i]
+            if wanted is not None and (t, x) not in wanted:
+                continue
             res = found.setdefault((t, x), {})
             rest = [k for k in HAZARD_KINDS if k not in res]
             if not rest:

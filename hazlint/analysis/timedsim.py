@@ -24,8 +24,10 @@ deletes the pending ones scheduled at or after its own time (the transport rule 
 """
 from __future__ import annotations
 
+import collections
 import heapq
 import random
+import weakref
 from dataclasses import dataclass, field
 from typing import Any, Iterable, Mapping, Sequence
 
@@ -275,8 +277,9 @@ def _steady_state(g: nx.DiGraph, initial: Mapping[str, int]) -> dict[str, int]:
     for n, d in g.nodes(data=True):
         if d["kind"] in ("input", "state", "blackbox"):
             val[n] = initial.get(n, 0) & 1
-    if nx.is_directed_acyclic_graph(g):
-        for n in nx.topological_sort(g):
+    order = _topological(g)
+    if order is not None:
+        for n in order:
             d = g.nodes[n]
             if n in val:
                 continue
@@ -299,6 +302,61 @@ def _steady_state(g: nx.DiGraph, initial: Mapping[str, int]) -> dict[str, int]:
     return {n: (1 if c1 and not c0 else 0) for n, (c0, c1) in tv.items()}
 
 
+# Per graph object: its topological order, and the fan-in cones replays were restricted to. A gate
+# graph is not changed once loaded, so both stay valid while the graph lives (the node count is
+# checked as a guard against a graph grown in place).
+_TOPO: "weakref.WeakKeyDictionary[nx.DiGraph, tuple[int, list[str] | None]]" = \
+    weakref.WeakKeyDictionary()
+_CONES: "weakref.WeakKeyDictionary[nx.DiGraph, collections.OrderedDict]" = \
+    weakref.WeakKeyDictionary()
+_CONES_PER_GRAPH = 32
+
+
+def _topological(g: nx.DiGraph) -> list[str] | None:
+    """A topological order of ``g``, or None when it has a cycle."""
+    hit = _TOPO.get(g)
+    if hit is not None and hit[0] == len(g):
+        return hit[1]
+    try:
+        order: list[str] | None = list(nx.topological_sort(g))
+    except nx.NetworkXUnfeasible:
+        order = None
+    _TOPO[g] = (len(g), order)
+    return order
+
+
+def fanin_cone(graph: nx.DiGraph, roots: Iterable[str]) -> nx.DiGraph:
+    """The sub-graph of ``roots`` and everything they depend on (a copy, cached per graph): what
+    a simulation must compute for the waveforms of ``roots`` and nothing more."""
+    key = frozenset(roots)
+    per = _CONES.get(graph)
+    if per is None or per.get("__size__") != len(graph):
+        per = collections.OrderedDict(__size__=len(graph))
+        _CONES[graph] = per
+    sub = per.get(key)
+    if sub is not None:
+        per.move_to_end(key)
+        return sub
+    seen = set(key)
+    stack = list(key)
+    pred = graph.pred
+    while stack:
+        for u in pred[stack.pop()]:
+            if u not in seen:
+                seen.add(u)
+                stack.append(u)
+    # (a view, such as a sub-graph, is copied too: iterating a view costs a filter per node)
+    sub = graph if len(seen) == len(graph) and not nx.is_frozen(graph) \
+        else graph.subgraph(seen).copy()
+    per[key] = sub
+    if len(per) > _CONES_PER_GRAPH + 1:
+        for k in list(per):
+            if k != "__size__":
+                del per[k]
+                break
+    return sub
+
+
 def glitch_at(trace: Trace, node: str, after: float, mode: str = "inertial") -> Glitch:
     """Spurious pulses at ``node`` after time ``after``: more changes than the net's start and
     end values require."""
@@ -319,8 +377,12 @@ def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Map
     """Apply the transition ``before -> after`` (source values) at time ``settle`` and report the
     glitch at ``target``."""
     asg = assignment or DelayAssignment(mode=mode)
-    evs = [(settle, n, v & 1) for n, v in after.items() if (before.get(n, 0) & 1) != (v & 1)]
     w = None if watch is None else set(watch) | {target}
+    if w is not None:
+        # only the watched nets are recorded, so only their fan-in cone needs simulating
+        graph = fanin_cone(graph, w)
+    evs = [(settle, n, v & 1) for n, v in after.items()
+           if (before.get(n, 0) & 1) != (v & 1) and n in graph]
     tr = simulate(graph, before, evs, assignment=asg, watch=w)
     return glitch_at(tr, target, settle, asg.mode), tr
 
