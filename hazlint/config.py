@@ -301,4 +301,18 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
             raise err("jobs", "jobs must be at least 1")
         cfg.jobs = table["jobs"]
     cfg.prove = dict(table.get("prove", {}))
+    if cfg.prove:
+        from .analysis.prove import DEFAULTS as PROVE_DEFAULTS
+        for k, v in cfg.prove.items():
+            name = k.replace("-", "_")
+            if name not in PROVE_DEFAULTS:
+                raise err("prove", f"unknown hazard-prover option 'prove.{k}' (known: "
+                          + ", ".join(sorted(PROVE_DEFAULTS)) + ")")
+            want = type(PROVE_DEFAULTS[name])
+            ok = isinstance(v, bool) if want is bool else (
+                isinstance(v, (int, float)) and not isinstance(v, bool) if want is float else
+                isinstance(v, want) and not isinstance(v, bool) if want is int else
+                isinstance(v, want))
+            if not ok:
+                raise err("prove", f"prove.{k} must be {want.__name__}")
     return cfg

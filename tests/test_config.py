@@ -55,6 +55,8 @@ def test_unknown_key_names_key_and_line(tmp_path):
     ('jobs = "two"\n', "jobs"),
     ('files = ["nothing/*.v"]\n', "match nothing"),
     ('top = [\n', "invalid TOML"),
+    ('prove = { max_finding = 10 }\n', "prove.max_finding"),
+    ('prove = { max_findings = "all" }\n', "must be int"),
 ])
 def test_bad_values(tmp_path, text, word):
     (tmp_path / "hazlint.toml").write_text(text)
@@ -69,3 +71,10 @@ def test_cells_become_a_library(tmp_path):
         'ff = { clocked_on = "CK", next_state = "D" }\n')
     lib = load_config(cwd=tmp_path).library()
     assert lib.get("ff").sequential.kind == "ff"
+
+
+def test_prover_options_are_checked_and_kept(tmp_path):
+    (tmp_path / "hazlint.toml").write_text(
+        '[prove]\nmax_findings = 20\ncheck_time = 1\nwaveforms = false\n')
+    cfg = load_config(cwd=tmp_path)
+    assert cfg.prove == {"max_findings": 20, "check_time": 1, "waveforms": False}

@@ -23,6 +23,18 @@ def test_readme_demo_block_is_the_real_output():
     assert "does not make a machine safe" in shown   # the caution travels with the demo output
 
 
+def test_demo_readme_shows_the_real_output_run_in_its_folder():
+    demo = ROOT / "fixtures" / "demo"
+    text = (demo / "README.md").read_text()
+    m = re.search(r"<!-- demo-output:begin -->\n```console\n\$ hazlint\n(.*?)\n```\n"
+                  r"<!-- demo-output:end -->", text, re.S)
+    assert m, "fixtures/demo/README.md has no demo output block (run scripts/update-readme)"
+    r = subprocess.run([sys.executable, "-m", "hazlint", "--color", "never"], cwd=demo,
+                       capture_output=True, text=True)
+    assert r.returncode == 1
+    assert r.stdout.rstrip() == m.group(1), "stale: run scripts/update-readme"
+
+
 def test_ci_runs_the_readme_test_command():
     text = (ROOT / "README.md").read_text()
     cmds = re.findall(r"^    (\S.*)$", text, re.M)

@@ -13,6 +13,8 @@ graph with the term added, for the same transition (:func:`verify_consensus`).
 """
 from __future__ import annotations
 
+import os
+
 from typing import Mapping, Sequence
 
 import networkx as nx
@@ -192,13 +194,18 @@ def consensus_fix(graph: nx.DiGraph, target: str, kind: str, before: Mapping[str
             if not verified:
                 continue
             text = term_text(term, graph)
+            gate = _gate_name(graph, node)
+            cell = graph.nodes[node].get("cell") or graph.nodes[node].get("op")
+            where = _where(graph, node).replace(" (", ", ").rstrip(")")
             if positive:
-                desc = (f"add the consensus term {text} to the sum of products at "
-                        f"{_nm(graph, node)} (it holds the output at 1 during the change)")
+                desc = (f"add the consensus term {text} to the sum of products that gate "
+                        f"{gate} ({cell}{where}) computes: OR a gate for the term into its "
+                        f"output (it holds the output at 1 during the change)")
             else:
                 clause = _clause_text(term, graph)
-                desc = (f"add the consensus clause ({clause}) to the product of sums at "
-                        f"{_nm(graph, node)} (it holds the output at 0 during the change)")
+                desc = (f"add the consensus clause ({clause}) to the product of sums that "
+                        f"gate {gate} ({cell}{where}) computes: AND a gate for the clause "
+                        f"into its output (it holds the output at 0 during the change)")
             return {"node": node, "term": sorted([n, p] for n, p in term), "text": desc,
                     "verified": True}
     return None
@@ -209,6 +216,17 @@ def _clause_text(term, graph) -> str:
     def nm(n):
         return graph.nodes[n].get("port") or graph.nodes[n].get("name") or n
     return " | ".join(f"{'~' if p else ''}{nm(n)}" for n, p in sorted(term, key=lambda l: nm(l[0])))
+
+
+def _gate_name(graph, n) -> str:
+    inst = graph.nodes[n].get("instance") or ""
+    return inst.rsplit(".", 1)[-1] if inst else (graph.nodes[n].get("name") or n)
+
+
+def _where(graph, n) -> str:
+    d = graph.nodes[n]
+    path = d.get("path")
+    return f" ({os.path.basename(path)}:{d.get('line')})" if path and d.get("line") else ""
 
 
 def _nm(graph, n) -> str:

@@ -42,6 +42,10 @@ DEFAULTS: dict[str, Any] = {
     "max_sinks": 3,              # sinks classified per reconvergence finding
     "max_findings": 200,         # findings per run given timed replay, delay search, waveform
     "search_trials": 150,        # timed simulations when searching a glitching delay assignment
+    "bdd_circuit_time": 10.0,    # seconds for the shared BDD of a batched pass, then SAT
+    "batch_time": 120.0,         # seconds for the SAT part of a batched pass (0: no limit)
+    "engine": "sat",             # batched pass: "sat" (one incremental solver) or "bdd" (a
+                                 # shared BDD, then SAT past its budget)
     "show_proven_absent": False,
     "waveforms": True,
     "seed": 0,
@@ -287,9 +291,10 @@ def combine(results: Sequence[Classification]) -> Classification | None:
 # ---------------------------------------------------------------------------------------------
 # Choice of changing sources for a finding
 
-def stem_sources(graph: nx.DiGraph, stem: str, target: str, limit: int) -> list[str]:
-    """Free sources whose change can toggle ``stem`` and reach ``target``: the stem itself when
-    it is a source, else the sources of its fan-in cone (nearest first)."""
+def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int) -> list[str]:
+    """Free sources whose change can toggle ``stem`` (and so reach the ``target`` the stem
+    feeds; the choice does not depend on it): the stem itself when it is a source, else the
+    sources of its fan-in cone, nearest first."""
     if graph.nodes[stem]["kind"] in SOURCE_KINDS:
         return [stem]
     dist = {stem: 0}
@@ -574,7 +579,8 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     """
     opts = options_with_defaults(options)
     graph = design.graph if hasattr(design, "graph") else design
-    plans = [_plan(graph, d, context, opts) for d in diagnostics]
+    memo: dict[str, list[str]] = {}
+    plans = [_plan(graph, d, context, opts, memo) for d in diagnostics]
     known = _decide_batch(graph, plans, opts)
     limit = int(opts["max_findings"])
     rank = sorted((i for i, p in enumerate(plans) if p is not None),
@@ -600,15 +606,21 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     return out
 
 
-def _plan(graph, d: Diagnostic, context, opts):
-    """(priority key, [(sink, [changing sources])]) for a finding the prover classifies."""
+def _plan(graph, d: Diagnostic, context, opts, memo=None):
+    """(priority key, [(sink, [changing sources])]) for a finding the prover classifies.
+    ``memo`` keeps each stem's sources (they do not depend on the sink)."""
     ev = d.evidence if isinstance(d.evidence, Mapping) else {}
     if d.kind == "unbalanced-reconvergence" and ev.get("stem_node") in graph:
         stem = ev["stem_node"]
         sinks = [s for s in ev.get("sink_nodes") or [] if s in graph]
         sinks.sort(key=lambda s: not _sensitive(graph, context, s))
         sinks = sinks[: int(opts["max_sinks"])]
-        work = [(s, stem_sources(graph, stem, s, int(opts["max_sources"]))) for s in sinks]
+        srcs = memo.get(stem) if memo is not None else None
+        if srcs is None:
+            srcs = stem_sources(graph, stem, None, int(opts["max_sources"]))
+            if memo is not None:
+                memo[stem] = srcs
+        work = [(s, srcs) for s in sinks]
         sens = any(_sensitive(graph, context, s) for s in sinks)
         skew = ev.get("skew")
         skew = float(skew) if isinstance(skew, (int, float)) else 0.0
@@ -980,7 +992,20 @@ def _prove_open(g, order, targets, srcs, open_pairs, found, opts):
     cb = int(opts["conflict_budget"])
     # each source's planes are thrown away after its solver: restore the shared encoding
     base = (C.nvars, len(C.clauses), dict(C._memo), dict(C.defs))
+    batch_time = float(opts["batch_time"])
+    deadline = time.perf_counter() + batch_time if batch_time > 0 else float("inf")
+    late = (f"{bdd_reason}; the batched proof's time budget ({batch_time:g} s, option "
+            "batch_time) was used up")
+
+    def give_up(x, ts):
+        for t in ts:
+            for k in [k for k in HAZARD_KINDS if k not in found[(t, x)]]:
+                found[(t, x)][k] = HazardProof(k, "inconclusive", method="sat", reason=late)
+
     for x, ts in todo.items():
+        if time.perf_counter() > deadline:
+            give_up(x, ts)
+            continue
         C.nvars, C._memo, C.defs = base[0], dict(base[2]), dict(base[3])
         del C.clauses[base[1]:]
         try:
@@ -1033,6 +1058,9 @@ def _prove_open(g, order, targets, srcs, open_pairs, found, opts):
                 return (last_model[v - 1] > 0) == (lit > 0)
             last_model: list[int] = []
             for t in ts:
+                if time.perf_counter() > deadline:
+                    give_up(x, [t])
+                    continue
                 res = found[(t, x)]
                 rest = [k for k in HAZARD_KINDS if k not in res]
                 if "static-1-hazard" in rest and "static-0-hazard" in rest:
