@@ -102,7 +102,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
                 kwargs[k] = v
         if "cache" in params and use_cache:
             from .cache import open_cache
-            kwargs["cache"] = open_cache(config.cache_dir)
+            kwargs["cache"] = open_cache(config.cache_dir, limit_mb=config.cache_limit_mb)
         if progress is not None and "progress" in params:
             kwargs["progress"] = progress
         if abs_texts:
@@ -121,7 +121,8 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     from .design_cache import load_cached, open_design_cache
     return load_cached(list(files), config, texts=abs_texts, top=chosen_top,
                        include_dirs=include_dirs, defines=defines, root=config.root,
-                       load_fresh=load_fresh, cache=open_design_cache(config.cache_dir),
+                       load_fresh=load_fresh, cache=open_design_cache(config.cache_dir,
+                                               limit_mb=config.cache_limit_mb),
                        info=cache_info)
 
 
@@ -235,7 +236,7 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
     rcache = rkey = None
     if use_cache and cache_info.get("design_key"):
         from .design_cache import open_result_cache, result_key
-        rcache = open_result_cache(config.cache_dir)
+        rcache = open_result_cache(config.cache_dir, limit_mb=config.cache_limit_mb)
         if rcache is not None:
             rkey = result_key(cache_info["design_key"], config, select=sel, ignore=ign,
                               prove=prove, options=opts, rules=rules)

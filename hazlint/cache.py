@@ -19,6 +19,12 @@ JSON, wrong shape, wrong key) are removed and treated as misses.
 
 The default directory is per user (``platformdirs.user_cache_dir("hazlint")``); the environment
 variable ``HAZLINT_CACHE_DIR`` or the ``directory`` argument override it.
+
+Size: the whole folder (every namespace) is kept under a limit, ``DEFAULT_LIMIT_MB`` unless the
+configuration (``cache_limit_mb``) or ``HAZLINT_CACHE_LIMIT_MB`` says otherwise; 0 means no
+limit. After a store, at most once a minute per folder and process, the least recently used
+entries (a hit refreshes an entry's modification time) are removed until the folder is back
+under 80% of the limit. The entry just written is never removed.
 """
 from __future__ import annotations
 
@@ -28,6 +34,7 @@ import os
 import re
 import sys
 import tempfile
+import time
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
@@ -35,6 +42,61 @@ from . import __version__
 
 FORMAT = 1
 ENV_DIR = "HAZLINT_CACHE_DIR"
+ENV_LIMIT = "HAZLINT_CACHE_LIMIT_MB"
+DEFAULT_LIMIT_MB = 2048
+PRUNE_INTERVAL = 60.0                  # seconds between size checks of one folder
+_last_prune: dict[str, float] = {}
+
+
+def cache_limit_mb(configured: int | None = None) -> int:
+    """The size limit in MB: the configured value, else the environment's, else the default."""
+    if configured is not None:
+        return int(configured)
+    env = os.environ.get(ENV_LIMIT)
+    if env:
+        try:
+            return max(0, int(env))
+        except ValueError:
+            pass
+    return DEFAULT_LIMIT_MB
+
+
+def prune(directory: str | os.PathLike, limit_mb: int, keep: Path | None = None) -> int:
+    """Remove least recently used entries until ``directory`` holds at most 80% of
+    ``limit_mb``; returns how many were removed. ``keep`` is never removed."""
+    if limit_mb <= 0:
+        return 0
+    entries = []
+    total = 0
+    for root, _dirs, files in os.walk(directory):
+        for f in files:
+            if not f.endswith(".json"):
+                continue
+            p = os.path.join(root, f)
+            try:
+                st = os.stat(p)
+            except OSError:
+                continue
+            total += st.st_size
+            entries.append((st.st_mtime, st.st_size, p))
+    limit = limit_mb * 1024 * 1024
+    if total <= limit:
+        return 0
+    goal = int(limit * 0.8)
+    removed = 0
+    keep_s = str(keep) if keep is not None else None
+    for _mtime, size, p in sorted(entries):
+        if total <= goal:
+            break
+        if p == keep_s:
+            continue
+        try:
+            os.unlink(p)
+        except OSError:
+            continue
+        total -= size
+        removed += 1
+    return removed
 _HEX_KEY = re.compile(r"[0-9a-f]{16,128}")
 
 
@@ -121,9 +183,12 @@ class ParseCache:
     """
 
     def __init__(self, directory: str | os.PathLike | None = None, *, enabled: bool = True,
-                 namespace: str = "parse", version: str | None = None):
+                 namespace: str = "parse", version: str | None = None,
+                 limit_mb: int | None = None):
         self.directory = Path(directory).expanduser() if directory else default_cache_dir()
         self.namespace = namespace
+        self.limit_mb = cache_limit_mb(limit_mb)
+        self.pruned = 0
         self.version = version if version is not None else code_stamp()
         self.enabled = enabled
         self.hits = self.misses = self.stores = self.dropped = 0
@@ -192,6 +257,10 @@ class ParseCache:
                 self.misses += 1   # an included file changed since the entry was written
                 return None
         self.hits += 1
+        try:
+            os.utime(path)         # recently used: the size limit removes the oldest first
+        except OSError:
+            pass
         return entry["data"]
 
     def discard(self, key: str) -> None:
@@ -241,6 +310,17 @@ class ParseCache:
         except OSError:
             return              # read-only or full disk: caching is best effort
         self.stores += 1
+        self._maybe_prune(path)
+
+    def _maybe_prune(self, written: Path) -> None:
+        if self.limit_mb <= 0:
+            return
+        key = str(self.directory)
+        now = time.monotonic()
+        if now - _last_prune.get(key, -PRUNE_INTERVAL) < PRUNE_INTERVAL:
+            return
+        _last_prune[key] = now
+        self.pruned += prune(self.directory, self.limit_mb, keep=written)
 
     def clear(self) -> int:
         """Remove every entry of this namespace; returns how many files were removed."""
@@ -257,11 +337,11 @@ class ParseCache:
 
 
 def open_cache(directory: str | os.PathLike | None = None, *, enabled: bool = True,
-               namespace: str = "parse") -> ParseCache | None:
+               namespace: str = "parse", limit_mb: int | None = None) -> ParseCache | None:
     """The cache for a run: ``None`` when disabled (callers then skip caching entirely)."""
     if not enabled:
         return None
-    cache = ParseCache(directory, namespace=namespace)
+    cache = ParseCache(directory, namespace=namespace, limit_mb=limit_mb)
     return cache if cache.enabled else None
 
 

@@ -25,6 +25,7 @@ Keys (all optional)::
     waiver_file = "hazlint-waivers.toml"
     baseline = "hazlint-baseline.json"
     cache_dir = ".hazlint-cache"
+    cache_limit_mb = 2048           # size limit of the cache folder (0: none)
     jobs = 2
     prove = { }                     # options handed to the hazard prover
 
@@ -70,6 +71,7 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "waiver_file": ((str,), "a path"),
     "baseline": ((str,), "a path"),
     "cache_dir": ((str,), "a path"),
+    "cache_limit_mb": ((int,), "a size in MB (0: no limit)"),
     "jobs": ((int,), "a number of worker processes"),
     "prove": ((dict,), "a table of hazard-prover options"),
 }
@@ -99,6 +101,7 @@ class Config:
     waiver_file: str | None = None
     baseline: str | None = None
     cache_dir: str | None = None
+    cache_limit_mb: int | None = None
     jobs: int | None = None
     prove: dict[str, Any] = field(default_factory=dict)
     raw: dict[str, Any] = field(default_factory=dict)     # the table as written
@@ -296,6 +299,10 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
     for key in ("waiver_file", "baseline", "cache_dir"):
         if key in table:
             setattr(cfg, key, abspath(table[key]))
+    if "cache_limit_mb" in table:
+        if isinstance(table["cache_limit_mb"], bool) or table["cache_limit_mb"] < 0:
+            raise err("cache_limit_mb", "cache_limit_mb must be a size in MB, 0 or more")
+        cfg.cache_limit_mb = table["cache_limit_mb"]
     if "jobs" in table:
         if table["jobs"] < 1:
             raise err("jobs", "jobs must be at least 1")

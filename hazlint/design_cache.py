@@ -386,9 +386,11 @@ class DesignCache:
     :class:`~hazlint.cache.ParseCache` in namespace ``design``, stamped with :func:`code_stamp`.
     Counters ``hits``/``misses``/``stores``/``dropped`` come from the underlying store."""
 
-    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None):
+    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None,
+                 limit_mb: int | None = None):
         self.store_ = ParseCache(directory, namespace=NAMESPACE,
-                                 version=version if version is not None else code_stamp())
+                                 version=version if version is not None else code_stamp(),
+                                 limit_mb=limit_mb)
 
     @property
     def enabled(self) -> bool:
@@ -465,10 +467,10 @@ class DesignCache:
 
 
 def open_design_cache(directory: str | os.PathLike | None = None, *,
-                      enabled: bool = True) -> DesignCache | None:
+                      enabled: bool = True, limit_mb: int | None = None) -> DesignCache | None:
     if not enabled:
         return None
-    c = DesignCache(directory)
+    c = DesignCache(directory, limit_mb=limit_mb)
     return c if c.enabled else None
 
 
@@ -538,9 +540,11 @@ class ResultCache:
     """Findings (a list of :class:`~hazlint.diagnostics.Diagnostic`) by :func:`result_key`,
     in namespace ``result``, stamped with :func:`code_stamp`."""
 
-    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None):
+    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None,
+                 limit_mb: int | None = None):
         self.store_ = ParseCache(directory, namespace=RESULT_NAMESPACE,
-                                 version=version if version is not None else code_stamp())
+                                 version=version if version is not None else code_stamp(),
+                                 limit_mb=limit_mb)
 
     @property
     def enabled(self) -> bool:
@@ -576,8 +580,9 @@ class ResultCache:
         return self.store_.stores > before
 
 
-def open_result_cache(directory: str | os.PathLike | None = None) -> ResultCache | None:
-    c = ResultCache(directory)
+def open_result_cache(directory: str | os.PathLike | None = None, *,
+                      limit_mb: int | None = None) -> ResultCache | None:
+    c = ResultCache(directory, limit_mb=limit_mb)
     return c if c.enabled else None
 
 

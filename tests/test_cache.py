@@ -343,3 +343,37 @@ def test_corrupted_compact_entry_is_removed_by_the_reader(tmp_path):
     entry.write_bytes(entry.read_bytes()[:100])        # truncated
     c3 = ParseCache(tmp_path / "c")
     assert read_sources([str(src)], cache=c3) == first and c3.dropped == 1
+
+
+def test_size_limit_removes_least_recently_used_entries(tmp_path, monkeypatch):
+    import time as _time
+    from hazlint import cache as C
+    monkeypatch.setattr(C, "PRUNE_INTERVAL", 0.0)
+    c = C.ParseCache(tmp_path, namespace="parse", limit_mb=1)
+    blob = "x" * 300_000                          # about 0.3 MB per entry
+    keys = [C.digest_bytes(str(i).encode()) for i in range(3)]
+    for i, k in enumerate(keys):
+        c.store(k, {"blob": blob})
+        p = c._entry_path(k)
+        t = _time.time() - 1000 + i * 10          # distinct ages, oldest first
+        os.utime(p, (t, t))
+    assert c.pruned == 0 and all(c._entry_path(k).exists() for k in keys)   # 0.9 MB: under
+    assert c.load(keys[0]) is not None            # a hit: entry 0 is now the most recent
+    new = C.digest_bytes(b"new")
+    c.store(new, {"blob": blob})                  # 1.2 MB: over the limit, prune to 0.8 MB
+    assert c.pruned == 2
+    assert c._entry_path(new).exists() and c._entry_path(keys[0]).exists()
+    assert not c._entry_path(keys[1]).exists() and not c._entry_path(keys[2]).exists()
+    # 0 means no limit
+    assert C.prune(tmp_path, 0) == 0
+
+
+def test_cache_limit_from_configuration_and_environment(tmp_path, monkeypatch):
+    from hazlint import cache as C
+    from hazlint.config import load_config
+    monkeypatch.setenv(C.ENV_LIMIT, "17")
+    assert C.cache_limit_mb() == 17 and C.cache_limit_mb(5) == 5
+    monkeypatch.delenv(C.ENV_LIMIT)
+    assert C.cache_limit_mb() == C.DEFAULT_LIMIT_MB
+    (tmp_path / "hazlint.toml").write_text("cache_limit_mb = 64\n")
+    assert load_config(cwd=tmp_path).cache_limit_mb == 64
