@@ -278,6 +278,22 @@ def _wanted(uri: str) -> bool:
     return p.lower().endswith(VERILOG_SUFFIXES)
 
 
+CONFIG_NAMES = ("hazlint.toml", "pyproject.toml")
+
+
+def _is_config(uri: str) -> bool:
+    """A file whose saving can change every open document's findings: a configuration file,
+    or any TOML file (waiver files are TOML and may be named anything)."""
+    p = to_fs_path(uri) or ""
+    return os.path.basename(p) in CONFIG_NAMES or p.lower().endswith(".toml")
+
+
+def _relint_all(ls: "HazlintServer") -> None:
+    for uri in list(ls.workspace.text_documents):
+        if _wanted(uri):
+            ls.schedule(uri, 0)
+
+
 def create_server(debounce: float = 0.4) -> HazlintServer:
     server = HazlintServer(debounce=debounce)
 
@@ -291,6 +307,22 @@ def create_server(debounce: float = 0.4) -> HazlintServer:
     async def did_save(ls: HazlintServer, params: types.DidSaveTextDocumentParams):
         if _wanted(params.text_document.uri):
             ls.schedule(params.text_document.uri, 0)
+        elif _is_config(params.text_document.uri):
+            _relint_all(ls)      # configuration or waivers changed: every open design
+
+    @server.feature(types.WORKSPACE_DID_CHANGE_WATCHED_FILES)
+    async def did_change_watched(ls: HazlintServer, params: types.DidChangeWatchedFilesParams):
+        # clients that watch files tell us about configuration edits made outside the editor,
+        # and about Verilog files (includes, other modules of the design) changed on disk
+        if any(_is_config(ch.uri) or _wanted(ch.uri) for ch in params.changes):
+            _relint_all(ls)
+
+    @server.feature(types.WORKSPACE_DID_CHANGE_CONFIGURATION)
+    async def did_change_configuration(ls: HazlintServer,
+                                       params: types.DidChangeConfigurationParams):
+        # hazlint reads its settings from the project's files, not from the client; a
+        # settings change still means "look again"
+        _relint_all(ls)
 
     @server.feature(types.TEXT_DOCUMENT_DID_CHANGE)
     async def did_change(ls: HazlintServer, params: types.DidChangeTextDocumentParams):

@@ -221,3 +221,31 @@ def test_syntax_error_is_a_diagnostic_not_a_crash(tmp_path):
         shutdown(c)
     finally:
         c.close()
+
+
+@pytest.mark.slow
+def test_saving_the_configuration_relints_open_documents(tmp_path):
+    cfg = tmp_path / "hazlint.toml"
+    cfg.write_text('files = ["press_valve.v"]\n')
+    doc = tmp_path / "press_valve.v"
+    doc.write_text(HAZARD)
+    c = start(tmp_path, tmp_path.as_uri())
+    try:
+        c.notify("textDocument/didOpen", {"textDocument": {
+            "uri": doc.as_uri(), "languageId": "verilog", "version": 1, "text": HAZARD}})
+        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["skewed-reconvergence"]
+        # the user turns the rule off in the configuration file and saves it in the editor
+        text = 'files = ["press_valve.v"]\nignore = ["skewed-reconvergence"]\n'
+        cfg.write_text(text)
+        c.notify("textDocument/didOpen", {"textDocument": {
+            "uri": cfg.as_uri(), "languageId": "toml", "version": 1, "text": text}})
+        c.notify("textDocument/didSave", {"textDocument": {"uri": cfg.as_uri()}})
+        assert c.diagnostics(doc.as_uri(), 1) == []
+        # and turns it back on outside the editor: a watched-file notification
+        cfg.write_text('files = ["press_valve.v"]\n')
+        c.notify("workspace/didChangeWatchedFiles",
+                 {"changes": [{"uri": cfg.as_uri(), "type": 2}]})
+        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["skewed-reconvergence"]
+        shutdown(c)
+    finally:
+        c.close()
