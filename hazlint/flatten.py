@@ -134,6 +134,7 @@ class Elaborator:
                              default=None)
         # union-find over net bit names
         self.parent: dict[str, str] = {}
+        self.net_delay: dict[str, Delay] = {}     # declared net bit -> its net delay
         self.drivers: list[dict] = []          # driver records (see _add_driver)
         self.sinks: list[dict] = []
         self.registers: list[Register] = []
@@ -195,6 +196,11 @@ class Elaborator:
                     delays=None, cell: str = "", instance: str = "", loc: ir.Loc | None = None,
                     expr=None, attrs=None, **extra) -> None:
         inputs = list(inputs)
+        if kind == "gate" and out in self.net_delay:
+            # a net delay adds to the delay of every gate and assign that drives the net
+            nd = self.net_delay[out]
+            delays = [_sum_delay(d, nd) for d in
+                      (delays if delays is not None else [self.default_delay] * len(inputs))]
         rec = {"kind": kind, "out": out, "op": op, "inputs": inputs,
                "pins": pins if pins is not None else [str(i + 1) for i in range(len(inputs))],
                "delays": delays if delays is not None else [self.default_delay] * len(inputs),
@@ -377,6 +383,13 @@ class Elaborator:
         for it in items:
             if isinstance(it, ir.Net):
                 self.declare(scope, it.name, it.width, it.kind, it.signed, it.loc)
+                if it.kind == "trireg":
+                    self.note(f"trireg '{it.name}': charge storage is not modelled, the net is "
+                              "treated as a wire", it.loc, scope.instance)
+                if it.delay:
+                    nd = self.delay(it.delay, scope, it.loc)
+                    for b in scope.nets[it.name].bits():
+                        self.net_delay[b] = nd
                 if it.attrs:
                     for b in scope.nets[it.name].bits():
                         self.port_attrs.setdefault(b, {}).update(it.attrs)
@@ -798,6 +811,8 @@ class Elaborator:
             self._add_driver("const", dst, op="const1" if src == C1 else "const0",
                              instance=instance or scope.instance, loc=loc)
             return
+        if delay is None and dst in self.net_delay:
+            delay = ZERO_DELAY         # the net's own delay is added by _add_driver
         if delay is not None:
             self._add_driver("gate", dst, op="buf", inputs=[src], delays=[delay], cell="assign",
                              instance=instance or scope.instance, loc=loc)
@@ -826,7 +841,9 @@ class Elaborator:
                 rec = fresh_roots.get(src)
                 if rec is not None and src not in seen:
                     seen.add(src)
-                    rec["delays"] = [delay] * len(rec["inputs"])
+                    d = _sum_delay(delay, self.net_delay[dst]) if dst in self.net_delay \
+                        else delay
+                    rec["delays"] = [d] * len(rec["inputs"])
                     rec["loc"] = a.loc
                     self.union(dst, src)
                 else:
@@ -1071,7 +1088,11 @@ class Elaborator:
                 for src, dst in zip(inner, outer):
                     if dst in (C0, C1):
                         continue
-                    self.union(dst, src)
+                    if dst in self.net_delay:
+                        # a net with a delay driven from a child's output: a delayed buffer
+                        self.connect(scope, dst, src, inst.loc, instance=child.instance)
+                    else:
+                        self.union(dst, src)
 
     # ---------------------------------------------------------------- library cells ------------
     def _cell_pins(self, scope, inst, pins: list[str]) -> dict[str, list[str] | None]:
@@ -1988,3 +2009,8 @@ def _expr_text(e, parent: int = 0) -> str:
     except (IndexError, TypeError):
         pass
     return str(e)
+
+
+def _sum_delay(a: Delay, b: Delay) -> Delay:
+    return Delay(a.rise_min + b.rise_min, a.rise_max + b.rise_max,
+                 a.fall_min + b.fall_min, a.fall_max + b.fall_max)

@@ -365,3 +365,36 @@ def test_summary_command_json(tmp_path):
     assert r.returncode == 0, r.stderr
     s = json.loads(r.stdout)
     assert s["gates_by_type"] == {"nand": 1, "not": 1} and s["logic_depth"] == 2
+
+
+def test_trireg_uwire_and_net_delays_in_the_gate_graph(tmp_path):
+    d = load(tmp_path, """
+        module leaf(input a, output y); not #1 g (y, a); endmodule
+        module m(input a, input b, output y, output z);
+          trireg t;
+          uwire u;
+          wire #(2,3) n;
+          wire #4 w;
+          assign t = a;
+          assign u = b;
+          nand #1 g1 (n, t, u);
+          leaf l (.a(a), .y(w));       // a delayed net driven through a child's output port
+          assign y = n;
+          assign z = w;
+        endmodule
+        """)
+    for a in (0, 1):
+        for b in (0, 1):
+            out = d.evaluate({"a": a, "b": b})
+            assert out["y"] == 1 - (a & b) and out["z"] == 1 - a
+    g = d.graph
+    gate = next(n for n, x in g.nodes(data=True) if x.get("instance", "").endswith("g1"))
+    dl = g.nodes[gate]["delays"][0]
+    assert (dl.rise_max, dl.fall_max) == (3.0, 4.0)          # gate 1 plus net (2, 3)
+    # the net delay of w rides on a buffer behind the child's output: the cone of z holds the
+    # child's inverter (1) and that buffer (4)
+    import networkx as nx
+    cone = [n for n in nx.ancestors(g, d.output_node["z"]) if g.nodes[n]["kind"] == "gate"]
+    assert sorted(g.nodes[n]["delays"][0].rise_max for n in cone) == [1.0, 4.0]
+    assert any("trireg 't'" in getattr(n, "message", "") for n in d.notes)
+

@@ -522,3 +522,26 @@ def test_grammar_has_no_reduce_reduce_conflicts():
     yacc.yacc(module=p, method="LALR", debug=True, debuglog=Log(), errorlog=log,
               write_tables=False, tabmodule=missing, outputdir=str(REPO), start="source_text")
     assert not [line for line in log.lines if "reduce/reduce" in line or "never reduced" in line]
+
+
+def test_net_types_delays_and_strengths_on_declarations(tmp_path):
+    # IEEE 1364: trireg and (2005) uwire net types, a delay on a net declaration, a drive
+    # strength on a net declaration assignment
+    m = _module(tmp_path, """\
+        module m(input a, output y);
+          trireg t;
+          uwire u;
+          wire #5 w1, w2;
+          wire [3:0] #(1:2:3, 4) bus;
+          wire (strong0, weak1) s = a;
+          wire (pull0, pull1) [1:0] sv = {a, a};
+          assign y = t & u & w1 & w2 & bus[0] & s & sv[1];
+        endmodule
+        """)
+    nets = _by_name(m.items, ir.Net)
+    assert nets["t"].kind == "trireg" and nets["u"].kind == "uwire"
+    assert nets["w1"].delay == nets["w2"].delay == [_same(_n(5))]
+    assert nets["bus"].delay == [(_n(1), _n(2), _n(3)), _same(_n(4))]
+    assert nets["bus"].width is not None and nets["s"].delay is None
+    assigns = [it for it in m.items if isinstance(it, ir.Assign)]
+    assert [a.lhs for a in assigns][:2] == [("id", "s"), ("id", "sv")]

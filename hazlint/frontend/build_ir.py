@@ -393,8 +393,11 @@ class Builder:
                 if v.dimensions is not None and v.dimensions.lengths:
                     ln = v.dimensions.lengths[0]
                     array = (self.expr(ln.msb), self.expr(ln.lsb))
+                nd = getattr(v, "hz_delay", None)
                 out.append(ir.Net(name=v.name, kind=kind, width=width, signed=signed,
-                                  array=array, loc=self.loc(v.lineno, pos), attrs=dict(attrs)))
+                                  array=array, loc=self.loc(v.lineno, pos), attrs=dict(attrs),
+                                  delay=self.delay(nd) if isinstance(nd, hp.DelaySpec)
+                                  else None))
                 if getattr(v, "value", None) is not None and kind == "integer":
                     out.append(ir.Unsupported(what=f"initial value of integer {v.name}",
                                               loc=self.loc(v.lineno, pos)))

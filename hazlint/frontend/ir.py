@@ -61,12 +61,13 @@ class Port:
 @dataclass
 class Net:
     name: str
-    kind: str = "wire"                  # wire reg tri wand wor supply0 supply1 integer
+    kind: str = "wire"                  # wire reg tri wand wor trireg uwire supply0 supply1 integer
     width: Optional[tuple] = None
     signed: bool = False
     array: Optional[tuple] = None       # (msb, lsb) of a memory array dimension
     loc: Optional[Loc] = None
     attrs: dict = field(default_factory=dict)
+    delay: Optional[list] = None        # net delay: [(min, typ, max) expr, ...] rise, fall
 
 
 @dataclass

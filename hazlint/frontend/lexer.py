@@ -3,7 +3,7 @@
 Additions over :class:`pyverilog.vparser.lexer.VerilogLexer`:
 
 * keywords ``primitive``/``endprimitive``, ``specify``/``endspecify``/``specparam``/``ifnone``,
-  the net types ``wand wor tri0 tri1 triand trior``, drive strengths (``strong0`` ...);
+  the net types ``wand wor tri0 tri1 triand trior trireg uwire``, drive strengths (``strong0`` ...);
 * a UDP ``table ... endtable`` body is one ``TABLE`` token holding its raw text (the rows are
   split in :mod:`hazlint.frontend.build_ir`; table symbols do not lex as Verilog tokens);
 * specify timing checks (``$setup(...);`` ...) are one ``TIMINGCHECK`` token, so the parser can
@@ -31,7 +31,7 @@ MAX_NESTING = 1000
 
 _EXTRA_KEYWORDS = (
     "PRIMITIVE", "ENDPRIMITIVE", "SPECIFY", "ENDSPECIFY", "SPECPARAM", "IFNONE",
-    "WAND", "WOR", "TRI0", "TRI1", "TRIAND", "TRIOR", "DEFPARAM",
+    "WAND", "WOR", "TRI0", "TRI1", "TRIAND", "TRIOR", "TRIREG", "UWIRE", "DEFPARAM",
 )
 _STRENGTHS = ("strong0", "strong1", "pull0", "pull1", "weak0", "weak1", "highz0", "highz1")
 

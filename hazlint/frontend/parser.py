@@ -8,7 +8,9 @@ Grammar additions and repairs over :class:`pyverilog.vparser.parser.VerilogParse
 * user-defined primitives (``primitive ... table ... endtable ... endprimitive``);
 * ``specify`` blocks: module paths (``=>``, ``*>``, edge-sensitive, ``if``/``ifnone``),
   ``specparam``; timing checks are skipped;
-* net types ``wand wor tri0 tri1 triand trior``; ``generate case``; generate ``for``/``if``/``case``
+* net types ``wand wor tri0 tri1 triand trior trireg uwire``; net declarations with a delay
+  (``wire #5 w;``, ``wire [3:0] #(1,2) bus;``) and with a drive strength (``wire (strong0, weak1)
+  w = a;``); ``generate case``; generate ``for``/``if``/``case``
   directly in the module body; indexed part selects ``[b +: w]`` kept as such (:class:`IPart`);
 * attributes (kept by the lexer, looked up by the position of the construct, ``hz_pos``);
 * list-building actions append to a Python list instead of concatenating tuples (the stock
@@ -415,6 +417,8 @@ class HzParser(VerilogParser):
         | TRI1
         | TRIAND
         | TRIOR
+        | TRIREG
+        | UWIRE
         '''
         p[0] = p[1]
         p.set_lineno(0, p.lineno(1))
@@ -509,6 +513,34 @@ class HzParser(VerilogParser):
                 d.hz_pos = pos
                 out.append(d)
         p[0] = vast.Decl(out, lineno=p.lineno(1))
+        p[0].hz_pos = p.lexpos(1)
+        p.set_lineno(0, p.lineno(1))
+
+    def p_decl_delay(self, p):
+        '''decl : sigtypes delays declnamelist SEMICOLON
+        | sigtypes width delays declnamelist SEMICOLON'''
+        # a net delay (IEEE 1364 6.1.3): kept on each declared net
+        width = p[2] if len(p) == 6 else None
+        spec, names = (p[3], p[4]) if len(p) == 6 else (p[2], p[3])
+        out = []
+        for rname, rdims, line, pos in names:
+            for d in self.create_decl(p[1], rname, width=width, dimensions=rdims, lineno=line):
+                d.hz_pos = pos
+                d.hz_delay = spec
+                out.append(d)
+        p[0] = vast.Decl(out, lineno=p.lineno(1))
+        p[0].hz_pos = p.lexpos(1)
+        p.set_lineno(0, p.lineno(1))
+
+    def p_declassign_strength(self, p):
+        '''declassign : sigtypes strength declassign_element SEMICOLON
+        | sigtypes strength width declassign_element SEMICOLON'''
+        # drive strengths do not change the logic function: dropped, as on gates and assigns
+        width = p[3] if len(p) == 6 else None
+        element = p[4] if len(p) == 6 else p[3]
+        decllist = self.create_declassign(p[1], element[0], element[1], width=width,
+                                          lineno=p.lineno(1))
+        p[0] = vast.Decl(decllist, lineno=p.lineno(1))
         p[0].hz_pos = p.lexpos(1)
         p.set_lineno(0, p.lineno(1))
 
@@ -1056,7 +1088,7 @@ class HzParser(VerilogParser):
 
 
 _HERE = os.path.dirname(os.path.abspath(__file__))
-_EXTRA_NET_KINDS = ("wand", "wor", "tri0", "tri1", "triand", "trior")
+_EXTRA_NET_KINDS = ("wand", "wor", "tri0", "tri1", "triand", "trior", "trireg", "uwire")
 
 # generated list-appending actions (hand-written ones in the class body take precedence) and
 # position-recording wrappers
