@@ -380,6 +380,8 @@ class Elaborator:
 
     def elab_items(self, scope: Scope, items, depth: int, declare_only_params=False) -> None:
         # declarations first so that nets may be used before their declaration in the text
+        mark = len(self.drivers)
+        paths = [it for it in items if isinstance(it, ir.SpecifyPath)]
         for it in items:
             if isinstance(it, ir.Net):
                 self.declare(scope, it.name, it.width, it.kind, it.signed, it.loc)
@@ -402,6 +404,68 @@ class Elaborator:
                 loc = getattr(it, "loc", None)
                 raise ElaborationError("expression or statement nested too deeply to elaborate",
                                        *_where(loc)) from None
+        if paths:
+            self.apply_specify(scope, paths, self.drivers[mark:])
+
+    def apply_specify(self, scope: Scope, paths, drivers) -> None:
+        """Module path delays (``specify``) onto the gates of this module instance.
+
+        A path ``(A => Y)`` sets the delay of the pin fed by ``A`` on the gate that drives
+        ``Y``, when that gate reads ``A`` directly: the single-gate cells of a Verilog cell
+        library, the common case. A primitive written with its own delay keeps the larger of
+        the two; one written without a delay (zero in Verilog, one unit here by default) takes
+        the path delay. Conditional paths of one pin pair fold to their min and max. Paths
+        through more than one gate and edge-sensitive paths (clock to output) are reported
+        and not applied; SDF or a Liberty library gives those arcs."""
+        by_out: dict[str, dict] = {}
+        for rec in drivers:
+            if rec["kind"] == "gate":
+                by_out.setdefault(self.find(rec["out"]), rec)
+        arcs: dict[tuple[int, int], Delay] = {}        # (driver id, pin) -> folded delay
+        recs: dict[int, dict] = {}
+        skipped = []
+        for path in paths:
+            if path.edge is not None or not path.delay:
+                skipped.append((path, "edge-sensitive path" if path.edge else "no delay"))
+                continue
+            d = self.delay(path.delay, scope, path.loc)
+            srcs = [b for e in path.sources for b in (self.conn_bits(scope, e, path.loc) or [])]
+            dsts = [b for e in path.destinations
+                    for b in (self.conn_bits(scope, e, path.loc) or [])]
+            pairs = list(zip(srcs, dsts)) if not path.full and len(srcs) == len(dsts) else \
+                [(a, b) for a in srcs for b in dsts]
+            missed = False
+            for a, b in pairs:
+                rec = by_out.get(self.find(b))
+                pins = [i for i, u in enumerate(rec["inputs"]) if self.find(u) == self.find(a)] \
+                    if rec is not None else []
+                if not pins:
+                    missed = True
+                    continue
+                recs[id(rec)] = rec
+                for pin in pins:
+                    old = arcs.get((id(rec), pin))
+                    arcs[(id(rec), pin)] = d if old is None else Delay(
+                        min(old.rise_min, d.rise_min), max(old.rise_max, d.rise_max),
+                        min(old.fall_min, d.fall_min), max(old.fall_max, d.fall_max))
+            if missed:
+                skipped.append((path, "the path runs through more than one gate"))
+        for (rid, pin), d in arcs.items():
+            rec = recs[rid]
+            delays = list(rec["delays"])
+            if rec.get("explicit_delay"):
+                own = delays[pin]
+                d = Delay(max(own.rise_min, d.rise_min), max(own.rise_max, d.rise_max),
+                          max(own.fall_min, d.fall_min), max(own.fall_max, d.fall_max))
+            if rec["out"] in self.net_delay:
+                d = _sum_delay(d, self.net_delay[rec["out"]])
+            delays[pin] = d
+            rec["delays"] = delays
+            rec["path_delay"] = True
+        for path, why in skipped:
+            self.note(f"specify path delay not applied ({why}); gate delays, SDF or the "
+                      f"library give that arc", path.loc, scope.instance,
+                      key=("specify", scope.module.name, why))
 
     def elab_item(self, scope: Scope, it, depth: int) -> None:
         if isinstance(it, (ir.Net, ir.Param)):
@@ -438,9 +502,7 @@ class Elaborator:
         elif isinstance(it, ir.GenBlock):
             self.elab_items(scope.child(it.name), it.items, depth)
         elif isinstance(it, ir.SpecifyPath):
-            self.note("specify path delays are read but not applied; gate delays come from the "
-                      "gates, the library or SDF", it.loc, scope.instance,
-                      key=("specify", scope.module.name))
+            pass                       # applied by apply_specify once the module's gates exist
         elif isinstance(it, ir.Unsupported):
             raise _BlackBoxModule(it.what, it.loc)
 
@@ -977,7 +1039,7 @@ class Elaborator:
         for o in outs:
             self._add_driver("gate", o[0], op=op, inputs=in_sigs, delays=[delay] * len(in_sigs),
                              cell=cell, instance=path, loc=inst.loc, attrs=inst.attrs,
-                             tri=cell in lib.TRISTATE_GATES)
+                             tri=cell in lib.TRISTATE_GATES, explicit_delay=bool(dspec))
         if cell in lib.TRISTATE_GATES:
             self.add_sink(in_sigs[1], "tristate_enable",
                           f"{self.rel(scope, inst.name or cell)}.enable", inst.loc, path,
