@@ -43,6 +43,7 @@ KINDS = (
     "oscillation",
     "waiver-unused",
     "design-note",
+    "analysis-incomplete",      # a rule stopped at its work budget: part of the design unchecked
 )
 
 

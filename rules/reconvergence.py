@@ -35,6 +35,11 @@ Options
     ``scope``: which reconvergences to report: ``async`` (those that reach a glitch-sensitive
     sink), ``outputs`` (those and every primary output, the default), ``all``.
     ``min_skew``: report when the skew reaches this many time units (default 0: any skew).
+    ``work_budget``: an upper bound on the arrival-time work of one run, in node visits (each
+    stem costs at most the nodes after it in topological order; default 1e9: every EPFL
+    benchmark but the 100k-node divider fits; 0: no limit). Stems that reach a glitch-sensitive sink go first. Past the budget
+    the remaining stems are not analysed and one ``analysis-incomplete`` warning says how many,
+    so a run never passes silently on a design too large for it.
 """
 from __future__ import annotations
 
@@ -48,7 +53,7 @@ from ._common import name_list, num, stable_key
 
 ID = "skewed-reconvergence"
 SUMMARY = "reconvergent fanout whose branches arrive at different times (static/dynamic hazard risk)"
-KINDS = ("unbalanced-reconvergence",)
+KINDS = ("unbalanced-reconvergence", "analysis-incomplete")
 SEVERITY = "warning"
 OPTIONS = (
     Option("scope", str, "outputs",
@@ -56,15 +61,49 @@ OPTIONS = (
            "primary outputs), all", ("async", "outputs", "all")),
     Option("min_skew", float, 0.0,
            "report when the branch skew reaches this value (0: any positive skew)"),
+    Option("work_budget", float, 1e9,
+           "arrival-time work per run in node visits; stems past it are reported as not "
+           "analysed (0: no limit)"),
 )
 
 
-def find_reconvergences(design, context, scope: str = "outputs", min_skew: float = 0.0):
+def plan_stems(context, reach, sinks, work_budget: float):
+    """(stems to analyse, stems left out) as timing-graph indices. Each stem is charged the
+    nodes after it in topological order (a bound on its fan-out cone); stems reaching a
+    glitch-sensitive sink come first, then source order."""
+    tg = context.timing_graph
+    stem_ids = [tg.index[n] for n in context.stems if n in tg.index and reach[tg.index[n]]]
+    if not work_budget or work_budget <= 0:
+        return stem_ids, []
+    n = len(tg.order)
+    if sum(n - s for s in stem_ids) <= work_budget:
+        return stem_ids, []
+    sens_mask = 0
+    sens = context.sensitive_sinks
+    for i, t in enumerate(sinks):
+        if t in sens:
+            sens_mask |= 1 << i
+    rank = context.source_rank
+    pri = sorted(stem_ids, key=lambda s: (not (reach[s] & sens_mask), rank[tg.order[s]]))
+    keep, left, spent = [], [], 0.0
+    for s in pri:
+        if spent + (n - s) <= work_budget:
+            keep.append(s)
+            spent += n - s
+        else:
+            left.append(s)
+    keep_set = set(keep)
+    return [s for s in stem_ids if s in keep_set], left
+
+
+def find_reconvergences(design, context, scope: str = "outputs", min_skew: float = 0.0,
+                        stem_ids=None):
     """Worst reconvergence per (stem, sink in scope), grouped by gate.
 
     Yields :class:`Finding` objects (stem and gate node ids, the :class:`Reconvergence`, the
     sinks, the fastest and slowest paths as node-id tuples). Work per stem is linear in its
-    fanout cone plus the length of the reported paths.
+    fanout cone plus the length of the reported paths. ``stem_ids`` (timing-graph indices)
+    limits the stems; by default every stem that reaches a sink in scope.
     """
     tg = context.timing_graph
     order = tg.order
@@ -73,7 +112,8 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
         return
     rank = context.source_rank
     rank_i = [rank[n] for n in order]
-    stem_ids = [tg.index[n] for n in context.stems if n in tg.index and reach[tg.index[n]]]
+    if stem_ids is None:
+        stem_ids = [tg.index[n] for n in context.stems if n in tg.index and reach[tg.index[n]]]
     for si, st, found in context.stem_reconvergences(stem_ids, min_skew):
         # every sink in scope goes to the worst reconvergence that reaches it (ties: the gate
         # first in source order); sinks are bits of the precomputed reachability sets. A heap
@@ -136,7 +176,13 @@ def check(design, context):
     opts = context.options(ID)
     g = design.graph
     sens = context.sensitive_sinks
-    for f in find_reconvergences(design, context, opts["scope"], opts["min_skew"]):
+    sinks_in_scope, reach = context.scope_reach(opts["scope"])
+    if not sinks_in_scope:
+        return
+    stem_ids, left = plan_stems(context, reach, sinks_in_scope, opts["work_budget"])
+    if left:
+        yield _incomplete(context, left, len(stem_ids), opts["work_budget"])
+    for f in find_reconvergences(design, context, opts["scope"], opts["min_skew"], stem_ids):
         stem, gate, r, sinks = f.stem, f.gate, f.r, f.sinks
         d = g.nodes[gate]
         stem_name = context.net_name(stem)
@@ -175,6 +221,27 @@ def check(design, context):
             notes=notes, flows=(fast_hops, slow_hops),
             fix=("balance the branch delays, add the consensus term that holds the output "
                  "while the branches disagree, or register the signal before the sensitive sink"))
+
+
+def _incomplete(context, left, analysed: int, budget: float) -> Diagnostic:
+    tg = context.timing_graph
+    names = [tg.order[s] for s in sorted(left, key=lambda s: context.source_rank[tg.order[s]])]
+    first = names[0]
+    shown = [context.net_name(n) for n in names[:10]]
+    return Diagnostic(
+        rule=ID, kind="analysis-incomplete", severity=Severity.WARNING,
+        location=context.location(first), instance=context.graph.nodes[first].get(
+            "instance", "") or "",
+        message=(f"reconvergence analysis stopped at its work budget ({budget:g} node "
+                 f"visits): {len(left)} of {len(left) + analysed} fanout stems not analysed, "
+                 f"first {name_list(shown, 3)}"),
+        evidence={"not_analysed": len(left), "analysed": analysed, "work_budget": budget,
+                  "stems_not_analysed": [context.net_name(n) for n in names[:100]],
+                  "key": stable_key("reconv-incomplete", str(len(left)))},
+        notes=(f"stems reaching a glitch-sensitive sink were analysed first; "
+               f"not analysed: {name_list(shown, 10)}",),
+        fix=("raise [rules.skewed-reconvergence] work_budget (0: no limit), narrow scope to "
+             "'async', or lint the block's sub-modules one at a time"))
 
 
 def _path_text(hops, keep: int = 4) -> str:

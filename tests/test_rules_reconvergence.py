@@ -231,3 +231,47 @@ def test_rule_gives_the_same_findings_with_either_solver():
                            d.evidence["sink_nodes"], d.evidence["skew"], d.evidence["fast_path"],
                            d.evidence["slow_path"], d.message) for d in RULE.check(design, ctx)))
     assert out[0] and out[0] == out[1] == out[2]
+
+
+def test_work_budget_reports_what_it_left_out_and_keeps_the_rest_exact():
+    # ISCAS-85 c432 (Brglez & Fujiwara 1985; netlist of the PyPI package circuitgraph==0.2.1)
+    import importlib.resources
+    import hazlint
+    path = str(importlib.resources.files("circuitgraph") / "netlists" / "c432.v")
+    design = hazlint.load_design(path)
+    full = run(design)
+    assert full and all(d.kind == "unbalanced-reconvergence" for d in full)
+    n = len(AnalysisContext(design).timing_graph.order)
+    part = run(design, work_budget=n * 10)
+    inc = [d for d in part if d.kind == "analysis-incomplete"]
+    assert len(inc) == 1 and inc[0].severity.name == "WARNING"
+    left = inc[0].evidence["not_analysed"]
+    assert left > 0 and inc[0].evidence["analysed"] > 0
+    # what was analysed is exactly what the unbounded run says for those stems
+    key = lambda d: (d.evidence["stem_node"], d.evidence["reconvergence_node"], d.message)
+    got = {key(d) for d in part if d.kind != "analysis-incomplete"}
+    assert got and got <= {key(d) for d in full} and len(got) < len(full)
+    # no limit, or a budget above the need: the same findings as the default
+    assert [key(d) for d in run(design, work_budget=0)] == [key(d) for d in full]
+
+
+def test_work_budget_takes_stems_reaching_sensitive_sinks_first():
+    b = GraphBuilder()
+    s, k = b.input("s"), b.input("k")      # the only stems: every other input is read once
+    for p, sink, attrs in (("p", "y_plain", None), ("q", "y_async", {"hazlint_async": 1})):
+        st = s if p == "p" else k
+        a, c = b.input(f"{p}a"), b.input(f"{p}b")
+        b.gate(f"{p}n", "not", [st])
+        b.gate(f"{p}0", "and", [a, st])
+        b.gate(f"{p}1", "and", [c, f"{p}n"])
+        b.gate(f"{p}y", "or", [f"{p}0", f"{p}1"])
+        b.output(sink, f"{p}y", attrs=attrs)
+    design = b.design()
+    ctx = AnalysisContext(design)
+    n = len(ctx.timing_graph.order)
+    assert {d.evidence["stem_node"] for d in run(design)} == {"s", "k"}
+    out = run(design, work_budget=n)       # room for one stem only
+    stems = {d.evidence["stem_node"] for d in out if d.kind == "unbalanced-reconvergence"}
+    assert stems == {"k"}                  # the stem reaching the asynchronous output
+    (inc,) = [d for d in out if d.kind == "analysis-incomplete"]
+    assert inc.evidence["stems_not_analysed"] == ["s"]
