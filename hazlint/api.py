@@ -15,14 +15,16 @@ import importlib.util
 import inspect
 import os
 from dataclasses import dataclass, field
-from typing import Any, Iterable, Mapping, Sequence
+from typing import TYPE_CHECKING, Any, Iterable, Mapping, Sequence
 
-from .analysis.context import AnalysisContext
 from .config import Config, load_config
 from .diagnostics import Diagnostic, Severity, sort_diagnostics
 from .errors import EXIT_CLEAN, EXIT_FINDINGS, ConfigError, HazlintError
 from .plugins import PSEUDO_RULES, Rule, all_rules, select_rules
 from .waivers import UNUSED_RULE, apply_waivers, read_waiver_file, scan_sources
+
+if TYPE_CHECKING:       # imported where used: a cached report needs neither it nor networkx
+    from .analysis.context import AnalysisContext
 
 
 @dataclass
@@ -84,12 +86,8 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     (a dict, optional) receives the ``design_key`` used."""
     # the reader and the flattener (pyverilog and its parser tables) are imported only when
     # the design has to be built: a warm run from the design cache does not need them
-    include_dirs = list(include_dirs if include_dirs is not None else config.include_dirs)
-    defines = dict(config.defines, **(defines or {}))
+    include_dirs, defines, chosen_top = _load_inputs(config, top, include_dirs, defines)
     abs_texts = {os.path.abspath(k): v for k, v in texts.items()} if texts else None
-    chosen_top = top if top is not None else config.top
-    if isinstance(chosen_top, list) and len(chosen_top) == 1:
-        chosen_top = chosen_top[0]
 
     def load_fresh():
         from .frontend.reader import read_sources
@@ -143,7 +141,7 @@ def _apply_sdf(design, config: Config, library) -> None:
             annotate(design, p, corner="minmax", library=library)
 
 
-def run_rules(design, rules: Sequence[Rule], context: AnalysisContext,
+def run_rules(design, rules: Sequence[Rule], context: "AnalysisContext",
               severity: Mapping[str, str] | None = None) -> list[Diagnostic]:
     """Run each rule once over the shared context; apply per-rule severity overrides (to the
     findings at the rule's default severity: levels a rule sets through its own options stay)."""
@@ -182,16 +180,21 @@ def _touches(d: Diagnostic, changed: set[str]) -> bool:
     return False
 
 
-def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
-         cwd: str | None = None, texts: Mapping[str, str] | None = None,
-         changed: Iterable[str] | None = None, select: Iterable[str] | None = None,
-         ignore: Iterable[str] = (), prove: bool = True, top=None,
-         include_dirs: Sequence[str] | None = None, defines: Mapping[str, str] | None = None,
-         baseline: str | None = None, rule_options: Mapping[str, Mapping[str, Any]] | None = None,
-         use_cache: bool = True, progress=None) -> LintResult:
-    """Lint a design. ``files`` default to the configured ones; ``texts`` (path -> text)
-    overrides file contents; ``changed`` keeps only findings located in those files or whose
-    evidence runs through them; ``select``/``ignore`` add to the configuration's."""
+@dataclass
+class _Plan:
+    """What a run is, decided before anything is read: files, root, rules and their options."""
+    config: Config
+    cwd: str
+    root: str
+    paths: list[str]
+    select: list[str] | None
+    ignore: list[str]
+    rules: list[Rule]
+    options: dict[str, Any]
+    known_ids: set[str]
+
+
+def _plan(files, *, config, cwd, texts, select, ignore, rule_options) -> _Plan:
     cwd = os.path.abspath(cwd or os.getcwd())
     if config is None:
         config = load_config(cwd)
@@ -206,11 +209,6 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
     for p in paths:
         if not os.path.isfile(p) and not (texts and any(_norm(k) == _norm(p) for k in texts)):
             raise HazlintError(f"file not found: {relpath(p, cwd)}", path=p)
-    cache_info: dict = {}
-    design = load(paths, config, texts=texts, top=top, include_dirs=include_dirs,
-                  defines=defines, use_cache=use_cache, progress=progress,
-                  cache_info=cache_info)
-
     sel = list(select) if select is not None else config.select
     ign = list(config.ignore) + list(ignore)
     rules = select_rules(sel, ign)
@@ -229,6 +227,91 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
         if rid not in known_ids and rid not in PSEUDO_RULES:
             raise ConfigError(f"severity given for unknown rule '{rid}'", path=config.path,
                               line=config.key_lines.get("severity"))
+    return _Plan(config=config, cwd=cwd, root=root, paths=paths, select=sel, ignore=ign,
+                 rules=rules, options=opts, known_ids=known_ids)
+
+
+def report_key(files: Sequence[str] | None = None, *, config: Config | None = None,
+               cwd: str | None = None, changed: Iterable[str] | None = None,
+               select: Iterable[str] | None = None, ignore: Iterable[str] = (),
+               prove: bool = True, top=None, include_dirs: Sequence[str] | None = None,
+               defines: Mapping[str, str] | None = None, baseline: str | None = None,
+               rule_options: Mapping[str, Mapping[str, Any]] | None = None,
+               render: Mapping[str, Any] | None = None) -> str | None:
+    """sha256 over everything a finished report depends on, computed without reading the
+    design: the findings' key (:func:`~hazlint.design_cache.result_key` over the design key),
+    the waiver file's and the baseline's contents, the changed-files filter, the project root
+    and the working directory (paths in reports are relative), and ``render`` (format and
+    renderer options). Files pulled in through ``include`` are not in the key: the report
+    cache checks them as dependencies of the entry. None when some input cannot be read (the
+    run then goes the normal way and reports the problem)."""
+    import hashlib
+    import json
+    from .cache import digest_file
+    from .design_cache import design_key, result_key
+    plan = _plan(files, config=config, cwd=cwd, texts=None, select=select, ignore=ignore,
+                 rule_options=rule_options)
+    config = plan.config
+    incs, defs, chosen_top = _load_inputs(config, top, include_dirs, defines)
+    dkey = design_key(plan.paths, texts=None, top=chosen_top, include_dirs=incs, defines=defs,
+                      root=config.root, cells=config.cells, cells_source=config.path,
+                      liberty=config.liberty, sdf=config.sdf, sdf_corner="minmax")
+    if dkey is None:
+        return None
+    rkey = result_key(dkey, config, select=plan.select, ignore=plan.ignore, prove=prove,
+                      options=plan.options, rules=plan.rules)
+    if rkey is None:
+        return None
+    digests = {}
+    for tag, p in (("waivers", config.waiver_file), ("baseline", baseline or config.baseline)):
+        if p:
+            digests[tag] = [os.path.abspath(p), digest_file(p) if os.path.exists(p) else None]
+    material = {
+        "result": rkey, "inputs": digests, "cwd": plan.cwd, "root": plan.root,
+        "baseline_given": bool(baseline),
+        "changed": None if changed is None else sorted(
+            {_norm(p if os.path.isabs(p) else os.path.join(plan.cwd, p)) for p in changed}),
+        "render": dict(render or {}),
+    }
+    try:
+        text = json.dumps(material, sort_keys=True, default=repr)
+    except (TypeError, ValueError):
+        return None
+    return hashlib.sha256(text.encode("utf-8", "surrogateescape")).hexdigest()
+
+
+def _load_inputs(config: Config, top, include_dirs, defines):
+    """The include directories, macros and top module(s) a load uses: the call's, else the
+    configuration's."""
+    include_dirs = list(include_dirs if include_dirs is not None else config.include_dirs)
+    defines = dict(config.defines, **(defines or {}))
+    chosen_top = top if top is not None else config.top
+    if isinstance(chosen_top, list) and len(chosen_top) == 1:
+        chosen_top = chosen_top[0]
+    return include_dirs, defines, chosen_top
+
+
+def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
+         cwd: str | None = None, texts: Mapping[str, str] | None = None,
+         changed: Iterable[str] | None = None, select: Iterable[str] | None = None,
+         ignore: Iterable[str] = (), prove: bool = True, top=None,
+         include_dirs: Sequence[str] | None = None, defines: Mapping[str, str] | None = None,
+         baseline: str | None = None, rule_options: Mapping[str, Mapping[str, Any]] | None = None,
+         use_cache: bool = True, progress=None) -> LintResult:
+    """Lint a design. ``files`` default to the configured ones; ``texts`` (path -> text)
+    overrides file contents; ``changed`` keeps only findings located in those files or whose
+    evidence runs through them; ``select``/``ignore`` add to the configuration's."""
+    plan = _plan(files, config=config, cwd=cwd, texts=texts, select=select, ignore=ignore,
+                 rule_options=rule_options)
+    config, cwd, root, paths = plan.config, plan.cwd, plan.root, plan.paths
+    sel, ign, rules, opts, known_ids = plan.select, plan.ignore, plan.rules, plan.options, \
+        plan.known_ids
+    cache_info: dict = {}
+    design = load(paths, config, texts=texts, top=top, include_dirs=include_dirs,
+                  defines=defines, use_cache=use_cache, progress=progress,
+                  cache_info=cache_info)
+
+    from .analysis.context import AnalysisContext
     context = AnalysisContext(design, config, opts)
 
     # findings before waivers/baseline come from the result cache when nothing they depend
@@ -253,7 +336,8 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
             rcache.store(rkey, diags)
 
     # waivers: inline comments in every source read, plus the waiver file
-    sources = list(dict.fromkeys(list(getattr(design, "files", []) or []) + paths))
+    sources = list(dict.fromkeys(list(getattr(design, "files", []) or []) + paths
+                                 + list(getattr(design, "includes", []) or [])))
     waivers = scan_sources(sources, texts)
     if config.waiver_file:
         waivers += read_waiver_file(config.waiver_file)

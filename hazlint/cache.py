@@ -70,7 +70,7 @@ def prune(directory: str | os.PathLike, limit_mb: int, keep: Path | None = None)
     total = 0
     for root, _dirs, files in os.walk(directory):
         for f in files:
-            if not f.endswith(".json"):
+            if not f.endswith((".json", ".txt")):      # entries and report texts
                 continue
             p = os.path.join(root, f)
             try:
@@ -327,7 +327,7 @@ class ParseCache:
         root = self.directory / self.namespace
         n = 0
         if root.is_dir():
-            for p in root.rglob("*.json"):
+            for p in [*root.rglob("*.json"), *root.rglob("*.txt")]:
                 try:
                     p.unlink()
                     n += 1

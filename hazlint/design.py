@@ -52,6 +52,7 @@ class Design:
     blackboxes: list[BlackBox] = field(default_factory=list)
     notes: list[Any] = field(default_factory=list)      # front-end notes (Diagnostic objects)
     files: list[str] = field(default_factory=list)
+    includes: list[str] = field(default_factory=list)   # files read through `include
     timescale: tuple[float, float] | None = None        # (unit, precision) in seconds
     input_node: dict[str, str] = field(default_factory=dict)    # port bit -> node id
     output_node: dict[str, str] = field(default_factory=dict)   # port bit -> sink node id

@@ -43,7 +43,6 @@ import os
 from pathlib import Path
 from typing import Any, Iterable, Mapping, Sequence
 
-import networkx as nx
 
 from . import __version__
 from .cache import Codec, CodecError, ParseCache, default_cache_dir, digest_file
@@ -63,6 +62,16 @@ _AT = {k: "@" + k for k in _INTERNED}
 _STAMP: str | None = None
 
 
+def _networkx_version() -> str:
+    # from the installed distribution's metadata: a cached report needs no networkx import
+    from importlib import metadata
+    try:
+        return metadata.version("networkx")
+    except metadata.PackageNotFoundError:
+        import networkx
+        return networkx.__version__
+
+
 def code_stamp() -> str:
     """hazlint's version plus a stamp (file name, size, mtime) of every ``.py`` file of the
     ``hazlint`` package and of the built-in rules package: an entry written by other code is a
@@ -70,7 +79,7 @@ def code_stamp() -> str:
     global _STAMP
     if _STAMP is None:
         h = hashlib.sha256(__version__.encode())
-        h.update(nx.__version__.encode())
+        h.update(_networkx_version().encode())
         roots = [Path(__file__).resolve().parent]
         spec = importlib.util.find_spec("hazlint_rules")
         if spec is not None and spec.submodule_search_locations:
@@ -153,6 +162,7 @@ def _codec() -> Codec:
 
 
 def _has_graph_internals(g) -> bool:
+    import networkx as nx
     return (type(g) is nx.DiGraph and isinstance(getattr(g, "_node", None), dict)
             and isinstance(getattr(g, "_succ", None), dict)
             and isinstance(getattr(g, "_pred", None), dict) and g._adj is g._succ)
@@ -291,6 +301,7 @@ def decode_design(doc: Mapping[str, Any]):
                           keys.index(_INPUTS) + 1 if _INPUTS in keys else 0,
                           tuple(k[1:] if k[:1] in ("=", "#", "@") else k for k in keys),
                           tuple(i + 1 for i, k in enumerate(keys) if k[:1] == "@")))
+        import networkx as nx
         g = nx.DiGraph()
         g.graph.update(dec(doc["graph"]))
         if not _has_graph_internals(g):
@@ -586,5 +597,111 @@ def open_result_cache(directory: str | os.PathLike | None = None, *,
     return c if c.enabled else None
 
 
-__all__ = ["DesignCache", "ResultCache", "result_key", "open_result_cache", "code_stamp", "decode_design", "design_key", "encode_design",
+# ---------------------------------------------------------------------------------------------
+# finished reports of the command line
+
+REPORT_FORMAT = 1
+REPORT_NAMESPACE = "report"
+
+
+class ReportCache:
+    """The rendered report of a ``check`` run and the worst severity in it, by
+    :func:`hazlint.api.report_key`, in namespace ``report``, stamped with :func:`code_stamp`.
+
+    The report text is a file of its own beside the entry (``<key>.txt``; the entry records
+    its size), written once by the renderer and copied from there, so a report of hundreds of
+    megabytes is never held in memory or escaped into JSON. Files the design pulled in through
+    ``include`` are dependencies of the entry: when one of them changed the entry is a miss. A
+    hit lets a rerun on unchanged inputs print the same bytes without decoding the design or
+    the findings. A report larger than a quarter of the cache's size limit is written, copied
+    out and removed again (it would push everything else out of the cache)."""
+
+    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None,
+                 limit_mb: int | None = None):
+        self.store_ = ParseCache(directory, namespace=REPORT_NAMESPACE,
+                                 version=version if version is not None else code_stamp(),
+                                 limit_mb=limit_mb)
+
+    @property
+    def enabled(self) -> bool:
+        return self.store_.enabled
+
+    def _text_path(self, key: str) -> Path:
+        return self.store_._entry_path(key).with_suffix(".txt")
+
+    def load(self, key: str):
+        """``(file, worst)``: the report opened for reading (text, UTF-8) and the highest
+        severity (an int of :class:`~hazlint.diagnostics.Severity`) among its findings, None
+        for none; or None on a miss."""
+        try:
+            data = self.store_.load(key)
+        except Exception:
+            return None
+        if data is None:
+            return None
+        size, worst = data.get("size"), data.get("worst")
+        if (data.get("format") != REPORT_FORMAT or type(size) is not int
+                or not (worst is None or type(worst) is int)):
+            self.store_.discard(key)
+            return None
+        path = self._text_path(key)
+        try:
+            fh = open(path, encoding="utf-8", newline="")
+        except OSError:
+            self.store_.discard(key)
+            return None
+        try:
+            if os.fstat(fh.fileno()).st_size != size:
+                raise OSError("size")
+            os.utime(path)
+        except OSError:
+            fh.close()
+            self.store_.discard(key)
+            return None
+        return fh, worst
+
+    def store(self, key: str, write, worst: int | None, deps: Iterable[str] = ()):
+        """Run ``write(stream)`` into the report file for ``key`` and record the entry.
+        Returns ``(path, keep)``: where the report is, and False when it is not to be kept
+        (too large: the caller removes it after copying it out); None when nothing could be
+        written (read-only or full disk) and the caller should render directly."""
+        import tempfile
+        path = self._text_path(key)
+        try:
+            path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
+            fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".txt")
+        except OSError:
+            return None
+        try:
+            with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+                write(fh)
+            os.replace(tmp, path)
+        except OSError:
+            try:
+                os.unlink(tmp)
+            except OSError:
+                pass
+            return None
+        except BaseException:
+            try:
+                os.unlink(tmp)
+            except OSError:
+                pass
+            raise
+        size = path.stat().st_size
+        limit = self.store_.limit_mb * 1024 * 1024
+        if limit and size > limit // 4:
+            return path, False
+        self.store_.store(key, {"format": REPORT_FORMAT, "worst": worst, "size": size},
+                          deps=list(dict.fromkeys(deps)))
+        return path, True
+
+
+def open_report_cache(directory: str | os.PathLike | None = None, *,
+                      limit_mb: int | None = None) -> ReportCache | None:
+    c = ReportCache(directory, limit_mb=limit_mb)
+    return c if c.enabled else None
+
+
+__all__ = ["DesignCache", "ReportCache", "ResultCache", "open_report_cache", "result_key", "open_result_cache", "code_stamp", "decode_design", "design_key", "encode_design",
            "load_cached", "open_design_cache", "default_cache_dir"]

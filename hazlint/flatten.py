@@ -1757,6 +1757,8 @@ class Elaborator:
             inputs=inputs, outputs=outputs, registers=self.registers,
             blackboxes=self.blackboxes, notes=self.notes,
             files=[sf.path for sf in self.sources],
+            includes=list(dict.fromkeys(p for sf in self.sources
+                                        for p in getattr(sf, "includes", ()) or ())),
             timescale=(self.time_unit, self.precision) if self.time_unit else None,
             input_node={b: node_of(b) for b in inputs},
             output_node={s["port"]: s["id"] for s in self.sinks if s["role"] == "output"},

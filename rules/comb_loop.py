@@ -37,7 +37,6 @@ from __future__ import annotations
 
 from collections import deque
 
-import networkx as nx
 
 from hazlint.diagnostics import Diagnostic, Severity
 from hazlint.plugins import Option
@@ -59,8 +58,9 @@ OPTIONS = (
 )
 
 
-def nontrivial_sccs(g: nx.DiGraph) -> list[set[str]]:
+def nontrivial_sccs(g: "nx.DiGraph") -> list[set[str]]:
     """Strongly connected components that contain a cycle (Tarjan's algorithm via networkx)."""
+    import networkx as nx      # here, not at the top: a cached report loads no networkx
     out = []
     for comp in nx.strongly_connected_components(g):
         if len(comp) > 1:
@@ -72,7 +72,7 @@ def nontrivial_sccs(g: nx.DiGraph) -> list[set[str]]:
     return out
 
 
-def shortest_cycle(g: nx.DiGraph, start: str, within: set[str]) -> list[str]:
+def shortest_cycle(g: "nx.DiGraph", start: str, within: set[str]) -> list[str]:
     """A shortest cycle through ``start`` using only nodes of ``within`` (breadth-first)."""
     if g.has_edge(start, start):
         return [start]
@@ -92,7 +92,7 @@ def shortest_cycle(g: nx.DiGraph, start: str, within: set[str]) -> list[str]:
     raise AssertionError(f"{start} is on no cycle inside its component")
 
 
-def shortest_path_within(g: nx.DiGraph, src: str, dst: str, within: set[str]) -> list[str] | None:
+def shortest_path_within(g: "nx.DiGraph", src: str, dst: str, within: set[str]) -> list[str] | None:
     parent = {src: None}
     q = deque([src])
     while q:
@@ -109,7 +109,7 @@ def shortest_path_within(g: nx.DiGraph, src: str, dst: str, within: set[str]) ->
     return None
 
 
-def _storage_pair(g: nx.DiGraph, comp: set[str]) -> str | None:
+def _storage_pair(g: "nx.DiGraph", comp: set[str]) -> str | None:
     """'nand' or 'nor' when ``comp`` is two cross-coupled NAND/NOR gates, else None."""
     if len(comp) != 2:
         return None
@@ -172,6 +172,7 @@ def check(design, context):
 
 def _latch_loops(design, context, opts, comb_nodes):
     """Loops closed through one transparent latch: the latch output reaches its data pin."""
+    import networkx as nx
     g = design.graph
     rank = context.source_rank
     closing = []

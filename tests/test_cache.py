@@ -170,14 +170,18 @@ def test_cli_cache_dir_no_cache_jobs_and_corruption(tmp_path):
     warm = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
     assert warm.stdout == cold.stdout
     assert [p.stat().st_mtime_ns for p in entries] == stamp     # served, not rewritten
-    # corrupted entries (the design's and a file's) are dropped and rebuilt; same result
+    # corrupted entries (the report's, the design's and a file's) are dropped and rebuilt;
+    # same result
     (design_entry,) = (cache / "design").rglob("*.json")
     design_entry.write_bytes(design_entry.read_bytes()[:200])
     entries[0].write_text('{"format": 1, "key": "')
+    (report_text,) = (cache / "report").rglob("*.txt")
+    report_text.write_text(cold.stdout[:-10])                   # truncated
     again = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
     assert again.stdout == cold.stdout and again.returncode == 1
     assert json.loads(entries[0].read_text())["format"] == 1
     assert json.loads(design_entry.read_text())["format"] == 1
+    assert report_text.read_text() == cold.stdout
     # parallel parsing gives the same findings
     par = cli(tmp_path, "--no-cache", "-j", "2", "top.v", "valve.v")
     assert par.stdout == cold.stdout, par.stderr

@@ -423,3 +423,70 @@ def test_result_cache_round_trip_on_a_benchmark(tmp_path):
     back = dc.ResultCache(tmp_path / "cache").load("12" * 32)
     assert back == res.diagnostics
     assert [d.to_json() for d in back] == [d.to_json() for d in res.diagnostics]
+
+
+# ---------------------------------------------------------------------------------------------
+# report cache: the finished report of a check run
+
+def test_report_cache_replays_bytes_and_misses_on_every_input(tmp_path, monkeypatch):
+    import hazlint.api as api
+    calls = []
+    real = api.lint
+
+    def counted(*a, **k):
+        calls.append(1)
+        return real(*a, **k)
+    monkeypatch.setattr(api, "lint", counted)
+    project(tmp_path)
+    base = ["check", "--no-prove", "-D", "BYPASS"]     # BYPASS: guard_closed paths of 1 and 2
+
+    cold = _cli(base, tmp_path)
+    assert cold[0] == 1 and "valve.v" in cold[1]            # findings: exit 1
+    assert len(calls) == 1
+    entries = list((tmp_path / "cache" / "report").rglob("*.json"))
+    assert len(entries) == 1
+    warm = _cli(base, tmp_path)
+    assert warm == cold and len(calls) == 1                 # same bytes, no lint run
+    # the exit code of a hit follows --fail-on from the stored worst severity
+    assert _cli(base + ["--fail-on", "never"], tmp_path) == (0, cold[1])
+    assert _cli(base + ["--fail-on", "error"], tmp_path)[0] == \
+        _cli(base + ["--fail-on", "error", "--no-cache"], tmp_path)[0]
+    assert len(calls) == 2                                  # only the --no-cache run linted
+    out = tmp_path / "report.txt"
+    assert _cli(base + ["-o", str(out)], tmp_path) == (1, "")
+    assert out.read_text() == cold[1] and len(calls) == 2
+    # another format or renderer option is another entry
+    js = _cli(base + ["--format", "json"], tmp_path)
+    assert len(calls) == 3 and json.loads(js[1])
+    assert _cli(base + ["--brief"], tmp_path)[1] != cold[1] and len(calls) == 4
+    # an edit to a file pulled in through `include` is a miss although valve.v is unchanged
+    (tmp_path / "press_defs.vh").write_text("`define PRESS 2\n")
+    assert _cli(base, tmp_path) == cold and len(calls) == 5
+    # a waiver comment in the source changes the report
+    src = tmp_path / "valve.v"
+    src.write_text(VALVE.replace("or  g_out", "// hazlint accept(skewed-reconvergence): "
+                                 "two-hand input is debounced upstream\n  or  g_out"))
+    waived = _cli(base, tmp_path)
+    assert len(calls) == 6 and waived[1] != cold[1] and "waived" in waived[1]
+    assert waived == _cli(base + ["--no-cache"], tmp_path)
+    src.write_text(VALVE)
+    # a baseline: its contents are part of the key
+    bl = tmp_path / "baseline.json"
+    assert _cli(base + ["--write-baseline", str(bl)], tmp_path)[0] == 0
+    n = len(calls)
+    hidden = _cli(base + ["--baseline", str(bl)], tmp_path)
+    assert hidden[0] == 0 and "in baseline" in hidden[1] and len(calls) == n + 1
+    assert _cli(base + ["--baseline", str(bl)], tmp_path) == hidden and len(calls) == n + 1
+    bl.write_text(json.dumps({**json.loads(bl.read_text()), "findings": []}))
+    assert _cli(base + ["--baseline", str(bl)], tmp_path)[0] == 1 and len(calls) == n + 2
+    # the changed-files filter is part of the key
+    assert _cli(base + ["--changed", "press_defs.vh"], tmp_path)[1] != cold[1]
+    assert len(calls) == n + 3
+    # --no-cache neither reads nor writes report entries
+    before = sorted((tmp_path / "cache" / "report").rglob("*.json"))
+    _cli(base + ["--no-cache", "--select", "comb-loop"], tmp_path)
+    assert sorted((tmp_path / "cache" / "report").rglob("*.json")) == before
+    # a corrupted entry is removed and the report recomputed
+    for e in (tmp_path / "cache" / "report").rglob("*.json"):
+        e.write_text('{"format": 1, "hazlint": "x", "key": "')
+    assert _cli(base, tmp_path) == cold

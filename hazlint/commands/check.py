@@ -10,7 +10,7 @@ import importlib
 import os
 import sys
 
-from ..errors import EXIT_CLEAN, HazlintError
+from ..errors import EXIT_CLEAN, EXIT_FINDINGS, HazlintError
 
 FORMATS = ("text", "json", "sarif", "annotations")
 
@@ -106,6 +106,23 @@ def run(args) -> int:
         config.jobs = args.jobs
     if args.cache_dir:
         config.cache_dir = os.path.abspath(args.cache_dir)
+    color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)
+    render_opts = {"format": args.format, "color": color, "evidence": not args.brief}
+    reports = key = None
+    if not args.no_cache and not args.write_baseline:
+        # a rerun on unchanged inputs prints the finished report of the last such run: no
+        # decoding of the design or the findings, no waivers, no rendering
+        from ..api import report_key
+        from ..design_cache import open_report_cache
+        key = _report_key(report_key, args, files, config, cwd, changed, render_opts)
+        reports = open_report_cache(config.cache_dir, limit_mb=config.cache_limit_mb) \
+            if key else None
+        hit = reports.load(key) if reports is not None else None
+        if hit is not None:
+            src, worst = hit
+            with src:
+                _emit(args, src)
+            return _exit_code(worst, args.fail_on or config.fail_on)
     from ..progress import terminal_progress
     progress = terminal_progress()
     try:
@@ -113,7 +130,39 @@ def run(args) -> int:
     finally:
         if progress is not None:
             progress.close()
-    return _report(args, result, renderer)
+    return _report(args, result, renderer, color, reports, key)
+
+
+def _report_key(report_key, args, files, config, cwd, changed, render_opts):
+    return report_key(files or None, config=config, cwd=cwd, changed=changed,
+                      select=_csv(args.select) or None, ignore=_csv(args.ignore),
+                      prove=not args.no_prove, top=args.top,
+                      include_dirs=([os.path.abspath(d) for d in args.include_dirs]
+                                    if args.include_dirs else None),
+                      defines=_defines(args.defines), baseline=args.baseline,
+                      render=render_opts)
+
+
+def _exit_code(worst, level) -> int:
+    from ..diagnostics import Severity
+    if level == "never" or worst is None:
+        return EXIT_CLEAN
+    return EXIT_FINDINGS if worst >= Severity.parse(level) else EXIT_CLEAN
+
+
+def _emit(args, src) -> None:
+    """Copy the report ``src`` (an open file in the cache) to ``--output`` or stdout."""
+    import shutil
+    if args.output:
+        try:
+            with open(args.output, "w", encoding="utf-8", newline="") as fh:
+                shutil.copyfileobj(src, fh, 1 << 20)
+        except OSError as exc:
+            raise HazlintError(f"cannot write report: {exc.strerror}",
+                               path=args.output) from None
+    else:
+        shutil.copyfileobj(src, sys.stdout, 1 << 20)
+        sys.stdout.flush()
 
 
 def _lint(lint, args, files, config, cwd, changed, progress):
@@ -126,7 +175,7 @@ def _lint(lint, args, files, config, cwd, changed, progress):
                 use_cache=not args.no_cache, progress=progress)
 
 
-def _report(args, result, renderer) -> int:
+def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
     if args.write_baseline:
         from ..baseline import write_baseline
         # everything found now, including what an existing baseline already accounted for
@@ -134,19 +183,40 @@ def _report(args, result, renderer) -> int:
                            result.root)
         print(f"hazlint: recorded {n} finding(s) in {args.write_baseline}", file=sys.stderr)
         return EXIT_CLEAN
-    out_stream = sys.stdout
     if args.format == "text":
-        text = renderer.render(result, color=not args.output and use_color(args.color, out_stream),
-                               evidence=not args.brief)
+        def write(stream):
+            renderer.write(result, stream, color=color, evidence=not args.brief)
     else:
-        text = renderer.render(result)
-    if args.output:
+        def write(stream):
+            renderer.write(result, stream)
+    kept = None
+    if reports is not None and key:
+        # the report is written once, into the cache, and copied from there
+        worst = max((int(d.severity) for d in result.diagnostics), default=None)
+        inputs = {os.path.abspath(p) for p in result.files}
+        design = result.design
+        read = list(getattr(design, "files", None) or ()) + list(getattr(design, "includes",
+                                                                       None) or ())
+        kept = reports.store(key, write, worst, [os.path.abspath(p) for p in read
+                                                 if os.path.abspath(p) not in inputs])
+    if kept is not None:
+        path, keep = kept
+        try:
+            with open(path, encoding="utf-8", newline="") as src:
+                _emit(args, src)
+        finally:
+            if not keep:
+                try:
+                    os.unlink(path)
+                except OSError:
+                    pass
+    elif args.output:
         try:
             with open(args.output, "w", encoding="utf-8") as fh:
-                fh.write(text)
+                write(fh)
         except OSError as exc:
             raise HazlintError(f"cannot write report: {exc.strerror}", path=args.output) from None
     else:
-        out_stream.write(text)
-        out_stream.flush()
+        write(sys.stdout)
+        sys.stdout.flush()
     return result.exit_code(args.fail_on)

@@ -55,6 +55,13 @@ def render_diagnostics(diagnostics: Iterable[Diagnostic], root: str | None = Non
     return "".join(line + "\n" for line in lines)
 
 
+def write(result: Any, stream) -> None:
+    root = getattr(result, "root", None) or os.getcwd()
+    for d in sort_diagnostics(getattr(result, "diagnostics", ()) or ()):
+        if d.waived is None:
+            stream.write(annotation_line(d, root) + "\n")
+
+
 def render(result: Any) -> str:
     """Annotation lines for a :class:`hazlint.api.LintResult` (waived findings are left out)."""
     return render_diagnostics(getattr(result, "diagnostics", ()) or (),

@@ -1,6 +1,11 @@
 """JSON: a list of finding objects (``rule``, ``kind``, ``severity``, ``path``, ``line``,
 ``column``, ``instance``, ``message``, ``evidence``, ``fix``), paths relative to the project root.
-Deterministic: the same input gives the same bytes (sorted findings, sorted keys)."""
+Deterministic: the same input gives the same bytes (sorted findings, sorted keys).
+
+Layout: the array's brackets on lines of their own and one finding per line in between, so that
+line tools (grep, diff, head) work on it and it is written one finding at a time: a large
+netlist can have tens of thousands of findings with paths of hundreds of gates each, and the
+report is never held in memory as a whole."""
 from __future__ import annotations
 
 import json
@@ -15,6 +20,25 @@ def findings(result: Any, include_waived: bool = False) -> list[dict]:
     return [d.to_json(rel) for d in diags]
 
 
+def write(result: Any, stream, include_waived: bool = False) -> None:
+    rel = getattr(result, "relpath", None) or (lambda p: p)
+    diags = list(result.diagnostics)
+    if include_waived:
+        diags += list(getattr(result, "waived", []) or [])
+    if not diags:
+        stream.write("[]\n")
+        return
+    stream.write("[\n")
+    last = len(diags) - 1
+    for i, d in enumerate(diags):
+        stream.write(json.dumps(d.to_json(rel), sort_keys=True, ensure_ascii=False,
+                                allow_nan=False))
+        stream.write("\n" if i == last else ",\n")
+    stream.write("]\n")
+
+
 def render(result: Any, include_waived: bool = False) -> str:
-    return json.dumps(findings(result, include_waived), indent=2, sort_keys=True,
-                      ensure_ascii=False, allow_nan=False) + "\n"
+    import io
+    buf = io.StringIO()
+    write(result, buf, include_waived)
+    return buf.getvalue()

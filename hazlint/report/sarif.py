@@ -99,9 +99,16 @@ def registered_rules() -> dict[str, Any]:
 class _Locator:
     def __init__(self, root: str | None):
         self.root = os.path.abspath(root) if root else None
+        self._seen: dict[str, dict] = {}     # a report names the same few files per hop
 
     def artifact(self, path: str) -> dict:
         """artifactLocation (3.4): relative to SRCROOT when inside the root, else a file URI."""
+        got = self._seen.get(path)
+        if got is None:
+            got = self._seen[path] = self._artifact(path)
+        return dict(got)
+
+    def _artifact(self, path: str) -> dict:
         if not path:
             return {"uri": ""}
         ap = os.path.abspath(path)
@@ -221,22 +228,22 @@ def _jsonable(obj: Any) -> Any:
     return json.loads(json.dumps(obj, default=str))
 
 
-def build_sarif(diagnostics: Iterable[Diagnostic], *, root: str | None = None,
-                rules: Mapping[str, Any] | None = None, waived: Iterable[Diagnostic] = (),
-                all_rules: bool = False) -> dict:
-    """The SARIF log (a dict) for findings ``diagnostics`` plus suppressed ``waived`` ones.
-
-    ``rules`` maps rule id to rule object (metadata); rules without an entry get a minimal
-    descriptor. ``all_rules`` lists every rule in ``rules``, not only those with results.
-    """
+def _sarif_parts(diagnostics: Iterable[Diagnostic], *, root: str | None = None,
+                 rules: Mapping[str, Any] | None = None, waived: Iterable[Diagnostic] = (),
+                 all_rules: bool = False):
+    """The log without its results (``runs[0]["results"]`` is empty) and an iterator over the
+    result objects in order: a report of tens of thousands of findings is written one result
+    at a time, never held as one document."""
     diags = sort_diagnostics(diagnostics)
     sup = [d if d.waived is not None else d.with_waiver("waived") for d in waived]
     everything = diags + sort_diagnostics(sup)
     rules = dict(rules or {})
     ids = sorted(rules) if all_rules else []
+    seen = set(ids)
     for d in everything:
-        if d.rule not in ids:
+        if d.rule not in seen:
             ids.append(d.rule)
+            seen.add(d.rule)
     if not all_rules:
         ids.sort()
     index = {rid: i for i, rid in enumerate(ids)}
@@ -249,23 +256,71 @@ def build_sarif(diagnostics: Iterable[Diagnostic], *, root: str | None = None,
             "rules": [rule_descriptor(rid, rules.get(rid)) for rid in ids],
         }},
         "columnKind": "unicodeCodePoints",
-        "results": [result_object(d, locator, index.get(d.rule)) for d in everything],
+        "results": [],
         "invocations": [{"executionSuccessful": True}],
     }
     bases = locator.base_ids()
     if bases:
         run["originalUriBaseIds"] = bases
-    return {"$schema": SARIF_SCHEMA_URI, "version": SARIF_VERSION, "runs": [run]}
+    log = {"$schema": SARIF_SCHEMA_URI, "version": SARIF_VERSION, "runs": [run]}
+    return log, (result_object(d, locator, index.get(d.rule)) for d in everything)
+
+
+def build_sarif(diagnostics: Iterable[Diagnostic], *, root: str | None = None,
+                rules: Mapping[str, Any] | None = None, waived: Iterable[Diagnostic] = (),
+                all_rules: bool = False) -> dict:
+    """The SARIF log (a dict) for findings ``diagnostics`` plus suppressed ``waived`` ones.
+
+    ``rules`` maps rule id to rule object (metadata); rules without an entry get a minimal
+    descriptor. ``all_rules`` lists every rule in ``rules``, not only those with results.
+    """
+    log, results = _sarif_parts(diagnostics, root=root, rules=rules, waived=waived,
+                                all_rules=all_rules)
+    log["runs"][0]["results"] = list(results)
+    return log
+
+
+_HOLE = "\0hazlint-results\0"      # stands in for the results array while the log is dumped
+
+
+def write_log(log: dict, results: Iterable[dict], stream) -> None:
+    """Write ``log`` (results empty) with ``results`` streamed into ``runs[0].results``: the
+    metadata indented, one result per line (the C JSON encoder; same document as one dump)."""
+    log["runs"][0]["results"] = _HOLE
+    head, sep, tail = json.dumps(log, indent=2).partition(json.dumps(_HOLE))
+    log["runs"][0]["results"] = []
+    if not sep:
+        raise AssertionError("results placeholder not found")
+    stream.write(head)
+    first = True
+    for r in results:
+        stream.write("[\n" if first else ",\n")
+        stream.write(json.dumps(r))
+        first = False
+    stream.write("[]" if first else "\n]")
+    stream.write(tail + "\n")
+
+
+def write(result: Any, stream) -> None:
+    """Stream the SARIF text for a :class:`hazlint.api.LintResult` to ``stream``."""
+    rules = getattr(result, "rules", None) or registered_rules()
+    log, results = _sarif_parts(getattr(result, "diagnostics", ()) or (),
+                                root=getattr(result, "root", None) or os.getcwd(),
+                                rules=rules, waived=getattr(result, "waived", ()) or ())
+    write_log(log, results, stream)
 
 
 def render(result: Any) -> str:
     """SARIF text for a :class:`hazlint.api.LintResult` (``diagnostics``, ``waived``, ``root``)."""
-    rules = getattr(result, "rules", None) or registered_rules()
-    log = build_sarif(getattr(result, "diagnostics", ()) or (),
-                      root=getattr(result, "root", None) or os.getcwd(),
-                      rules=rules, waived=getattr(result, "waived", ()) or ())
-    return json.dumps(log, indent=2, sort_keys=False) + "\n"
+    import io
+    buf = io.StringIO()
+    write(result, buf)
+    return buf.getvalue()
 
 
 def render_diagnostics(diagnostics: Sequence[Diagnostic], root: str | None = None) -> str:
-    return json.dumps(build_sarif(diagnostics, root=root, rules=registered_rules()), indent=2) + "\n"
+    import io
+    log, results = _sarif_parts(diagnostics, root=root, rules=registered_rules())
+    buf = io.StringIO()
+    write_log(log, results, buf)
+    return buf.getvalue()

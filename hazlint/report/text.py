@@ -66,12 +66,18 @@ def summary_line(result: Any) -> str:
     return head + (", " + ", ".join(extra) if extra else "") + where + top
 
 
-def render(result: Any, color: bool = False, evidence: bool = True, caution: bool = True) -> str:
+def write(result: Any, stream, color: bool = False, evidence: bool = True,
+          caution: bool = True) -> None:
     rel = getattr(result, "relpath", None) or (lambda p: p)
-    out: list[str] = []
     for d in result.diagnostics:
-        out.extend(format_diagnostic(d, rel, color, evidence))
-    out.append(summary_line(result))
+        stream.write("\n".join(format_diagnostic(d, rel, color, evidence)) + "\n")
+    stream.write(summary_line(result) + "\n")
     if caution:
-        out.append(CAUTION)
-    return "\n".join(out) + "\n"
+        stream.write(CAUTION + "\n")
+
+
+def render(result: Any, color: bool = False, evidence: bool = True, caution: bool = True) -> str:
+    import io
+    buf = io.StringIO()
+    write(result, buf, color, evidence, caution)
+    return buf.getvalue()
