@@ -295,18 +295,7 @@ class ParseCache:
         except (TypeError, ValueError):
             return              # not JSON-able: a programming error upstream; never pickle
         try:
-            path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
-            fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
-            try:
-                with os.fdopen(fd, "w", encoding="utf-8") as fh:
-                    fh.write(text)
-                os.replace(tmp, path)
-            except BaseException:
-                try:
-                    os.unlink(tmp)
-                except OSError:
-                    pass
-                raise
+            atomic_write(path, lambda fh: fh.write(text))
         except OSError:
             return              # read-only or full disk: caching is best effort
         self.stores += 1
@@ -334,6 +323,25 @@ class ParseCache:
                 except OSError:
                     pass
         return n
+
+
+def atomic_write(path: Path, write) -> None:
+    """Create ``path`` (and its folder, private) with what ``write(stream)`` writes (text,
+    UTF-8, no newline translation): into a temporary file in the same folder, then
+    :func:`os.replace`, so a reader never sees half a file. The temporary file is removed on
+    any failure, which propagates."""
+    path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=path.suffix)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            write(fh)
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
 
 
 def open_cache(directory: str | os.PathLike | None = None, *, enabled: bool = True,

@@ -45,7 +45,8 @@ from typing import Any, Iterable, Mapping, Sequence
 
 
 from . import __version__
-from .cache import Codec, CodecError, ParseCache, default_cache_dir, digest_file
+from .cache import (Codec, CodecError, ParseCache, atomic_write, default_cache_dir,
+                    digest_file)
 
 DESIGN_FORMAT = 1
 NAMESPACE = "design"
@@ -392,20 +393,28 @@ def _explicit_edges(ids, succ, pred, plans, dec, _succ, _pred) -> None:
 # ---------------------------------------------------------------------------------------------
 # the cache
 
-class DesignCache:
-    """``load(key, texts) -> Design | None`` and ``store(key, design, includes, texts)`` over a
-    :class:`~hazlint.cache.ParseCache` in namespace ``design``, stamped with :func:`code_stamp`.
-    Counters ``hits``/``misses``/``stores``/``dropped`` come from the underlying store."""
+class _Store:
+    """One namespace of the cache folder, stamped with :func:`code_stamp`."""
+
+    NAMESPACE = ""
 
     def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None,
                  limit_mb: int | None = None):
-        self.store_ = ParseCache(directory, namespace=NAMESPACE,
+        self.store_ = ParseCache(directory, namespace=self.NAMESPACE,
                                  version=version if version is not None else code_stamp(),
                                  limit_mb=limit_mb)
 
     @property
     def enabled(self) -> bool:
         return self.store_.enabled
+
+
+class DesignCache(_Store):
+    """``load(key, texts) -> Design | None`` and ``store(key, design, includes, texts)`` over a
+    :class:`~hazlint.cache.ParseCache` in namespace ``design``, stamped with :func:`code_stamp`.
+    Counters ``hits``/``misses``/``stores``/``dropped`` come from the underlying store."""
+
+    NAMESPACE = NAMESPACE
 
     @property
     def hits(self) -> int:
@@ -547,19 +556,11 @@ def result_key(design_key: str, config, *, select, ignore, prove: bool,
     return hashlib.sha256(text.encode("utf-8", "surrogateescape")).hexdigest()
 
 
-class ResultCache:
+class ResultCache(_Store):
     """Findings (a list of :class:`~hazlint.diagnostics.Diagnostic`) by :func:`result_key`,
     in namespace ``result``, stamped with :func:`code_stamp`."""
 
-    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None,
-                 limit_mb: int | None = None):
-        self.store_ = ParseCache(directory, namespace=RESULT_NAMESPACE,
-                                 version=version if version is not None else code_stamp(),
-                                 limit_mb=limit_mb)
-
-    @property
-    def enabled(self) -> bool:
-        return self.store_.enabled
+    NAMESPACE = RESULT_NAMESPACE
 
     def load(self, key: str):
         try:
@@ -604,7 +605,7 @@ REPORT_FORMAT = 1
 REPORT_NAMESPACE = "report"
 
 
-class ReportCache:
+class ReportCache(_Store):
     """The rendered report of a ``check`` run and the worst severity in it, by
     :func:`hazlint.api.report_key`, in namespace ``report``, stamped with :func:`code_stamp`.
 
@@ -616,15 +617,7 @@ class ReportCache:
     the findings. A report larger than a quarter of the cache's size limit is written, copied
     out and removed again (it would push everything else out of the cache)."""
 
-    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None,
-                 limit_mb: int | None = None):
-        self.store_ = ParseCache(directory, namespace=REPORT_NAMESPACE,
-                                 version=version if version is not None else code_stamp(),
-                                 limit_mb=limit_mb)
-
-    @property
-    def enabled(self) -> bool:
-        return self.store_.enabled
+    NAMESPACE = REPORT_NAMESPACE
 
     def _text_path(self, key: str) -> Path:
         return self.store_._entry_path(key).with_suffix(".txt")
@@ -665,30 +658,12 @@ class ReportCache:
         Returns ``(path, keep)``: where the report is, and False when it is not to be kept
         (too large: the caller removes it after copying it out); None when nothing could be
         written (read-only or full disk) and the caller should render directly."""
-        import tempfile
         path = self._text_path(key)
         try:
-            path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
-            fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".txt")
+            atomic_write(path, write)
+            size = path.stat().st_size
         except OSError:
             return None
-        try:
-            with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-                write(fh)
-            os.replace(tmp, path)
-        except OSError:
-            try:
-                os.unlink(tmp)
-            except OSError:
-                pass
-            return None
-        except BaseException:
-            try:
-                os.unlink(tmp)
-            except OSError:
-                pass
-            raise
-        size = path.stat().st_size
         limit = self.store_.limit_mb * 1024 * 1024
         if limit and size > limit // 4:
             return path, False

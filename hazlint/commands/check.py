@@ -133,14 +133,19 @@ def run(args) -> int:
     return _report(args, result, renderer, color, reports, key)
 
 
+def _run_options(args, files, config, cwd, changed) -> dict:
+    """What decides a run, as keyword arguments of ``api.lint`` and ``api.report_key``."""
+    return dict(config=config, cwd=cwd, changed=changed,
+                select=_csv(args.select) or None, ignore=_csv(args.ignore),
+                prove=not args.no_prove, top=args.top,
+                include_dirs=([os.path.abspath(d) for d in args.include_dirs]
+                              if args.include_dirs else None),
+                defines=_defines(args.defines), baseline=args.baseline)
+
+
 def _report_key(report_key, args, files, config, cwd, changed, render_opts):
-    return report_key(files or None, config=config, cwd=cwd, changed=changed,
-                      select=_csv(args.select) or None, ignore=_csv(args.ignore),
-                      prove=not args.no_prove, top=args.top,
-                      include_dirs=([os.path.abspath(d) for d in args.include_dirs]
-                                    if args.include_dirs else None),
-                      defines=_defines(args.defines), baseline=args.baseline,
-                      render=render_opts)
+    return report_key(files or None, render=render_opts,
+                      **_run_options(args, files, config, cwd, changed))
 
 
 def _exit_code(worst, level) -> int:
@@ -166,13 +171,8 @@ def _emit(args, src) -> None:
 
 
 def _lint(lint, args, files, config, cwd, changed, progress):
-    return lint(files or None, config=config, cwd=cwd, changed=changed,
-                select=_csv(args.select) or None, ignore=_csv(args.ignore),
-                prove=not args.no_prove, top=args.top,
-                include_dirs=([os.path.abspath(d) for d in args.include_dirs]
-                              if args.include_dirs else None),
-                defines=_defines(args.defines), baseline=args.baseline,
-                use_cache=not args.no_cache, progress=progress)
+    return lint(files or None, use_cache=not args.no_cache, progress=progress,
+                **_run_options(args, files, config, cwd, changed))
 
 
 def _report(args, result, renderer, color=False, reports=None, key=None) -> int:

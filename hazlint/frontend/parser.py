@@ -507,14 +507,7 @@ class HzParser(VerilogParser):
 
     def p_decl_width(self, p):
         'decl : sigtypes width declnamelist SEMICOLON'
-        out = []
-        for rname, rdims, line, pos in p[3]:
-            for d in self.create_decl(p[1], rname, width=p[2], dimensions=rdims, lineno=line):
-                d.hz_pos = pos
-                out.append(d)
-        p[0] = vast.Decl(out, lineno=p.lineno(1))
-        p[0].hz_pos = p.lexpos(1)
-        p.set_lineno(0, p.lineno(1))
+        self._decl(p, p[2], p[3])
 
     def p_decl_delay(self, p):
         '''decl : sigtypes delays declnamelist SEMICOLON
@@ -522,11 +515,15 @@ class HzParser(VerilogParser):
         # a net delay (IEEE 1364 6.1.3): kept on each declared net
         width = p[2] if len(p) == 6 else None
         spec, names = (p[3], p[4]) if len(p) == 6 else (p[2], p[3])
+        self._decl(p, width, names, spec)
+
+    def _decl(self, p, width, names, delay=None):
         out = []
         for rname, rdims, line, pos in names:
             for d in self.create_decl(p[1], rname, width=width, dimensions=rdims, lineno=line):
                 d.hz_pos = pos
-                d.hz_delay = spec
+                if delay is not None:
+                    d.hz_delay = delay
                 out.append(d)
         p[0] = vast.Decl(out, lineno=p.lineno(1))
         p[0].hz_pos = p.lexpos(1)
