@@ -220,3 +220,38 @@ def test_cli_annotations_on_demo(tmp_path):
     for line, f in zip(lines, sorted(findings, key=lambda f: (f["path"], f["line"]))):
         assert line.startswith(f"::{'error' if f['severity'] == 'error' else 'warning'} "
                                f"file={f['path']},line={f['line']},")
+
+
+def test_streamed_report_is_the_built_document_on_a_benchmark(schema, tmp_path):
+    # ISCAS c432 (circuitgraph==0.2.1): hundreds of findings with evidence paths. The writers
+    # stream one result per line; the text must be the same document as one dump of the log
+    # that build_sarif returns, and the JSON report the same list as the findings' to_json.
+    import io
+    from hazlint.api import lint
+    from hazlint.report import json as json_report
+    path = str(importlib.resources.files("circuitgraph") / "netlists" / "c432.v")
+    res = lint([path], cwd=str(tmp_path), prove=False, use_cache=False)
+    assert len(res.diagnostics) > 100
+    text = sarif.render(res)
+    log = json.loads(text)
+    validate(schema, log)
+    built = sarif.build_sarif(res.diagnostics, root=res.root, rules=res.rules,
+                              waived=res.waived)
+    assert log == json.loads(json.dumps(built))
+    assert len(log["runs"][0]["results"]) == len(res.diagnostics)
+    lines = text.splitlines()
+    starts = [i for i, line in enumerate(lines) if line.startswith('{"ruleId": ')]
+    assert len(starts) == len(res.diagnostics)          # one result per line
+    js = json_report.render(res)
+    body = js.splitlines()
+    assert body[0] == "[" and body[-1] == "]" and len(body) == len(res.diagnostics) + 2
+    assert json.loads(js) == [json.loads(json.dumps(d.to_json(res.relpath)))
+                              for d in res.diagnostics]
+    assert [json.loads(b.rstrip(",")) for b in body[1:-1]] == json.loads(js)
+    # an empty run is a valid log with an empty results array
+    empty = SimpleNamespace(diagnostics=[], waived=[], root=str(tmp_path), rules=res.rules)
+    validate(schema, json.loads(sarif.render(empty)))
+    assert json.loads(sarif.render(empty))["runs"][0]["results"] == []
+    buf = io.StringIO()
+    json_report.write(SimpleNamespace(diagnostics=[], waived=[]), buf)
+    assert buf.getvalue() == "[]\n"
