@@ -103,7 +103,7 @@ def measure(path: str, repeat: int, warmup: bool = True, mode: str = "prove",
     if warmup:
         with tempfile.TemporaryDirectory(prefix="hazlint-bench-") as d:
             # discarded: lets the parser generator write its tables once
-            run_child(CHILD, path, d)
+            run_child(CHILD, path, d, "no-prove", fmt)
     while len(cold) < repeat:
         with tempfile.TemporaryDirectory(prefix="hazlint-bench-") as d:
             c = run_child(CHILD, path, d, mode, fmt)

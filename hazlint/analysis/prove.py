@@ -200,11 +200,12 @@ class Classification:
 def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, int]],
              fixed: Mapping[str, int] | None = None, options: Mapping[str, Any] | None = None,
              order: Sequence[str] | None = None, replay_glitch: bool = True,
-             proofs: Mapping[str, HazardProof] | None = None) -> Classification:
+             proofs: Mapping[str, HazardProof] | None = None,
+             sources: Sequence[str] | None = None) -> Classification:
     """Classify the change at ``target`` and, for a proven hazard, replay its witness in the
     timed simulator (nominal delays first, then a search for a glitching assignment).
     ``proofs`` (every hazard kind decided already, e.g. by :func:`classify_outputs`) skips the
-    proof step."""
+    proof step; ``sources`` (the free sources of ``order``) saves finding them again."""
     opts = options_with_defaults(options)
     try:
         order = order or cone(graph, [target])
@@ -222,7 +223,7 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
         p = proofs[k]
         c.classification = k
         c.function_hazard = p.function_hazard
-        srcs = free_sources(graph, order)
+        srcs = sources if sources is not None else free_sources(graph, order)
         wit = dict(p.witness or {})
         base = {n: wit.get(n, 0) for n in srcs}
         base.update(fixed or {})
@@ -317,14 +318,15 @@ def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int) -
 
 
 def classify_sources(graph, target, sources, options, order=None, known=None,
-                     replay_glitch=True) -> list[Classification]:
+                     replay_glitch=True, free=None) -> list[Classification]:
     """Single changes of ``sources`` (in turn, up to the first proven hazard) at ``target``.
-    ``known`` maps (target, source) to proofs decided beforehand."""
+    ``known`` maps (target, source) to proofs decided beforehand; ``order`` and ``free``
+    (the target's cone in topological order and its free sources) may be given."""
     out = []
     for s in sources:
         pre = known.get((target, s)) if known else None
         c = classify(graph, target, {s: (0, 1)}, options=options, order=order,
-                     replay_glitch=replay_glitch, proofs=pre)
+                     replay_glitch=replay_glitch, proofs=pre, sources=free)
         out.append(c)
         if c.proven:
             break
@@ -588,12 +590,13 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     full = set(rank[:limit]) if limit >= 0 else set(rank)
     out: list[Diagnostic] = []
     cache: dict[tuple, Classification] = {}
+    cones: dict[str, tuple | None] = {}     # sink -> (cone order, free sources), once per sink
     for i, d in enumerate(diagnostics):
         ev = d.evidence if isinstance(d.evidence, Mapping) else {}
         try:
             if plans[i] is not None:
                 out.extend(_refine_planned(graph, d, ev, plans[i][1], context, opts, cache,
-                                           known, i in full, limit))
+                                           known, i in full, limit, cones))
             elif d.kind == "combinational-loop" and ev.get("scc"):
                 out.append(d)
                 osc = _refine_loop(graph, d, ev)
@@ -668,8 +671,21 @@ def _behind_loops(graph) -> set[str]:
     return seen
 
 
-def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit):
+def _cone_of(graph, sink, cones):
+    """(order, free sources) of ``sink``'s fan-in cone, computed once per run; None for a
+    cone with a loop (``classify`` reports that itself)."""
+    if sink not in cones:
+        try:
+            order = cone(graph, [sink])
+            cones[sink] = (order, free_sources(graph, order))
+        except CyclicCone:
+            cones[sink] = None
+    return cones[sink]
+
+
+def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit, cones=None):
     results = []
+    cones = {} if cones is None else cones
     for s, srcs in work:
         key = (s, tuple(srcs), full)
         if not full and (s, tuple(srcs), True) in cache:
@@ -680,8 +696,10 @@ def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit
                     f"not proven: beyond the prover's limit of {limit} findings per run "
                     "(option max_findings)"))
             else:
-                c = combine(classify_sources(graph, s, srcs, opts, known=known,
-                                             replay_glitch=full)) or Classification(
+                got = _cone_of(graph, s, cones)
+                order, free = got if got is not None else (None, None)
+                c = combine(classify_sources(graph, s, srcs, opts, order=order, known=known,
+                                             replay_glitch=full, free=free)) or Classification(
                     s, "inconclusive", {}, reason="no changing input found for the stem"
                     if d.kind == "unbalanced-reconvergence" else "no changing source")
             cache[key] = c
