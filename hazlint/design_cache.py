@@ -408,6 +408,13 @@ class _Store:
     def enabled(self) -> bool:
         return self.store_.enabled
 
+    def _entry(self, key: str) -> dict | None:
+        """The entry's data, or None on a miss; a broken cache never stops a lint run."""
+        try:
+            return self.store_.load(key)
+        except Exception:
+            return None
+
 
 class DesignCache(_Store):
     """``load(key, texts) -> Design | None`` and ``store(key, design, includes, texts)`` over a
@@ -563,10 +570,7 @@ class ResultCache(_Store):
     NAMESPACE = RESULT_NAMESPACE
 
     def load(self, key: str):
-        try:
-            data = self.store_.load(key)
-        except Exception:
-            return None
+        data = self._entry(key)
         if data is None:
             return None
         from .diagnostics import Diagnostic
@@ -626,10 +630,7 @@ class ReportCache(_Store):
         """``(file, worst)``: the report opened for reading (text, UTF-8) and the highest
         severity (an int of :class:`~hazlint.diagnostics.Severity`) among its findings, None
         for none; or None on a miss."""
-        try:
-            data = self.store_.load(key)
-        except Exception:
-            return None
+        data = self._entry(key)
         if data is None:
             return None
         size, worst = data.get("size"), data.get("worst")
