@@ -114,14 +114,15 @@ def run(args) -> int:
         # decoding of the design or the findings, no waivers, no rendering
         from ..api import report_key
         from ..design_cache import open_report_cache
-        key = _report_key(report_key, args, files, config, cwd, changed, render_opts)
+        key = report_key(files or None, render=render_opts,
+                         **_run_options(args, files, config, cwd, changed))
         reports = open_report_cache(config.cache_dir, limit_mb=config.cache_limit_mb) \
             if key else None
         hit = reports.load(key) if reports is not None else None
         if hit is not None:
             src, worst = hit
             with src:
-                _emit(args, src)
+                _emit(args, _copy_from(src))
             return _exit_code(worst, args.fail_on or config.fail_on)
     from ..progress import terminal_progress
     progress = terminal_progress()
@@ -143,11 +144,6 @@ def _run_options(args, files, config, cwd, changed) -> dict:
                 defines=_defines(args.defines), baseline=args.baseline)
 
 
-def _report_key(report_key, args, files, config, cwd, changed, render_opts):
-    return report_key(files or None, render=render_opts,
-                      **_run_options(args, files, config, cwd, changed))
-
-
 def _exit_code(worst, level) -> int:
     from ..diagnostics import Severity
     if level == "never" or worst is None:
@@ -155,18 +151,23 @@ def _exit_code(worst, level) -> int:
     return EXIT_FINDINGS if worst >= Severity.parse(level) else EXIT_CLEAN
 
 
-def _emit(args, src) -> None:
-    """Copy the report ``src`` (an open file in the cache) to ``--output`` or stdout."""
+def _copy_from(src):
+    """A writer that copies the open file ``src`` (a report kept in the cache)."""
     import shutil
+    return lambda stream: shutil.copyfileobj(src, stream, 1 << 20)
+
+
+def _emit(args, write) -> None:
+    """Run ``write(stream)`` on ``--output`` or stdout."""
     if args.output:
         try:
             with open(args.output, "w", encoding="utf-8", newline="") as fh:
-                shutil.copyfileobj(src, fh, 1 << 20)
+                write(fh)
         except OSError as exc:
             raise HazlintError(f"cannot write report: {exc.strerror}",
                                path=args.output) from None
     else:
-        shutil.copyfileobj(src, sys.stdout, 1 << 20)
+        write(sys.stdout)
         sys.stdout.flush()
 
 
@@ -192,31 +193,21 @@ def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
     kept = None
     if reports is not None and key:
         # the report is written once, into the cache, and copied from there
+        # (the input files' contents are in the key; what they include is checked on a hit)
         worst = max((int(d.severity) for d in result.diagnostics), default=None)
-        inputs = {os.path.abspath(p) for p in result.files}
-        design = result.design
-        read = list(getattr(design, "files", None) or ()) + list(getattr(design, "includes",
-                                                                       None) or ())
-        kept = reports.store(key, write, worst, [os.path.abspath(p) for p in read
-                                                 if os.path.abspath(p) not in inputs])
-    if kept is not None:
-        path, keep = kept
-        try:
-            with open(path, encoding="utf-8", newline="") as src:
-                _emit(args, src)
-        finally:
-            if not keep:
-                try:
-                    os.unlink(path)
-                except OSError:
-                    pass
-    elif args.output:
-        try:
-            with open(args.output, "w", encoding="utf-8") as fh:
-                write(fh)
-        except OSError as exc:
-            raise HazlintError(f"cannot write report: {exc.strerror}", path=args.output) from None
-    else:
-        write(sys.stdout)
-        sys.stdout.flush()
+        includes = [os.path.abspath(p) for p in getattr(result.design, "includes", None) or ()]
+        kept = reports.store(key, write, worst, includes)
+    if kept is None:
+        _emit(args, write)
+        return result.exit_code(args.fail_on)
+    path, keep = kept
+    try:
+        with open(path, encoding="utf-8", newline="") as src:
+            _emit(args, _copy_from(src))
+    finally:
+        if not keep:
+            try:
+                os.unlink(path)
+            except OSError:
+                pass
     return result.exit_code(args.fail_on)
