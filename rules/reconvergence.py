@@ -114,24 +114,41 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
     rank_i = [rank[n] for n in order]
     if stem_ids is None:
         stem_ids = [tg.index[n] for n in context.stems if n in tg.index and reach[tg.index[n]]]
+    rank_np = None
     for si, st, found in context.stem_reconvergences(stem_ids, min_skew):
         # every sink in scope goes to the worst reconvergence that reaches it (ties: the gate
-        # first in source order); sinks are bits of the precomputed reachability sets. A heap
-        # gives the reconvergences in that order and stops once every sink is taken (one gate
-        # per reconvergence of a stem, so the keys never tie).
-        keys = [(-r.skew, rank_i[r.gate], k) for k, r in enumerate(found) if reach[r.gate]]
-        if not keys:
+        # first in source order); sinks are bits of the precomputed reachability sets. The
+        # reconvergences are taken in that order until every sink is taken (one gate per
+        # reconvergence of a stem, so the keys never tie).
+        if not len(found):
             continue
-        stem = order[si]
-        heapq.heapify(keys)
         remaining = reach[si]
         chosen = []
-        while keys and remaining:
-            r = found[heapq.heappop(keys)[2]]
-            bits = reach[r.gate] & remaining
-            if bits:
-                remaining &= ~bits
-                chosen.append((r, bits))
+        gates = getattr(found, "gates", None)
+        if gates is not None:
+            # the batch solver's arrays: one sort instead of an object per candidate
+            if rank_np is None:
+                import numpy as np
+                rank_np = np.array(rank_i, dtype=np.int64)
+            for k in np.lexsort((rank_np[gates], -found.skews)).tolist():
+                bits = reach[int(gates[k])] & remaining
+                if bits:
+                    remaining &= ~bits
+                    chosen.append((found[k], bits))
+                    if not remaining:
+                        break
+        else:
+            keys = [(-r.skew, rank_i[r.gate], k) for k, r in enumerate(found) if reach[r.gate]]
+            heapq.heapify(keys)
+            while keys and remaining:
+                r = found[heapq.heappop(keys)[2]]
+                bits = reach[r.gate] & remaining
+                if bits:
+                    remaining &= ~bits
+                    chosen.append((r, bits))
+        if not chosen:
+            continue
+        stem = order[si]
         for r, bits in sorted(chosen, key=lambda x: rank_i[x[0].gate]):
             yield Finding(stem, order[r.gate], r, _bits_to_sinks(bits, sinks), st)
 

@@ -421,7 +421,7 @@ class _Column:
 
 class BatchArrivalSolver:
     # cap on nodes x stems per batch (about 30 bytes each, plus per-level temporaries)
-    MAX_CELLS = 2_000_000
+    MAX_CELLS = 4_000_000
 
     def __init__(self, tg: TimingGraph):
         self.tg = tg
@@ -429,7 +429,7 @@ class BatchArrivalSolver:
 
     @property
     def batch_size(self) -> int:
-        return max(1, min(64, self.MAX_CELLS // max(1, len(self.tg.order))))
+        return max(1, min(256, self.MAX_CELLS // max(1, len(self.tg.order))))
 
     def solve_all(self, stems: list[int], min_skew: float | None = None):
         """:meth:`solve` over all ``stems`` in batches of stems at similar depth."""
@@ -458,7 +458,9 @@ class BatchArrivalSolver:
         # the stem's dominator-tree child above each node (the stem itself for the stem)
         top = np.full((n + 1, B), -1, dtype=np.int64)
         top[st_arr, cols] = st_arr
-        found: list[list[Reconvergence]] = [[] for _ in stems]
+        # candidate reconvergences, one tuple of arrays per level: (column, gate, skew, slow
+        # pin, fast pin, slow arrival, fast arrival); no Python object per candidate
+        parts: list[tuple] = []
         first = min(self.plan.level[s] for s in stems)
         stem_pos = {s: [b for b in range(B) if stems[b] == s] for s in set(stems)}
         for lv, V, P, DMIN, DMAX in self.plan.levels:
@@ -513,11 +515,8 @@ class BatchArrivalSolver:
                         np, ii, bb, P, hi_pin, lo_pin, reached, top, st_arr, min_skew)
                 if keep is not None:
                     ii, bb = ii[keep], bb[keep]
-                Vl = V[ii].tolist()
-                for v, b, sk, a1, a2, t1, t2 in zip(Vl, bb.tolist(), skews.tolist(),
-                                                    ka.tolist(), kb.tolist(), ts.tolist(),
-                                                    tf.tolist()):
-                    found[b].append(Reconvergence(v, sk, a1, a2, t1, t2))
+                if len(ii):
+                    parts.append((bb, V[ii], skews, ka, kb, ts, tf))
             # dominator-tree child of the stem: the node itself where its idom is the stem
             Tn = np.where(d == st_arr[None, :], V[:, None],
                           np.where(d >= 0, top[np.maximum(d, 0), cols[None, :]], -1))
@@ -535,14 +534,62 @@ class BatchArrivalSolver:
                         amax[s, b] = 0.0
                         dom[s, b] = s
                         top[s, b] = s
+        if parts:
+            cat = [np.concatenate(x) for x in zip(*parts)]
+            # by column, then gate (topological order, as the scalar sweep reports them)
+            srt = np.lexsort((cat[1], cat[0]))
+            cat = [x[srt] for x in cat]
+            bounds = np.searchsorted(cat[0], np.arange(B + 1))
         for b, s in enumerate(stems):
-            if not found[b]:
+            if not parts or bounds[b] == bounds[b + 1]:
                 yield s, None, []
                 continue
-            found[b].sort(key=lambda r: r.gate)      # topological order, as the scalar sweep
+            lo_b, hi_b = bounds[b], bounds[b + 1]
+            found = FoundSet(*(x[lo_b:hi_b] for x in cat[1:]))
             col = _Column(tg, _ColView(amin, b, float), _ColView(amax, b, float),
                           _ColView(bmin, b, int), _ColView(bmax, b, int))
-            yield s, StemTiming(col, s, []), found[b]
+            yield s, StemTiming(col, s, []), found
+
+
+class FoundSet:
+    """One stem's reconvergences out of a batch, held as arrays (gate, skew, slow pin, fast pin,
+    slow arrival, fast arrival; gates in topological order). It reads as a sequence of
+    :class:`Reconvergence` (built on access), and callers that select among many candidates use
+    the arrays directly, so a stem with thousands of candidates costs no Python object per
+    candidate."""
+
+    __slots__ = ("gates", "skews", "slow_pins", "fast_pins", "slow_arrivals", "fast_arrivals")
+
+    def __init__(self, gates, skews, slow_pins, fast_pins, slow_arrivals, fast_arrivals):
+        self.gates, self.skews = gates, skews
+        self.slow_pins, self.fast_pins = slow_pins, fast_pins
+        self.slow_arrivals, self.fast_arrivals = slow_arrivals, fast_arrivals
+
+    def __len__(self):
+        return len(self.gates)
+
+    def __getitem__(self, k):
+        if isinstance(k, slice):
+            return [self[i] for i in range(*k.indices(len(self)))]
+        if k < 0:
+            k += len(self)
+        if not 0 <= k < len(self):
+            raise IndexError(k)
+        return Reconvergence(int(self.gates[k]), float(self.skews[k]), int(self.slow_pins[k]),
+                             int(self.fast_pins[k]), float(self.slow_arrivals[k]),
+                             float(self.fast_arrivals[k]))
+
+    def __iter__(self):
+        for k in range(len(self)):
+            yield self[k]
+
+    def __eq__(self, other):
+        try:
+            return list(self) == list(other)
+        except TypeError:
+            return NotImplemented
+
+    __hash__ = None
 
 
 def _worst_pairs(np, ii, bb, P, hi_pin, lo_pin, reached, top, st_arr, min_skew):
