@@ -183,9 +183,8 @@ class Finding:
         src, _pin, dmin, dmax = tg.fanin[gi][k]
         tag = "raw" if make is None else "made"
         make = make or (lambda n, dl, a: (n, dl, a))
-        pairs = st.chain(src, slow, lambda i, dl, a: (order[i], make(order[i], dl, a)), tag)
+        ids, items = st.chain_ids(src, slow, lambda i, dl, a: make(order[i], dl, a), tag)
         last = make(self.gate, dmax if slow else dmin, r.slow_arrival if slow else r.fast_arrival)
-        ids, items = zip(*pairs)
         return list(ids) + [self.gate], items + (last,)
 
 

@@ -120,12 +120,18 @@ class StemTiming:
         back-pointers. The paths of one stem form a tree, so every node already placed on an
         earlier path of this stem (per ``tag``) ends the walk: its prefix is copied from that
         path instead of walked again."""
+        return self.chain_ids(node, slow, make, tag)[1]
+
+    def chain_ids(self, node: int, slow: bool, make, tag: str = "") -> tuple[tuple, tuple]:
+        """:meth:`chain` together with the node ids (``tg.order`` entries) along the path:
+        ``(ids, items)``, two tuples of the same length."""
         s = self.solver
         back = s.bmax if slow else s.bmin
         arr = s.amax if slow else s.amin
         bget = getattr(back, "get", None) or back.__getitem__
         aget = getattr(arr, "get", None) or arr.__getitem__
         fanin = s.tg.fanin
+        order = s.tg.order
         key = (tag, slow)
         memo = self._chains.get(key)
         if memo is None:
@@ -136,22 +142,23 @@ class StemTiming:
         while True:
             hit = memo.get(n)
             if hit is not None:
-                path, i = hit
-                prefix = path[:i + 1]
+                ids, items, i = hit
+                ids, items = ids[:i + 1], items[:i + 1]
                 break
             if n == stem:
-                prefix = ()
+                ids = items = ()
                 walked.append((n, 0.0, 0.0))
                 break
             p, _pin, dmin, dmax = fanin[n][bget(n)]
             walked.append((n, dmax if slow else dmin, aget(n)))
             n = p
         walked.reverse()
-        out = prefix + tuple(make(i, dl, a) for i, dl, a in walked)
-        base = len(prefix)
+        ids = ids + tuple(order[i] for i, _dl, _a in walked)
+        items = items + tuple(make(i, dl, a) for i, dl, a in walked)
+        base = len(ids) - len(walked)
         for k, (i, _dl, _a) in enumerate(walked):
-            memo[i] = (out, base + k)
-        return out
+            memo[i] = (ids, items, base + k)
+        return ids, items
 
     @property
     def arrival_min(self):
