@@ -24,6 +24,7 @@ import json
 import os
 from collections import Counter
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Iterable, Sequence
 
 from . import __version__
@@ -106,11 +107,9 @@ def write_baseline(path: str | os.PathLike, diagnostics: Sequence[Diagnostic],
     rows = baseline_entries(diagnostics, root)
     doc = {_MAGIC: FORMAT, "tool": f"hazlint {__version__}", "findings": rows}
     text = json.dumps(doc, indent=1, sort_keys=True) + "\n"
-    tmp = f"{os.fspath(path)}.tmp{os.getpid()}"
+    from .cache import atomic_write
     try:
-        with open(tmp, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        os.replace(tmp, path)
+        atomic_write(Path(path), lambda fh: fh.write(text), private=False)
     except OSError as exc:
         raise ConfigError(f"cannot write baseline: {exc.strerror}", path=os.fspath(path)) from None
     return len(rows)

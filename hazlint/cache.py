@@ -325,14 +325,21 @@ class ParseCache:
         return n
 
 
-def atomic_write(path: Path, write) -> None:
+def atomic_write(path: Path, write, *, private: bool = True) -> None:
     """Create ``path`` (and its folder, private) with what ``write(stream)`` writes (text,
     UTF-8, no newline translation): into a temporary file in the same folder, then
     :func:`os.replace`, so a reader never sees half a file. The temporary file is removed on
-    any failure, which propagates."""
-    path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
+    any failure, which propagates. ``private=False`` is for files users keep (a baseline): the
+    folder must exist and the file gets the usual permissions (0666 less the umask)."""
+    path = Path(path)
+    if private:
+        path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
     fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=path.suffix)
     try:
+        if not private:
+            umask = os.umask(0)
+            os.umask(umask)
+            os.chmod(tmp, 0o666 & ~umask)
         with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
             write(fh)
         os.replace(tmp, path)

@@ -123,3 +123,21 @@ def test_cli_baseline_survives_edits_and_catches_new_findings(tmp_path):
     (tmp_path / "bad.json").write_text("{")
     r = cli(tmp_path, "--baseline", "bad.json", "valve.v")
     assert r.returncode == 2 and "bad.json" in r.stderr and "Traceback" not in r.stderr
+
+
+def test_baseline_written_whole_with_ordinary_permissions(tmp_path):
+    # a baseline is a file the team commits: written by rename (no half file, no temporary
+    # left behind) and readable as any other file the user creates (0666 less the umask)
+    import os
+    import stat
+    f = tmp_path / "hazlint-baseline.json"
+    f.write_text("old contents")
+    write_baseline(f, [diag(), diag("x")], root=str(tmp_path))
+    assert load_baseline(f)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["hazlint-baseline.json"]
+    umask = os.umask(0)
+    os.umask(umask)
+    assert stat.S_IMODE(f.stat().st_mode) == 0o666 & ~umask
+    # a folder that does not exist is an input error naming the file, not a traceback
+    with pytest.raises(ConfigError, match="cannot write baseline"):
+        write_baseline(tmp_path / "no" / "such" / "base.json", [diag()])
