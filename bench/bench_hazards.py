@@ -169,7 +169,7 @@ def main(argv=None) -> int:
         worst = max(epfl_rows, key=lambda r: r["inconclusive"])
         lines += ["## EPFL " + ("giants " if args.giants else "") + "(in circuitgraph)",
                   ""] + table(epfl_rows) + [
-            "", f"EPFL total: {echecks} checks, analysis "
+            "", ("Giants" if args.giants else "EPFL") + f" total: {echecks} checks, analysis "
                 f"{sum(r['analysis'] for r in epfl_rows):.1f} s, {einc} inconclusive "
                 f"({100.0 * einc / max(1, echecks):.2f} %; most in {worst['name']}: "
                 f"{worst['inconclusive']})."
