@@ -318,15 +318,26 @@ def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int) -
 
 
 def classify_sources(graph, target, sources, options, order=None, known=None,
-                     replay_glitch=True, free=None) -> list[Classification]:
+                     replay_glitch=True, free=None, memo=None) -> list[Classification]:
     """Single changes of ``sources`` (in turn, up to the first proven hazard) at ``target``.
     ``known`` maps (target, source) to proofs decided beforehand; ``order`` and ``free``
-    (the target's cone in topological order and its free sources) may be given."""
+    (the target's cone in topological order and its free sources) may be given. ``memo``
+    keeps each (target, source) classification for the run: findings of different stems
+    share their sinks and sources, and the timed replay of one change is done once (a
+    replayed classification also serves a caller that does not need the replay)."""
     out = []
     for s in sources:
-        pre = known.get((target, s)) if known else None
-        c = classify(graph, target, {s: (0, 1)}, options=options, order=order,
-                     replay_glitch=replay_glitch, proofs=pre, sources=free)
+        c = None
+        if memo is not None:
+            c = memo.get((target, s, True))
+            if c is None and not replay_glitch:
+                c = memo.get((target, s, False))
+        if c is None:
+            pre = known.get((target, s)) if known else None
+            c = classify(graph, target, {s: (0, 1)}, options=options, order=order,
+                         replay_glitch=replay_glitch, proofs=pre, sources=free)
+            if memo is not None:
+                memo[(target, s, replay_glitch)] = c
         out.append(c)
         if c.proven:
             break
@@ -576,7 +587,8 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     The timed replay, delay search and waveform of a proven hazard are then done for the first
     ``max_findings`` findings in order of importance (glitch-sensitive sinks first, then the
     larger skew); the others keep their classification and witness, with a note saying the
-    replay was left out. Findings whose change the batch could not decide (a loop in the cone)
+    replay was left out, unless the same change at the same sink was replayed already for one
+    of the first (each (sink, source) change is classified, and replayed, once per run). Findings whose change the batch could not decide (a loop in the cone)
     are proven one by one within the same limit, else reported inconclusive with that reason.
     """
     opts = options_with_defaults(options)
@@ -591,12 +603,13 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     out: list[Diagnostic] = []
     cache: dict[tuple, Classification] = {}
     cones: dict[str, tuple | None] = {}     # sink -> (cone order, free sources), once per sink
+    per_source: dict[tuple, Classification] = {}    # (sink, source, replayed) -> verdict
     for i, d in enumerate(diagnostics):
         ev = d.evidence if isinstance(d.evidence, Mapping) else {}
         try:
             if plans[i] is not None:
                 out.extend(_refine_planned(graph, d, ev, plans[i][1], context, opts, cache,
-                                           known, i in full, limit, cones))
+                                           known, i in full, limit, cones, per_source))
             elif d.kind == "combinational-loop" and ev.get("scc"):
                 out.append(d)
                 osc = _refine_loop(graph, d, ev)
@@ -683,7 +696,8 @@ def _cone_of(graph, sink, cones):
     return cones[sink]
 
 
-def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit, cones=None):
+def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit, cones=None,
+                    per_source=None):
     results = []
     cones = {} if cones is None else cones
     for s, srcs in work:
@@ -699,7 +713,8 @@ def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit
                 got = _cone_of(graph, s, cones)
                 order, free = got if got is not None else (None, None)
                 c = combine(classify_sources(graph, s, srcs, opts, order=order, known=known,
-                                             replay_glitch=full, free=free)) or Classification(
+                                             replay_glitch=full, free=free,
+                                             memo=per_source)) or Classification(
                     s, "inconclusive", {}, reason="no changing input found for the stem"
                     if d.kind == "unbalanced-reconvergence" else "no changing source")
             cache[key] = c
