@@ -168,46 +168,65 @@ def leaf_values(graph: nx.DiGraph, target: str, values: Mapping[str, int]) -> di
 
 
 def consensus_fix(graph: nx.DiGraph, target: str, kind: str, before: Mapping[str, int],
-                  after: Mapping[str, int], candidates: Sequence[str]) -> dict | None:
+                  after: Mapping[str, int], candidates: Sequence[str],
+                  memo: dict | None = None) -> dict | None:
     """Find and verify a consensus term at one of ``candidates`` (gate nodes, nearest the
-    hazard first). Returns ``{"node", "term", "text", "verified"}`` or None."""
+    hazard first). Returns ``{"node", "term", "text", "verified"}`` or None. ``memo`` keeps,
+    per change, the settled values and the outcome at each gate tried (many findings of one
+    run ask about the same change at the same gates)."""
     if kind not in ("static-1-hazard", "static-0-hazard"):
         return None
-    va = leaf_values(graph, target, before)
-    vb = leaf_values(graph, target, after)
+    change = (target, kind, tuple(sorted(before.items())), tuple(sorted(after.items())))
+    if memo is not None and change in memo:
+        va, vb, tried = memo[change]
+    else:
+        va = leaf_values(graph, target, before)
+        vb = leaf_values(graph, target, after)
+        tried = {}
+        if memo is not None:
+            memo[change] = (va, vb, tried)
     for node in candidates:
         if node not in graph or graph.nodes[node]["kind"] != "gate":
             continue
-        for positive in (True, False):
-            # the cover whose value is 1 across the transition: f for static-1 at this node
-            if bool(va.get(node, 0)) != positive or bool(vb.get(node, 0)) != positive:
-                continue
-            cover = sop(graph, node, positive)
-            if not cover:
-                continue
-            term = consensus_term(cover, va, vb)
-            if term is None:
-                continue
-            node_kind = "static-1-hazard" if positive else "static-0-hazard"
-            fixed = add_term(graph, node, term, node_kind)
-            verified = classify_explicit(fixed, target, before, after) != kind
-            if not verified:
-                continue
-            text = term_text(term, graph)
-            gate = _gate_name(graph, node)
-            cell = graph.nodes[node].get("cell") or graph.nodes[node].get("op")
-            where = _where(graph, node).replace(" (", ", ").rstrip(")")
-            if positive:
-                desc = (f"add the consensus term {text} to the sum of products that gate "
-                        f"{gate} ({cell}{where}) computes: OR a gate for the term into its "
-                        f"output (it holds the output at 1 during the change)")
-            else:
-                clause = _clause_text(term, graph)
-                desc = (f"add the consensus clause ({clause}) to the product of sums that "
-                        f"gate {gate} ({cell}{where}) computes: AND a gate for the clause "
-                        f"into its output (it holds the output at 0 during the change)")
-            return {"node": node, "term": sorted([n, p] for n, p in term), "text": desc,
-                    "verified": True}
+        if node not in tried:
+            tried[node] = _consensus_at(graph, target, kind, before, after, va, vb, node)
+        if tried[node] is not None:
+            return tried[node]
+    return None
+
+
+def _consensus_at(graph, target, kind, before, after, va, vb, node) -> dict | None:
+    """A verified consensus term at gate ``node`` for this change, or None."""
+    for positive in (True, False):
+        # the cover whose value is 1 across the transition: f for static-1 at this node
+        if bool(va.get(node, 0)) != positive or bool(vb.get(node, 0)) != positive:
+            continue
+        cover = sop(graph, node, positive)
+        if not cover:
+            continue
+        term = consensus_term(cover, va, vb)
+        if term is None:
+            continue
+        node_kind = "static-1-hazard" if positive else "static-0-hazard"
+        fixed = add_term(graph, node, term, node_kind)
+        verified = classify_explicit(fixed, target, before, after) != kind
+        if not verified:
+            continue
+        text = term_text(term, graph)
+        gate = _gate_name(graph, node)
+        cell = graph.nodes[node].get("cell") or graph.nodes[node].get("op")
+        where = _where(graph, node).replace(" (", ", ").rstrip(")")
+        if positive:
+            desc = (f"add the consensus term {text} to the sum of products that gate "
+                    f"{gate} ({cell}{where}) computes: OR a gate for the term into its "
+                    f"output (it holds the output at 1 during the change)")
+        else:
+            clause = _clause_text(term, graph)
+            desc = (f"add the consensus clause ({clause}) to the product of sums that "
+                    f"gate {gate} ({cell}{where}) computes: AND a gate for the clause "
+                    f"into its output (it holds the output at 0 during the change)")
+        return {"node": node, "term": sorted([n, p] for n, p in term), "text": desc,
+                "verified": True}
     return None
 
 

@@ -531,7 +531,11 @@ def diagram_lines(graph, c: Classification, nets: Sequence[str], ascii_only=Fals
     return timing_diagram(tr, nets, names, ascii_only=ascii_only)
 
 
-def fix_for(graph, c: Classification, evidence: Mapping[str, Any] | None, sink_role) -> str:
+def fix_for(graph, c: Classification, evidence: Mapping[str, Any] | None, sink_role,
+            memo: dict | None = None) -> str:
+    """The fix hint of a proven hazard: a verified consensus term where one exists, else
+    registering or balancing. ``memo`` (one per run) keeps the consensus search per change and
+    gate, which findings of different stems at the same sink share."""
     ev = evidence or {}
     cands = []
     if ev.get("reconvergence_node"):
@@ -546,7 +550,8 @@ def fix_for(graph, c: Classification, evidence: Mapping[str, Any] | None, sink_r
             break
         n = d["inputs"][0]
     if c.classification in ("static-1-hazard", "static-0-hazard") and not c.function_hazard:
-        f = _fixes.consensus_fix(graph, c.target, c.classification, c.before, c.after, cands)
+        f = _fixes.consensus_fix(graph, c.target, c.classification, c.before, c.after, cands,
+                                 memo=memo)
         if f:
             return f["text"] + " (checked: the hazard is gone with it)"
     if c.function_hazard:
@@ -604,12 +609,14 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     cache: dict[tuple, Classification] = {}
     cones: dict[str, tuple | None] = {}     # sink -> (cone order, free sources), once per sink
     per_source: dict[tuple, Classification] = {}    # (sink, source, replayed) -> verdict
+    fix_memo: dict = {}                     # consensus searches, per change and gate
     for i, d in enumerate(diagnostics):
         ev = d.evidence if isinstance(d.evidence, Mapping) else {}
         try:
             if plans[i] is not None:
                 out.extend(_refine_planned(graph, d, ev, plans[i][1], context, opts, cache,
-                                           known, i in full, limit, cones, per_source))
+                                           known, i in full, limit, cones, per_source,
+                                           fix_memo))
             elif d.kind == "combinational-loop" and ev.get("scc"):
                 out.append(d)
                 osc = _refine_loop(graph, d, ev)
@@ -697,7 +704,7 @@ def _cone_of(graph, sink, cones):
 
 
 def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit, cones=None,
-                    per_source=None):
+                    per_source=None, fix_memo=None):
     results = []
     cones = {} if cones is None else cones
     for s, srcs in work:
@@ -724,12 +731,13 @@ def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit
         return [d]
     replayed = full or c.glitch is not None or bool(c.how)
     o = opts if full else dict(opts, waveforms=False)
-    x = _apply(graph, d, c, ev, context, o, replayed=replayed, limit=limit)
+    x = _apply(graph, d, c, ev, context, o, replayed=replayed, limit=limit,
+               fix_memo=fix_memo)
     return [x] if x is not None else []
 
 
 def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed: bool = True,
-           limit: int | None = None) -> Diagnostic | None:
+           limit: int | None = None, fix_memo: dict | None = None) -> Diagnostic | None:
     sens = _sensitive(graph, context, c.target)
     sink_role = graph.nodes[c.target].get("role")
     evidence = dict(d.evidence)
@@ -780,7 +788,7 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed:
         evidence["waveform_nets"] = nets
         notes += diagram_lines(graph, c, nets)
     sev = Severity.ERROR if sens else Severity.WARNING
-    fix = fix_for(graph, c, ev, sink_role) if replayed else d.fix
+    fix = fix_for(graph, c, ev, sink_role, fix_memo) if replayed else d.fix
     return replace(d, kind=kind, severity=sev, message=msg, evidence=evidence,
                    notes=tuple(notes), fix=fix)
 
