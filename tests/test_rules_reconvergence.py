@@ -275,3 +275,19 @@ def test_work_budget_takes_stems_reaching_sensitive_sinks_first():
     assert stems == {"k"}                  # the stem reaching the asynchronous output
     (inc,) = [d for d in out if d.kind == "analysis-incomplete"]
     assert inc.evidence["stems_not_analysed"] == ["s"]
+
+
+def test_fast_hop_is_the_same_value_as_the_dataclass_hop():
+    # Hop.fast skips the frozen dataclass __init__; it must set exactly the declared fields
+    # (a field added to Hop and forgotten there fails here), compare and hash equal, and stay
+    # frozen
+    import dataclasses
+    from hazlint.diagnostics import Hop, Location
+    names = [f.name for f in dataclasses.fields(Hop)]
+    vals = ["n1", "g1", "nand", Location("a.v", 3, 5), "top.g1", 1.5, 4.0]
+    a = Hop(**dict(zip(names, vals)))
+    b = Hop.fast(*vals)
+    assert a == b and hash(a) == hash(b) and vars(a) == vars(b)
+    assert list(vars(b)) == names
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        b.net = "other"

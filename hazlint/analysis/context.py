@@ -260,8 +260,7 @@ class AnalysisContext:
         h = self._hops.get(key)
         if h is None:
             net, gate, cell, loc, inst = self._hop_base(n)
-            h = self._hops[key] = Hop(net=net, gate=gate, cell=cell, location=loc,
-                                      instance=inst, delay=delay, arrival=arrival)
+            h = self._hops[key] = Hop.fast(net, gate, cell, loc, inst, delay, arrival)
         return h
 
     def _hop_base(self, n: str):
