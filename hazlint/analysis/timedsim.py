@@ -134,12 +134,16 @@ class Glitch:
 def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
              events: Iterable[tuple[float, str, int]], *, mode: str = "inertial",
              assignment: DelayAssignment | None = None, until: float | None = None,
-             watch: Iterable[str] | None = None, max_events: int = 1_000_000) -> Trace:
+             watch: Iterable[str] | None = None, max_events: int = 1_000_000,
+             prep: dict | None = None) -> Trace:
     """Simulate from the steady state of ``initial`` (source node -> 0/1; missing free sources
     are 0) through the source ``events`` ``(time, node, value)``.
 
     ``watch`` limits the recorded waveforms (all nodes by default). Loops are allowed: the initial
     state is Eichelberger's ternary fixpoint, X nets start at 0, and ``until`` bounds the run.
+    ``prep`` (a dict the caller keeps while the graph does not change, e.g. for the trials of
+    one delay search) keeps the steady state and the nominal delay tables between calls, so
+    that a trial costs the events it simulates rather than a sweep of the whole cone.
     """
     asg = assignment or DelayAssignment(mode=mode)
     mode = asg.mode if assignment is not None else mode
@@ -147,21 +151,8 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
         raise ValueError(f"unknown delay mode {mode!r}")
     g = graph
     nodes = g.nodes
-    val = _steady_state(g, initial)
-    readers: dict[str, list[tuple[str, int, float]]] = {}
-    gdelay: dict[str, list[tuple[float, float]]] = {}
-    for n, d in g.nodes(data=True):
-        ins = d.get("inputs") or []
-        if d["kind"] == "gate":
-            gdelay[n] = [asg.pins.get((n, p)) or pin_delay(d, p, asg.corner)
-                         for p in range(len(ins))]
-        for p, u in enumerate(ins):
-            w = asg.wires.get((u, n, p), asg.wires.get((u, n)))
-            if w is None:
-                e = g.edges[u, n] if g.has_edge(u, n) else {}
-                wd = e.get("wire")
-                w = (wd.rise_min if asg.corner == "min" else wd.rise_max) if wd is not None else 0.0
-            readers.setdefault(u, []).append((n, p, float(w)))
+    val = _steady_state_kept(g, initial, prep)
+    readers, gdelay = _delay_tables(g, asg, prep)
     pinval: dict[str, list[int]] = {}
     for n, d in g.nodes(data=True):
         if d["kind"] in ("gate", "sink"):
@@ -272,6 +263,62 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
 _BIT = IntAlgebra(1)
 
 
+def _steady_state_kept(g, initial, prep) -> dict[str, int]:
+    """:func:`_steady_state`, kept in ``prep`` per graph and initial values (a copy is
+    returned: the simulation changes it)."""
+    if prep is None:
+        return _steady_state(g, initial)
+    key = ("steady", id(g), tuple(sorted((n, v & 1) for n, v in initial.items())))
+    hit = prep.get(key)
+    if hit is None or hit[0] is not g:
+        hit = prep[key] = (g, _steady_state(g, initial))
+    return dict(hit[1])
+
+
+def _delay_tables(g, asg: "DelayAssignment", prep):
+    """(readers: net -> [(reader, pin, wire delay)], gate delays: gate -> [(rise, fall)] per
+    pin) under ``asg``. The tables of the corner alone are kept in ``prep``; the assignment's
+    own pin and wire delays are patched onto copies of the entries they touch."""
+    key = ("delays", id(g), asg.corner)
+    hit = prep.get(key) if prep is not None else None
+    if hit is None or hit[0] is not g:
+        readers: dict[str, list[tuple[str, int, float]]] = {}
+        gdelay: dict[str, list[tuple[float, float]]] = {}
+        for n, d in g.nodes(data=True):
+            ins = d.get("inputs") or []
+            if d["kind"] == "gate":
+                gdelay[n] = [pin_delay(d, p, asg.corner) for p in range(len(ins))]
+            for p, u in enumerate(ins):
+                e = g.edges[u, n] if g.has_edge(u, n) else {}
+                wd = e.get("wire")
+                w = (wd.rise_min if asg.corner == "min" else wd.rise_max) if wd is not None else 0.0
+                readers.setdefault(u, []).append((n, p, float(w)))
+        hit = (g, readers, gdelay)
+        if prep is not None:
+            prep[key] = hit
+    _, readers, gdelay = hit
+    if asg.pins:
+        gdelay = dict(gdelay)
+        for (n, p), dl in asg.pins.items():
+            if dl and n in gdelay and 0 <= p < len(gdelay[n]):
+                row = list(gdelay[n])
+                row[p] = dl
+                gdelay[n] = row
+    if asg.wires:
+        readers = dict(readers)
+        wires = asg.wires
+        for u in {k[0] for k in wires}:
+            if u in readers:
+                row = []
+                for n, p, w0 in readers[u]:
+                    w = wires.get((u, n, p))
+                    if w is None:
+                        w = wires.get((u, n))
+                    row.append((n, p, w0 if w is None else float(w)))
+                readers[u] = row
+    return readers, gdelay
+
+
 def _steady_state(g: nx.DiGraph, initial: Mapping[str, int]) -> dict[str, int]:
     val: dict[str, int] = {}
     for n, d in g.nodes(data=True):
@@ -373,9 +420,10 @@ def glitch_at(trace: Trace, node: str, after: float, mode: str = "inertial") -> 
 
 def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Mapping[str, int],
            assignment: DelayAssignment | None = None, mode: str = "inertial",
-           settle: float = 0.0, watch: Iterable[str] | None = None) -> tuple[Glitch, Trace]:
+           settle: float = 0.0, watch: Iterable[str] | None = None,
+           prep: dict | None = None) -> tuple[Glitch, Trace]:
     """Apply the transition ``before -> after`` (source values) at time ``settle`` and report the
-    glitch at ``target``."""
+    glitch at ``target``. ``prep``: see :func:`simulate`."""
     asg = assignment or DelayAssignment(mode=mode)
     w = None if watch is None else set(watch) | {target}
     if w is not None:
@@ -383,7 +431,7 @@ def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Map
         graph = fanin_cone(graph, w)
     evs = [(settle, n, v & 1) for n, v in after.items()
            if (before.get(n, 0) & 1) != (v & 1) and n in graph]
-    tr = simulate(graph, before, evs, assignment=asg, watch=w)
+    tr = simulate(graph, before, evs, assignment=asg, watch=w, prep=prep)
     return glitch_at(tr, target, settle, asg.mode), tr
 
 
@@ -411,9 +459,10 @@ def search_assignment(graph: nx.DiGraph, target: str, before: Mapping[str, int],
                 moving.add(s)
                 stack.append(s)
     sub = graph.subgraph(cone_nodes)
+    prep: dict = {}         # the cone's steady state and nominal delays, for every trial
 
     def run(asg):
-        gl, _ = replay(sub, target, before, after, asg, watch=[target])
+        gl, _ = replay(sub, target, before, after, asg, watch=[target], prep=prep)
         ok = gl.occurs and len(gl.changes) >= need
         return gl if ok else None
 
