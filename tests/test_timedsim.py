@@ -68,3 +68,23 @@ def test_kept_tables_give_the_same_traces_as_a_fresh_simulation():
                                                                             mode=asg.mode),
                              prep=prep)
             assert fresh.waves == kept.waves and plain.waves == again.waves
+
+
+def test_delay_search_is_bounded_by_its_event_budget():
+    # F = A.B' + B.C (the textbook static-1 case, common practice) with both branches of B
+    # equally slow: no glitch at the nominal delays, one under unequal wire delays
+    from hazlint.analysis.ternary import cone
+    from hazlint.analysis.timedsim import search_assignment
+    g = build_graph(["A", "B", "C"], [("nb", "not", ["B"], 1), ("t1", "and", ["A", "nb"], 1),
+                                      ("t2", "and", ["B", "C"], 2), ("F", "or", ["t1", "t2"], 1)],
+                    ["F"])
+    t = "<sink>F"
+    order = cone(g, [t])
+    before, after = {"A": 1, "B": 1, "C": 1}, {"A": 1, "B": 0, "C": 1}
+    asg, gl, how = search_assignment(g, t, before, after, order, trials=150)
+    assert asg is not None and gl.occurs and how == "arbitrary"
+    # the budget counts simulation events over all trials; spent, the search says so
+    asg, gl, how = search_assignment(g, t, before, after, order, trials=150, event_budget=12)
+    assert asg is None and gl is None
+    assert "budget of 12 simulation events" in how and "search_events" in how
+    assert " of 150 trials" in how

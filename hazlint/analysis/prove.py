@@ -42,6 +42,7 @@ DEFAULTS: dict[str, Any] = {
     "max_sinks": 3,              # sinks classified per reconvergence finding
     "max_findings": 200,         # findings per run given timed replay, delay search, waveform
     "search_trials": 150,        # timed simulations when searching a glitching delay assignment
+    "search_events": 500_000,    # simulation events per delay search, over its trials (0: none)
     "bdd_circuit_time": 10.0,    # seconds for the shared BDD of a batched pass, then SAT
     "batch_time": 120.0,         # seconds for the SAT part of a batched pass (0: no limit)
     "engine": "sat",             # batched pass: "sat" (one incremental solver) or "bdd" (a
@@ -235,6 +236,7 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
         if replay_glitch and not _nominal_reversed(graph, c, k, order):
             asg, gl, how = search_assignment(graph, target, c.before, c.after, order,
                                              trials=int(opts["search_trials"]),
+                                             event_budget=int(opts["search_events"]),
                                              seed=int(opts["seed"]),
                                              want_dynamic=k == "dynamic-hazard")
             if asg is not None:

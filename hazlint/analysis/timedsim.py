@@ -100,6 +100,7 @@ class Trace:
     start: float = 0.0
     end: float = 0.0
     truncated: bool = False        # stopped at ``until`` with events pending (oscillation)
+    events: int = 0                # events applied (the cost of the run)
 
     def changes(self, node: str, after: float = -INF) -> list[tuple[float, int]]:
         return [(t, v) for t, v in self.waves[node][1:] if t >= after]
@@ -205,7 +206,7 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
             live.discard(token)
             count += 1
             if count > max_events:
-                raise RuntimeError("timed simulation exceeded its event budget")
+                raise EventBudget("timed simulation exceeded its event budget")
             if kind == "pin":
                 node, p = target
                 pl = wire_pending.get(target)
@@ -257,10 +258,15 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
                     continue
             dl = min(gdelay[n][p][0 if v else 1] for p in pins)
             push(t + dl, "out", n, v, pl)
-    return Trace(waves=waves, start=0.0 if start == INF else start, end=now, truncated=truncated)
+    return Trace(waves=waves, start=0.0 if start == INF else start, end=now, truncated=truncated,
+                 events=count)
 
 
 _BIT = IntAlgebra(1)
+
+
+class EventBudget(RuntimeError):
+    """A simulation ran past its ``max_events``."""
 
 
 def _steady_state_kept(g, initial, prep) -> dict[str, int]:
@@ -421,9 +427,9 @@ def glitch_at(trace: Trace, node: str, after: float, mode: str = "inertial") -> 
 def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Mapping[str, int],
            assignment: DelayAssignment | None = None, mode: str = "inertial",
            settle: float = 0.0, watch: Iterable[str] | None = None,
-           prep: dict | None = None) -> tuple[Glitch, Trace]:
+           prep: dict | None = None, max_events: int = 1_000_000) -> tuple[Glitch, Trace]:
     """Apply the transition ``before -> after`` (source values) at time ``settle`` and report the
-    glitch at ``target``. ``prep``: see :func:`simulate`."""
+    glitch at ``target``. ``prep`` and ``max_events``: see :func:`simulate`."""
     asg = assignment or DelayAssignment(mode=mode)
     w = None if watch is None else set(watch) | {target}
     if w is not None:
@@ -431,21 +437,38 @@ def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Map
         graph = fanin_cone(graph, w)
     evs = [(settle, n, v & 1) for n, v in after.items()
            if (before.get(n, 0) & 1) != (v & 1) and n in graph]
-    tr = simulate(graph, before, evs, assignment=asg, watch=w, prep=prep)
+    tr = simulate(graph, before, evs, assignment=asg, watch=w, prep=prep, max_events=max_events)
     return glitch_at(tr, target, settle, asg.mode), tr
 
 
 def search_assignment(graph: nx.DiGraph, target: str, before: Mapping[str, int],
                       after: Mapping[str, int], order: Sequence[str], *, trials: int = 200,
-                      seed: int = 0, want_dynamic: bool = False
+                      seed: int = 0, want_dynamic: bool = False, event_budget: int = 0
                       ) -> tuple[DelayAssignment | None, Glitch | None, str]:
     """Look for delays under which the transition glitches at ``target``.
 
     Tries, in order: the nominal (max) delays, inertial then transport; the min corner; random
     mixes of min/max per pin (within the given bounds); then arbitrary extra transport delays on
     the wires of the changing cone (the "arbitrary delays" model the proof uses). Bounded by
-    ``trials``. Returns (assignment, glitch, how) or (None, None, reason).
+    ``trials``, and by ``event_budget`` simulation events over all trials (0: no bound): on
+    deep cones one transport trial with random wire delays can cost millions of events, and the
+    count, unlike a clock, gives the same answer on every machine. Returns (assignment,
+    glitch, how) or (None, None, reason).
     """
+    try:
+        return _search(graph, target, before, after, order, trials, seed, want_dynamic,
+                       event_budget)
+    except _OutOfEvents as stop:
+        return None, None, (f"no glitching delay assignment found: the delay search stopped at "
+                            f"its budget of {event_budget} simulation events (option "
+                            f"search_events) after {stop.args[0]} of {trials} trials")
+
+
+class _OutOfEvents(Exception):
+    pass
+
+
+def _search(graph, target, before, after, order, trials, seed, want_dynamic, event_budget):
     need = 3 if want_dynamic else 2
     cone_nodes = set(order)
     changing = {n for n in after if (before.get(n, 0) & 1) != (after[n] & 1)}
@@ -460,9 +483,21 @@ def search_assignment(graph: nx.DiGraph, target: str, before: Mapping[str, int],
                 stack.append(s)
     sub = graph.subgraph(cone_nodes)
     prep: dict = {}         # the cone's steady state and nominal delays, for every trial
+    spent = [0, 0]          # events, trials
 
     def run(asg):
-        gl, _ = replay(sub, target, before, after, asg, watch=[target], prep=prep)
+        left = event_budget - spent[0] if event_budget else 1_000_000
+        if left <= 0:
+            raise _OutOfEvents(spent[1])
+        try:
+            gl, tr = replay(sub, target, before, after, asg, watch=[target], prep=prep,
+                            max_events=left)
+        except EventBudget:
+            if not event_budget:
+                raise
+            raise _OutOfEvents(spent[1]) from None
+        spent[0] += tr.events
+        spent[1] += 1
         ok = gl.occurs and len(gl.changes) >= need
         return gl if ok else None
 
@@ -506,8 +541,11 @@ def search_assignment(graph: nx.DiGraph, target: str, before: Mapping[str, int],
         asg = DelayAssignment("max", wires=wires, mode="transport")
         gl = run(asg)
         if gl:
-            small = _shrink(asg, run)
-            return small, run(small), "arbitrary"
+            try:
+                small = _shrink(asg, run)
+                return small, run(small), "arbitrary"
+            except _OutOfEvents:
+                return asg, gl, "arbitrary"     # found; no budget left to make it smaller
     return None, None, f"no glitching delay assignment found in {trials} trials"
 
 
