@@ -152,13 +152,13 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
         raise ValueError(f"unknown delay mode {mode!r}")
     g = graph
     nodes = g.nodes
-    val = _steady_state_kept(g, initial, prep)
+    steady, pins0 = _steady_state_kept(g, initial, prep)
+    val = dict(steady)
     readers, gdelay = _delay_tables(g, asg, prep)
-    pinval: dict[str, list[int]] = {}
-    for n, d in g.nodes(data=True):
-        if d["kind"] in ("gate", "sink"):
-            pinval[n] = [val[u] for u in (d.get("inputs") or [])]
-    undelayed = {n: val[n] for n in gdelay}
+    # per gate/sink the values at its input pins, and per gate its zero-delay output: both
+    # start from the steady state and are copied from it only where events touch them
+    pinval = _CopyOnRead(pins0, list)
+    undelayed = _CopyOnRead(steady, None)
     watch_set = set(watch) if watch is not None else None
     waves = {n: [(0.0, val[n])] for n in (watch_set if watch_set is not None else g.nodes)}
     heap: list = []
@@ -269,16 +269,37 @@ class EventBudget(RuntimeError):
     """A simulation ran past its ``max_events``."""
 
 
-def _steady_state_kept(g, initial, prep) -> dict[str, int]:
-    """:func:`_steady_state`, kept in ``prep`` per graph and initial values (a copy is
-    returned: the simulation changes it)."""
-    if prep is None:
-        return _steady_state(g, initial)
+class _CopyOnRead(dict):
+    """A dict over a read-only ``base``: a missing key is taken from the base (through
+    ``copy`` and stored, when given, so the caller may change it in place)."""
+
+    __slots__ = ("base", "copy")
+
+    def __init__(self, base, copy):
+        super().__init__()
+        self.base, self.copy = base, copy
+
+    def __missing__(self, k):
+        v = self.base[k]
+        if self.copy is None:
+            return v
+        v = self[k] = self.copy(v)
+        return v
+
+
+def _steady_state_kept(g, initial, prep):
+    """(:func:`_steady_state`, per gate and sink its input pins' values), both read-only, kept
+    in ``prep`` per graph and initial values."""
     key = ("steady", id(g), tuple(sorted((n, v & 1) for n, v in initial.items())))
-    hit = prep.get(key)
+    hit = prep.get(key) if prep is not None else None
     if hit is None or hit[0] is not g:
-        hit = prep[key] = (g, _steady_state(g, initial))
-    return dict(hit[1])
+        val = _steady_state(g, initial)
+        pins = {n: [val[u] for u in (d.get("inputs") or [])]
+                for n, d in g.nodes(data=True) if d["kind"] in ("gate", "sink")}
+        hit = (g, val, pins)
+        if prep is not None:
+            prep[key] = hit
+    return hit[1], hit[2]
 
 
 def _delay_tables(g, asg: "DelayAssignment", prep):
