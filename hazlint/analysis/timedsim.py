@@ -151,10 +151,10 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
     if mode not in ("inertial", "transport"):
         raise ValueError(f"unknown delay mode {mode!r}")
     g = graph
-    nodes = g.nodes
     steady, pins0 = _steady_state_kept(g, initial, prep)
     val = dict(steady)
     readers, gdelay = _delay_tables(g, asg, prep)
+    kinds = _node_kinds(g, prep)
     # per gate/sink the values at its input pins, and per gate its zero-delay output: both
     # start from the steady state and are copied from it only where events touch them
     pinval = _CopyOnRead(pins0, list)
@@ -234,17 +234,17 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
                         changed_pins.setdefault(r, set()).add(p)
         # phase 2: evaluate each touched gate once
         for n, pins in changed_pins.items():
-            d = nodes[n]
-            if d["kind"] == "sink":
+            kind, op, expr = kinds[n]
+            if kind == "sink":
                 v = pinval[n][0]
                 if val[n] != v:
                     val[n] = v
                     if n in waves:
                         waves[n].append((t, v))
                 continue
-            if d["kind"] != "gate":
+            if kind != "gate":
                 continue
-            v = bool_gate(_BIT, d["op"], pinval[n], d.get("expr"))
+            v = bool_gate(_BIT, op, pinval[n], expr)
             if v == undelayed[n]:
                 continue
             undelayed[n] = v
@@ -256,7 +256,13 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
                 pl.clear()
                 if v == val[n]:
                     continue
-            dl = min(gdelay[n][p][0 if v else 1] for p in pins)
+            row = gdelay[n]
+            edge = 0 if v else 1
+            if len(pins) == 1:
+                for p in pins:
+                    dl = row[p][edge]
+            else:
+                dl = min(row[p][edge] for p in pins)
             push(t + dl, "out", n, v, pl)
     return Trace(waves=waves, start=0.0 if start == INF else start, end=now, truncated=truncated,
                  events=count)
@@ -285,6 +291,17 @@ class _CopyOnRead(dict):
             return v
         v = self[k] = self.copy(v)
         return v
+
+
+def _node_kinds(g, prep) -> dict[str, tuple]:
+    """node -> (kind, op, expr): what the event loop asks of a node it evaluates, read once."""
+    key = ("kinds", id(g))
+    hit = prep.get(key) if prep is not None else None
+    if hit is None or hit[0] is not g:
+        hit = (g, {n: (d["kind"], d.get("op"), d.get("expr")) for n, d in g.nodes(data=True)})
+        if prep is not None:
+            prep[key] = hit
+    return hit[1]
 
 
 def _steady_state_kept(g, initial, prep):
