@@ -595,8 +595,9 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     ``max_findings`` findings in order of importance (glitch-sensitive sinks first, then the
     larger skew); the others keep their classification and witness, with a note saying the
     replay was left out, unless the same change at the same sink was replayed already for one
-    of the first (each (sink, source) change is classified, and replayed, once per run). Findings whose change the batch could not decide (a loop in the cone)
-    are proven one by one within the same limit, else reported inconclusive with that reason.
+    of the first (each (sink, source) change is classified, and replayed, once per run).
+    Findings whose change the batch could not decide (a loop in the cone) are proven one by one
+    within the same limit, else reported inconclusive with that reason.
     """
     opts = options_with_defaults(options)
     graph = design.graph if hasattr(design, "graph") else design
@@ -608,17 +609,13 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
                   key=lambda i: plans[i][0])
     full = set(rank[:limit]) if limit >= 0 else set(rank)
     out: list[Diagnostic] = []
-    cache: dict[tuple, Classification] = {}
-    cones: dict[str, tuple | None] = {}     # sink -> (cone order, free sources), once per sink
-    per_source: dict[tuple, Classification] = {}    # (sink, source, replayed) -> verdict
-    fix_memo: dict = {}                     # consensus searches, per change and gate
+    memo = _RunMemo()
     for i, d in enumerate(diagnostics):
         ev = d.evidence if isinstance(d.evidence, Mapping) else {}
         try:
             if plans[i] is not None:
-                out.extend(_refine_planned(graph, d, ev, plans[i][1], context, opts, cache,
-                                           known, i in full, limit, cones, per_source,
-                                           fix_memo))
+                out.extend(_refine_planned(graph, d, ev, plans[i][1], context, opts, memo,
+                                           known, i in full, limit))
             elif d.kind == "combinational-loop" and ev.get("scc"):
                 out.append(d)
                 osc = _refine_loop(graph, d, ev)
@@ -705,10 +702,23 @@ def _cone_of(graph, sink, cones):
     return cones[sink]
 
 
-def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit, cones=None,
-                    per_source=None, fix_memo=None):
+@dataclass
+class _RunMemo:
+    """What one :func:`refine` run works out once and shares between its findings."""
+
+    # (sink, changing sources, replayed) -> verdict over those sources
+    verdicts: dict[tuple, Classification] = field(default_factory=dict)
+    # sink -> (cone order, free sources), None for a cone with a loop
+    cones: dict[str, tuple | None] = field(default_factory=dict)
+    # (sink, source, replayed) -> verdict of that single change
+    per_source: dict[tuple, Classification] = field(default_factory=dict)
+    # consensus-term searches, per change and gate (see fixes.consensus_fix)
+    fixes: dict = field(default_factory=dict)
+
+
+def _refine_planned(graph, d, ev, work, context, opts, memo: _RunMemo, known, full, limit):
     results = []
-    cones = {} if cones is None else cones
+    cache = memo.verdicts
     for s, srcs in work:
         key = (s, tuple(srcs), full)
         if not full and (s, tuple(srcs), True) in cache:
@@ -719,11 +729,11 @@ def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit
                     f"not proven: beyond the prover's limit of {limit} findings per run "
                     "(option max_findings)"))
             else:
-                got = _cone_of(graph, s, cones)
+                got = _cone_of(graph, s, memo.cones)
                 order, free = got if got is not None else (None, None)
                 c = combine(classify_sources(graph, s, srcs, opts, order=order, known=known,
                                              replay_glitch=full, free=free,
-                                             memo=per_source)) or Classification(
+                                             memo=memo.per_source)) or Classification(
                     s, "inconclusive", {}, reason="no changing input found for the stem"
                     if d.kind == "unbalanced-reconvergence" else "no changing source")
             cache[key] = c
@@ -734,7 +744,7 @@ def _refine_planned(graph, d, ev, work, context, opts, cache, known, full, limit
     replayed = full or c.glitch is not None or bool(c.how)
     o = opts if full else dict(opts, waveforms=False)
     x = _apply(graph, d, c, ev, context, o, replayed=replayed, limit=limit,
-               fix_memo=fix_memo)
+               fix_memo=memo.fixes)
     return [x] if x is not None else []
 
 

@@ -258,11 +258,7 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
                     continue
             row = gdelay[n]
             edge = 0 if v else 1
-            if len(pins) == 1:
-                for p in pins:
-                    dl = row[p][edge]
-            else:
-                dl = min(row[p][edge] for p in pins)
+            dl = min(row[p][edge] for p in pins) if len(pins) > 1 else row[next(iter(pins))][edge]
             push(t + dl, "out", n, v, pl)
     return Trace(waves=waves, start=0.0 if start == INF else start, end=now, truncated=truncated,
                  events=count)
@@ -293,39 +289,41 @@ class _CopyOnRead(dict):
         return v
 
 
+def _kept(prep, g, key: tuple, build):
+    """``build()``, kept in ``prep`` under ``key`` for graph ``g`` (None: not kept). The graph
+    itself is stored beside the value, so a new graph that reuses an old one's id misses."""
+    if prep is None:
+        return build()
+    k = (id(g),) + key
+    hit = prep.get(k)
+    if hit is None or hit[0] is not g:
+        hit = prep[k] = (g, build())
+    return hit[1]
+
+
 def _node_kinds(g, prep) -> dict[str, tuple]:
     """node -> (kind, op, expr): what the event loop asks of a node it evaluates, read once."""
-    key = ("kinds", id(g))
-    hit = prep.get(key) if prep is not None else None
-    if hit is None or hit[0] is not g:
-        hit = (g, {n: (d["kind"], d.get("op"), d.get("expr")) for n, d in g.nodes(data=True)})
-        if prep is not None:
-            prep[key] = hit
-    return hit[1]
+    return _kept(prep, g, ("kinds",), lambda: {
+        n: (d["kind"], d.get("op"), d.get("expr")) for n, d in g.nodes(data=True)})
 
 
 def _steady_state_kept(g, initial, prep):
     """(:func:`_steady_state`, per gate and sink its input pins' values), both read-only, kept
     in ``prep`` per graph and initial values."""
-    key = ("steady", id(g), tuple(sorted((n, v & 1) for n, v in initial.items())))
-    hit = prep.get(key) if prep is not None else None
-    if hit is None or hit[0] is not g:
+    def build():
         val = _steady_state(g, initial)
         pins = {n: [val[u] for u in (d.get("inputs") or [])]
                 for n, d in g.nodes(data=True) if d["kind"] in ("gate", "sink")}
-        hit = (g, val, pins)
-        if prep is not None:
-            prep[key] = hit
-    return hit[1], hit[2]
+        return val, pins
+    return _kept(prep, g, ("steady", tuple(sorted((n, v & 1) for n, v in initial.items()))),
+                 build)
 
 
 def _delay_tables(g, asg: "DelayAssignment", prep):
     """(readers: net -> [(reader, pin, wire delay)], gate delays: gate -> [(rise, fall)] per
     pin) under ``asg``. The tables of the corner alone are kept in ``prep``; the assignment's
     own pin and wire delays are patched onto copies of the entries they touch."""
-    key = ("delays", id(g), asg.corner)
-    hit = prep.get(key) if prep is not None else None
-    if hit is None or hit[0] is not g:
+    def build():
         readers: dict[str, list[tuple[str, int, float]]] = {}
         gdelay: dict[str, list[tuple[float, float]]] = {}
         for n, d in g.nodes(data=True):
@@ -337,10 +335,8 @@ def _delay_tables(g, asg: "DelayAssignment", prep):
                 wd = e.get("wire")
                 w = (wd.rise_min if asg.corner == "min" else wd.rise_max) if wd is not None else 0.0
                 readers.setdefault(u, []).append((n, p, float(w)))
-        hit = (g, readers, gdelay)
-        if prep is not None:
-            prep[key] = hit
-    _, readers, gdelay = hit
+        return readers, gdelay
+    readers, gdelay = _kept(prep, g, ("delays", asg.corner), build)
     if asg.pins:
         gdelay = dict(gdelay)
         for (n, p), dl in asg.pins.items():

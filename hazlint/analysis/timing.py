@@ -576,8 +576,6 @@ class FoundSet:
         return len(self.gates)
 
     def __getitem__(self, k):
-        if isinstance(k, slice):
-            return [self[i] for i in range(*k.indices(len(self)))]
         if k < 0:
             k += len(self)
         if not 0 <= k < len(self):
