@@ -59,6 +59,12 @@ class Design:
     latch_paths: list[tuple[str, str, str]] = field(default_factory=list)
     port_attrs: dict[str, dict[str, Any]] = field(default_factory=dict)  # port bit -> attributes
     line_maps: dict[str, Any] = field(default_factory=dict)
+    modules: list[str] = field(default_factory=list)          # module names elaborated
+    # modules left out of the analysis: {"module", "reason", "path", "line", "instances"}
+    not_analysed: list[dict[str, Any]] = field(default_factory=list)
+    # arrays kept as memory nodes: {"name", "words", "width", "path", "line", "write_ports",
+    # "read_ports", "read_data": [state node ids]}
+    memories: list[dict[str, Any]] = field(default_factory=list)
 
     # ------------------------------------------------------------------------------------------
     @cached_property
@@ -116,7 +122,8 @@ class Design:
             if k == "gate" or k == "const":
                 ins = [val.get(i, 0) for i in d["inputs"]]
                 val[n] = eval_op(d["op"], ins, mask, d.get("expr"))
-            elif k == "blackbox":
+            elif k == "blackbox" or k == "state":
+                # black-box outputs and memory read data (registers were set above)
                 val.setdefault(n, values.get(n, 0) & mask)
             elif k == "sink":
                 val[n] = val.get(d["inputs"][0], 0) if d["inputs"] else 0
@@ -144,6 +151,10 @@ class Design:
             "blackboxes": [{"instance": b.name, "cell": b.cell, "path": b.path, "line": b.line,
                             "reason": b.reason} for b in self.blackboxes],
             "combinational_loops": self.has_loop,
+            "modules": len(self.modules),
+            "not_analysed": [dict(r) for r in self.not_analysed],
+            "memories": [{k: v for k, v in m.items() if k != "read_data"}
+                         for m in self.memories],
         }
 
 

@@ -13,7 +13,9 @@ from pyverilog.vparser import ast as va
 
 from ..errors import ParseError
 from . import ir
+from . import grammar_tasks as gt
 from . import parser as hp
+from .build_subprograms import SubprogramBuilder, direction as _direction
 
 MAX_EXPR_DEPTH = 500
 
@@ -101,7 +103,7 @@ def attr_value(text):
     return t
 
 
-class Builder:
+class Builder(SubprogramBuilder):
     def __init__(self, path: str, pre, lexer):
         self.path = path
         self.pre = pre
@@ -239,6 +241,9 @@ class Builder:
 
     def _ansi_port(self, mod, io):
         first, second = io.first, io.second
+        if getattr(first, "hz_input_reg", False):
+            self.error(f"invalid port declaration '{_direction(first)} reg'", first.lineno,
+                       first.name)
         pos = getattr(io, "hz_pos", None)
         attr_pos = getattr(io, "hz_attrs_from", None) or pos
         kind = self._net_kind(second) if second is not None else "wire"
@@ -251,7 +256,8 @@ class Builder:
     def _param(self, prm, local, decl):
         pos = getattr(decl, "hz_pos", None)
         return ir.Param(name=prm.name, value=self.expr(prm.value), local=local,
-                        width=self.width(prm.width), loc=self.loc(prm.lineno, pos))
+                        width=self.width(prm.width), loc=self.loc(prm.lineno, pos),
+                        signed=bool(getattr(prm, "signed", False)))
 
     @staticmethod
     def _net_kind(v) -> str:
@@ -322,12 +328,10 @@ class Builder:
                 out.append(ir.Unsupported(
                     what=f"defparam {_text(self.expr(target))} = {_text(self.expr(value))}",
                     loc=self.loc(n.lineno, n.hz_pos)))
-        elif t is va.Function:
-            out.append(ir.Unsupported(what=f"function {n.name}",
-                                      loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
-        elif t is va.Task:
-            out.append(ir.Unsupported(what=f"task {n.name}",
-                                      loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
+        elif t is gt.FunctionDef:
+            out.append(self._function(n))
+        elif t is gt.TaskDef:
+            out.append(self._task(n))
         elif n is None:
             pass
         else:
@@ -341,6 +345,8 @@ class Builder:
             t = type(v)
             pos = getattr(v, "hz_pos", dpos)
             if t in (va.Input, va.Output, va.Inout):
+                if getattr(v, "hz_input_reg", False):
+                    self.error(f"invalid declaration '{_direction(v)} reg'", v.lineno, v.name)
                 port = mod.ports.get(v.name)
                 if port is None:
                     if v.name not in mod.port_order:
@@ -389,10 +395,7 @@ class Builder:
                     if attrs:
                         port.attrs.update(attrs)
                     continue
-                array = None
-                if v.dimensions is not None and v.dimensions.lengths:
-                    ln = v.dimensions.lengths[0]
-                    array = (self.expr(ln.msb), self.expr(ln.lsb))
+                array = self._dims(v)
                 nd = getattr(v, "hz_delay", None)
                 out.append(ir.Net(name=v.name, kind=kind, width=width, signed=signed,
                                   array=array, loc=self.loc(v.lineno, pos), attrs=dict(attrs),
@@ -491,7 +494,26 @@ class Builder:
             return None
         t = type(s)
         if t is va.Block:
-            return ("block", [self.stmt(x) for x in s.statements])
+            stmts, decls = [], []
+            for x in s.statements:
+                if type(x) is va.Decl:
+                    decls.extend(self._local_decls(x))
+                else:
+                    stmts.append(self.stmt(x))
+            return ("block", stmts, s.scope, decls)
+        if t is va.ForStatement:
+            return ("for", self.stmt(s.pre), self.expr(s.cond), self.stmt(s.post),
+                    self.stmt(s.statement), self._line(s))
+        if t is va.WhileStatement:
+            return ("while", self.expr(s.cond), self.stmt(s.statement), self._line(s))
+        if t is gt.RepeatStatement:
+            return ("repeat", self.expr(s.count), self.stmt(s.statement), self._line(s))
+        if t is gt.TaskEnable:
+            name = self._scoped(s.name) if s.name.scope is not None else s.name.name
+            return ("call", name, [self.expr(x) for x in s.args], self._line(s))
+        if t is va.SingleStatement and type(s.statement) is va.SystemCall:
+            c = s.statement
+            return ("call", "$" + c.syscall, [self.expr(x) for x in c.args], self._line(s))
         if t is va.IfStatement:
             return ("if", self.expr(s.cond), self.stmt(s.true_statement),
                     self.stmt(s.false_statement))
@@ -506,11 +528,10 @@ class Builder:
                 cases.append((labels, self.stmt(c.statement)))
             return ("case", _CASE_KIND[t], self.expr(s.comp), cases)
         if t is va.EventStatement and not s.senslist.list:
-            return ("block", [])        # a lone ';'
-        what = {va.ForStatement: "for loop", va.WhileStatement: "while loop",
-                va.ForeverStatement: "forever loop", va.WaitStatement: "wait statement",
+            return ("block", [], None, [])        # a lone ';'
+        what = {va.ForeverStatement: "forever loop", va.WaitStatement: "wait statement",
                 va.EventStatement: "event control", va.ParallelBlock: "fork/join block",
-                va.SingleStatement: "delay, system task or disable statement",
+                va.SingleStatement: "delay or disable statement",
                 va.Decl: "declaration in a block"}.get(t, t.__name__)
         return ("other", what, self._line(s))
 
@@ -608,14 +629,6 @@ def _udp_level(e):
     if e[3]:
         return "x" if e[2] == 0 else None
     return {0: "0", 1: "1"}.get(e[2])
-
-
-def _direction(v) -> str:
-    if isinstance(v, va.Input):
-        return "input"
-    if isinstance(v, va.Output):
-        return "output"
-    return "inout"
 
 
 def _text(e) -> str:
