@@ -28,6 +28,7 @@ Keys (all optional)::
     cache_limit_mb = 2048           # size limit of the cache folder (0: none)
     jobs = 2
     prove = { }                     # options handed to the hazard prover
+    memory_as_registers_max_bits = 4096   # larger variable arrays become memory nodes
 
     [rules.skewed-reconvergence]    # rule options (see ``hazlint explain RULE``)
     min_skew = 0.5
@@ -74,6 +75,7 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "cache_limit_mb": ((int,), "a size in MB (0: no limit)"),
     "jobs": ((int,), "a number of worker processes"),
     "prove": ((dict,), "a table of hazard-prover options"),
+    "memory_as_registers_max_bits": ((int,), "a number of bits (arrays up to it are registers)"),
 }
 FAIL_LEVELS = ("error", "warning", "info", "never")
 
@@ -104,6 +106,7 @@ class Config:
     cache_limit_mb: int | None = None
     jobs: int | None = None
     prove: dict[str, Any] = field(default_factory=dict)
+    memory_as_registers_max_bits: int = 4096
     raw: dict[str, Any] = field(default_factory=dict)     # the table as written
     key_lines: dict[str, int] = field(default_factory=dict)   # key -> line in the file
 
@@ -307,6 +310,12 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         if table["jobs"] < 1:
             raise err("jobs", "jobs must be at least 1")
         cfg.jobs = table["jobs"]
+    if "memory_as_registers_max_bits" in table:
+        v = table["memory_as_registers_max_bits"]
+        if isinstance(v, bool) or v < 0:
+            raise err("memory_as_registers_max_bits",
+                      "memory_as_registers_max_bits must be a number of bits, 0 or more")
+        cfg.memory_as_registers_max_bits = v
     cfg.prove = dict(table.get("prove", {}))
     if cfg.prove:
         from .analysis.prove import DEFAULTS as PROVE_DEFAULTS

@@ -194,7 +194,7 @@ def load_design(paths: str | Sequence[str], top: str | Sequence[str] | None = No
     gc.disable()
     try:
         sources = read_sources(list(paths), include_dirs=list(include_dirs),
-                               defines=dict(defines or {}),
+                               defines=dict(defines or {}), tolerant=True,
                                **{k: v for k, v in options.items() if k in reader_keys})
         return elaborate(sources, top=top, library=library,
                          **{k: v for k, v in options.items() if k not in reader_keys})

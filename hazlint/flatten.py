@@ -268,7 +268,7 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         design = self.build_graph(tops, inputs, outputs)
         design.modules = modules
         design.not_analysed = left
-        design.memories = self.memory_records()
+        design.memories = self.memory_records(lambda n: self._rep.get(self.find(n), n))
         self.check_memory_reads(design)
         return design
 
@@ -332,8 +332,6 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                 w, sg = self.expr_type(p.value, scope, p.loc)
             except (ElaborationError, _BlackBoxModule):
                 w, sg = 32, True
-            finally:
-                self._tmemo = None
             scope.ptypes[p.name] = (max(w, v.bit_length() + (1 if v < 0 else 0)),
                                     sg or p.signed)
         scope.params[p.name] = v
@@ -1119,7 +1117,7 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
-        rep = {r: min(ms, key=rank) for r, ms in members.items()}
+        rep = self._rep = {r: min(ms, key=rank) for r, ms in members.items()}
         # drivers per merged net
         drv_of: dict[str, list[dict]] = {}
         for d in self.drivers:

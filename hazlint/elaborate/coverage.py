@@ -14,26 +14,10 @@ read, reported so that a partly analysed design never looks clean.
 """
 from __future__ import annotations
 
-import re
-
 from ..diagnostics import Severity
 from ..errors import ParseError
 from ..frontend import ir
 from .common import walk_items
-
-_DEFINES = re.compile(r"^\s*(?:macromodule|module|primitive)\s+(\\\S+|[A-Za-z_][\w$]*)", re.M)
-_COMMENTS = re.compile(r"//[^\n]*|/\*[\s\S]*?\*/")
-
-
-def scan_definitions(text: str) -> list[str]:
-    """Names of the modules and primitives a Verilog text defines, by a plain text scan (for
-    a file the parser rejected)."""
-    names = []
-    for m in _DEFINES.finditer(_COMMENTS.sub(" ", text)):
-        n = m.group(1)
-        names.append(n[1:] if n.startswith("\\") else n)
-    return names
-
 
 class CoverageTracker:
     """Modules elaborated and modules left out (a mixin of the Elaborator)."""
@@ -80,13 +64,14 @@ class CoverageTracker:
             names = set(err.get("modules") or ())
             wanted = sorted(n for n in names & needed if not cell_known(n))
             if wanted or not self.modules:
-                raise ParseError(err["message"], path=sf.path, line=err.get("line"),
-                                 column=err.get("column"), construct=err.get("construct"))
-            self.note(f"file could not be parsed ({err['message']}"
-                      f"{' near ' + repr(err['construct']) if err.get('construct') else ''}); "
-                      f"the chosen top module(s) do not need what it defines "
+                raise ParseError(err["message"], path=err.get("path") or sf.path,
+                                 line=err.get("line"), column=err.get("column"),
+                                 construct=err.get("construct"))
+            self.note(f"file not read ({err['message']}); the chosen top module(s) do not "
+                      f"need what it defines "
                       f"({', '.join(sorted(names)) or 'no module found'}), so it is left out",
-                      ir.Loc(sf.path, err.get("line") or 1, err.get("column") or 1), "",
+                      ir.Loc(err.get("path") or sf.path, err.get("line") or 1,
+                             err.get("column") or 1), "",
                       key=("unread", sf.path), severity=Severity.WARNING, kind="file-not-read")
 
     def _needed_cells(self, tops) -> set[str]:

@@ -98,14 +98,15 @@ class ExpressionElaborator:
 
     def expr_type(self, e, scope, loc) -> tuple[int, bool]:
         """Self-determined (width, signed) of ``e`` (IEEE 1364-2005 table 5-22, 5.5.1)."""
-        memo = self._tmemo
+        memo = self._tmemo            # open while one expression is being evaluated
         if memo is None:
-            memo = self._tmemo = {}
-        hit = memo.get(id(e))
-        if hit is not None and hit[0] is e:
-            return hit[1]
+            return self._expr_type(e, scope, loc)
+        key = (id(e), id(scope))
+        hit = memo.get(key)
+        if hit is not None and hit[0] is e and hit[1] is scope:
+            return hit[2]
         t = self._expr_type(e, scope, loc)
-        memo[id(e)] = (e, t)
+        memo[key] = (e, scope, t)
         return t
 
     def _expr_type(self, e, scope, loc):
@@ -179,6 +180,8 @@ class ExpressionElaborator:
         signedness (assignment semantics, 5.4.2), then truncated to ``W``. ``env`` maps net
         bits to their current values inside a procedural block."""
         top = self._tmemo is None
+        if top:
+            self._tmemo = {}
         try:
             w, signed = self.expr_type(e, scope, loc)
             if W is None:
@@ -190,12 +193,11 @@ class ExpressionElaborator:
 
     def self_bits(self, e, scope, loc, env=None) -> list[str]:
         """``e`` at its self-determined width and signedness."""
-        w, signed = self.expr_type(e, scope, loc)
-        return self.eval_bits(e, scope, loc, w, signed, env)
+        return self.bits(e, scope, loc, None, env)
 
     def truth(self, e, scope, loc, env=None) -> str:
         """A condition: the OR of the bits of ``e`` (true when any bit is 1)."""
-        return self.reduce(scope, "or", self.self_bits(e, scope, loc, env), loc)
+        return self.reduce(scope, "or", self.bits(e, scope, loc, None, env), loc)
 
     def eval_bits(self, e, scope, loc, W: int, signed: bool, env) -> list[str]:
         """``e`` at context width ``W`` and expression type ``signed`` (5.4.1, 5.5.2)."""
@@ -424,8 +426,7 @@ class ExpressionElaborator:
             if k not in dim:
                 self.note(f"constant index {k} is outside the array '{info.base}': read as 0",
                           loc, scope.instance)
-                return [C0] * len(pick(info.word(prefix + [dim[0]]) if d + 1 == len(idxs)
-                                       else info.word([dim[0]] * len(idxs))))
+                return [C0] * len(pick(info.word([dm[0] for dm in info.dims])))
             return self._array_read(info, idxs, pick, scope, loc, env, prefix + [k])
         lo, hi = min(dim), max(dim)
         words = [self._array_read(info, idxs, pick, scope, loc, env, prefix + [j])

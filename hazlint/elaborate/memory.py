@@ -45,12 +45,13 @@ class Memory:
     def width(self) -> int:
         return len(self.indices) if self.indices else 1
 
-    def record(self) -> dict:
+    def record(self, node_of) -> dict:
+        """Plain data for the Design; ``node_of`` maps a net bit to its graph node."""
         loc = self.loc
         return {"name": self.name, "words": len(self.words), "width": self.width,
                 "path": loc.path if loc else "", "line": loc.line if loc else 0,
                 "write_ports": len(self.write_ports), "read_ports": len(self.read_ports),
-                "read_data": [n for p in self.read_ports for n in p["data"]]}
+                "read_data": [node_of(n) for p in self.read_ports for n in p["data"]]}
 
 
 class MemoryElaborator:
@@ -173,16 +174,17 @@ class MemoryElaborator:
                                                    memory=mem.name)
             mem.write_ports.append(pins)
 
-    def memory_records(self) -> list[dict]:
-        return [m.record() for m in self.__dict__.get("memories", [])]
+    def memory_records(self, node_of) -> list[dict]:
+        return [m.record(node_of) for m in self.__dict__.get("memories", [])]
 
     def check_memory_reads(self, design) -> None:
         """Warn when the data of a memory node's read port reaches a glitch-sensitive pin:
         the read path through the array is not analysed there."""
         g = design.graph
+        records = {r["name"]: r for r in design.memories}
         for m in self.__dict__.get("memories", []):
             seen: set = set()
-            stack = [n for p in m.read_ports for n in p["data"] if n in g]
+            stack = [n for n in records[m.name]["read_data"] if n in g]
             hits = []
             while stack:
                 n = stack.pop()

@@ -284,9 +284,10 @@ class SourceFile:
     notes: list = field(default_factory=list)          # [(Loc, message)]
     includes: list = field(default_factory=list)       # files pulled in through `include
     digest: str = ""                                   # content hash (cache key material)
-    # set when the file could not be parsed (the reader then returns no modules for it):
-    # {"message", "line", "column", "construct", "modules": [module and primitive names a
-    # plain text scan of the file finds]}; the elaborator decides whether the design needs it
+    # set when the file could not be read (``read_sources(tolerant=True)``; it then has no
+    # modules): {"message", "path" (the file, or the included file at fault), "line",
+    # "column", "construct", "modules": [module and primitive names a plain text scan of the
+    # file finds]}; the elaborator decides whether the design needs the file
     error: Optional[dict] = None
 
 

@@ -11,6 +11,7 @@ import gc
 import hashlib
 import json
 import os
+import re
 import threading
 from typing import Callable
 
@@ -28,14 +29,17 @@ _PARSE_LOCK = threading.RLock()
 def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[str, str] = None,
                  root: str | None = None, jobs: int = 1, cache=None,
                  texts: dict[str, str] = None,
-                 progress: Callable[[int, int, str], None] | None = None) -> list[ir.SourceFile]:
+                 progress: Callable[[int, int, str], None] | None = None,
+                 tolerant: bool = False) -> list[ir.SourceFile]:
     """Read ``paths`` into IR, one :class:`ir.SourceFile` per path, in input order.
 
     ``texts`` overrides file contents by path (unsaved editor buffers, includes too);
     ``cache`` is an object with ``load(key) -> dict | None`` and ``store(key, dict)``;
     ``jobs > 1`` parses in worker processes; ``progress(done, total, path)`` is called once per
     file; ``root`` bounds where includes may resolve (default: the common directory of the
-    inputs). Errors are :class:`~hazlint.errors.ParseError` with the original file:line.
+    inputs). Errors are :class:`~hazlint.errors.ParseError` with the original file:line; with
+    ``tolerant`` a file that cannot be read comes back without modules and with its error in
+    ``SourceFile.error`` (the elaborator decides whether the design needs it).
     """
     paths = [os.fspath(p) for p in paths]
     include_dirs = [os.fspath(d) for d in include_dirs]
@@ -76,18 +80,53 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
                 done += 1
                 if progress:
                     progress(done, total, paths[i])
-        if errors:
+        if errors and not tolerant:
             raise ParseError(**errors[min(errors)])     # the first failing file in input order
+        for i, err in errors.items():
+            results[i] = _unread(paths[i], err, texts)
     else:
         for i in todo:
-            results[i] = read_one(paths[i], include_dirs, defines, root, texts)
+            try:
+                results[i] = read_one(paths[i], include_dirs, defines, root, texts)
+            except HazlintError as exc:
+                if not tolerant:
+                    raise
+                results[i] = _unread(paths[i], {"message": exc.message, "path": exc.path,
+                                                "line": exc.line, "column": exc.column,
+                                                "construct": exc.construct}, texts)
             done += 1
             if progress:
                 progress(done, total, paths[i])
     if cache is not None:
         for i in todo:
-            _to_cache(cache, keys[i], results[i], texts)
+            if results[i].error is None:
+                _to_cache(cache, keys[i], results[i], texts)
     return results
+
+
+_DEFINES = re.compile(r"^\s*(?:macromodule|module|primitive)\s+(\\\S+|[A-Za-z_][\w$]*)", re.M)
+_COMMENTS = re.compile(r"//[^\n]*|/\*[\s\S]*?\*/")
+
+
+def scan_definitions(text: str) -> list[str]:
+    """Names of the modules and primitives a Verilog text defines, by a plain text scan (for
+    a file the parser rejected)."""
+    names = []
+    for m in _DEFINES.finditer(_COMMENTS.sub(" ", text)):
+        n = m.group(1)
+        names.append(n[1:] if n.startswith("\\") else n)
+    return names
+
+
+def _unread(path: str, err: dict, texts) -> ir.SourceFile:
+    """The IR of a file that could not be read: no modules, the error (its ``path`` is the
+    file or an included file) and what the file defines."""
+    try:
+        names = scan_definitions(read_text(path, texts))
+    except HazlintError:
+        names = []
+    return ir.SourceFile(path=path, error=dict(err, path=err.get("path") or path,
+                                               modules=names))
 
 
 def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) -> ir.SourceFile:
