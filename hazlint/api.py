@@ -365,7 +365,7 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
 
     if changed is not None:
         ch = {_norm(p if os.path.isabs(p) else os.path.join(cwd, p)) for p in changed}
-        kept = [d for d in kept if _touches(d, ch)]
+        kept = [d for d in kept if _touches(d, ch) or d.kind in _COVERAGE_KINDS]
         waived = [d for d in waived if _touches(d, ch)]
         baselined = [d for d in baselined if _touches(d, ch)]
 

@@ -73,10 +73,11 @@ def test_constant_and_recursive_functions(tmp_path):
           endfunction
           localparam F5 = fact(5);
           localparam W = lg(10);
+          localparam integer B = $rtoi($ceil($ln(100) / $ln(2)));   // 17.11 math functions
           parameter signed [3:0] P = -3;
           assign f = F5;
           assign p = P;
-          assign w = a + W;
+          assign w = a + W + B;
         endmodule
     """, "press_const", steps=20)
     assert d.evaluate({})["f[6]"] == 1        # 120 = 0b1111000
@@ -370,6 +371,19 @@ def test_left_out_module_is_a_failing_warning_counted_in_the_summary(tmp_path):
     (tmp_path / "hazlint.toml").write_text('fail_on = "error"\n')
     p = cli("check", "--no-prove", "top.v", cwd=tmp_path)
     assert p.returncode == 0 and "1 of 2 modules not analysed: leaf" in p.stdout
+
+
+def test_changed_files_filter_keeps_what_was_left_out(tmp_path):
+    # a commit hook that lints only the staged file still says the design was not all read
+    from hazlint.api import lint
+    leaf, top = LEFT_OUT.split("    module press_top")
+    write(tmp_path, "leaf.v", leaf)
+    write(tmp_path, "top.v", "    module press_top" + top)
+    r = lint(["leaf.v", "top.v"], cwd=str(tmp_path), changed=["top.v"], prove=False,
+             use_cache=False)
+    assert [(d.kind, d.location.path.endswith("leaf.v")) for d in r.diagnostics] == [
+        ("not-analysed", True)]
+    assert r.exit_code() == 1
 
 
 def test_left_out_top_module(tmp_path):
