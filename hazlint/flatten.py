@@ -36,7 +36,7 @@ from .elaborate.coverage import CoverageTracker
 from .elaborate.expressions import ExpressionElaborator, const_bits
 from .elaborate.gates import GateBuilder
 from .elaborate.memory import DEFAULT_MAX_BITS, MemoryElaborator
-from .elaborate.scope import NetInfo, Scope
+from .elaborate.scope import NetInfo, Scope, index_range
 from .errors import ElaborationError
 from .frontend import ir
 from .library import UNIT_DELAY, ZERO_DELAY, CellDef, Delay, Library
@@ -341,10 +341,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         info = scope.nets.get(name)
         indices = None
         if width is not None:
-            msb = self.const(width[0], scope, loc)
-            lsb = self.const(width[1], scope, loc)
-            step = 1 if msb >= lsb else -1
-            indices = list(range(lsb, msb + step, step))
+            indices = index_range(self.const(width[0], scope, loc),
+                                  self.const(width[1], scope, loc))
         if info is not None:
             if indices is not None and info.indices is None:
                 info.indices = indices

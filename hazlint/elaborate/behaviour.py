@@ -34,7 +34,7 @@ from ..errors import ElaborationError
 from ..frontend import ir
 from .common import C0, C1, HOLD, BlackBoxModule, at_line, expr_text, where
 from .expressions import MemWrite, bits_value, const_bits
-from .scope import NetInfo, Scope
+from .scope import NetInfo, Scope, index_range
 
 MAX_LOOP_ITERATIONS = 65536      # per loop statement, across the whole block
 MAX_CALL_DEPTH = 64              # nested function and task calls (recursion)
@@ -121,10 +121,7 @@ class BehaviourElaborator:
             raise BlackBoxModule(f"real variable '{name}'", loc)
         indices = None
         if width is not None:
-            msb = self.const(width[0], cs, loc)
-            lsb = self.const(width[1], cs, loc)
-            step = 1 if msb >= lsb else -1
-            indices = list(range(lsb, msb + step, step))
+            indices = index_range(self.const(width[0], cs, loc), self.const(width[1], cs, loc))
         dims = self.array_dims(cs, array, loc) if array else None
         info = NetInfo(base=f"{cs.prefix}{name}", indices=indices, kind=kind,
                        signed=signed or kind == "integer", dims=dims)

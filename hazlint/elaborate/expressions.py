@@ -24,6 +24,7 @@ import math
 from ..consteval import NotConstant, const_value
 from ..errors import ElaborationError
 from .common import C0, C1, BlackBoxModule, expr_text, extend, shift, where
+from .scope import span
 
 _ARITH = frozenset(("+", "-", "*", "/", "%", "&", "|", "^", "~^", "^~"))
 _SHIFTS = frozenset(("<<", ">>", "<<<", ">>>", "**"))
@@ -428,7 +429,7 @@ class ExpressionElaborator:
                           loc, scope.instance)
                 return [C0] * len(pick(info.word([dm[0] for dm in info.dims])))
             return self._array_read(info, idxs, pick, scope, loc, env, prefix + [k])
-        lo, hi = min(dim), max(dim)
+        lo, hi = span(dim)
         words = [self._array_read(info, idxs, pick, scope, loc, env, prefix + [j])
                  for j in range(lo, hi + 1)]
         return self.select_words(scope, words, self._offset_index(idxs[d], lo, scope, loc, env),
@@ -457,9 +458,8 @@ class ExpressionElaborator:
                 raise ElaborationError(f"bit [{k}] is out of the range of '{info.base}'",
                                        *where(loc), construct=expr_text(e))
             return [self.read_bit(info.bit(k), env)]
-        lo = min(info.indices)
-        ordered = [[self.read_bit(info.bit(i), env)]
-                   for i in range(lo, max(info.indices) + 1)]
+        lo, hi = info.span()
+        ordered = [[self.read_bit(info.bit(i), env)] for i in range(lo, hi + 1)]
         return self.select_words(scope, ordered, self._offset_index(idx_e, lo, scope, loc, env),
                                  loc)
 
@@ -498,9 +498,9 @@ class ExpressionElaborator:
         """``v[base +: w]`` / ``v[base -: w]`` with a variable base: a barrel shift of the
         bits ordered by index, then the low ``w`` bits."""
         idxs = info.indices or [0]
-        lo = min(idxs)
+        lo, hi = info.span()
         ordered = [self.read_bit(info.bit(i) if info.indices else info.base, env)
-                   for i in range(lo, max(idxs) + 1)]
+                   for i in range(lo, hi + 1)]
         sel = self._offset_index(e[2], lo + (0 if e[4] == "+" else w - 1), scope, loc, env)
         out = self.barrel(scope, ordered + [C0] * w, sel, False, loc)[:w]
         if len(idxs) > 1 and idxs[0] > idxs[-1]:
@@ -628,9 +628,10 @@ class ExpressionElaborator:
         sel = self.self_bits(final[2], scope, loc, env)
         out = []
         idxs = info.indices or [0]
-        for start in range(min(idxs) - w, max(idxs) + w + 1):
+        first, last = info.span()
+        for start in range(first - w, last + w + 1):
             lo, hi = (start, start + w - 1) if final[4] == "+" else (start - w + 1, start)
-            if lo < min(idxs) or hi > max(idxs):
+            if lo < first or hi > last:
                 continue            # part of it out of range: Verilog writes the rest; rare
             c = self.equals_const(scope, sel, start, loc)
             if c == C0:

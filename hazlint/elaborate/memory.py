@@ -23,7 +23,7 @@ from ..diagnostics import Severity
 from ..graph import ASYNC_ROLES
 from .common import C0, BlackBoxModule, expr_text
 from .expressions import MemWrite
-from .scope import NetInfo
+from .scope import NetInfo, index_range
 
 DEFAULT_MAX_BITS = 4096
 
@@ -62,9 +62,8 @@ class MemoryElaborator:
     def array_dims(self, scope, array, loc) -> list:
         dims = []
         for msb_e, lsb_e in array:
-            a, b = self.const(msb_e, scope, loc), self.const(lsb_e, scope, loc)
-            step = 1 if b >= a else -1
-            dims.append(list(range(a, b + step, step)))
+            # unpacked dimensions run left to right as written: [0:15] is 0, 1, ... 15
+            dims.append(index_range(self.const(lsb_e, scope, loc), self.const(msb_e, scope, loc)))
         return dims
 
     def declare_array(self, scope, info: NetInfo, kind: str, loc) -> None:

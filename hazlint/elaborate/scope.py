@@ -8,6 +8,16 @@ from typing import Any
 from ..frontend import ir
 
 
+def index_range(msb: int, lsb: int) -> range:
+    """The indices of ``[msb:lsb]`` LSB first, as a range (O(1) membership and position)."""
+    step = 1 if msb >= lsb else -1
+    return range(lsb, msb + step, step)
+
+
+def span(r: range) -> tuple[int, int]:
+    return (r[0], r[-1]) if r[0] <= r[-1] else (r[-1], r[0])
+
+
 @dataclass
 class NetInfo:
     """A declared net or variable: ``base`` is its hierarchical name, ``indices`` the packed
@@ -16,7 +26,7 @@ class NetInfo:
     for a memory kept whole, ``memory`` is its record (:mod:`hazlint.elaborate.memory`)."""
 
     base: str              # hierarchical name without bit index
-    indices: list | None   # declared indices LSB first, None for a scalar
+    indices: range | None  # declared indices LSB first, None for a scalar
     kind: str = "wire"
     signed: bool = False
     dims: list | None = None
@@ -31,6 +41,10 @@ class NetInfo:
         if self.indices is None:
             return [self.base]
         return [f"{self.base}[{i}]" for i in self.indices]
+
+    def span(self) -> tuple[int, int]:
+        """(lowest, highest) declared index (0, 0 for a scalar)."""
+        return span(self.indices) if self.indices is not None else (0, 0)
 
     def word(self, idx: list[int]) -> "NetInfo":
         """The word ``base[i][j]...`` of an array."""
