@@ -296,7 +296,8 @@ class BehaviourElaborator:
                 continue
             for cond, bits in p.alts:
                 for d, s in zip(bits, part):
-                    self._write(st, d, s, cond, blocking)
+                    if d is not None:           # None: out of range, the write is ignored
+                        self._write(st, d, s, cond, blocking)
 
     def _assign(self, scope, loc, st, lhs, vals, blocking) -> None:
         pieces = self.targets(lhs, scope, loc, st.benv)

@@ -444,20 +444,31 @@ class ExpressionElaborator:
                              subtract=True)[0]
         return sel
 
-    def _vector_bit(self, info, idx_e, scope, loc, env, e):
-        k = self.const_try(idx_e, scope, loc, env)
+    def bit_name(self, info, k: int, scope, loc, env, e, writing=False) -> str | None:
+        """Net bit ``info[k]``. Out of range: an error in a continuous assignment or port
+        connection; inside a procedural block (``env`` given) Verilog reads x and ignores the
+        write, so the read is 0 and the write dropped, with a note (None)."""
         if info.indices is None:
             if k == 0:
-                return [self.read_bit(info.base, env)]
-            if k is not None:
-                raise ElaborationError(f"bit select [{k}] of scalar '{info.base}'", *where(loc),
-                                       construct=expr_text(e))
-            return [self.read_bit(info.base, env)]
+                return info.base
+            what = f"bit select [{k}] of scalar '{info.base}'"
+        elif k in info.indices:
+            return info.bit(k)
+        else:
+            what = f"bit [{k}] is out of the range of '{info.base}'"
+        if env is None:
+            raise ElaborationError(what, *where(loc), construct=expr_text(e))
+        effect = "the write is ignored" if writing else "read as 0"
+        self.note(f"{what} in '{expr_text(e)}': {effect}", loc, scope.instance)
+        return None
+
+    def _vector_bit(self, info, idx_e, scope, loc, env, e):
+        k = self.const_try(idx_e, scope, loc, env)
         if k is not None:
-            if k not in info.indices:
-                raise ElaborationError(f"bit [{k}] is out of the range of '{info.base}'",
-                                       *where(loc), construct=expr_text(e))
-            return [self.read_bit(info.bit(k), env)]
+            b = self.bit_name(info, k, scope, loc, env, e)
+            return [C0 if b is None else self.read_bit(b, env)]
+        if info.indices is None:
+            return [self.read_bit(info.base, env)]
         lo, hi = info.span()
         ordered = [[self.read_bit(info.bit(i), env)] for i in range(lo, hi + 1)]
         return self.select_words(scope, ordered, self._offset_index(idx_e, lo, scope, loc, env),
@@ -480,19 +491,13 @@ class ExpressionElaborator:
         a, b, var = self._part_range(info, e, scope, loc, env)
         if var is not None:
             return self._variable_part(info, var, b, scope, loc, env)
-        if info.indices is None:
-            if a == b == 0:
-                return [self.read_bit(info.base, env)]
-            raise ElaborationError(f"part select of scalar '{info.base}'", *where(loc),
-                                   construct=expr_text(e))
+        return [C0 if n is None else self.read_bit(n, env)
+                for n in self._part_names(info, a, b, scope, loc, env, e)]
+
+    def _part_names(self, info, a, b, scope, loc, env, e, writing=False):
         step = 1 if b >= a else -1
-        out = []
-        for i in range(a, b + step, step):
-            if i not in info.indices:
-                raise ElaborationError(f"part select [{b}:{a}] is out of the range of "
-                                       f"'{info.base}'", *where(loc), construct=expr_text(e))
-            out.append(self.read_bit(info.bit(i), env))
-        return out
+        return [self.bit_name(info, i, scope, loc, env, e, writing)
+                for i in range(a, b + step, step)]
 
     def _variable_part(self, info, e, w, scope, loc, env):
         """``v[base +: w]`` / ``v[base -: w]`` with a variable base: a barrel shift of the
@@ -562,7 +567,7 @@ class ExpressionElaborator:
             raise self._unsupported("assignment to a select of an expression", e, loc)
         info = scope.lookup(base[1])
         if info is None:
-            bits = self.net_bits(scope, base[1], loc, implicit=implicit)
+            self.net_bits(scope, base[1], loc, implicit=implicit)
             info = scope.lookup(base[1])
         nd = len(info.dims or ())
         if len(idxs) < nd or len(idxs) > nd + 1 or (final is not None and len(idxs) != nd):
@@ -571,18 +576,16 @@ class ExpressionElaborator:
         rest = idxs[nd] if len(idxs) > nd else None
         if info.memory is not None:
             return [self.memory_target(scope, info, idxs[:nd], rest, final, loc, env)]
-        words = self._word_alts(info, idxs[:nd], scope, loc, env, [], C1)
+        words = self._word_alts(info, idxs[:nd], scope, loc, env, [], C1, e)
         alts = []
-        width = None
         for cond, word in words:
             for c2, bits in self._bit_alts(word, rest, final, scope, loc, env, e):
                 c = cond if c2 == C1 else c2 if cond == C1 else self.gate(scope, "and",
                                                                          [cond, c2], loc)
                 alts.append((c, bits))
-                width = len(bits)
-        return [Dyn(width or 0, alts)]
+        return [Dyn(self.expr_type(e, scope, loc)[0], alts)]
 
-    def _word_alts(self, info, idxs, scope, loc, env, prefix, cond):
+    def _word_alts(self, info, idxs, scope, loc, env, prefix, cond, e):
         d = len(prefix)
         if d == len(idxs):
             return [(cond, info.word(prefix) if idxs else info)]
@@ -590,9 +593,13 @@ class ExpressionElaborator:
         k = self.const_try(idxs[d], scope, loc, env)
         if k is not None:
             if k not in dim:
-                raise ElaborationError(f"index {k} is outside the array '{info.base}'",
-                                       *where(loc), construct=expr_text(idxs[d]))
-            return self._word_alts(info, idxs, scope, loc, env, prefix + [k], cond)
+                what = f"index {k} is outside the array '{info.base}'"
+                if env is None:
+                    raise ElaborationError(what, *where(loc), construct=expr_text(idxs[d]))
+                self.note(f"{what} in '{expr_text(e)}': the write is ignored", loc,
+                          scope.instance)
+                return []
+            return self._word_alts(info, idxs, scope, loc, env, prefix + [k], cond, e)
         sel = self.self_bits(idxs[d], scope, loc, env)
         out = []
         for j in dim:
@@ -600,43 +607,37 @@ class ExpressionElaborator:
             if c == C0:
                 continue
             c = c if cond == C1 else self.gate(scope, "and", [cond, c], loc)
-            out.extend(self._word_alts(info, idxs, scope, loc, env, prefix + [j], c))
+            out.extend(self._word_alts(info, idxs, scope, loc, env, prefix + [j], c, e))
         return out
 
     def _bit_alts(self, info, rest, final, scope, loc, env, e):
+        """Alternatives (condition, net bits) a bit or part select of ``info`` writes; a bit
+        out of range is None (the write ignores it)."""
         if rest is None and final is None:
             return [(C1, info.bits())]
         if rest is not None:
             k = self.const_try(rest, scope, loc, env)
-            if info.indices is None:
-                if k not in (0, None):
-                    raise ElaborationError(f"bit select [{k}] of scalar '{info.base}'",
-                                           *where(loc), construct=expr_text(e))
-                return [(C1, [info.base])]
             if k is not None:
-                if k not in info.indices:
-                    raise ElaborationError(f"bit [{k}] is out of the range of '{info.base}'",
-                                           *where(loc), construct=expr_text(e))
-                return [(C1, [info.bit(k)])]
+                return [(C1, [self.bit_name(info, k, scope, loc, env, e, True)])]
+            if info.indices is None:
+                return [(C1, [info.base])]
             sel = self.self_bits(rest, scope, loc, env)
             return [(c, [info.bit(i)]) for i in info.indices
                     if (c := self.equals_const(scope, sel, i, loc)) != C0]
         a, b, var = self._part_range(info, final, scope, loc, env)
         if var is None:
-            return [(C1, self._vector_part(info, final, scope, loc, None))]
+            return [(C1, self._part_names(info, a, b, scope, loc, env, e, True))]
         w = b
         sel = self.self_bits(final[2], scope, loc, env)
         out = []
-        idxs = info.indices or [0]
+        idxs = info.indices or range(1)
         first, last = info.span()
-        for start in range(first - w, last + w + 1):
+        for start in range(first - w + 1, last + w):
             lo, hi = (start, start + w - 1) if final[4] == "+" else (start - w + 1, start)
-            if lo < first or hi > last:
-                continue            # part of it out of range: Verilog writes the rest; rare
             c = self.equals_const(scope, sel, start, loc)
             if c == C0:
                 continue
-            span = [info.bit(i) for i in range(lo, hi + 1)]
+            span = [info.bit(i) if first <= i <= last else None for i in range(lo, hi + 1)]
             if idxs[0] > idxs[-1]:
                 span.reverse()
             out.append((c, span))

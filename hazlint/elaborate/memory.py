@@ -119,6 +119,9 @@ class MemoryElaborator:
             if k is None:
                 raise BlackBoxModule(f"variable bit index into a word of memory '{mem.name}' "
                                      f"(in '{expr_text(rest)}')", loc)
+            if (word.indices is not None and k not in word.indices) or (
+                    word.indices is None and k != 0):
+                raise BlackBoxModule(f"bit [{k}] outside the words of memory '{mem.name}'", loc)
             positions = [word.indices.index(k) if word.indices else 0]
         elif final is not None:
             if final[0] != "part":
@@ -128,6 +131,10 @@ class MemoryElaborator:
                                          f"'{mem.name}'", loc)
             a, b, _ = self._part_range(word, final, scope, loc, env)
             step = 1 if b >= a else -1
+            if word.indices is None or not all(i in word.indices
+                                               for i in range(a, b + step, step)):
+                raise BlackBoxModule(f"part select [{b}:{a}] outside the words of memory "
+                                     f"'{mem.name}'", loc)
             positions = [word.indices.index(i) for i in range(a, b + step, step)]
         else:
             positions = list(range(mem.width))
