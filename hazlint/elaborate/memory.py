@@ -14,6 +14,9 @@ Two models, chosen per array by its size (``memory_as_registers_max_bits``, defa
   each read is a read port whose address bits are sinks and whose data bits are sources (state
   nodes with a ``memory`` attribute). The path from a read address through the array to the read
   data is not modelled: when such read data reaches a glitch-sensitive pin, a warning says so.
+
+An array kept as registers and written from two always blocks (a true dual-port RAM) has two
+drivers per word, which the flattener reports; a memory node takes any number of write ports.
 """
 from __future__ import annotations
 
