@@ -128,8 +128,9 @@ class Design:
     def summary(self) -> dict[str, Any]:
         from collections import Counter
         g = self.graph
+        # gates inside a register cell (its enable mux, say) are part of that cell
         by_type = Counter(d.get("cell") or d["op"] for _, d in g.nodes(data=True)
-                          if d["kind"] == "gate")
+                          if d["kind"] == "gate" and not d.get("register"))
         depth = logic_depth(self)
         return {
             "top": self.top,

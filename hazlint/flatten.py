@@ -22,6 +22,7 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from . import cells_yosys_words as yosys_cells
 from . import library as lib
 from .consteval import NotConstant, const_value
 from .design import BlackBox, Design, Register
@@ -978,6 +979,8 @@ class Elaborator:
             self.elab_udp(scope, inst, self.primitives[cell])
         elif cell in self.library:
             self.elab_cell(scope, inst, self.library.get(cell))
+        elif cell.startswith("$") and yosys_cells.elaborate_cell(self, scope, inst):
+            pass                # a yosys cell, built in after the user's and Liberty cells
         else:
             if cell not in self.blackbox_cells_warned:
                 self.blackbox_cells_warned.add(cell)
@@ -1271,11 +1274,7 @@ class Elaborator:
                        path=inst.loc.path if inst.loc else "", line=inst.loc.line if inst.loc
                        else 0)
         loc = inst.loc
-
-        def iq(p):  # next_state may read the state itself (IQ)
-            if p in ("IQ", "IQN"):
-                return HOLD
-            return pin_sig(p)
+        mark = len(self.drivers)
         if seq.kind == "ff":
             if seq.clocked_on is None or seq.next_state is None:
                 raise ElaborationError(f"flip-flop cell '{cell.name}' needs clocked_on and "
@@ -1286,6 +1285,8 @@ class Elaborator:
                                               register=name, active=reg.clock_edge,
                                               **self._pin_of(seq.clocked_on))
             data_e = seq.next_state
+        elif seq.enable is None and seq.data_in is None and (seq.clear or seq.preset):
+            data_e = None           # a set/reset latch: only its asynchronous pins
         else:
             if seq.enable is None or seq.data_in is None:
                 raise ElaborationError(f"latch cell '{cell.name}' needs enable and data_in",
@@ -1324,9 +1325,10 @@ class Elaborator:
             if p == "IQN":
                 return reg.outputs.get("QN") or C0
             return pin_sig(p)
-        d = self._expr_gates(scope, data_e, data_pin, loc)
-        reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path, register=name,
-                                         **self._pin_of(data_e))
+        if data_e is not None:
+            d = self._expr_gates(scope, data_e, data_pin, loc)
+            reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path,
+                                             register=name, **self._pin_of(data_e))
         for role, e in (("reset", seq.clear), ("set", seq.preset)):
             if e is None:
                 continue
@@ -1336,8 +1338,11 @@ class Elaborator:
             reg.active[role] = level
             reg.pins[role] = self.add_sink(sig, role, f"{name}.{role}", loc, path,
                                            register=name, active=level, **self._pin_of(e))
+        for rec in self.drivers[mark:]:
+            if rec["kind"] == "gate":
+                rec["register"] = name      # the cell's own next-state and control logic
         self.registers.append(reg)
-        if seq.kind == "latch":
+        if seq.kind == "latch" and "enable" in reg.pins:
             self.latch_paths.append((reg.pins["data"], reg.pins["enable"],
                                      reg.outputs.get("Q") or next(iter(reg.outputs.values()))))
 
