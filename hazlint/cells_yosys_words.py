@@ -47,6 +47,7 @@ UNMODELLED = {
     **cells_yosys.UNMODELLED,
 }
 _AUTO_NAME = re.compile(r"_\d+_$|\$")
+_INDEX = re.compile(r"(.*?)((?:\[\d+\])*)$")
 
 
 def elaborate_cell(el, scope, inst: ir.Instance) -> bool:
@@ -54,7 +55,7 @@ def elaborate_cell(el, scope, inst: ir.Instance) -> bool:
     cell = inst.cell
     gate = cells_yosys.lookup(cell)
     if gate is not None:
-        if gate.sequential is not None and _AUTO_NAME.match(inst.name):
+        if gate.sequential is not None:
             inst = _named_by_output(el, scope, inst, gate.pin_order, "Q")
         el.elab_cell(scope, inst, gate)
         return True
@@ -81,14 +82,20 @@ def _unmodelled(el, scope, inst, what: str) -> None:
 
 
 def _named_by_output(el, scope, inst: ir.Instance, order, out_pin: str) -> ir.Instance:
-    """The instance renamed after the net its output drives (yosys' own names are numbers)."""
+    """A register cell whose instance name yosys made up (``_123_``, ``$auto$...``, or its
+    ``write_verilog`` name ``q_reg[3]`` for the register driving ``q[3]``), renamed after the
+    net its output drives, as the always-block spelling of the same netlist names it."""
     conns = dict((p if p is not None else order[i], e)
                  for i, (p, e) in enumerate(inst.connections))
     e = conns.get(out_pin)
     bits = el.conn_bits(scope, e, inst.loc) if e is not None else None
     if not bits or len(bits) != 1 or bits[0] in el.const_bits(2, 2):
         return inst
-    return ir.Instance(cell=inst.cell, name=_local(scope, bits[0]),
+    q = _local(scope, bits[0])
+    base, index = _INDEX.match(q).groups()
+    if not (_AUTO_NAME.match(inst.name) or inst.name == f"{base}_reg{index}"):
+        return inst
+    return ir.Instance(cell=inst.cell, name=q,
                        connections=inst.connections, params=inst.params, delay=inst.delay,
                        loc=inst.loc, attrs=inst.attrs)
 

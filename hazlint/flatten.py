@@ -23,6 +23,7 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from . import cells_yosys_words as yosys_cells
+from . import initial_values
 from . import library as lib
 from .consteval import NotConstant, const_value
 from .design import BlackBox, Design, Register
@@ -145,6 +146,7 @@ class Elaborator:
         self.port_bits_top: dict[str, str] = {}
         self.port_attrs: dict[str, dict] = {}
         self.latch_paths: list[tuple[str, str, str]] = []
+        self.init_values: initial_values.InitValues = {}    # net bit -> power-up value
         self.blackbox_cells_warned: set[str] = set()
         self.blackbox_pins: set[str] = set()    # net bits connected to black-box pins
         self.bb_owner: dict[str, tuple] = {}    # such a net bit -> (instance, cell, loc, reason)
@@ -331,6 +333,8 @@ class Elaborator:
                 self._set_param(scope, it, named)
         for pname, port in m.ports.items():
             self.declare(scope, pname, port.width, port.net_type, port.signed, port.loc)
+            if "init" in port.attrs:
+                initial_values.record_attribute(self, scope, port)
         self.elab_items(scope, m.items, depth, declare_only_params=False)
 
     def _set_param(self, scope: Scope, p: ir.Param, named: Mapping[str, Any]) -> None:
@@ -396,6 +400,8 @@ class Elaborator:
                 if it.attrs:
                     for b in scope.nets[it.name].bits():
                         self.port_attrs.setdefault(b, {}).update(it.attrs)
+                    if "init" in it.attrs:
+                        initial_values.record_attribute(self, scope, it)
             elif isinstance(it, ir.Param) and scope.parent is not None:
                 self._set_param(scope, it, {})
         for it in items:
@@ -478,8 +484,7 @@ class Elaborator:
         elif isinstance(it, ir.Always):
             self.elab_always(scope, it)
         elif isinstance(it, ir.Initial):
-            self.note("initial block ignored (simulation only)", it.loc, scope.instance,
-                      key=("initial", scope.module.name))
+            initial_values.record_block(self, scope, it)
         elif isinstance(it, ir.GenFor):
             self.elab_genfor(scope, it, depth)
         elif isinstance(it, ir.GenIf):
@@ -1697,6 +1702,11 @@ class Elaborator:
             members.setdefault(find(name), []).append(name)
         self._members = members
         port_set = set(inputs) | set(outputs)
+        inits = initial_values.by_net(self.init_values, find)
+        driven = {find(d["out"]) for d in self.drivers}
+        for root, (bit, v, loc, inst) in inits.items():
+            if root not in driven:      # a variable nothing assigns keeps its initial value
+                self._add_driver("const", bit, op=f"const{v}", instance=inst, loc=loc)
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
@@ -1773,6 +1783,7 @@ class Elaborator:
         # registers refer to sink ids (stable) and state node ids (merged-net names)
         for r in self.registers:
             r.outputs = {k: node_of(v) for k, v in r.outputs.items()}
+        initial_values.apply_to_graph(g, inits, rep, self.registers)
         design.latch_paths = [(d_, e_, node_of(q)) for d_, e_, q in self.latch_paths]
         return design
 
