@@ -55,9 +55,7 @@ def elaborate_cell(el, scope, inst: ir.Instance) -> bool:
     cell = inst.cell
     gate = cells_yosys.lookup(cell)
     if gate is not None:
-        if gate.sequential is not None:
-            inst = _named_by_output(el, scope, inst, gate.pin_order, "Q")
-        el.elab_cell(scope, inst, gate)
+        el.elab_cell(scope, inst, gate, register_name(el, scope, inst, gate))
         return True
     if cell in IGNORED:
         el.note(f"yosys {IGNORED[cell]} cell '{cell}' drives no logic and is skipped",
@@ -81,23 +79,28 @@ def _unmodelled(el, scope, inst, what: str) -> None:
     el.blackbox(scope, inst, f"yosys cell '{inst.cell}' ({what}) is not modelled", note=False)
 
 
-def _named_by_output(el, scope, inst: ir.Instance, order, out_pin: str) -> ir.Instance:
-    """A register cell whose instance name yosys made up (``_123_``, ``$auto$...``, or its
-    ``write_verilog`` name ``q_reg[3]`` for the register driving ``q[3]``), renamed after the
-    net its output drives, as the always-block spelling of the same netlist names it."""
+def register_name(el, scope, inst: ir.Instance, cell) -> str | None:
+    """The name of the register of a cell instance (yosys' or a library's) whose instance name
+    yosys made up (``_123_``, ``$auto$...``, or its ``write_verilog`` name ``q_reg[3]`` for the
+    register driving ``q[3]``): the net its Q drives, as the always-block spelling of the same
+    netlist names it. None (the instance name) otherwise; the instance path stays."""
+    seq = cell.sequential
+    q_pins = [] if seq is None else [p for p, w in seq.state_outputs.items() if w == "Q"] + [
+        p for p, f in cell.functions.items() if f in (("var", "IQ"), ("not", ("var", "IQN")))]
+    if not q_pins or not (_AUTO_NAME.match(inst.name) or "_reg" in inst.name):
+        return None
+    order = getattr(cell, "pin_order", None) or (cell.outputs + cell.inputs)
     conns = dict((p if p is not None else order[i], e)
-                 for i, (p, e) in enumerate(inst.connections))
-    e = conns.get(out_pin)
+                 for i, (p, e) in enumerate(inst.connections) if p is not None or i < len(order))
+    e = conns.get(q_pins[0])
     bits = el.conn_bits(scope, e, inst.loc) if e is not None else None
     if not bits or len(bits) != 1 or bits[0] in el.const_bits(2, 2):
-        return inst
+        return None
     q = _local(scope, bits[0])
     base, index = _INDEX.match(q).groups()
     if not (_AUTO_NAME.match(inst.name) or inst.name == f"{base}_reg{index}"):
-        return inst
-    return ir.Instance(cell=inst.cell, name=q,
-                       connections=inst.connections, params=inst.params, delay=inst.delay,
-                       loc=inst.loc, attrs=inst.attrs)
+        return None
+    return q
 
 
 def _local(scope, bit: str) -> str:
@@ -494,17 +497,19 @@ def _per_bit(w: _Word, cell: str, pins: dict[str, list[str]], out: str, width: i
 
 
 def _per_bit_one(w: _Word, cell: str, pins: dict[str, list[str]], out: str, i: int) -> None:
-    """Instance of gate-level cell ``cell`` for bit ``i``, named after the net it drives."""
+    """Instance ``name[i]`` of gate-level cell ``cell`` for bit ``i``; a register among them
+    is named after the net it drives."""
     outs = w.out_bits(out)
     dst = outs[i] if i < len(outs) else None
     conns = [(p, ("_bits", bits)) for p, bits in pins.items()]
+    reg_name = None
     if dst is not None and dst not in (w.C0, w.C1):
         conns.append((out, ("_bits", [dst])))
-        name = _local(w.scope, dst)
-    else:
-        name = f"{w.inst.name}[{i}]"
-    one = ir.Instance(cell=cell, name=name, connections=conns, loc=w.loc, attrs=w.inst.attrs)
-    w.el.elab_cell(w.scope, one, cells_yosys.lookup(cell))
+        reg_name = _local(w.scope, dst)
+    one = ir.Instance(cell=cell, name=f"{w.inst.name}[{i}]", connections=conns, loc=w.loc,
+                      attrs=w.inst.attrs)
+    gate = cells_yosys.lookup(cell)
+    w.el.elab_cell(w.scope, one, gate, reg_name if gate.sequential else None)
 
 
 # ------------------------------------------------------------------------------------------------
@@ -542,6 +547,14 @@ _PORTS: dict[str, tuple[str, ...]] = {
     "$sdffce": ("CLK", "SRST", "EN", "D", "Q"), "$dlatch": ("EN", "D", "Q"),
     "$adlatch": ("EN", "ARST", "D", "Q"), "$dlatchsr": ("EN", "SET", "CLR", "D", "Q"),
 }
+
+
+REGISTER_CELLS = frozenset(_REGISTERS)
+
+
+def port_order(cell: str) -> tuple[str, ...]:
+    """The pins of word-level cell ``cell`` in positional order."""
+    return _PORTS[cell]
 
 
 def word_cells() -> list[str]:

@@ -983,7 +983,8 @@ class Elaborator:
         elif cell in self.primitives:
             self.elab_udp(scope, inst, self.primitives[cell])
         elif cell in self.library:
-            self.elab_cell(scope, inst, self.library.get(cell))
+            cdef = self.library.get(cell)
+            self.elab_cell(scope, inst, cdef, yosys_cells.register_name(self, scope, inst, cdef))
         elif cell.startswith("$") and yosys_cells.elaborate_cell(self, scope, inst):
             pass                # a yosys cell, built in after the user's and Liberty cells
         else:
@@ -1177,7 +1178,8 @@ class Elaborator:
             out[pname] = self.conn_bits(scope, e, inst.loc) if e is not None else None
         return out
 
-    def elab_cell(self, scope: Scope, inst: ir.Instance, cell: CellDef) -> None:
+    def elab_cell(self, scope: Scope, inst: ir.Instance, cell: CellDef,
+                  reg_name: str | None = None) -> None:
         path = f"{scope.instance}.{inst.name}"
         positional = any(p is None for p, _ in inst.connections)
         order = list(getattr(cell, "pin_order", None) or (cell.outputs + cell.inputs))
@@ -1203,7 +1205,7 @@ class Elaborator:
 
         self._unconn_noted = getattr(self, "_unconn_noted", {})
         if cell.sequential is not None:
-            self.elab_seq_cell(scope, inst, cell, conns, pin_sig, path)
+            self.elab_seq_cell(scope, inst, cell, conns, pin_sig, path, reg_name)
             return
         for out in cell.outputs:
             bits = conns.get(out)
@@ -1272,9 +1274,10 @@ class Elaborator:
         return self.gate(scope, tag, [self._expr_gates(scope, x, pin_sig, loc) for x in e[1:]],
                          loc, delay=ZERO_DELAY)
 
-    def elab_seq_cell(self, scope, inst, cell: CellDef, conns, pin_sig, path) -> None:
+    def elab_seq_cell(self, scope, inst, cell: CellDef, conns, pin_sig, path,
+                      reg_name: str | None = None) -> None:
         seq = cell.sequential
-        name = self.rel(scope, inst.name)
+        name = self.rel(scope, reg_name or inst.name)
         reg = Register(name=name, kind=seq.kind, cell=cell.name, instance=path,
                        path=inst.loc.path if inst.loc else "", line=inst.loc.line if inst.loc
                        else 0)
@@ -1625,27 +1628,30 @@ class Elaborator:
         while body and body[0] == "block" and len(body[1]) == 1:
             body = body[1][0]
         edge_names = {}
+        edge_exprs = {}
         for edge, e in edges:
-            if e[0] != "id":
+            key = _edge_key(e)          # a name, or one constant bit of a vector (yosys)
+            if key is None:
                 raise _BlackBoxModule("edge on an expression in a sensitivity list", loc)
-            edge_names[e[1]] = edge
+            edge_names[key] = edge
+            edge_exprs[key] = e
         # peel asynchronous branches: if (<async cond>) ... else if ... else <clocked>
         asyncs = []
         stmt = body
         while (stmt is not None and stmt[0] == "if" and len(edge_names) > 1
-               and _ids(stmt[1]) and _ids(stmt[1]) <= set(edge_names)
+               and _ids(stmt[1], True) and _ids(stmt[1], True) <= set(edge_names)
                and len(asyncs) < len(edge_names) - 1):
             asyncs.append((stmt[1], stmt[2]))
             stmt = stmt[3]
             while stmt is not None and stmt[0] == "block" and len(stmt[1]) == 1:
                 stmt = stmt[1][0]
-        used = set().union(*(_ids(c) for c, _ in asyncs)) if asyncs else set()
+        used = set().union(*(_ids(c, True) for c, _ in asyncs)) if asyncs else set()
         clocks = [n for n in edge_names if n not in used]
         if len(clocks) != 1:
             raise _BlackBoxModule("always block whose clock cannot be identified (sensitivity "
                                   f"list {', '.join(edge_names)})", loc)
         clk = clocks[0]
-        clk_sig = self.net_bits(scope, clk, loc)[0]
+        clk_sig = self.lvalue_bits(edge_exprs[clk], scope, loc, reading=True)[0]
         # the clocked part
         assigned: list[str] = []
         self._assigned(stmt, scope, loc, assigned)
@@ -1683,10 +1689,10 @@ class Elaborator:
     def _cond_signal(self, scope, cond, loc) -> tuple[str, int]:
         """An asynchronous condition as (net, active level); plain forms use no gate."""
         c = cond
-        if c[0] == "id":
-            return self.net_bits(scope, c[1], loc)[0], 1
-        if c[0] == "unop" and c[1] in ("!", "~") and c[2][0] == "id":
-            return self.net_bits(scope, c[2][1], loc)[0], 0
+        if _edge_key(c) is not None:
+            return self.lvalue_bits(c, scope, loc, reading=True)[0], 1
+        if c[0] == "unop" and c[1] in ("!", "~") and _edge_key(c[2]) is not None:
+            return self.lvalue_bits(c[2], scope, loc, reading=True)[0], 0
         if c[0] == "binop" and c[1] in ("==", "===") and c[2][0] == "id" and c[3][0] == "num":
             return self.net_bits(scope, c[2][1], loc)[0], 1 if c[3][2] else 0
         s = self.reduce(scope, "or", self.bits(cond, scope, loc, None), loc)
@@ -1877,7 +1883,21 @@ def _fold(op: str, ins: list[str]) -> str | None:
     return None
 
 
-def _ids(e) -> set[str]:
+def _edge_key(e) -> str | None:
+    """``name`` or ``name[3]`` for an identifier or a constant bit select, else None."""
+    if e[0] == "id":
+        return e[1]
+    if e[0] == "bit" and e[1][0] == "id" and e[2][0] == "num" and not e[2][3]:
+        return f"{e[1][1]}[{e[2][2]}]"
+    return None
+
+
+def _ids(e, bit_keys: bool = False) -> set[str]:
+    """The identifiers an expression reads; with ``bit_keys``, a constant bit select is kept
+    apart as ``name[3]`` (``_edge_key``)."""
+    key = _edge_key(e) if bit_keys else None
+    if key is not None:
+        return {key}
     tag = e[0]
     if tag == "id":
         return {e[1]}
@@ -1886,11 +1906,11 @@ def _ids(e) -> set[str]:
     out: set[str] = set()
     for x in e[1:]:
         if isinstance(x, tuple) and x and isinstance(x[0], str):
-            out |= _ids(x)
+            out |= _ids(x, bit_keys)
         elif isinstance(x, (list, tuple)):
             for y in x:
                 if isinstance(y, tuple) and y and isinstance(y[0], str):
-                    out |= _ids(y)
+                    out |= _ids(y, bit_keys)
     return out
 
 

@@ -22,8 +22,9 @@ ROOT = Path(__file__).resolve().parent.parent
 FIX = ROOT / "fixtures"
 # fixtures that are deliberately malformed or need include paths/defines given by their tests
 # (frontend), and netlists of library cells, simulated against cell models in their own tests
-# (tests/test_liberty.py, tests/test_sdf.py)
-SPECIAL = {"frontend", "sdf", "liberty"}
+# (tests/test_liberty.py, tests/test_sdf.py); RTL that yosys synthesises before hazlint reads it
+# (tests/test_synth_corpus.py compares those netlists with iverilog's simulation of the RTL)
+SPECIAL = {"frontend", "sdf", "liberty", "synth"}
 
 
 def designs():
