@@ -95,9 +95,10 @@ class Design:
 
         ``values`` maps primary input port bits (and, optionally, register names or state node
         ids for the current register contents) to ints carrying ``width`` independent vectors.
-        Missing inputs are 0; a register not given holds its power-up value (``init``), else 0. Returns the primary output port bits, and every driver node when
-        ``nets`` is true. Combinational loops are evaluated in a fixed order once (no iteration);
-        use the ternary analysis for their behaviour.
+        Missing inputs are 0; a register not given holds its power-up value (``init``), else
+        0. Returns the primary output port bits, and every driver node when ``nets`` is true.
+        Combinational loops are evaluated in a fixed order once (no iteration); use the
+        ternary analysis for their behaviour.
         """
         mask = (1 << width) - 1
         g = self.graph

@@ -35,7 +35,7 @@ def test_every_simcells_cell_is_built_in_with_its_port_order(simcells):
     assert set(built) <= set(simcells)
 
 
-def _netlist(cells: list[str], simcells, width_of) -> tuple[str, list[tuple[str, list[str]]]]:
+def _netlist(cells: list[str], simcells) -> tuple[str, list[tuple[str, list[str]]]]:
     """One module instantiating each cell once, inputs as slices of port ``i``."""
     lines, slots, pos = [], [], 0
     for k, name in enumerate(cells):
@@ -59,7 +59,7 @@ def _models(simcells, cells) -> str:
 
 def test_combinational_cells_match_simcells(simcells, tmp_path):
     cells = [c for c, d in cells_yosys.gate_cells().items() if d.sequential is None]
-    net, slots = _netlist(cells, simcells, None)
+    net, slots = _netlist(cells, simcells)
     n_in = sum(len(ins) for _, ins in slots)
     rng = random.Random(16)
     L = 4096
@@ -118,7 +118,7 @@ def _letters(name: str) -> dict[str, str]:
 
 def test_sequential_cells_match_simcells(simcells, tmp_path):
     cells = [c for c, d in cells_yosys.gate_cells().items() if d.sequential is not None]
-    net, slots = _netlist(cells, simcells, None)
+    net, slots = _netlist(cells, simcells)
     rng = random.Random(1965)
     steps = 160
     # per cell: its pins' values, changed one pin at a time
@@ -187,7 +187,7 @@ def test_sequential_cells_match_simcells(simcells, tmp_path):
     assert compared > 0.8 * len(cells) * (len(flat) - 1)
 
 
-def test_register_roles_and_reset_values():
+def test_register_roles_and_reset_values(tmp_path):
     """Pin roles and levels hazlint records, read from the cell names by yosys' convention
     (simcells.v: P/N active level or edge, 0/1 reset value)."""
     design_src = "module t(input c, r, s, e, d, l, a, output q1, q2, q3, q4);\n" \
@@ -195,12 +195,8 @@ def test_register_roles_and_reset_values():
         "  \\$_SDFFE_PN0P_ f2 (.C(c), .R(r), .E(e), .D(d), .Q(q2));\n" \
         "  \\$_DLATCHSR_NPN_ f3 (.E(e), .S(s), .R(r), .D(d), .Q(q3));\n" \
         "  \\$_ALDFF_PN_ f4 (.C(c), .L(l), .AD(a), .D(d), .Q(q4));\nendmodule\n"
-    import tempfile
-    from pathlib import Path
-    with tempfile.TemporaryDirectory() as td:
-        p = Path(td) / "t.v"
-        p.write_text(design_src)
-        design = hazlint.load_design([str(p)])
+    (tmp_path / "t.v").write_text(design_src)
+    design = hazlint.load_design([str(tmp_path / "t.v")])
     regs = {r.instance.rsplit(".", 1)[-1]: r for r in design.registers}
     g = design.graph
     f1 = regs["f1"]
