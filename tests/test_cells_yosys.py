@@ -57,6 +57,7 @@ def _models(simcells, cells) -> str:
     return "\n".join(simcells[c][1] for c in cells) + "\n"
 
 
+@pytest.mark.slow
 def test_combinational_cells_match_simcells(simcells, tmp_path):
     cells = [c for c, d in cells_yosys.gate_cells().items() if d.sequential is None]
     net, slots = _netlist(cells, simcells)
@@ -116,6 +117,7 @@ def _letters(name: str) -> dict[str, str]:
     return dict(zip(pins, letters))
 
 
+@pytest.mark.slow
 def test_sequential_cells_match_simcells(simcells, tmp_path):
     cells = [c for c, d in cells_yosys.gate_cells().items() if d.sequential is not None]
     net, slots = _netlist(cells, simcells)

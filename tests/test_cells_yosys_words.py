@@ -169,6 +169,7 @@ def test_every_modelled_word_cell_has_simlib_port_order(simlib):
         assert list(cells_yosys_words.port_order(cell)) == ports, cell
 
 
+@pytest.mark.slow
 def test_combinational_word_cells_match_simlib(simlib, tmp_path):
     rng = random.Random(2005)
     cases = combinational_cases(rng)
@@ -194,6 +195,7 @@ def test_combinational_word_cells_match_simlib(simlib, tmp_path):
     assert done > 0.95 * L * n_out        # x only where the models leave a bit undefined
 
 
+@pytest.mark.slow
 def test_word_registers_match_simlib(simlib, tmp_path):
     rng = random.Random(1364)
     cases = register_cases(rng)
