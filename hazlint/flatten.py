@@ -21,12 +21,14 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from . import cells_yosys_words as yosys_cells
+from . import initial_values
 from . import library as lib
 from .consteval import NotConstant, const_value
 from .design import BlackBox, Design, Register
 from .diagnostics import Diagnostic, Location, Severity
 from .elaborate.behaviour import BehaviourElaborator
-from .elaborate.common import C0, C1, HOLD, walk_items
+from .elaborate.common import C0, C1, walk_items
 from .elaborate.common import fold as _fold
 from .elaborate.common import BlackBoxModule as _BlackBoxModule
 from .elaborate.common import expr_text as _expr_text
@@ -84,6 +86,7 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         self.port_bits_top: dict[str, str] = {}
         self.port_attrs: dict[str, dict] = {}
         self.latch_paths: list[tuple[str, str, str]] = []
+        self.init_values: initial_values.InitValues = {}    # net bit -> power-up value
         self.blackbox_cells_warned: set[str] = set()
         self.blackbox_pins: set[str] = set()    # net bits connected to black-box pins
         self.bb_owner: dict[str, tuple] = {}    # such a net bit -> (instance, cell, loc, reason)
@@ -306,6 +309,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                 self._set_param(scope, it, named)
         for pname, port in m.ports.items():
             self.declare(scope, pname, port.width, port.net_type, port.signed, port.loc)
+            if "init" in port.attrs:
+                initial_values.record_attribute(self, scope, port)
         self.elab_items(scope, m.items, depth, declare_only_params=False)
 
     def _set_param(self, scope: Scope, p: ir.Param, named: Mapping[str, Any]) -> None:
@@ -394,6 +399,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                 if it.attrs:
                     for b in scope.nets[it.name].bits():
                         self.port_attrs.setdefault(b, {}).update(it.attrs)
+                    if "init" in it.attrs:
+                        initial_values.record_attribute(self, scope, it)
             elif isinstance(it, ir.Param) and scope.parent is not None:
                 self._set_param(scope, it, {})
         for it in items:
@@ -476,8 +483,7 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         elif isinstance(it, ir.Always):
             self.elab_always(scope, it)
         elif isinstance(it, ir.Initial):
-            self.note("initial block ignored (simulation only)", it.loc, scope.instance,
-                      key=("initial", scope.module.name))
+            initial_values.record_block(self, scope, it)
         elif isinstance(it, ir.GenFor):
             self.elab_genfor(scope, it, depth)
         elif isinstance(it, ir.GenIf):
@@ -664,7 +670,10 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         elif cell in self.primitives:
             self.elab_udp(scope, inst, self.primitives[cell])
         elif cell in self.library:
-            self.elab_cell(scope, inst, self.library.get(cell))
+            cdef = self.library.get(cell)
+            self.elab_cell(scope, inst, cdef, yosys_cells.register_name(self, scope, inst, cdef))
+        elif cell.startswith("$") and yosys_cells.elaborate_cell(self, scope, inst):
+            pass                # a yosys cell, built in after the user's and Liberty cells
         else:
             if cell not in self.blackbox_cells_warned:
                 self.blackbox_cells_warned.add(cell)
@@ -851,7 +860,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
             out[pname] = self.conn_bits(scope, e, inst.loc) if e is not None else None
         return out
 
-    def elab_cell(self, scope: Scope, inst: ir.Instance, cell: CellDef) -> None:
+    def elab_cell(self, scope: Scope, inst: ir.Instance, cell: CellDef,
+                  reg_name: str | None = None) -> None:
         path = f"{scope.instance}.{inst.name}"
         positional = any(p is None for p, _ in inst.connections)
         order = list(getattr(cell, "pin_order", None) or (cell.outputs + cell.inputs))
@@ -877,7 +887,7 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
 
         self._unconn_noted = getattr(self, "_unconn_noted", {})
         if cell.sequential is not None:
-            self.elab_seq_cell(scope, inst, cell, conns, pin_sig, path)
+            self.elab_seq_cell(scope, inst, cell, conns, pin_sig, path, reg_name)
             return
         for out in cell.outputs:
             bits = conns.get(out)
@@ -946,18 +956,15 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         return self.gate(scope, tag, [self._expr_gates(scope, x, pin_sig, loc) for x in e[1:]],
                          loc, delay=ZERO_DELAY)
 
-    def elab_seq_cell(self, scope, inst, cell: CellDef, conns, pin_sig, path) -> None:
+    def elab_seq_cell(self, scope, inst, cell: CellDef, conns, pin_sig, path,
+                      reg_name: str | None = None) -> None:
         seq = cell.sequential
-        name = self.rel(scope, inst.name)
+        name = self.rel(scope, reg_name or inst.name)
         reg = Register(name=name, kind=seq.kind, cell=cell.name, instance=path,
                        path=inst.loc.path if inst.loc else "", line=inst.loc.line if inst.loc
                        else 0)
         loc = inst.loc
-
-        def iq(p):  # next_state may read the state itself (IQ)
-            if p in ("IQ", "IQN"):
-                return HOLD
-            return pin_sig(p)
+        mark = len(self.drivers)
         if seq.kind == "ff":
             if seq.clocked_on is None or seq.next_state is None:
                 raise ElaborationError(f"flip-flop cell '{cell.name}' needs clocked_on and "
@@ -968,6 +975,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                                               register=name, active=reg.clock_edge,
                                               **self._pin_of(seq.clocked_on))
             data_e = seq.next_state
+        elif seq.enable is None and seq.data_in is None and (seq.clear or seq.preset):
+            data_e = None           # a set/reset latch: only its asynchronous pins
         else:
             if seq.enable is None or seq.data_in is None:
                 raise ElaborationError(f"latch cell '{cell.name}' needs enable and data_in",
@@ -1006,9 +1015,10 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
             if p == "IQN":
                 return reg.outputs.get("QN") or C0
             return pin_sig(p)
-        d = self._expr_gates(scope, data_e, data_pin, loc)
-        reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path, register=name,
-                                         **self._pin_of(data_e))
+        if data_e is not None:
+            d = self._expr_gates(scope, data_e, data_pin, loc)
+            reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path,
+                                             register=name, **self._pin_of(data_e))
         for role, e in (("reset", seq.clear), ("set", seq.preset)):
             if e is None:
                 continue
@@ -1018,8 +1028,11 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
             reg.active[role] = level
             reg.pins[role] = self.add_sink(sig, role, f"{name}.{role}", loc, path,
                                            register=name, active=level, **self._pin_of(e))
+        for rec in self.drivers[mark:]:
+            if rec["kind"] == "gate":
+                rec["register"] = name      # the cell's own next-state and control logic
         self.registers.append(reg)
-        if seq.kind == "latch":
+        if seq.kind == "latch" and "enable" in reg.pins:
             self.latch_paths.append((reg.pins["data"], reg.pins["enable"],
                                      reg.outputs.get("Q") or next(iter(reg.outputs.values()))))
 
@@ -1112,6 +1125,11 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
             members.setdefault(find(name), []).append(name)
         self._members = members
         port_set = set(inputs) | set(outputs)
+        inits = initial_values.by_net(self.init_values, find)
+        driven = {find(d["out"]) for d in self.drivers}
+        for root, (bit, v, loc, inst) in inits.items():
+            if root not in driven:      # a variable nothing assigns keeps its initial value
+                self._add_driver("const", bit, op=f"const{v}", instance=inst, loc=loc)
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
@@ -1188,6 +1206,7 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         # registers refer to sink ids (stable) and state node ids (merged-net names)
         for r in self.registers:
             r.outputs = {k: node_of(v) for k, v in r.outputs.items()}
+        initial_values.apply_to_graph(g, inits, rep, self.registers)
         design.latch_paths = [(d_, e_, node_of(q)) for d_, e_, q in self.latch_paths]
         return design
 
@@ -1218,6 +1237,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         g.add_node(nid, kind="blackbox", name=nid, op="buf", inputs=[], pins=[], delays=[],
                    cell="undriven", instance="", reason="undriven net", path="", line=0,
                    column=1)
+        if any(self.undriven_word(m) for m in self._members.get(self.find(nid), [nid])):
+            return                      # one warning per array (hazlint.elaborate.memory)
         self.note(f"net '{nid}' is read but never driven; it is a free input for analysis",
                   None, "", key=("undriven", nid), severity=Severity.WARNING)
 

@@ -325,6 +325,27 @@ def test_memory_node_read_reaching_an_asynchronous_pin_warns(tmp_path):
     assert not d2.memories and not [n for n in d2.notes if "reach" in n.message]
 
 
+def test_table_filled_by_an_initial_block_is_one_warning(tmp_path):
+    # a table whose words only an initial block (or $readmemh) fills: the words are free
+    # inputs, reported once for the array, and the module is analysed
+    p = write(tmp_path, "rom.v", """
+        module press_rom(input [3:0] a, output [7:0] q, output [7:0] first);
+          reg [7:0] rom [0:15];
+          integer i;
+          initial for (i = 0; i < 16; i = i + 1) rom[i] = i;
+          assign q = rom[a];
+          assign first = rom[0];
+        endmodule
+    """)
+    for limit in (4096, 64):        # registers, memory node
+        d = hazlint.load_design([str(p)], memory_max_bits=limit)
+        assert not d.not_analysed and not d.blackboxes
+        warnings = [n for n in d.notes if str(n.severity) == "warning"]
+        assert len(warnings) <= 1, [n.message for n in warnings]
+        if limit == 4096:
+            assert "words of 'rom' are read but never written" in warnings[0].message
+
+
 def test_memory_limit_is_a_configuration_key(tmp_path):
     write(tmp_path, "t.v", BIG)
     (tmp_path / "hazlint.toml").write_text('files = ["t.v"]\nmemory_as_registers_max_bits = 64\n')

@@ -556,28 +556,31 @@ class BehaviourElaborator:
                 len(body) > 3 and body[3]):
             body = body[1][0]
         edge_names = {}
+        edge_exprs = {}
         for edge, e in edges:
-            if e[0] != "id":
+            key = _edge_key(e)          # a name, or one constant bit of a vector (yosys)
+            if key is None:
                 raise BlackBoxModule("edge on an expression in a sensitivity list", loc)
-            edge_names[e[1]] = edge
+            edge_names[key] = edge
+            edge_exprs[key] = e
         # peel asynchronous branches: if (<async cond>) ... else if ... else <clocked>
         asyncs = []
         stmt = body
         while (stmt is not None and stmt[0] == "if" and len(edge_names) > 1
-               and _ids(stmt[1]) and _ids(stmt[1]) <= set(edge_names)
+               and _ids(stmt[1], True) and _ids(stmt[1], True) <= set(edge_names)
                and len(asyncs) < len(edge_names) - 1):
             asyncs.append((stmt[1], stmt[2]))
             stmt = stmt[3]
             while stmt is not None and stmt[0] == "block" and len(stmt[1]) == 1 and not (
                     len(stmt) > 3 and stmt[3]):
                 stmt = stmt[1][0]
-        used = set().union(*(_ids(c) for c, _ in asyncs)) if asyncs else set()
+        used = set().union(*(_ids(c, True) for c, _ in asyncs)) if asyncs else set()
         clocks = [n for n in edge_names if n not in used]
         if len(clocks) != 1:
             raise BlackBoxModule("always block whose clock cannot be identified (sensitivity "
                                  f"list {', '.join(edge_names)})", loc)
         clk = clocks[0]
-        clk_sig = self.net_bits(scope, clk, loc)[0]
+        clk_sig = self.lvalue_bits(edge_exprs[clk], scope, loc, reading=True)[0]
         st = Exec()
         self.exec_stmt(stmt, scope, loc, st)
         assigned = self._assigned_bits(st)
@@ -618,16 +621,30 @@ class BehaviourElaborator:
     def _cond_signal(self, scope, cond, loc) -> tuple[str, int]:
         """An asynchronous condition as (net, active level); plain forms use no gate."""
         c = cond
-        if c[0] == "id":
-            return self.net_bits(scope, c[1], loc)[0], 1
-        if c[0] == "unop" and c[1] in ("!", "~") and c[2][0] == "id":
-            return self.net_bits(scope, c[2][1], loc)[0], 0
+        if _edge_key(c) is not None:
+            return self.lvalue_bits(c, scope, loc, reading=True)[0], 1
+        if c[0] == "unop" and c[1] in ("!", "~") and _edge_key(c[2]) is not None:
+            return self.lvalue_bits(c[2], scope, loc, reading=True)[0], 0
         if c[0] == "binop" and c[1] in ("==", "===") and c[2][0] == "id" and c[3][0] == "num":
             return self.net_bits(scope, c[2][1], loc)[0], 1 if c[3][2] else 0
         return self.truth(cond, scope, loc), 1
 
 
-def _ids(e) -> set[str]:
+def _edge_key(e) -> str | None:
+    """``name`` or ``name[3]`` for an identifier or a constant bit select, else None."""
+    if e[0] == "id":
+        return e[1]
+    if e[0] == "bit" and e[1][0] == "id" and e[2][0] == "num" and not e[2][3]:
+        return f"{e[1][1]}[{e[2][2]}]"
+    return None
+
+
+def _ids(e, bit_keys: bool = False) -> set[str]:
+    """The identifiers an expression reads; with ``bit_keys``, a constant bit select is kept
+    apart as ``name[3]`` (:func:`_edge_key`)."""
+    key = _edge_key(e) if bit_keys else None
+    if key is not None:
+        return {key}
     tag = e[0]
     if tag == "id":
         return {e[1]}
@@ -636,11 +653,11 @@ def _ids(e) -> set[str]:
     out: set[str] = set()
     for x in e[1:]:
         if isinstance(x, tuple) and x and isinstance(x[0], str):
-            out |= _ids(x)
+            out |= _ids(x, bit_keys)
         elif isinstance(x, (list, tuple)):
             for y in x:
                 if isinstance(y, tuple) and y and isinstance(y[0], str):
-                    out |= _ids(y)
+                    out |= _ids(y, bit_keys)
     return out
 
 

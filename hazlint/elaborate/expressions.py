@@ -81,6 +81,8 @@ class ExpressionElaborator:
     """Expression typing (:meth:`expr_type`), evaluation to gates (:meth:`bits`) and targets
     of assignments (:meth:`targets`)."""
 
+    const_bits = staticmethod(const_bits)
+
     _tmemo: dict | None = None
 
     # ---------------------------------------------------------------- types
@@ -651,8 +653,10 @@ class ExpressionElaborator:
         out: list[str] = []
         for piece in self.targets(e, scope, loc, env):
             if not isinstance(piece, Dyn) or len(piece.alts) != 1 or piece.alts[0][0] != C1:
-                raise self._unsupported("assignment to a variable index outside an always "
-                                        "block", e, loc)
+                # Verilog allows a variable index only in procedural assignments
+                raise ElaborationError(f"'{expr_text(e)}' selects with a variable index or "
+                                       "writes a memory outside an always block", *where(loc),
+                                       construct=expr_text(e))
             out.extend(piece.alts[0][1])
         return out
 

@@ -184,6 +184,10 @@ class GateBuilder:
             level = nxt
         return level[0]
 
+    def select_mux(self, scope, whole: list[str], sel: list[str], loc) -> str:
+        """``whole[sel]`` for one-bit entries (positions past the end read 0)."""
+        return self.select_words(scope, [[b] for b in whole], sel, loc, [C0])[0]
+
     def equals_const(self, scope, bits: list[str], value: int, loc) -> str:
         """``bits == value`` (a decoder term): C0 when the value does not fit."""
         if value < 0 or value >> len(bits):

@@ -85,10 +85,26 @@ class MemoryElaborator:
                       "sinks, read data are sources (memory_as_registers_max_bits sets the "
                       "limit)", loc, scope.instance)
             return
+        owner = self.__dict__.setdefault("_array_of_bit", {})
         for w in info.words():
             for b in w.bits():
                 self.parent.setdefault(b, b)
                 self.declared.add(b)
+                owner[b] = (info, loc, scope.instance)
+
+    def undriven_word(self, bit: str) -> bool:
+        """A word bit of an array that is read but never written (a table filled by an
+        ``initial`` block or ``$readmemh``): one warning for the array; True when ``bit`` is
+        such a word bit."""
+        found = self.__dict__.get("_array_of_bit", {}).get(bit)
+        if found is None:
+            return False
+        info, loc, instance = found
+        self.note(f"words of '{info.base}' are read but never written by the design (contents "
+                  "from an initial block or a file are not modelled): they are free inputs "
+                  "for analysis", loc, instance, key=("undriven-array", info.base),
+                  severity=Severity.WARNING)
+        return True
 
     # ---------------------------------------------------------------- reads
     def memory_read(self, scope, info, idxs, pick, loc, env) -> list[str]:

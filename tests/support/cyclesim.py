@@ -1,87 +1,80 @@
-"""Clocked simulation of a hazlint Design (zero delay), to compare with Icarus Verilog.
+"""A zero-delay event simulator of a hazlint Design, for comparing with Icarus Verilog.
 
-Each step sets the primary inputs, lets the combinational logic, transparent latches and
-asynchronous set/reset settle, and clocks every flip-flop whose clock pin sees its active edge
-(the data pins are read before the edge). Register state starts at 0; memory-node read data
-and black-box outputs are 0.
+Only the test set uses it: it reads what the elaborator recorded about each register (clock
+sink and edge, data sink, enable, set and reset sinks with their active levels) and runs the
+usual register semantics over :meth:`Design.evaluate`: at an active clock edge a flip-flop
+takes the value its data pin had just before the edge, unless an asynchronous set or reset was
+active just before it (a reset released by the same edge still holds the register); an active
+reset loads 0, an active set 1 (the stimuli never activate both); an open latch follows its
+data pin. Edges that registers
+make on other registers' clocks, and latches feeding latches, are followed until nothing
+changes.
 """
 from __future__ import annotations
 
 
 class CycleSim:
-    def __init__(self, design):
-        self.d = design
-        g = design.graph
-        self.state = {r.name: 0 for r in design.registers}
-        self.ffs = [r for r in design.registers if r.kind == "ff"]
-        self.latches = [r for r in design.registers if r.kind == "latch"]
-        self.g = g
-        self.values: dict = {}
+    def __init__(self, design, state: dict[str, int] | None = None,
+                 inputs: dict[str, int] | None = None):
+        self.design = design
+        self.regs = list(design.registers)
+        names = [r.name for r in self.regs]
+        assert len(set(names)) == len(names), "register names must be unique"
+        self.state = {r.name: getattr(r, "init", None) or 0 for r in self.regs}
+        if state:
+            self.state.update(state)
+        self.inputs: dict[str, int] = dict(inputs or {})
+        self.values = self._eval()
 
-    def _eval(self, inputs: dict) -> dict:
-        vals = dict(inputs)
-        vals.update(self.state)
-        return self.d.evaluate(vals, 1, nets=True)
+    def _eval(self, state=None) -> dict[str, int]:
+        st = self.state if state is None else state
+        return self.design.evaluate({**self.inputs, **st}, nets=True)
 
-    def _pin(self, net, r, role):
-        sid = r.pins.get(role)
-        return None if sid is None else net[sid] & 1
+    def apply(self, inputs: dict[str, int]) -> dict[str, int]:
+        """Change primary input bits (others keep their values); return the node values."""
+        self.inputs = {**self.inputs, **inputs}
+        before, now = self.values, self._eval()
+        for _ in range(4 * len(self.regs) + 4):
+            nxt = dict(self.state)
+            for r in self.regs:
+                if r.kind != "ff" or "clock" not in r.pins:
+                    continue
+                c = r.pins["clock"]
+                edge = (before[c], now[c]) == ((0, 1) if r.clock_edge == "posedge" else (1, 0))
+                if edge and "data" in r.pins and not self._forced(r, before):
+                    nxt[r.name] = before[r.pins["data"]]
+            nxt, vals = self._levels(nxt, now if nxt == self.state else None)
+            if nxt == self.state:
+                self.values = vals
+                return vals
+            self.state = nxt
+            before, now = now, vals
+        raise AssertionError("registers do not settle (oscillation through latches?)")
 
-    def _active(self, r, role, v):
-        return v is not None and v == r.active.get(role, 1)
+    @staticmethod
+    def _forced(r, vals) -> bool:
+        """An asynchronous set or reset is active: a clock edge loads nothing."""
+        return any(role in r.pins and vals[r.pins[role]] == r.active[role]
+                   for role in ("set", "reset"))
 
-    def settle(self, inputs: dict) -> dict:
-        for _ in range(64):
-            net = self._eval(inputs)
-            changed = False
-            for r in self.latches:
-                if self._active(r, "enable", self._pin(net, r, "enable")):
-                    v = self._pin(net, r, "data")
-                    if self.state[r.name] != v:
-                        self.state[r.name] = v
-                        changed = True
-            for r in self.d.registers:
-                v = None
-                if self._active(r, "reset", self._pin(net, r, "reset")):
-                    v = 0
-                elif self._active(r, "set", self._pin(net, r, "set")):
-                    v = 1
-                if v is not None and self.state[r.name] != v:
-                    self.state[r.name] = v
-                    changed = True
-            if not changed:
-                self.values = net
-                return net
-        raise AssertionError("the design does not settle (oscillating latches?)")
+    def _levels(self, state: dict[str, int], vals=None):
+        """Asynchronous set/reset and open latches, to a fixed point: (state, node values)."""
+        for _ in range(4 * len(self.regs) + 4):
+            if vals is None:
+                vals = self._eval(state)
+            nxt = dict(state)
+            for r in self.regs:
+                p, a = r.pins, r.active
+                if "reset" in p and vals[p["reset"]] == a["reset"]:
+                    nxt[r.name] = 0
+                elif "set" in p and vals[p["set"]] == a["set"]:
+                    nxt[r.name] = 1
+                elif r.kind == "latch" and "enable" in p and vals[p["enable"]] == a["enable"]:
+                    nxt[r.name] = vals[p["data"]]
+            if nxt == state:
+                return state, vals
+            state, vals = nxt, None
+        raise AssertionError("latches do not settle")
 
-    def step(self, before: dict, after: dict) -> dict:
-        """Inputs ``before`` (clock low), then ``after`` (clock high): flip-flops take their
-        data at the edge between them. Returns the settled net values after the edge."""
-        pre = self.settle(before)
-        post_comb = self._eval(after)
-        updates = {}
-        for r in self.ffs:
-            sid = r.pins.get("clock")
-            if sid is None:
-                continue
-            a, b = pre[sid] & 1, post_comb[sid] & 1
-            if (r.clock_edge == "posedge" and (a, b) == (0, 1)) or \
-                    (r.clock_edge == "negedge" and (a, b) == (1, 0)):
-                updates[r.name] = pre[r.pins["data"]] & 1
-        self.state.update(updates)
-        return self.settle(after)
-
-
-def port_value(design, net: dict, name: str, width: int) -> int:
-    if width == 1 and name in design.output_node:
-        return net[design.output_node[name]] & 1
-    v = 0
-    for i in range(width):
-        v |= (net[design.output_node[f"{name}[{i}]"]] & 1) << i
-    return v
-
-
-def input_bits(design, name: str, width: int, value: int) -> dict:
-    if width == 1 and name in design.input_node:
-        return {name: value & 1}
-    return {f"{name}[{i}]": (value >> i) & 1 for i in range(width)}
+    def output(self, port_bit: str) -> int:
+        return self.values[self.design.output_node[port_bit]]

@@ -12,7 +12,22 @@ from pathlib import Path
 
 import hazlint
 from support import iverilog
-from support.cyclesim import CycleSim, input_bits, port_value
+from support.cyclesim import CycleSim
+
+
+def port_value(design, net: dict, name: str, width: int) -> int:
+    if width == 1 and name in design.output_node:
+        return net[design.output_node[name]] & 1
+    v = 0
+    for i in range(width):
+        v |= (net[design.output_node[f"{name}[{i}]"]] & 1) << i
+    return v
+
+
+def input_bits(design, name: str, width: int, value: int) -> dict:
+    if width == 1 and name in design.input_node:
+        return {name: value & 1}
+    return {f"{name}[{i}]": (value >> i) & 1 for i in range(width)}
 
 
 def port_widths(bits: list[str]) -> dict[str, int]:
@@ -76,17 +91,18 @@ def compare(paths, top: str, steps: int = 120, seed=0, hold=(), **options):
     lines = [ln.split()[1:] for ln in iverilog.simulate(sources, "tb").splitlines()
              if ln.startswith("@ ")]
     assert len(lines) == steps
-    sim = CycleSim(design)
+    sim = CycleSim(design)          # registers start at their initial value, else 0
     compared = 0
     for k, v in enumerate(vecs):
         bits: dict[str, int] = {}
         for name, x in v.items():
             bits.update(input_bits(design, name, ins[name], x))
         if clocked:
-            net = sim.step(dict(bits, **input_bits(design, "clk", 1, 0)),
-                           dict(bits, **input_bits(design, "clk", 1, 1)))
+            # inputs change with the clock low, then the clock rises (as in the testbench)
+            sim.apply(dict(bits, **input_bits(design, "clk", 1, 0)))
+            net = sim.apply(input_bits(design, "clk", 1, 1))
         else:
-            net = sim.settle(bits)
+            net = sim.apply(bits)
         for (name, w), ref in zip(outs.items(), lines[k]):
             mine = format(port_value(design, net, name, w), f"0{w}b")
             ref = ref.rjust(w, ref[0] if ref[0] in "xz" else "0")
