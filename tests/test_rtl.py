@@ -452,6 +452,22 @@ def test_unparsable_file_the_top_does_not_need_is_a_warning(tmp_path):
 
 
 # ------------------------------------------------------------------ IR
+def test_several_declaration_assignments_in_one_declaration(tmp_path):
+    # 6.1.2: list_of_net_decl_assignments, and variable declaration assignments (initial
+    # values, 6.2.1)
+    d = check(tmp_path, """
+        module press_pair(input [1:0] p, output l, output r, output [3:0] both);
+          wire left = p[1], right = p[0];
+          wire [1:0] hi = {left, right}, lo = ~{left, right};
+          assign l = left;
+          assign r = right;
+          assign both = {hi, lo};
+        endmodule
+    """, "press_pair", steps=16)
+    assert not d.notes
+
+
+
 def test_ir_of_functions_tasks_and_arrays_round_trips(tmp_path):
     p = write(tmp_path, "r.v", """
         module r(input clk, input [1:0] a, output reg [3:0] y);

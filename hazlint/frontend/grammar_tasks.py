@@ -10,7 +10,9 @@ IEEE 1364-2005 as designers write it, beyond the stock pyverilog grammar:
   (:class:`TaskEnable`);
 * ``repeat (n) statement`` (9.6; :class:`RepeatStatement`);
 * ``integer`` arrays (``integer a [0:3];``, 4.9) and ``output integer`` ports (12.3.3);
-  ``real`` declarations keep their names (the stock action names them all "real").
+  ``real`` declarations keep their names (the stock action names them all "real");
+* several declaration assignments in one net or variable declaration (``wire a = x, b = y;``,
+  6.1.2).
 
 ``input reg`` is accepted here for task and function arguments; on a module port the IR
 builder reports it.
@@ -204,3 +206,25 @@ class TaskFunctionGrammar:
         p[0] = vast.Decl(reals, lineno=p.lineno(1))
         p[0].hz_pos = p.lexpos(1)
         p.set_lineno(0, p.lineno(1))
+
+    def p_declassign_list(self, p):
+        """declassign : sigtypes declassign_list SEMICOLON
+        | sigtypes width declassign_list SEMICOLON"""
+        width = p[2] if len(p) == 5 else None
+        elements = p[3] if len(p) == 5 else p[2]
+        decls = []
+        for name, assign in elements:
+            decls.extend(self.create_declassign(p[1], name, assign, width=width,
+                                                lineno=p.lineno(1)))
+        p[0] = vast.Decl(decls, lineno=p.lineno(1))
+        p[0].hz_pos = p.lexpos(1)
+        p.set_lineno(0, p.lineno(1))
+
+    def p_declassign_list_two(self, p):
+        'declassign_list : declassign_element COMMA declassign_element'
+        p[0] = [p[1], p[3]]
+
+    def p_declassign_list_more(self, p):
+        'declassign_list : declassign_list COMMA declassign_element'
+        p[1].append(p[3])
+        p[0] = p[1]
