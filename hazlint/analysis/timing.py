@@ -15,25 +15,62 @@ from __future__ import annotations
 
 import heapq
 import math
+from array import array
 from dataclasses import dataclass
+from functools import cached_property
 
 import networkx as nx
 
 INF = math.inf
 
 
-@dataclass
 class TimingGraph:
-    """The gate graph as integer-indexed arrays in topological order (acyclic part only)."""
+    """The gate graph as integer-indexed arrays in topological order (acyclic part only).
 
-    order: list[str]                       # node ids; index = topological position
-    index: dict[str, int]
-    # per node: list of (pred index, pin index, min delay, max delay) per input pin
-    fanin: list[list[tuple[int, int, float, float]]]
-    fanout: list[list[int]]                # distinct successor indices
-    reads: list[list[tuple[int, int]]]     # (successor index, pin index) per read of the net
-    cut_edges: list[tuple[str, str]]       # edges dropped to break combinational loops
-    preds: list[list[int]] = None          # distinct predecessor indices
+    Held as compressed sparse rows in :mod:`array` arrays (about 30 bytes per pin, no Python
+    object per node or edge): ``fi_ptr``/``fi_src``/``fi_pin``/``fi_dmin``/``fi_dmax`` (fan-in
+    per input pin: driver, pin index, min/max delay with the wire delay), ``fo_ptr``/``fo_dst``
+    (distinct successors, ascending) and ``pr_ptr``/``pr_src`` (distinct predecessors,
+    ascending); numpy and the compiled kernels read them without a copy. The list views
+    ``fanin``, ``fanout``, ``reads`` and ``preds`` of the pure Python solver are built on first
+    use only.
+    """
+
+    def __init__(self, order, index, fi_ptr, fi_src, fi_pin, fi_dmin, fi_dmax, cut_edges):
+        self.order: list[str] = order               # node ids; index = topological position
+        self.index: dict[str, int] = index
+        self.fi_ptr, self.fi_src, self.fi_pin = fi_ptr, fi_src, fi_pin
+        self.fi_dmin, self.fi_dmax = fi_dmin, fi_dmax
+        self.cut_edges: list[tuple[str, str]] = cut_edges   # edges dropped to break loops
+        n = len(order)
+        # distinct predecessors of each node, ascending; distinct successors from them
+        pr_ptr, pr_src = array("q", [0]), array("q")
+        outdeg = [0] * n
+        for v in range(n):
+            a, b = fi_ptr[v], fi_ptr[v + 1]
+            if b - a == 1:
+                u = fi_src[a]
+                pr_src.append(u)
+                outdeg[u] += 1
+            elif b > a:
+                for u in sorted(set(fi_src[a:b])):
+                    pr_src.append(u)
+                    outdeg[u] += 1
+            pr_ptr.append(len(pr_src))
+        fo_ptr = array("q", [0]) * (n + 1)
+        acc = 0
+        for u in range(n):
+            fo_ptr[u] = acc
+            acc += outdeg[u]
+        fo_ptr[n] = acc
+        fill = array("q", fo_ptr[:n]) if n else array("q")
+        fo_dst = array("q", [0]) * acc
+        for v in range(n):
+            for e in range(pr_ptr[v], pr_ptr[v + 1]):
+                u = pr_src[e]
+                fo_dst[fill[u]] = v
+                fill[u] += 1
+        self.pr_ptr, self.pr_src, self.fo_ptr, self.fo_dst = pr_ptr, pr_src, fo_ptr, fo_dst
 
     @classmethod
     def build(cls, g: nx.DiGraph) -> "TimingGraph":
@@ -51,42 +88,74 @@ class TimingGraph:
         order = list(nx.topological_sort(work))
         index = {n: i for i, n in enumerate(order)}
         nodes = g.nodes
-        fanin: list[list[tuple[int, int, float, float]]] = [[] for _ in order]
-        fanout: list[list[int]] = [[] for _ in order]
-        reads: list[list[tuple[int, int]]] = [[] for _ in order]
+        adj = g.adj
+        fi_ptr, fi_src, fi_pin = array("q", [0]), array("q"), array("q")
+        fi_dmin, fi_dmax = array("d"), array("d")
         cutset = set(cut)
         for v in order:
             d = nodes[v]
-            vi = index[v]
-            ins = d.get("inputs") or []
-            if d["kind"] not in ("gate", "sink") or not ins:
-                continue
-            delays = d.get("delays") or []
-            for pin, u in enumerate(ins):
-                if (u, v) in cutset or u not in index:
-                    continue
-                e = g.edges[u, v]
-                w = e.get("wire")
-                wmin = w.min if w is not None else 0.0
-                wmax = w.max if w is not None else 0.0
-                if d["kind"] == "gate":
-                    dl = delays[pin] if pin < len(delays) else None
-                    dmin = (dl.min if dl is not None else 1.0) + wmin
-                    dmax = (dl.max if dl is not None else 1.0) + wmax
-                else:
-                    dmin, dmax = wmin, wmax
-                ui = index[u]
-                fanin[vi].append((ui, pin, dmin, dmax))
-                reads[ui].append((vi, pin))
-        for ui, rs in enumerate(reads):
-            seen = []
-            for vi, _ in rs:
-                if not seen or seen[-1] != vi:
-                    if vi not in seen:
-                        seen.append(vi)
-            fanout[ui] = sorted(seen)
-        return cls(order, index, fanin, fanout, reads, cut,
-                   [sorted({p for p, _, _, _ in f}) for f in fanin])
+            ins = d.get("inputs")
+            kind = d["kind"]
+            if ins and kind in ("gate", "sink"):
+                delays = d.get("delays") or []
+                for pin, u in enumerate(ins):
+                    ui = index.get(u)
+                    if ui is None or (cutset and (u, v) in cutset):
+                        continue
+                    w = adj[u][v].get("wire")
+                    wmin = w.min if w is not None else 0.0
+                    wmax = w.max if w is not None else 0.0
+                    if kind == "gate":
+                        dl = delays[pin] if pin < len(delays) else None
+                        dmin = (dl.min if dl is not None else 1.0) + wmin
+                        dmax = (dl.max if dl is not None else 1.0) + wmax
+                    else:
+                        dmin, dmax = wmin, wmax
+                    fi_src.append(ui)
+                    fi_pin.append(pin)
+                    fi_dmin.append(dmin)
+                    fi_dmax.append(dmax)
+            fi_ptr.append(len(fi_src))
+        return cls(order, index, fi_ptr, fi_src, fi_pin, fi_dmin, fi_dmax, cut)
+
+    # ---- list views for the pure Python solver (built on first use) ----------------------------
+    @cached_property
+    def fanin(self) -> list[list[tuple[int, int, float, float]]]:
+        """Per node: (pred index, pin index, min delay, max delay) per input pin."""
+        p, s, pin, lo, hi = self.fi_ptr, self.fi_src, self.fi_pin, self.fi_dmin, self.fi_dmax
+        return [list(zip(s[p[v]:p[v + 1]], pin[p[v]:p[v + 1]], lo[p[v]:p[v + 1]],
+                         hi[p[v]:p[v + 1]])) for v in range(len(self.order))]
+
+    @cached_property
+    def fanout(self) -> list[list[int]]:
+        """Distinct successor indices, ascending."""
+        p, d = self.fo_ptr, self.fo_dst
+        return [list(d[p[v]:p[v + 1]]) for v in range(len(self.order))]
+
+    @cached_property
+    def preds(self) -> list[list[int]]:
+        """Distinct predecessor indices, ascending."""
+        p, s = self.pr_ptr, self.pr_src
+        return [list(s[p[v]:p[v + 1]]) for v in range(len(self.order))]
+
+    @cached_property
+    def reads(self) -> list[list[tuple[int, int]]]:
+        """(successor index, pin index) per read of each node's net."""
+        out: list[list[tuple[int, int]]] = [[] for _ in self.order]
+        p, s, pin = self.fi_ptr, self.fi_src, self.fi_pin
+        for v in range(len(self.order)):
+            for e in range(p[v], p[v + 1]):
+                out[s[e]].append((v, pin[e]))
+        return out
+
+    def arrays(self):
+        """The CSR arrays as numpy arrays (no copy): fi_ptr, fi_src, fi_dmin, fi_dmax, fo_ptr,
+        fo_dst, pr_ptr, pr_src."""
+        import numpy as np
+        i64 = lambda a: np.frombuffer(a, dtype=np.int64) if len(a) else np.zeros(0, np.int64)  # noqa: E731
+        f64 = lambda a: np.frombuffer(a, dtype=np.float64) if len(a) else np.zeros(0)  # noqa: E731
+        return (i64(self.fi_ptr), i64(self.fi_src), f64(self.fi_dmin), f64(self.fi_dmax),
+                i64(self.fo_ptr), i64(self.fo_dst), i64(self.pr_ptr), i64(self.pr_src))
 
 
 @dataclass

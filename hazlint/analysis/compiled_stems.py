@@ -1,0 +1,139 @@
+"""The reconvergence rule's per-stem work through the compiled kernels.
+
+:class:`CompiledStems` runs :func:`hazlint.analysis.arrival_kernels.solve_stems` (compiled by
+:mod:`hazlint.analysis.compiled`) over batches of stems and hands back each chosen
+reconvergence as a :class:`CompiledFinding`: the same facts as the pure path's findings
+(stem, gate, :class:`~hazlint.analysis.timing.Reconvergence`, sinks in scope, both paths), read
+from the kernel's arrays only when asked. Its paths stay valid after the next batch (they live
+in the batch's path forest, not in the solver's scratch arrays), so the rule can build its
+diagnostics later, or never for findings a filter drops.
+"""
+from __future__ import annotations
+
+from array import array
+
+from .timing import Reconvergence
+
+BATCH_STEMS = 1024       # stems per kernel call: bounds the arrays held before findings flow
+
+
+class WindowReach:
+    """Reach sets of the sinks in scope, read as Python int bit masks (bit k: sink k) like
+    :meth:`AnalysisContext.scope_reach`'s list, built one node at a time from the windows."""
+
+    def __init__(self, lo: bytes, count: bytes, off: bytes, pool: bytes):
+        self.lo, self.count, self.off = _ints(lo), _ints(count), _ints(off)
+        self.pool = pool
+
+    def __len__(self):
+        return len(self.lo)
+
+    def __getitem__(self, i: int) -> int:
+        c = self.count[i]
+        if not c:
+            return 0
+        o = self.off[i]
+        return int.from_bytes(self.pool[8 * o:8 * (o + c)], "little") << (64 * self.lo[i])
+
+
+def _ints(b: bytes) -> array:
+    a = array("q")
+    a.frombytes(b)
+    return a
+
+
+def _floats(b: bytes) -> array:
+    a = array("d")
+    a.frombytes(b)
+    return a
+
+
+class CompiledStems:
+    """Kernel inputs for one context and scope: the graph arrays, source ranks, the sinks in
+    scope (source order) and their reach windows."""
+
+    def __init__(self, context, scope: str, kern):
+        self.kern = kern
+        tg = context.timing_graph
+        self.tg = tg
+        rank = context.source_rank
+        self.rank = array("q", (rank[n] for n in tg.order))
+        self.sinks = sorted((n for n in context.scope_sinks(scope) if n in tg.index),
+                            key=rank.__getitem__)
+        self.graph = (tg.fi_ptr, tg.fi_src, tg.fi_dmin, tg.fi_dmax, tg.fo_ptr, tg.fo_dst,
+                      tg.pr_ptr, tg.pr_src)
+        self.windows = kern.reach_windows(tg.fo_ptr, tg.fo_dst,
+                                          array("q", (tg.index[n] for n in self.sinks)))
+        self.reach = WindowReach(*self.windows)
+
+    def findings(self, stem_ids, min_skew: float):
+        """:class:`CompiledFinding` per chosen reconvergence: stems in the given order, each
+        stem's findings in source order of the gate."""
+        for i in range(0, len(stem_ids), BATCH_STEMS):
+            stems = array("q", stem_ids[i:i + BATCH_STEMS])
+            F, S, T = self.kern.solve_stems(stems, *self.graph, self.rank, *self.windows,
+                                            float(min_skew))
+            if not F:
+                continue
+            batch = _Batch(self, _floats(F), _ints(S), _floats(T))
+            for k in range(len(batch.F) // 11):
+                yield CompiledFinding(batch, k)
+
+
+class _Batch:
+    """One kernel call's results: findings ``F`` (11 values a row), sinks ``S``, path forest
+    ``T`` (4 values a row), as compact :mod:`array` columns."""
+
+    __slots__ = ("order", "fanin_d", "sinks", "F", "S", "T")
+
+    def __init__(self, stems: CompiledStems, F: array, S: array, T: array):
+        tg = stems.tg
+        self.order = tg.order
+        self.fanin_d = (tg.fi_ptr, tg.fi_dmin, tg.fi_dmax)
+        self.sinks = stems.sinks
+        self.F, self.S, self.T = F, S, T
+
+
+class CompiledFinding:
+    """One chosen reconvergence (the pure path's ``Finding``, read from a batch)."""
+
+    __slots__ = ("batch", "k")
+
+    def __init__(self, batch: _Batch, k: int):
+        self.batch, self.k = batch, k
+
+    @property
+    def gate(self) -> str:
+        return self.batch.order[int(self.batch.F[11 * self.k + 1])]
+
+    def facts(self):
+        """(stem id, gate id, Reconvergence, sink ids, slow path end, fast path end)."""
+        b = self.batch
+        stem, gate, skew, ks, kf, ts, tf, s0, sn, slow_end, fast_end = \
+            b.F[11 * self.k:11 * self.k + 11].tolist()
+        gi = int(gate)
+        r = Reconvergence(gi, skew, int(ks), int(kf), ts, tf)
+        sinks = [b.sinks[j] for j in b.S[int(s0):int(s0) + int(sn)]]
+        return b.order[int(stem)], b.order[gi], r, sinks, int(slow_end), int(fast_end)
+
+    def path(self, slow: bool, make, facts=None):
+        """(node ids, items) of the slowest/fastest path, stem first, ending at the gate, as the
+        pure path's ``Finding.path`` gives them."""
+        b = self.batch
+        _stem, gate, r, _sinks, slow_end, fast_end = facts or self.facts()
+        order, T = b.order, b.T
+        ids, items = [], []
+        t = slow_end if slow else fast_end
+        while t >= 0:
+            n = order[int(T[4 * t])]
+            ids.append(n)
+            items.append(make(n, T[4 * t + 2], T[4 * t + 3]))
+            t = int(T[4 * t + 1])
+        ids.reverse()
+        items.reverse()
+        ptr, dmin, dmax = b.fanin_d
+        e = ptr[r.gate] + (r.slow_pin if slow else r.fast_pin)
+        items.append(make(gate, dmax[e] if slow else dmin[e],
+                          r.slow_arrival if slow else r.fast_arrival))
+        ids.append(gate)
+        return ids, tuple(items)
