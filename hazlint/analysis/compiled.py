@@ -23,6 +23,7 @@ logged at debug level (logger ``hazlint.kernel``).
 """
 from __future__ import annotations
 
+import importlib
 import logging
 import os
 import sys
@@ -76,11 +77,10 @@ def kernels(cache_dir: str | os.PathLike | None = None):
     numba when ``HAZLINT_KERNEL=numba`` asks for it."""
     if mode() != "numba":
         try:
-            from . import _arrival
+            return importlib.import_module("hazlint.analysis._arrival")
         except ImportError as exc:
             log.debug("C kernel not built, using numpy: %s", exc)
             return None
-        return _arrival
     folder = cache_folder(cache_dir)
     key = str(folder or "")
     if key in _loaded:

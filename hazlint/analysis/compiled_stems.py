@@ -84,7 +84,7 @@ class _Batch:
     """One kernel call's results: findings ``F`` (11 values a row), sinks ``S``, path forest
     ``T`` (4 values a row), as compact :mod:`array` columns."""
 
-    __slots__ = ("order", "fanin_d", "sinks", "F", "S", "T")
+    __slots__ = ("order", "fanin_d", "sinks", "F", "S", "T", "memo")
 
     def __init__(self, stems: CompiledStems, F: array, S: array, T: array):
         tg = stems.tg
@@ -92,6 +92,7 @@ class _Batch:
         self.fanin_d = (tg.fi_ptr, tg.fi_dmin, tg.fi_dmax)
         self.sinks = stems.sinks
         self.F, self.S, self.T = F, S, T
+        self.memo = ({}, {})      # per direction: forest row -> (ids, items, position)
 
 
 class CompiledFinding:
@@ -118,22 +119,34 @@ class CompiledFinding:
 
     def path(self, slow: bool, make, facts=None):
         """(node ids, items) of the slowest/fastest path, stem first, ending at the gate, as the
-        pure path's ``Finding.path`` gives them."""
+        pure path's ``Finding.path`` gives them. Paths of one stem share their prefixes (a
+        tree): the walk stops at the first row an earlier path of this batch placed, and copies
+        that path's prefix (as :meth:`StemTiming.chain_ids` does)."""
         b = self.batch
         _stem, gate, r, _sinks, slow_end, fast_end = facts or self.facts()
         order, T = b.order, b.T
-        ids, items = [], []
+        memo = b.memo[slow]
+        walked = []
         t = slow_end if slow else fast_end
+        ids = items = ()
         while t >= 0:
-            n = order[int(T[4 * t])]
-            ids.append(n)
-            items.append(make(n, T[4 * t + 2], T[4 * t + 3]))
+            hit = memo.get(t)
+            if hit is not None:
+                ids, items, i = hit
+                ids, items = ids[:i + 1], items[:i + 1]
+                break
+            walked.append(t)
             t = int(T[4 * t + 1])
-        ids.reverse()
-        items.reverse()
+        walked.reverse()
+        new_ids = [order[int(T[4 * t])] for t in walked]
+        ids = ids + tuple(new_ids)
+        items = items + tuple(make(n, T[4 * t + 2], T[4 * t + 3])
+                              for n, t in zip(new_ids, walked))
+        base = len(ids) - len(walked)
+        for k, t in enumerate(walked):
+            memo[t] = (ids, items, base + k)
         ptr, dmin, dmax = b.fanin_d
         e = ptr[r.gate] + (r.slow_pin if slow else r.fast_pin)
-        items.append(make(gate, dmax[e] if slow else dmin[e],
-                          r.slow_arrival if slow else r.fast_arrival))
-        ids.append(gate)
-        return ids, tuple(items)
+        last = make(gate, dmax[e] if slow else dmin[e],
+                    r.slow_arrival if slow else r.fast_arrival)
+        return list(ids) + [gate], items + (last,)
