@@ -7,4 +7,4 @@ solvers, which give the same findings more slowly.
 from setuptools import Extension, setup
 
 setup(ext_modules=[Extension("hazlint.analysis._arrival", ["hazlint/analysis/_arrival.c"],
-                             optional=True, extra_compile_args=["-O2"])])
+                             optional=True, extra_compile_args=["-O3"])])

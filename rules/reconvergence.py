@@ -171,7 +171,7 @@ def _compiled(context, scope: str):
         from hazlint.analysis import compiled
         kern = None
         if compiled.wanted(len(context.timing_graph.order)):
-            kern = compiled.kernels(getattr(context.config, "cache_dir", None))
+            kern = compiled.kernels()
         if kern is None:
             memo[scope] = None
         else:

@@ -1,10 +1,30 @@
-/* The reconvergence rule's inner loops, compiled: reach windows and the per-stem sweep with the
- * choice of the worst reconvergence per sink and the path walk-back.
+/* The reconvergence rule's inner loops, compiled: reach windows, and per stem the arrival sweep,
+ * the choice of the worst reconvergence per sink and the walk-back of both paths.
  *
- * A line-by-line twin of hazlint/analysis/arrival_kernels.py (the reference the tests run
- * against this module and against the pure numpy/Python solvers); see that file for the array
- * layout. Inputs are any contiguous buffers (array.array, numpy arrays, bytes) of int64 /
- * float64; outputs are bytes objects of int64 / float64 / uint64 values. No numpy needed.
+ * solve_stems does for each stem what hazlint.analysis.timing.ArrivalSolver.solve does (same
+ * arithmetic, same tie rules, same early stop; comments there give the method), then the
+ * rule's selection (rules/reconvergence.py: reconvergences by skew, descending, then source
+ * rank of the gate; each takes the sinks in scope it reaches that no earlier one took) and the
+ * fastest and slowest path to both pins of every chosen gate along the back-pointers.
+ * tests/test_arrival_kernel.py holds it equal to those pure solvers.
+ *
+ * Inputs are contiguous buffers (array.array, numpy arrays, bytes) of int64 / float64 / uint64;
+ * outputs are bytes. Graph layout: compressed sparse rows over the topological order
+ * (hazlint.analysis.timing.TimingGraph): fi_ptr/fi_src/fi_dmin/fi_dmax (fan-in per input pin,
+ * the position within a node's entries is the back-pointer), fo_ptr/fo_dst (distinct
+ * successors, ascending), pr_ptr/pr_src (distinct predecessors, ascending).
+ *
+ * Reach sets (the sinks in scope a node reaches) are bit sets held as windows: node v's bits
+ * are the 64-bit words lo[v] .. lo[v] + count[v] of the whole set, stored at pool[off[v]..],
+ * so a node reaching the sinks of one block costs a word or two, not a word per 64 sinks of
+ * the design.
+ *
+ * solve_stems returns (F, S, T). F: one row of 11 float64 per finding, stems in the given
+ * order, a stem's findings by source rank of the gate: stem, gate, skew, slow pin, fast pin,
+ * slow arrival, fast arrival, first sink in S, sink count, slow path end in T, fast path end
+ * in T (integers held exactly). S: int64 sink numbers, ascending per finding. T: the forest
+ * of reported paths, one tree per stem and direction, rows of 4 float64 (node, parent row or
+ * -1 at the stem, hop delay, arrival): a path is read from its end up to the root.
  */
 #define PY_SSIZE_T_CLEAN
 #include <Python.h>
@@ -436,7 +456,7 @@ static PyMethodDef methods[] = {
     {NULL, NULL, 0, NULL}};
 
 static struct PyModuleDef module = {PyModuleDef_HEAD_INIT, "_arrival",
-                                    "Compiled arrival-time kernels (see arrival_kernels.py).", -1,
+                                    "Compiled arrival-time kernels of the reconvergence rule.", -1,
                                     methods};
 
 PyMODINIT_FUNC PyInit__arrival(void) { return PyModule_Create(&module); }

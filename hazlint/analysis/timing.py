@@ -31,7 +31,7 @@ class TimingGraph:
     object per node or edge): ``fi_ptr``/``fi_src``/``fi_pin``/``fi_dmin``/``fi_dmax`` (fan-in
     per input pin: driver, pin index, min/max delay with the wire delay), ``fo_ptr``/``fo_dst``
     (distinct successors, ascending) and ``pr_ptr``/``pr_src`` (distinct predecessors,
-    ascending); numpy and the compiled kernels read them without a copy. The list views
+    ascending); the compiled kernel reads them without a copy. The list views
     ``fanin``, ``fanout``, ``reads`` and ``preds`` of the pure Python solver are built on first
     use only.
     """
@@ -147,15 +147,6 @@ class TimingGraph:
             for e in range(p[v], p[v + 1]):
                 out[s[e]].append((v, pin[e]))
         return out
-
-    def arrays(self):
-        """The CSR arrays as numpy arrays (no copy): fi_ptr, fi_src, fi_dmin, fi_dmax, fo_ptr,
-        fo_dst, pr_ptr, pr_src."""
-        import numpy as np
-        i64 = lambda a: np.frombuffer(a, dtype=np.int64) if len(a) else np.zeros(0, np.int64)  # noqa: E731
-        f64 = lambda a: np.frombuffer(a, dtype=np.float64) if len(a) else np.zeros(0)  # noqa: E731
-        return (i64(self.fi_ptr), i64(self.fi_src), f64(self.fi_dmin), f64(self.fi_dmax),
-                i64(self.fo_ptr), i64(self.fo_dst), i64(self.pr_ptr), i64(self.pr_src))
 
 
 @dataclass
