@@ -35,6 +35,17 @@
 
 typedef int64_t i64;
 
+#if defined(_MSC_VER)
+#include <intrin.h>
+static __inline int ctz64(uint64_t x) {
+    unsigned long i;
+    _BitScanForward64(&i, x);
+    return (int)i;
+}
+#else
+#define ctz64(x) __builtin_ctzll(x)
+#endif
+
 typedef struct {
     char *data;
     Py_ssize_t len, cap;   /* bytes */
@@ -210,7 +221,12 @@ static PyObject *solve_stems(PyObject *self, PyObject *args) {
     ALLOC(cnt_run, i64, n);
     ALLOC(tree_run, i64, 2 * n);
     ALLOC(tree_row, i64, 2 * n);
-    ALLOC(heap, i64, n + 1);
+    /* the queue of discovered nodes: a bit per node plus a bit per word of those (every pushed
+     * node lies after the one popped, so a forward scan is a monotone priority queue; the
+     * second level keeps the scan short when a cone is spread thin over a large graph) */
+    i64 nw0 = (n >> 6) + 1, nw1 = (nw0 >> 6) + 1;
+    ALLOC(q0, uint64_t, nw0);
+    ALLOC(q1, uint64_t, nw1);
     ALLOC(chain, i64, n + 1);
     i64 maxk = 1, words = 1;
     for (i64 v = 0; v < n; v++) {
@@ -237,14 +253,10 @@ static PyObject *solve_stems(PyObject *self, PyObject *args) {
         i64 nh = 0;
 #define PUSH(w)                                                                      \
     do {                                                                             \
-        i64 i_ = nh++;                                                               \
-        heap[i_] = (w);                                                              \
-        while (i_ > 0) {                                                             \
-            i64 par_ = (i_ - 1) >> 1;                                                \
-            if (heap[par_] <= heap[i_]) break;                                       \
-            i64 t_ = heap[par_]; heap[par_] = heap[i_]; heap[i_] = t_;               \
-            i_ = par_;                                                               \
-        }                                                                            \
+        i64 w_ = (w);                                                                \
+        q0[w_ >> 6] |= (uint64_t)1 << (w_ & 63);                                     \
+        q1[w_ >> 12] |= (uint64_t)1 << ((w_ >> 6) & 63);                             \
+        nh++;                                                                        \
     } while (0)
         for (i64 e = fo_ptr[stem]; e < fo_ptr[stem + 1]; e++) {
             i64 w = fo_dst[e];
@@ -252,18 +264,27 @@ static PyObject *solve_stems(PyObject *self, PyObject *args) {
             PUSH(w);
         }
         i64 n_open = 0, nc = 0;
+        i64 cur = stem;        /* every queued node is after this one */
+#define POP(v)                                                                       \
+    do {                                                                             \
+        i64 wd_ = cur >> 6;                                                          \
+        uint64_t bits_ = q0[wd_] & (~(uint64_t)0 << (cur & 63));                     \
+        if (!bits_) {                                                                \
+            i64 w1_ = (wd_ + 1) >> 6;                                                \
+            uint64_t b1_ = q1[w1_] & (~(uint64_t)0 << ((wd_ + 1) & 63));             \
+            while (!b1_) b1_ = q1[++w1_];                                            \
+            wd_ = (w1_ << 6) + ctz64(b1_);                                 \
+            bits_ = q0[wd_];                                                         \
+        }                                                                            \
+        (v) = (wd_ << 6) + ctz64(bits_);                                   \
+        q0[wd_] &= ~((uint64_t)1 << ((v) & 63));                                     \
+        if (!q0[wd_]) q1[wd_ >> 6] &= ~((uint64_t)1 << (wd_ & 63));                  \
+        nh--;                                                                        \
+        cur = (v);                                                                   \
+    } while (0)
         while (nh > 0) {
-            i64 v = heap[0];
-            nh--;
-            heap[0] = heap[nh];
-            for (i64 i = 0;;) {
-                i64 c = 2 * i + 1;
-                if (c >= nh) break;
-                if (c + 1 < nh && heap[c + 1] < heap[c]) c++;
-                if (heap[i] <= heap[c]) break;
-                i64 t = heap[c]; heap[c] = heap[i]; heap[i] = t;
-                i = c;
-            }
+            i64 v;
+            POP(v);
             double lo = INFINITY, hi = -INFINITY;
             i64 klo = 0, khi = 0, d = -1, nr = 0, base = fi_ptr[v];
             for (i64 k = 0; k < fi_ptr[v + 1] - base; k++) {
@@ -347,6 +368,10 @@ static PyObject *solve_stems(PyObject *self, PyObject *args) {
                 }
             }
             if (left[stem] == 0 && n_open <= 1) break;
+        }
+        while (nh > 0) {       /* stopped early: empty the queue for the next stem */
+            i64 v;
+            POP(v);
         }
         if (nc == 0) continue;
         /* ---- the worst reconvergence per sink ---- */
