@@ -229,9 +229,14 @@ def check(design, context):
         yield _incomplete(context, left, len(stem_ids), opts["work_budget"])
     nodes = design.graph.nodes
     severity = Severity.parse(SEVERITY)
+    where: dict[str, tuple] = {}      # gate -> (location, instance): gates recur across stems
     for f in find_reconvergences(design, context, opts["scope"], opts["min_skew"], stem_ids):
         gate = f.gate
-        location, instance = context.location(gate), nodes[gate].get("instance", "") or ""
+        place = where.get(gate)
+        if place is None:
+            place = where[gate] = (context.location(gate),
+                                   nodes[gate].get("instance", "") or "")
+        location, instance = place
         if compiled is not None:
             # the compiled path keeps every finding's paths in its arrays: the text and the
             # evidence are made when a reader first asks (same values as made here)

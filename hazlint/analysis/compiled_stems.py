@@ -76,8 +76,9 @@ class CompiledStems:
             if not F:
                 continue
             batch = _Batch(self, _floats(F), _ints(S), _floats(T))
-            for k in range(len(batch.F) // 11):
-                yield CompiledFinding(batch, k)
+            order = batch.order
+            for k, g in enumerate(batch.F[1::11]):
+                yield CompiledFinding(batch, k, order[int(g)])
 
 
 class _Batch:
@@ -98,14 +99,10 @@ class _Batch:
 class CompiledFinding:
     """One chosen reconvergence (the pure path's ``Finding``, read from a batch)."""
 
-    __slots__ = ("batch", "k")
+    __slots__ = ("batch", "k", "gate")
 
-    def __init__(self, batch: _Batch, k: int):
-        self.batch, self.k = batch, k
-
-    @property
-    def gate(self) -> str:
-        return self.batch.order[int(self.batch.F[11 * self.k + 1])]
+    def __init__(self, batch: _Batch, k: int, gate: str):
+        self.batch, self.k, self.gate = batch, k, gate
 
     def facts(self):
         """(stem id, gate id, Reconvergence, sink ids, slow path end, fast path end)."""

@@ -73,19 +73,22 @@ class TimingGraph:
         self.pr_ptr, self.pr_src, self.fo_ptr, self.fo_dst = pr_ptr, pr_src, fo_ptr, fo_dst
 
     @classmethod
-    def build(cls, g: nx.DiGraph) -> "TimingGraph":
+    def build(cls, g: nx.DiGraph, order: list[str] | None = None) -> "TimingGraph":
+        """``order``: ``nx.topological_sort(g)`` when the caller has it already (a DAG)."""
         cut: list[tuple[str, str]] = []
-        work = g
-        if not nx.is_directed_acyclic_graph(g):
-            # loops are the loop rule's business; timing ignores the edges inside them
-            comp = {}
-            for k, scc in enumerate(nx.strongly_connected_components(g)):
-                for n in scc:
-                    comp[n] = k
-            cut = sorted((u, v) for u, v in g.edges if comp[u] == comp[v])
-            work = g.copy()
-            work.remove_edges_from(cut)
-        order = list(nx.topological_sort(work))
+        if order is None:
+            try:
+                order = list(nx.topological_sort(g))
+            except nx.NetworkXUnfeasible:
+                # loops are the loop rule's business; timing ignores the edges inside them
+                comp = {}
+                for k, scc in enumerate(nx.strongly_connected_components(g)):
+                    for n in scc:
+                        comp[n] = k
+                cut = sorted((u, v) for u, v in g.edges if comp[u] == comp[v])
+                work = g.copy()
+                work.remove_edges_from(cut)
+                order = list(nx.topological_sort(work))
         index = {n: i for i, n in enumerate(order)}
         nodes = g.nodes
         adj = g.adj
