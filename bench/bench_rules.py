@@ -122,14 +122,17 @@ def main() -> None:
         rows.append((name, d))
         if "error" in d:
             print(f"{name}: {d['error']}", flush=True)
-            continue
-        per = ", ".join(f"{k} {v[0]:.2f}s ({v[1]})" for k, v in d["rules"].items())
-        print(f"{name}: {d['gates']} gates, load {d['load']:.2f}s, all rules {d['all']:.2f}s "
-              f"[{per}], built {d['built']:.2f}s, peak {d['peak_mb']:.0f} MB", flush=True)
-    if args.names:
-        return
+        else:
+            per = ", ".join(f"{k} {v[0]:.2f}s ({v[1]})" for k, v in d["rules"].items())
+            print(f"{name}: {d['gates']} gates, load {d['load']:.2f}s, all rules {d['all']:.2f}s "
+                  f"[{per}], built {d['built']:.2f}s, peak {d['peak_mb']:.0f} MB", flush=True)
+        if not args.names:          # after each circuit: a long run keeps what it measured
+            write(args.out, rows, args.note)
+
+
+def write(out: str, rows, note: str) -> None:
     ids = sorted({k for _, d in rows if "rules" in d for k in d["rules"]})
-    with open(args.out, "w") as f:
+    with open(out, "w") as f:
         f.write("# Rule benchmark\n\n")
         f.write(f"Recorded {time.strftime('%Y-%m-%d')} on {platform.machine()}, "
                 f"{os.cpu_count()} cores, Python {platform.python_version()}, by "
@@ -138,8 +141,8 @@ def main() -> None:
                 f"process; findings in parentheses; each rule timed on a fresh shared context; "
                 f"`built`: every finding's deferred text and evidence made afterwards; peak: "
                 f"the child's peak resident memory.\n\n")
-        if args.note:
-            f.write(args.note + "\n\n")
+        if note:
+            f.write(note + "\n\n")
         f.write("| circuit | gates | load | " + " | ".join(ids) +
                 " | all three | all / load | built | peak MB |\n|---|---:|---:|"
                 + "---:|" * (len(ids) + 4) + "\n")
