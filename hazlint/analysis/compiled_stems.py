@@ -42,6 +42,14 @@ def _ints(b: bytes) -> array:
     return a
 
 
+def _int32s(b: bytes) -> array:
+    a = array("i")
+    if a.itemsize != 4:          # pragma: no cover - C int is 32 bits on every platform we know
+        raise RuntimeError("array('i') is not 32 bits here")
+    a.frombytes(b)
+    return a
+
+
 def _floats(b: bytes) -> array:
     a = array("d")
     a.frombytes(b)
@@ -75,7 +83,7 @@ class CompiledStems:
                                             float(min_skew))
             if not F:
                 continue
-            batch = _Batch(self, _floats(F), _ints(S), _floats(T))
+            batch = _Batch(self, _floats(F), _ints(S), _int32s(T))
             order = batch.order
             for k, g in enumerate(batch.F[1::11]):
                 yield CompiledFinding(batch, k, order[int(g)])
@@ -83,7 +91,8 @@ class CompiledStems:
 
 class _Batch:
     """One kernel call's results: findings ``F`` (11 values a row), sinks ``S``, path forest
-    ``T`` (4 values a row), as compact :mod:`array` columns."""
+    ``T`` (node, parent row, fan-in position: 3 values a row), as compact :mod:`array`
+    columns."""
 
     __slots__ = ("order", "fanin_d", "sinks", "F", "S", "T", "memo")
 
@@ -122,27 +131,41 @@ class CompiledFinding:
         b = self.batch
         _stem, gate, r, _sinks, slow_end, fast_end = facts or self.facts()
         order, T = b.order, b.T
+        ptr, dmin, dmax = b.fanin_d
+        dl = dmax if slow else dmin
         memo = b.memo[slow]
         walked = []
         t = slow_end if slow else fast_end
         ids = items = ()
+        a = 0.0
         while t >= 0:
             hit = memo.get(t)
             if hit is not None:
-                ids, items, i = hit
+                ids, items, a, i = hit
                 ids, items = ids[:i + 1], items[:i + 1]
                 break
             walked.append(t)
-            t = int(T[4 * t + 1])
+            t = T[3 * t + 1]
         walked.reverse()
-        new_ids = [order[int(T[4 * t])] for t in walked]
-        ids = ids + tuple(new_ids)
-        items = items + tuple(make(n, T[4 * t + 2], T[4 * t + 3])
-                              for n, t in zip(new_ids, walked))
-        base = len(ids) - len(walked)
+        new_ids = []
+        new_items = []
+        base = len(ids)
         for k, t in enumerate(walked):
-            memo[t] = (ids, items, base + k)
-        ptr, dmin, dmax = b.fanin_d
+            u, parent, pin = T[3 * t], T[3 * t + 1], T[3 * t + 2]
+            n = order[u]
+            if parent < 0:
+                d = a = 0.0                       # the stem
+            else:
+                d = dl[ptr[u] + pin]
+                # the sweep's own sum: a hop out of the stem arrives at its delay
+                a = d if T[3 * parent + 1] < 0 else a + d
+            new_ids.append(n)
+            new_items.append(make(n, d, a))
+            memo[t] = (None, None, a, base + k)   # filled below, once the tuples exist
+        ids = ids + tuple(new_ids)
+        items = items + tuple(new_items)
+        for k, t in enumerate(walked):
+            memo[t] = (ids, items, memo[t][2], base + k)
         e = ptr[r.gate] + (r.slow_pin if slow else r.fast_pin)
         last = make(gate, dmax[e] if slow else dmin[e],
                     r.slow_arrival if slow else r.fast_arrival)
