@@ -28,6 +28,8 @@ Keys (all optional)::
     cache_limit_mb = 2048           # size limit of the cache folder (0: none)
     jobs = 2
     prove = { }                     # options handed to the hazard prover
+    time_budget = 60                # seconds for the whole run (0: none); see hazlint.budget
+    limits = { vector_width = 1048576 }   # size limits; see hazlint.limits
 
     [rules.skewed-reconvergence]    # rule options (see ``hazlint explain RULE``)
     min_skew = 0.5
@@ -74,6 +76,8 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "cache_limit_mb": ((int,), "a size in MB (0: no limit)"),
     "jobs": ((int,), "a number of worker processes"),
     "prove": ((dict,), "a table of hazard-prover options"),
+    "time_budget": ((int, float), "a number of seconds (0: no time limit)"),
+    "limits": ((dict,), "a table of limit = number (see hazlint.limits)"),
 }
 FAIL_LEVELS = ("error", "warning", "info", "never")
 
@@ -104,8 +108,16 @@ class Config:
     cache_limit_mb: int | None = None
     jobs: int | None = None
     prove: dict[str, Any] = field(default_factory=dict)
+    time_budget: float | None = None  # seconds (None: the default, 0: none)
+    limits: dict[str, Any] = field(default_factory=dict)
     raw: dict[str, Any] = field(default_factory=dict)     # the table as written
     key_lines: dict[str, int] = field(default_factory=dict)   # key -> line in the file
+
+    @property
+    def include_root(self) -> str | None:
+        """Where ```include`` may read: the project root when a configuration file gives one;
+        None otherwise (the reader then takes each file's repository, else its folder)."""
+        return self.root if self.path else None
 
     def where(self, key: str | None = None) -> str:
         """``path:line: `` prefix for messages about a key (empty when defaults)."""
@@ -307,6 +319,14 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         if table["jobs"] < 1:
             raise err("jobs", "jobs must be at least 1")
         cfg.jobs = table["jobs"]
+    if "time_budget" in table:
+        if isinstance(table["time_budget"], bool) or not table["time_budget"] >= 0:
+            raise err("time_budget", "time_budget must be a number of seconds, 0 or more")
+        cfg.time_budget = float(table["time_budget"])
+    if "limits" in table:
+        from .limits import DEFAULT as LIMIT_DEFAULTS
+        LIMIT_DEFAULTS.with_values(table["limits"], path=path, line=key_lines.get("limits"))
+        cfg.limits = dict(table["limits"])
     cfg.prove = dict(table.get("prove", {}))
     if cfg.prove:
         from .analysis.prove import DEFAULTS as PROVE_DEFAULTS

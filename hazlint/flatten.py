@@ -22,7 +22,9 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from . import budget as _budget
 from . import library as lib
+from . import limits as _limits
 from .consteval import NotConstant, const_value
 from .design import BlackBox, Design, Register
 from .diagnostics import Diagnostic, Location, Severity
@@ -108,7 +110,7 @@ class Scope:
 
 class Elaborator:
     def __init__(self, sources: Sequence[ir.SourceFile], library: Library,
-                 default_delay: Delay = UNIT_DELAY, max_depth: int = 200):
+                 default_delay: Delay = UNIT_DELAY, max_depth: int = 100):
         self.sources = list(sources)
         self.library = library
         self.default_delay = default_delay
@@ -152,6 +154,9 @@ class Elaborator:
         self._members: dict[str, list[str]] = {}
         self._n = 0
         self._noted: set[tuple] = set()
+        self._max_gates = _limits.current().gates
+        self._max_width = _limits.current().vector_width
+        self._instances = 0
 
     # ---------------------------------------------------------------- union-find ---------------
     def find(self, a: str) -> str:
@@ -209,6 +214,8 @@ class Elaborator:
         rec.update(extra)
         self.drivers.append(rec)
         self.parent.setdefault(out, out)
+        if len(self.drivers) > self._max_gates:
+            _limits.check("gates", len(self.drivers), "the number of gates", _where(loc))
 
     def gate(self, scope: Scope, op: str, ins: list[str], loc, delay: Delay | None = None,
              fold: bool = True) -> str:
@@ -253,9 +260,10 @@ class Elaborator:
             tops = [n for n in self.modules if n not in used]
         if not tops:
             if not self.modules:
-                raise ElaborationError("no module found in the input files")
-            raise ElaborationError("cannot find a top module (every module is instantiated); "
-                                   "name one with --top")
+                first = self.sources[0].path if self.sources else None
+                raise ElaborationError("no module found in the input files",
+                                       path=first, line=1 if first else None)
+            raise _instantiation_cycle(self.modules)
         return tops
 
     def elaborate(self, top=None) -> Design:
@@ -351,6 +359,8 @@ class Elaborator:
         if width is not None:
             msb = self.const(width[0], scope, loc)
             lsb = self.const(width[1], scope, loc)
+            _limits.check("vector_width", abs(msb - lsb) + 1, f"the width of '{name[:60]}'",
+                          _where(loc))
             step = 1 if msb >= lsb else -1
             indices = list(range(lsb, msb + step, step))
         if info is not None:
@@ -376,6 +386,9 @@ class Elaborator:
         except NotConstant as exc:
             raise ElaborationError(f"expected a constant expression (it uses '{exc}')",
                                    *_where(loc), construct=_expr_text(e)) from None
+        if isinstance(v, float) and not -float("inf") < v < float("inf"):
+            raise ElaborationError("expected a finite constant", *_where(loc),
+                                   construct=_expr_text(e))
         return int(v)
 
     def elab_items(self, scope: Scope, items, depth: int, declare_only_params=False) -> None:
@@ -402,8 +415,14 @@ class Elaborator:
                 self.elab_item(scope, it, depth)
             except RecursionError:
                 loc = getattr(it, "loc", None)
-                raise ElaborationError("expression or statement nested too deeply to elaborate",
-                                       *_where(loc)) from None
+                what = (f"instance '{it.name}': the hierarchy is nested too deeply to elaborate "
+                        "(recursive instantiation?)" if isinstance(it, ir.Instance) else
+                        "expression or statement nested too deeply to elaborate")
+                raise ElaborationError(what, *_where(loc)) from None
+            except ElaborationError as exc:
+                if not exc.path and getattr(it, "loc", None) is not None:
+                    exc.path, exc.line = it.loc.path, it.loc.line    # an error without a place
+                raise
         if paths:
             self.apply_specify(scope, paths, self.drivers[mark:])
 
@@ -595,6 +614,8 @@ class Elaborator:
         ``env`` maps net bits to values for statements inside always blocks."""
         if W is None:
             W = self.width(e, scope, loc)
+        if W > self._max_width:
+            _limits.check("vector_width", W, f"the width of '{_expr_text(e)[:60]}'", _where(loc))
         tag = e[0]
         if tag == "num":
             _, width, value, xz, _s = e
@@ -753,6 +774,8 @@ class Elaborator:
                     raise ElaborationError(f"undeclared identifier '{base[1]}'", *_where(loc),
                                            construct=base[1]) from None
                 lo, hi = min(msb, lsb), max(msb, lsb)
+                _limits.check("vector_width", hi - lo + 1, f"the part select of '{base[1][:60]}'",
+                              _where(loc))
                 return [C1 if (v >> i) & 1 else C0 for i in range(lo, hi + 1)]
             step = 1 if msb >= lsb else -1
             out = []
@@ -777,6 +800,8 @@ class Elaborator:
             one: list[str] = []
             for x in reversed(e[2]):
                 one.extend(self.bits(x, scope, loc, None, env))
+            _limits.check("vector_width", len(one) * max(n, 0),
+                          f"the replication '{_expr_text(e)[:60]}'", _where(loc))
             return one * n
         if reading:
             return self.bits(e, scope, loc, None, env)
@@ -922,10 +947,18 @@ class Elaborator:
         vals = []
         for mtm in d[:2]:
             try:
-                mn, _typ, mx = (float(const_value(x, params)) for x in mtm)
+                mn, _typ, mx = (float(const_value(x, params, _where(loc))) for x in mtm)
             except NotConstant as exc:
                 raise ElaborationError(f"delay is not a constant expression ('{exc}')",
                                        *_where(loc)) from None
+            except OverflowError:
+                _limits.check("delay", float("inf"), "a delay too large to represent",
+                              _where(loc))
+            for v in (mn, mx):
+                if not v >= 0:
+                    raise ElaborationError(f"delay {v:g} is not a non-negative number",
+                                           *_where(loc))
+                _limits.check("delay", v, f"the delay {v:g}", _where(loc))
             vals.append((mn, mx))
         if len(vals) == 1:
             vals.append(vals[0])
@@ -943,6 +976,8 @@ class Elaborator:
         if inst.array is not None:
             msb = self.const(inst.array[0], scope, inst.loc)
             lsb = self.const(inst.array[1], scope, inst.loc)
+            _limits.check("instances", self._instances + abs(msb - lsb) + 1,
+                          f"the number of instances (array '{inst.name[:60]}')", _where(inst.loc))
             step = 1 if msb >= lsb else -1
             idxs = list(range(lsb, msb + step, step))
             n = len(idxs)
@@ -967,6 +1002,11 @@ class Elaborator:
                                   attrs=inst.attrs)
                 self.elab_instance(scope, one, depth)
             return
+        self._instances += 1
+        if self._instances & 1023 == 0:
+            _limits.check("instances", self._instances, "the number of instances",
+                          _where(inst.loc))
+            _budget.check_loading("elaborating the design", *_where(inst.loc)[:2])
         cell = inst.cell
         if cell in lib.PRIMITIVES:
             self.elab_primitive(scope, inst)
@@ -1080,6 +1120,10 @@ class Elaborator:
 
     def elab_submodule(self, scope: Scope, inst: ir.Instance, depth: int) -> None:
         m = self.modules[inst.cell]
+        if depth + 1 > self.max_depth:
+            raise ElaborationError(f"instance '{inst.name}' of '{m.name}' nests the hierarchy "
+                                   f"deeper than {self.max_depth} levels (recursive "
+                                   "instantiation?)", *_where(inst.loc), construct=inst.name)
         child = Scope(prefix=f"{scope.prefix}{inst.name}.", instance=f"{scope.instance}."
                       f"{inst.name}", module=m)
         overrides = []
@@ -1803,6 +1847,46 @@ class Elaborator:
 
 
 # ------------------------------------------------------------------------------------------------
+def _instantiation_cycle(modules: Mapping[str, ir.Module]) -> ElaborationError:
+    """The error for a design whose every module is instantiated: the instantiation that
+    closes a cycle (a module that contains itself), at its line."""
+    first: dict[str, dict[str, ir.Instance]] = {}
+    for name in sorted(modules):
+        uses: dict[str, ir.Instance] = {}
+        for it in _walk_items(modules[name].items):
+            if isinstance(it, ir.Instance) and it.cell in modules:
+                uses.setdefault(it.cell, it)
+        first[name] = uses
+    state: dict[str, int] = {}
+    for start in sorted(modules):
+        stack = [(start, iter(first[start].items()))]
+        state[start] = 1
+        path = [start]
+        while stack:
+            mod, it = stack[-1]
+            nxt = next(it, None)
+            if nxt is None:
+                state[mod] = 2
+                stack.pop()
+                path.pop()
+                continue
+            cell, inst = nxt
+            if state.get(cell) == 1:
+                loop = " -> ".join(path[path.index(cell):] + [cell])
+                how = ("itself" if cell == mod else
+                       f"'{cell}', which contains '{mod}' again ({loop})")
+                return ElaborationError(
+                    f"module '{mod}' instantiates {how} through instance '{inst.name}': the "
+                    "hierarchy never ends, so there is no top module", *_where(inst.loc),
+                    construct=inst.name)
+            if state.get(cell) is None:
+                state[cell] = 1
+                path.append(cell)
+                stack.append((cell, iter(first[cell].items())))
+    return ElaborationError("cannot find a top module (every module is instantiated); name "
+                            "one with --top")
+
+
 def _where(loc) -> tuple:
     if loc is None:
         return ()

@@ -11,6 +11,7 @@ import gc
 import hashlib
 import json
 import os
+import re
 import threading
 from typing import Callable
 
@@ -34,15 +35,13 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
     ``texts`` overrides file contents by path (unsaved editor buffers, includes too);
     ``cache`` is an object with ``load(key) -> dict | None`` and ``store(key, dict)``;
     ``jobs > 1`` parses in worker processes; ``progress(done, total, path)`` is called once per
-    file; ``root`` bounds where includes may resolve (default: the common directory of the
-    inputs). Errors are :class:`~hazlint.errors.ParseError` with the original file:line.
+    file; ``root`` bounds where includes may resolve (default, per input file: the repository
+    holding it, else its folder; never the working directory). Errors are :class:`~hazlint.errors.ParseError` with the original file:line.
     """
     paths = [os.fspath(p) for p in paths]
     include_dirs = [os.fspath(d) for d in include_dirs]
     defines = dict(defines or {})
     texts = {os.path.abspath(k): v for k, v in (texts or {}).items()}
-    if root is None:
-        root = _default_root(paths)
     total = len(paths)
     results: list = [None] * total
     keys: list = [None] * total
@@ -106,11 +105,19 @@ def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) ->
 
 def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
     pre = Preprocessor(include_dirs, defines, root, texts).run(path)
+    if _NO_TOKENS.fullmatch(pre.text):
+        # nothing but blanks and comments: a file with no description (legal, and empty)
+        return ir.SourceFile(path=path, modules=[], primitives=[],
+                             notes=[(ir.Loc(p, n), msg) for p, n, msg in pre.notes],
+                             includes=list(pre.includes),
+                             digest=_combined_digest(pre.digests, path))
     parser = get_parser()
     try:
         ast = parser.parse(pre.text)
     except SyntaxErr as exc:
         file, line = pre.line_map.lookup(exc.lineno or 1)
+        if not file:
+            file, line = path, 1
         col = None
         if exc.lexpos is not None:
             col = exc.lexpos - (pre.text.rfind("\n", 0, exc.lexpos) + 1) + 1
@@ -137,14 +144,7 @@ def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
 
 # ---------------------------------------------------------------------------------------------
 
-def _default_root(paths) -> str:
-    dirs = [os.path.dirname(os.path.abspath(p)) for p in paths]
-    if not dirs:
-        return os.getcwd()
-    try:
-        return os.path.commonpath(dirs)
-    except ValueError:
-        return os.getcwd()
+_NO_TOKENS = re.compile(r"(?:\s+|//[^\n]*|/\*.*?\*/)*", re.S)
 
 
 def _combined_digest(digests: dict, path: str) -> str:
