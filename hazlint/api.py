@@ -103,6 +103,8 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
         if "cache" in params and use_cache:
             from .cache import open_cache
             kwargs["cache"] = open_cache(config.cache_dir, limit_mb=config.cache_limit_mb)
+        if "tables" in params:
+            kwargs["tables"] = _table_cache(config) if use_cache else False
         if progress is not None and "progress" in params:
             kwargs["progress"] = progress
         if abs_texts:
@@ -124,6 +126,15 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
                        load_fresh=load_fresh, cache=open_design_cache(config.cache_dir,
                                                limit_mb=config.cache_limit_mb),
                        info=cache_info)
+
+
+def _table_cache(config: Config):
+    """Where the parser keeps its tables: the run's cache folder, or nowhere (False) when
+    that folder may not be used."""
+    from . import __version__
+    from .cache import open_cache
+    return open_cache(config.cache_dir, namespace="parser", limit_mb=config.cache_limit_mb,
+                      version=f"{__version__}+tables") or False
 
 
 def _apply_sdf(design, config: Config, library) -> None:

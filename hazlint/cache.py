@@ -7,8 +7,20 @@ read with :func:`json.loads`; the IR module rebuilds only its own dataclasses fr
 
 Layout: ``<dir>/<namespace>/<key[:2]>/<key>.json``, one file per entry::
 
-    {"format": 1, "hazlint": "0.1.0", "key": "<hex>", "deps": {"<path>": "<sha256>"},
-     "data": {...}}
+    {"format":2,"hazlint":"0.1.0+...","key":"<hex>","deps":{"<path>":"<sha256>"},
+     "digest":"<sha256 of the data bytes>","data":{...}}
+
+An entry cannot lie: it records the key it was stored under and the digest of its own ``data``
+bytes, and both are checked before the data is decoded. An entry that fails any check (wrong
+key, wrong digest, not a regular file, not ours, a symbolic link, not JSON, a missing field) is
+removed and recomputed, and the first such entry of a run is mentioned at debug level (logger
+``hazlint.cache``; ``HAZLINT_DEBUG=1`` shows it). Reading opens without following links and
+without blocking, so a FIFO planted as an entry cannot hang a run.
+
+Ownership: every folder of the cache (the root, the namespaces, the key prefixes; and any
+parent the cache creates) is made mode 0700 whatever the umask, every folder from the root to
+an entry must belong to the user running hazlint, and an entry file owned by another user is
+refused: on a shared machine nobody else can plant a report for your next run.
 
 ``deps`` lists files the entry was derived from besides the one hashed into the key (files pulled
 in through ``include``): an entry whose dependency changed on disk is a miss, so an edit to a
@@ -28,10 +40,13 @@ under 80% of the limit. The entry just written is never removed.
 """
 from __future__ import annotations
 
+import errno
 import hashlib
 import json
+import logging
 import os
 import re
+import stat
 import sys
 import tempfile
 import time
@@ -40,7 +55,7 @@ from typing import Any, Iterable, Mapping
 
 from . import __version__
 
-FORMAT = 1
+FORMAT = 2
 ENV_DIR = "HAZLINT_CACHE_DIR"
 ENV_LIMIT = "HAZLINT_CACHE_LIMIT_MB"
 DEFAULT_LIMIT_MB = 2048
@@ -98,6 +113,136 @@ def prune(directory: str | os.PathLike, limit_mb: int, keep: Path | None = None)
         removed += 1
     return removed
 _HEX_KEY = re.compile(r"[0-9a-f]{16,128}")
+log = logging.getLogger("hazlint.cache")
+
+
+class Untrusted(OSError):
+    """A cache folder or file that is not ours (owner, type, permissions)."""
+
+
+def _uid() -> int | None:
+    return os.getuid() if hasattr(os, "getuid") else None
+
+
+def _check_dir(path: Path, st: os.stat_result) -> None:
+    """A cache folder must be a real folder of ours, private; a folder of ours that others
+    could write (made under an old umask) is made private again."""
+    if not stat.S_ISDIR(st.st_mode):
+        raise Untrusted(errno.ENOTDIR, "not a folder", str(path))
+    uid = _uid()
+    if uid is None:
+        return
+    if st.st_uid != uid:
+        raise Untrusted(errno.EPERM, "the folder belongs to another user", str(path))
+    if st.st_mode & 0o077:
+        os.chmod(path, 0o700)
+
+
+def private_dirs(root: Path, folder: Path, *, create: bool) -> bool:
+    """Check (and with ``create``, make) every folder from ``root`` down to ``folder``: each
+    mode 0700 and ours. ``root`` itself may be reached through a link (a cache moved to
+    another disk); below it nothing may be a link. Missing parents of ``root`` are created
+    0700 too. Returns False when a folder is missing and ``create`` is false; raises
+    :class:`Untrusted` (an ``OSError``) for a folder that is not ours."""
+    root = Path(root)
+    if not root.exists():
+        if not create:
+            return False
+        missing = []
+        p = root
+        while not p.exists() and p != p.parent:
+            missing.append(p)
+            p = p.parent
+        for d in reversed(missing):
+            try:
+                os.mkdir(d, 0o700)
+            except FileExistsError:
+                pass
+            os.chmod(d, 0o700)
+    _check_dir(root, os.stat(root))
+    rel = Path(folder).relative_to(root)
+    p = root
+    for part in rel.parts:
+        p = p / part
+        try:
+            st = os.lstat(p)
+        except FileNotFoundError:
+            if not create:
+                return False
+            try:
+                os.mkdir(p, 0o700)
+            except FileExistsError:
+                pass
+            os.chmod(p, 0o700)
+            st = os.lstat(p)
+        _check_dir(p, st)
+    return True
+
+
+def open_private(path: Path):
+    """The cache file ``path`` opened for reading (binary): without following a link and
+    without blocking (a FIFO must not hang the run), and only when it is a regular file of
+    ours. Raises ``FileNotFoundError`` for a missing file and :class:`Untrusted` for anything
+    else not to be read."""
+    fd = _open_private_fd(path)
+    return os.fdopen(fd, "rb")
+
+
+def read_private(path: Path) -> bytes:
+    """The bytes of the cache file ``path`` (see :func:`open_private`)."""
+    with open_private(path) as fh:
+        return fh.read()
+
+
+def _open_private_fd(path: Path) -> int:
+    flags = os.O_RDONLY | getattr(os, "O_NOFOLLOW", 0) | getattr(os, "O_NONBLOCK", 0)
+    try:
+        fd = os.open(path, flags)
+    except FileNotFoundError:
+        raise
+    except OSError as exc:
+        raise Untrusted(exc.errno or errno.EPERM, f"cannot open ({exc.strerror})",
+                        str(path)) from None
+    try:
+        st = os.fstat(fd)
+        if not stat.S_ISREG(st.st_mode):
+            raise Untrusted(errno.EPERM, "not a regular file", str(path))
+        uid = _uid()
+        if uid is not None and st.st_uid != uid:
+            raise Untrusted(errno.EPERM, "the file belongs to another user", str(path))
+        if hasattr(os, "set_blocking"):
+            os.set_blocking(fd, True)
+    except BaseException:
+        os.close(fd)
+        raise
+    return fd
+
+
+def _entry_text(key: str, version: str, deps: Mapping[str, str], payload: str) -> str:
+    head = json.dumps({"format": FORMAT, "hazlint": version, "key": key, "deps": dict(deps),
+                       "digest": digest_bytes(payload.encode("utf-8"))},
+                      separators=(",", ":"))
+    return head[:-1] + ',"data":' + payload + "}"
+
+
+def _split_entry(raw: bytes) -> tuple[dict, bytes]:
+    """(header, data bytes) of an entry written by :func:`_entry_text`, checked: the header
+    must be exactly what the writer produces for its fields and the data must have the
+    recorded digest. Raises ``ValueError`` otherwise; the data itself is not decoded."""
+    cut = raw.find(b',"data":')
+    if cut < 0 or not raw.endswith(b"}"):
+        raise ValueError("not an entry")
+    head = json.loads(raw[:cut] + b"}")
+    if not isinstance(head, dict) or set(head) != {"format", "hazlint", "key", "deps",
+                                                   "digest"}:
+        raise ValueError("entry header has other fields")
+    again = json.dumps(head, separators=(",", ":"))[:-1] + ',"data":'
+    if raw[:cut + 8] != again.encode("utf-8"):
+        raise ValueError("entry header is not in the written form")
+    data = raw[cut + 8:-1]
+    if digest_bytes(data) != head["digest"]:
+        raise ValueError("the data does not have the recorded digest")
+    return head, data
 
 
 def default_cache_dir() -> Path:
@@ -116,11 +261,35 @@ def digest_bytes(data: bytes) -> str:
 
 
 def digest_file(path: str | os.PathLike) -> str | None:
+    """sha256 hex of a regular file's content; None when it cannot be read (or is a FIFO,
+    a device, a folder: reading those could block or never end)."""
     try:
-        with open(path, "rb") as fh:
-            return digest_bytes(fh.read())
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
     except OSError:
         return None
+    try:
+        if not stat.S_ISREG(os.fstat(fd).st_mode):
+            return None
+        if hasattr(os, "set_blocking"):
+            os.set_blocking(fd, True)
+        with os.fdopen(fd, "rb") as fh:
+            fd = -1
+            return digest_stream(fh)
+    except OSError:
+        return None
+    finally:
+        if fd >= 0:
+            os.close(fd)
+
+
+def digest_stream(fh) -> str:
+    """sha256 hex of what is left in the binary stream ``fh``, read in pieces."""
+    h = hashlib.sha256()
+    while True:
+        b = fh.read(1 << 20)
+        if not b:
+            return h.hexdigest()
+        h.update(b)
 
 
 def make_key(content: str | bytes, *, defines: Mapping[str, Any] | None = None,
@@ -193,25 +362,21 @@ class ParseCache:
         self.enabled = enabled
         self.hits = self.misses = self.stores = self.dropped = 0
         self.warning: str | None = None
+        self._said = False
         if enabled:
             self._check_owner()
 
     # ------------------------------------------------------------------------------------------
     def _check_owner(self) -> None:
-        """Refuse a cache folder that belongs to another user: its entries could be planted."""
-        if not hasattr(os, "getuid"):
-            return
-        probe = self.directory
-        while not probe.exists() and probe != probe.parent:
-            probe = probe.parent
+        """Refuse a cache folder that is not ours (owner, type) anywhere from the root down to
+        this namespace: entries in it could be planted. Folders that are ours but open to
+        others are made private again."""
         try:
-            st = probe.stat()
-        except OSError:
-            return
-        if probe == self.directory and st.st_uid != os.getuid():
+            private_dirs(self.directory, self.directory / self.namespace, create=False)
+        except OSError as exc:
             self.enabled = False
             self.warning = (f"hazlint: not using cache folder {self.directory}: "
-                            f"it belongs to another user")
+                            f"{exc.filename}: {exc.strerror}")
             print(self.warning, file=sys.stderr)
 
     def _entry_path(self, key: str) -> Path:
@@ -220,8 +385,11 @@ class ParseCache:
             key = digest_bytes(key.encode("utf-8", "surrogateescape"))
         return self.directory / self.namespace / key[:2] / f"{key}.json"
 
-    def _drop(self, path: Path) -> None:
+    def _drop(self, path: Path, why: str = "unreadable") -> None:
         self.dropped += 1
+        if not self._said:
+            self._said = True
+            log.debug("cache entry %s ignored and removed (%s); it is recomputed", path, why)
         try:
             path.unlink()
         except OSError:
@@ -233,26 +401,34 @@ class ParseCache:
             return None
         path = self._entry_path(key)
         try:
-            raw = path.read_bytes()
-        except OSError:
+            if not private_dirs(self.directory, path.parent, create=False):
+                self.misses += 1
+                return None
+            raw = read_private(path)
+        except FileNotFoundError:
+            self.misses += 1
+            return None
+        except OSError as exc:
+            self._drop(path, exc.strerror or "not ours")
             self.misses += 1
             return None
         try:
-            entry = json.loads(raw)
-        except (ValueError, UnicodeDecodeError):
-            self._drop(path)
+            head, payload = _split_entry(raw)
+            if head["key"] != key:
+                raise ValueError("stored under another key")
+            if head["format"] != FORMAT or not isinstance(head["deps"], dict):
+                raise ValueError("not an entry of this format")
+            if head["hazlint"] != self.version:
+                self.misses += 1       # written by another version: stale, not corrupt
+                return None
+            data = json.loads(payload)
+            if not isinstance(data, dict):
+                raise ValueError("the data is not a table")
+        except (ValueError, UnicodeDecodeError, RecursionError) as exc:
+            self._drop(path, str(exc) or type(exc).__name__)
             self.misses += 1
             return None
-        if (not isinstance(entry, dict) or entry.get("format") != FORMAT
-                or entry.get("key") != key or not isinstance(entry.get("data"), dict)
-                or not isinstance(entry.get("deps", {}), dict)):
-            self._drop(path)
-            self.misses += 1
-            return None
-        if entry.get("hazlint") != self.version:
-            self.misses += 1       # written by another version: stale, not corrupt
-            return None
-        for dep, want in entry.get("deps", {}).items():
+        for dep, want in head["deps"].items():
             if digest_file(dep) != want:
                 self.misses += 1   # an included file changed since the entry was written
                 return None
@@ -261,14 +437,14 @@ class ParseCache:
             os.utime(path)         # recently used: the size limit removes the oldest first
         except OSError:
             pass
-        return entry["data"]
+        return data
 
     def discard(self, key: str) -> None:
         """Remove an entry the caller could not use (well-formed JSON, unusable content)."""
         if self.enabled:
             path = self._entry_path(key)
-            if path.exists():
-                self._drop(path)
+            if os.path.lexists(path):
+                self._drop(path, "its content is not usable")
 
     def store(self, key: str, data: Mapping[str, Any],
               deps: Iterable[str] | Mapping[str, str] | None = None) -> None:
@@ -287,17 +463,17 @@ class ParseCache:
                 if d is None:
                     return      # cannot pin a dependency: do not cache at all
                 dep_map[str(p)] = d
-        entry = {"format": FORMAT, "hazlint": self.version, "key": key, "deps": dep_map,
-                 "data": data}
         path = self._entry_path(key)
         try:
-            text = json.dumps(entry, separators=(",", ":"))
-        except (TypeError, ValueError):
+            payload = json.dumps(data, separators=(",", ":"))
+        except (TypeError, ValueError, RecursionError):
             return              # not JSON-able: a programming error upstream; never pickle
+        text = _entry_text(key, self.version, dep_map, payload)
         try:
+            private_dirs(self.directory, path.parent, create=True)
             atomic_write(path, lambda fh: fh.write(text))
         except OSError:
-            return              # read-only or full disk: caching is best effort
+            return              # read-only, full disk or not ours: caching is best effort
         self.stores += 1
         self._maybe_prune(path)
 
@@ -352,11 +528,12 @@ def atomic_write(path: Path, write, *, private: bool = True) -> None:
 
 
 def open_cache(directory: str | os.PathLike | None = None, *, enabled: bool = True,
-               namespace: str = "parse", limit_mb: int | None = None) -> ParseCache | None:
+               namespace: str = "parse", limit_mb: int | None = None,
+               version: str | None = None) -> ParseCache | None:
     """The cache for a run: ``None`` when disabled (callers then skip caching entirely)."""
     if not enabled:
         return None
-    cache = ParseCache(directory, namespace=namespace, limit_mb=limit_mb)
+    cache = ParseCache(directory, namespace=namespace, limit_mb=limit_mb, version=version)
     return cache if cache.enabled else None
 
 

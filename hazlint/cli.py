@@ -49,6 +49,10 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = bool(os.environ.get("HAZLINT_DEBUG"))   # read now: under memory pressure, not later
+    if debug:
+        import logging
+        logging.basicConfig(level=logging.DEBUG, stream=sys.stderr,
+                            format="hazlint: debug: %(name)s: %(message)s")
     parser = build_parser()
     if not argv or (argv[0] not in COMMANDS and argv[0] not in ("-h", "--help", "--version")):
         argv = ["check", *argv]

@@ -200,20 +200,32 @@ def cone(graph: nx.DiGraph, targets: Iterable[str]) -> list[str]:
 
     Raises :class:`CyclicCone` when the cone holds a combinational loop.
     """
-    targets = list(targets)
-    nodes = set(targets)
-    stack = list(targets)
-    while stack:
-        n = stack.pop()
-        for p in graph.predecessors(n):
-            if p not in nodes:
-                nodes.add(p)
-                stack.append(p)
-    sub = graph.subgraph(nodes)
-    try:
-        return list(nx.topological_sort(sub))
-    except nx.NetworkXUnfeasible:
-        raise CyclicCone("combinational loop in the cone") from None
+    # depth-first post-order over the predecessors, in the graph's own adjacency order: the
+    # same order for the same graph whatever the string hash seed (a sub-graph view of a set
+    # of nodes would iterate that set, in hash order)
+    pred = graph.pred
+    state: dict[str, bool] = {}          # False: on the stack, True: placed
+    order: list[str] = []
+    for t in targets:
+        if t in state:
+            continue
+        state[t] = False
+        stack = [(t, iter(pred[t]))]
+        while stack:
+            n, it = stack[-1]
+            for p in it:
+                seen = state.get(p)
+                if seen is None:
+                    state[p] = False
+                    stack.append((p, iter(pred[p])))
+                    break
+                if seen is False:
+                    raise CyclicCone("combinational loop in the cone")
+            else:
+                stack.pop()
+                state[n] = True
+                order.append(n)
+    return order
 
 
 class CyclicCone(ValueError):

@@ -22,6 +22,7 @@ from __future__ import annotations
 import hashlib
 import os
 import re
+import stat
 from array import array
 from bisect import bisect_right
 from dataclasses import dataclass, field
@@ -143,10 +144,29 @@ def read_text(path: str, texts: dict | None = None) -> str:
             if key in texts:
                 return texts[key]
     try:
-        with open(path, "rb") as fh:
+        # without blocking at open (a FIFO must not hang the run), and only a regular file
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+    except OSError as exc:
+        raise ParseError(f"cannot read file: {exc.strerror}", path=path) from None
+    except ValueError:                     # a NUL in the name
+        raise ParseError("cannot read file: the name holds a NUL character",
+                         path=path.replace("\0", "\\0")) from None
+    try:
+        st = os.fstat(fd)
+        if stat.S_ISDIR(st.st_mode):
+            raise ParseError("cannot read file: is a directory", path=path)
+        if not stat.S_ISREG(st.st_mode):
+            raise ParseError("cannot read file: not a regular file", path=path)
+        if hasattr(os, "set_blocking"):
+            os.set_blocking(fd, True)
+        with os.fdopen(fd, "rb") as fh:
+            fd = -1
             data = fh.read()
     except OSError as exc:
         raise ParseError(f"cannot read file: {exc.strerror}", path=path) from None
+    finally:
+        if fd >= 0:
+            os.close(fd)
     return data.decode("utf-8", "surrogateescape")
 
 

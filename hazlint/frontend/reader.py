@@ -29,14 +29,18 @@ _PARSE_LOCK = threading.RLock()
 def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[str, str] = None,
                  root: str | None = None, jobs: int = 1, cache=None,
                  texts: dict[str, str] = None,
-                 progress: Callable[[int, int, str], None] | None = None) -> list[ir.SourceFile]:
+                 progress: Callable[[int, int, str], None] | None = None,
+                 tables=None) -> list[ir.SourceFile]:
     """Read ``paths`` into IR, one :class:`ir.SourceFile` per path, in input order.
 
     ``texts`` overrides file contents by path (unsaved editor buffers, includes too);
     ``cache`` is an object with ``load(key) -> dict | None`` and ``store(key, dict)``;
     ``jobs > 1`` parses in worker processes; ``progress(done, total, path)`` is called once per
     file; ``root`` bounds where includes may resolve (default, per input file: the repository
-    holding it, else its folder; never the working directory). Errors are :class:`~hazlint.errors.ParseError` with the original file:line.
+    holding it, else its folder; never the working directory); ``tables``: where the parser
+    keeps its tables (see :func:`~hazlint.frontend.parser.get_parser`; False: built in memory,
+    nothing written). Errors are :class:`~hazlint.errors.ParseError` with the original
+    file:line.
     """
     paths = [os.fspath(p) for p in paths]
     include_dirs = [os.fspath(d) for d in include_dirs]
@@ -59,7 +63,7 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
                     progress(done, total, path)
                 continue
         todo.append(i)
-    config = (include_dirs, defines, root, texts)
+    config = (include_dirs, defines, root, texts, tables)
     if jobs > 1 and len(todo) > 1:
         from concurrent.futures import ProcessPoolExecutor, as_completed
         with ProcessPoolExecutor(max_workers=min(jobs, len(todo))) as pool:
@@ -79,7 +83,7 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
             raise ParseError(**errors[min(errors)])     # the first failing file in input order
     else:
         for i in todo:
-            results[i] = read_one(paths[i], include_dirs, defines, root, texts)
+            results[i] = read_one(paths[i], include_dirs, defines, root, texts, tables)
             done += 1
             if progress:
                 progress(done, total, paths[i])
@@ -89,7 +93,8 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
     return results
 
 
-def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) -> ir.SourceFile:
+def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None,
+             tables=None) -> ir.SourceFile:
     """Preprocess, parse and build the IR of one file."""
     # the AST and IR are acyclic and all stay alive until the end: cyclic GC passes over
     # hundreds of thousands of young objects would only cost time
@@ -97,13 +102,13 @@ def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) ->
         gc_was_enabled = gc.isenabled()
         gc.disable()
         try:
-            return _read_one(path, include_dirs, defines, root, texts)
+            return _read_one(path, include_dirs, defines, root, texts, tables)
         finally:
             if gc_was_enabled:
                 gc.enable()
 
 
-def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
+def _read_one(path, include_dirs, defines, root, texts, tables=None) -> ir.SourceFile:
     pre = Preprocessor(include_dirs, defines, root, texts).run(path)
     if _NO_TOKENS.fullmatch(pre.text):
         # nothing but blanks and comments: a file with no description (legal, and empty)
@@ -111,7 +116,7 @@ def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
                              notes=[(ir.Loc(p, n), msg) for p, n, msg in pre.notes],
                              includes=list(pre.includes),
                              digest=_combined_digest(pre.digests, path))
-    parser = get_parser()
+    parser = get_parser(tables)
     try:
         ast = parser.parse(pre.text)
     except SyntaxErr as exc:
@@ -212,9 +217,9 @@ def _to_cache(cache, key, sf: ir.SourceFile, texts) -> None:
 
 
 def _worker(path, config):
-    include_dirs, defines, root, texts = config
+    include_dirs, defines, root, texts, tables = config
     try:
-        return ("ok", ir.to_json(read_one(path, include_dirs, defines, root, texts)))
+        return ("ok", ir.to_json(read_one(path, include_dirs, defines, root, texts, tables)))
     except HazlintError as exc:
         return ("error", {"message": exc.message, "path": exc.path, "line": exc.line,
                           "column": exc.column, "construct": exc.construct})
