@@ -156,6 +156,8 @@ class Elaborator:
         self._noted: set[tuple] = set()
         self._max_gates = _limits.current().gates
         self._max_width = _limits.current().vector_width
+        self._max_net_bits = _limits.current().net_bits
+        self._net_bits = 0
         self._instances = 0
 
     # ---------------------------------------------------------------- union-find ---------------
@@ -361,6 +363,10 @@ class Elaborator:
             lsb = self.const(width[1], scope, loc)
             _limits.check("vector_width", abs(msb - lsb) + 1, f"the width of '{name[:60]}'",
                           _where(loc))
+            self._net_bits += abs(msb - lsb) + 1
+            if self._net_bits > self._max_net_bits:
+                _limits.check("net_bits", self._net_bits, "the number of net bits declared",
+                              _where(loc))
             step = 1 if msb >= lsb else -1
             indices = list(range(lsb, msb + step, step))
         if info is not None:
@@ -958,7 +964,7 @@ class Elaborator:
                 if not v >= 0:
                     raise ElaborationError(f"delay {v:g} is not a non-negative number",
                                            *_where(loc))
-                _limits.check("delay", v, f"the delay {v:g}", _where(loc))
+                _limits.check("delay", v, "the delay", _where(loc))
             vals.append((mn, mx))
         if len(vals) == 1:
             vals.append(vals[0])

@@ -16,6 +16,7 @@ const_bits         1048576     bits of one intermediate value of a constant expr
 delay              1e12        a delay value, in the module's time units
 instances          20000000    instances elaborated (module, primitive, cell and UDP instances)
 gates              20000000    gates, registers and port bits built by elaboration
+net_bits           40000000    net bits declared (every bit of every vector, used or not)
 macro_expansion    67108864    characters macro expansion produces while reading one input file
                                (its includes included)
 include_fanout     10000       ```include`` directives followed while reading one input file
@@ -44,6 +45,7 @@ class Limits:
     delay: float = 1e12
     instances: int = 20_000_000
     gates: int = 20_000_000
+    net_bits: int = 40_000_000
     macro_expansion: int = 1 << 26
     include_fanout: int = 10_000
 
@@ -118,6 +120,10 @@ class LimitExceeded(HazlintError):
                  construct: str | None = None, value: Any = None):
         limit = getattr(current(), name)
         shown = f"{limit:g}" if isinstance(limit, float) else str(limit)
+        if isinstance(value, int) and not isinstance(value, bool):
+            what += f" ({value if value < 10 ** 40 else 'more than 10**40'})"
+        elif isinstance(value, float) and value != float("inf"):
+            what += f" ({value:g})"
         super().__init__(f"{what} exceeds the limit {name} = {shown} (raise it with --limit "
                          f"{name}=N or 'limits = {{ {name} = N }}' in the configuration)",
                          path=path, line=line, column=column, construct=construct)
