@@ -8,10 +8,10 @@ read with :func:`json.loads`; the IR module rebuilds only its own dataclasses fr
 Layout: ``<dir>/<namespace>/<key[:2]>/<key>.json``, one file per entry::
 
     {"format":2,"hazlint":"0.1.0+...","key":"<hex>","deps":{"<path>":"<sha256>"},
-     "digest":"<sha256 of the data bytes>","data":{...}}
+     "digest":"<sha256 of the key, a newline and the data bytes>","data":{...}}
 
-An entry cannot lie: it records the key it was stored under and the digest of its own ``data``
-bytes, and both are checked before the data is decoded. An entry that fails any check (wrong
+An entry cannot lie: it records the key it was stored under and a digest of that key and its
+own ``data`` bytes, and both are checked before the data is decoded. An entry that fails any check (wrong
 key, wrong digest, not a regular file, not ours, a symbolic link, not JSON, a missing field) is
 removed and recomputed, and the first such entry of a run is mentioned at debug level (logger
 ``hazlint.cache``; ``HAZLINT_DEBUG=1`` shows it). Reading opens without following links and
@@ -218,9 +218,15 @@ def _open_private_fd(path: Path) -> int:
     return fd
 
 
+def _payload_digest(key: str, payload: bytes) -> str:
+    """The digest an entry records: over the key it is stored under and its data bytes, so
+    neither a changed byte nor an entry copied under another key passes."""
+    return digest_bytes(key.encode("utf-8", "surrogateescape") + b"\n" + payload)
+
+
 def _entry_text(key: str, version: str, deps: Mapping[str, str], payload: str) -> str:
     head = json.dumps({"format": FORMAT, "hazlint": version, "key": key, "deps": dict(deps),
-                       "digest": digest_bytes(payload.encode("utf-8"))},
+                       "digest": _payload_digest(key, payload.encode("utf-8"))},
                       separators=(",", ":"))
     return head[:-1] + ',"data":' + payload + "}"
 
@@ -240,7 +246,7 @@ def _split_entry(raw: bytes) -> tuple[dict, bytes]:
     if raw[:cut + 8] != again.encode("utf-8"):
         raise ValueError("entry header is not in the written form")
     data = raw[cut + 8:-1]
-    if digest_bytes(data) != head["digest"]:
+    if not isinstance(head["key"], str) or _payload_digest(head["key"], data) != head["digest"]:
         raise ValueError("the data does not have the recorded digest")
     return head, data
 
