@@ -218,6 +218,8 @@ class Elaborator:
         self.parent.setdefault(out, out)
         if len(self.drivers) > self._max_gates:
             _limits.check("gates", len(self.drivers), "the number of gates", _where(loc))
+        if not len(self.drivers) & 8191:
+            _budget.check_loading("elaborating the design", *_where(loc)[:2])
 
     def gate(self, scope: Scope, op: str, ins: list[str], loc, delay: Delay | None = None,
              fold: bool = True) -> str:
@@ -240,6 +242,8 @@ class Elaborator:
         self.sink_ids.add(sid)
         self.sinks.append({"id": sid, "input": sig, "role": role, "name": name, "loc": loc,
                            "instance": instance, **attrs})
+        if not len(self.sinks) & 8191:
+            _budget.check_loading("elaborating the design", *_where(loc)[:2])
         return sid
 
     # ---------------------------------------------------------------- top ----------------------
@@ -364,6 +368,8 @@ class Elaborator:
             _limits.check("vector_width", abs(msb - lsb) + 1, f"the width of '{name[:60]}'",
                           _where(loc))
             self._net_bits += abs(msb - lsb) + 1
+            if abs(msb - lsb) > 8191:
+                _budget.check_loading("elaborating the design", *_where(loc)[:2])
             if self._net_bits > self._max_net_bits:
                 _limits.check("net_bits", self._net_bits, "the number of net bits declared",
                               _where(loc))
@@ -1760,7 +1766,9 @@ class Elaborator:
                 return sig
             return rep[find(sig)]
 
-        for r, ds in drv_of.items():
+        for k, (r, ds) in enumerate(drv_of.items()):
+            if not k & 8191:
+                _budget.check_loading("building the gate graph", *_where(ds[0]["loc"])[:2])
             nid = rep[r]
             strong = [d for d in ds if not d.get("weak")]
             ds_use = strong or ds

@@ -110,7 +110,7 @@ def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None,
 
 def _read_one(path, include_dirs, defines, root, texts, tables=None) -> ir.SourceFile:
     pre = Preprocessor(include_dirs, defines, root, texts).run(path)
-    if _NO_TOKENS.fullmatch(pre.text):
+    if _no_tokens(pre.text):
         # nothing but blanks and comments: a file with no description (legal, and empty)
         return ir.SourceFile(path=path, modules=[], primitives=[],
                              notes=[(ir.Loc(p, n), msg) for p, n, msg in pre.notes],
@@ -123,6 +123,10 @@ def _read_one(path, include_dirs, defines, root, texts, tables=None) -> ir.Sourc
         file, line = pre.line_map.lookup(exc.lineno or 1)
         if not file:
             file, line = path, 1
+        if exc.construct == "EOF":
+            # the input ended early: that is the end of the file being read, not of the last
+            # file it included
+            file, line = path, max(1, read_text(path, texts).rstrip().count("\n") + 1)
         col = None
         if exc.lexpos is not None:
             col = exc.lexpos - (pre.text.rfind("\n", 0, exc.lexpos) + 1) + 1
@@ -130,7 +134,7 @@ def _read_one(path, include_dirs, defines, root, texts, tables=None) -> ir.Sourc
         if exc.construct and exc.construct != "EOF":
             msg = f"{msg} near '{exc.construct}'"
         raise ParseError(msg, path=file, line=line, column=col,
-                         construct=exc.construct) from None
+                         construct=exc.construct if exc.construct != "EOF" else None) from None
     except RecursionError:
         raise ParseError("input nested too deeply to parse", path=path) from None
     try:
@@ -149,7 +153,28 @@ def _read_one(path, include_dirs, defines, root, texts, tables=None) -> ir.Sourc
 
 # ---------------------------------------------------------------------------------------------
 
-_NO_TOKENS = re.compile(r"(?:\s+|//[^\n]*|/\*.*?\*/)*", re.S)
+_BLANKS = re.compile(r"\s*")
+
+
+def _no_tokens(text: str) -> bool:
+    """Whether ``text`` holds nothing but blanks and comments (one linear scan)."""
+    i, n = 0, len(text)
+    while True:
+        i = _BLANKS.match(text, i).end()
+        if i >= n:
+            return True
+        if text.startswith("//", i):
+            j = text.find("\n", i)
+            if j < 0:
+                return True
+            i = j
+        elif text.startswith("/*", i):
+            j = text.find("*/", i + 2)
+            if j < 0:
+                return False          # an open comment: the parser says where
+            i = j + 2
+        else:
+            return False
 
 
 def _combined_digest(digests: dict, path: str) -> str:
