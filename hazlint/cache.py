@@ -40,20 +40,20 @@ under 80% of the limit. The entry just written is never removed.
 """
 from __future__ import annotations
 
-import errno
 import hashlib
 import json
 import logging
 import os
 import re
-import stat
 import sys
-import tempfile
 import time
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
 from . import __version__
+from .filestore import (Untrusted, atomic_write, digest_bytes, digest_file,  # noqa: F401
+                        digest_stream, open_private, private_dirs, read_private)
+# (re-exported: the cache's file rules are in hazlint.filestore)
 
 FORMAT = 2
 ENV_DIR = "HAZLINT_CACHE_DIR"
@@ -116,108 +116,6 @@ _HEX_KEY = re.compile(r"[0-9a-f]{16,128}")
 log = logging.getLogger("hazlint.cache")
 
 
-class Untrusted(OSError):
-    """A cache folder or file that is not ours (owner, type, permissions)."""
-
-
-def _uid() -> int | None:
-    return os.getuid() if hasattr(os, "getuid") else None
-
-
-def _check_dir(path: Path, st: os.stat_result) -> None:
-    """A cache folder must be a real folder of ours, private; a folder of ours that others
-    could write (made under an old umask) is made private again."""
-    if not stat.S_ISDIR(st.st_mode):
-        raise Untrusted(errno.ENOTDIR, "not a folder", str(path))
-    uid = _uid()
-    if uid is None:
-        return
-    if st.st_uid != uid:
-        raise Untrusted(errno.EPERM, "the folder belongs to another user", str(path))
-    if st.st_mode & 0o077:
-        os.chmod(path, 0o700)
-
-
-def private_dirs(root: Path, folder: Path, *, create: bool) -> bool:
-    """Check (and with ``create``, make) every folder from ``root`` down to ``folder``: each
-    mode 0700 and ours. ``root`` itself may be reached through a link (a cache moved to
-    another disk); below it nothing may be a link. Missing parents of ``root`` are created
-    0700 too. Returns False when a folder is missing and ``create`` is false; raises
-    :class:`Untrusted` (an ``OSError``) for a folder that is not ours."""
-    root = Path(root)
-    if not root.exists():
-        if not create:
-            return False
-        missing = []
-        p = root
-        while not p.exists() and p != p.parent:
-            missing.append(p)
-            p = p.parent
-        for d in reversed(missing):
-            try:
-                os.mkdir(d, 0o700)
-            except FileExistsError:
-                pass
-            os.chmod(d, 0o700)
-    _check_dir(root, os.stat(root))
-    rel = Path(folder).relative_to(root)
-    p = root
-    for part in rel.parts:
-        p = p / part
-        try:
-            st = os.lstat(p)
-        except FileNotFoundError:
-            if not create:
-                return False
-            try:
-                os.mkdir(p, 0o700)
-            except FileExistsError:
-                pass
-            os.chmod(p, 0o700)
-            st = os.lstat(p)
-        _check_dir(p, st)
-    return True
-
-
-def open_private(path: Path):
-    """The cache file ``path`` opened for reading (binary): without following a link and
-    without blocking (a FIFO must not hang the run), and only when it is a regular file of
-    ours. Raises ``FileNotFoundError`` for a missing file and :class:`Untrusted` for anything
-    else not to be read."""
-    fd = _open_private_fd(path)
-    return os.fdopen(fd, "rb")
-
-
-def read_private(path: Path) -> bytes:
-    """The bytes of the cache file ``path`` (see :func:`open_private`)."""
-    with open_private(path) as fh:
-        return fh.read()
-
-
-def _open_private_fd(path: Path) -> int:
-    flags = os.O_RDONLY | getattr(os, "O_NOFOLLOW", 0) | getattr(os, "O_NONBLOCK", 0)
-    try:
-        fd = os.open(path, flags)
-    except FileNotFoundError:
-        raise
-    except OSError as exc:
-        raise Untrusted(exc.errno or errno.EPERM, f"cannot open ({exc.strerror})",
-                        str(path)) from None
-    try:
-        st = os.fstat(fd)
-        if not stat.S_ISREG(st.st_mode):
-            raise Untrusted(errno.EPERM, "not a regular file", str(path))
-        uid = _uid()
-        if uid is not None and st.st_uid != uid:
-            raise Untrusted(errno.EPERM, "the file belongs to another user", str(path))
-        if hasattr(os, "set_blocking"):
-            os.set_blocking(fd, True)
-    except BaseException:
-        os.close(fd)
-        raise
-    return fd
-
-
 def _payload_digest(key: str, payload: bytes) -> str:
     """The digest an entry records: over the key it is stored under and its data bytes, so
     neither a changed byte nor an entry copied under another key passes."""
@@ -260,42 +158,6 @@ def default_cache_dir() -> Path:
         return Path(platformdirs.user_cache_dir("hazlint", appauthor=False))
     except ImportError:  # pragma: no cover - platformdirs is a dependency
         return Path.home() / ".cache" / "hazlint"
-
-
-def digest_bytes(data: bytes) -> str:
-    return hashlib.sha256(data).hexdigest()
-
-
-def digest_file(path: str | os.PathLike) -> str | None:
-    """sha256 hex of a regular file's content; None when it cannot be read (or is a FIFO,
-    a device, a folder: reading those could block or never end)."""
-    try:
-        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
-    except OSError:
-        return None
-    try:
-        if not stat.S_ISREG(os.fstat(fd).st_mode):
-            return None
-        if hasattr(os, "set_blocking"):
-            os.set_blocking(fd, True)
-        with os.fdopen(fd, "rb") as fh:
-            fd = -1
-            return digest_stream(fh)
-    except OSError:
-        return None
-    finally:
-        if fd >= 0:
-            os.close(fd)
-
-
-def digest_stream(fh) -> str:
-    """sha256 hex of what is left in the binary stream ``fh``, read in pieces."""
-    h = hashlib.sha256()
-    while True:
-        b = fh.read(1 << 20)
-        if not b:
-            return h.hexdigest()
-        h.update(b)
 
 
 def make_key(content: str | bytes, *, defines: Mapping[str, Any] | None = None,
@@ -505,32 +367,6 @@ class ParseCache:
                 except OSError:
                     pass
         return n
-
-
-def atomic_write(path: Path, write, *, private: bool = True) -> None:
-    """Create ``path`` (and its folder, private) with what ``write(stream)`` writes (text,
-    UTF-8, no newline translation): into a temporary file in the same folder, then
-    :func:`os.replace`, so a reader never sees half a file. The temporary file is removed on
-    any failure, which propagates. ``private=False`` is for files users keep (a baseline): the
-    folder must exist and the file gets the usual permissions (0666 less the umask)."""
-    path = Path(path)
-    if private:
-        path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=path.suffix)
-    try:
-        if not private:
-            umask = os.umask(0)
-            os.umask(umask)
-            os.chmod(tmp, 0o666 & ~umask)
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            write(fh)
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
 
 
 def open_cache(directory: str | os.PathLike | None = None, *, enabled: bool = True,

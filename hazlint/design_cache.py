@@ -45,8 +45,8 @@ from typing import Any, Iterable, Mapping, Sequence
 
 
 from . import __version__
-from .cache import (Codec, CodecError, ParseCache, atomic_write, default_cache_dir,
-                    digest_file, digest_stream, open_private, private_dirs)
+from .cache import Codec, CodecError, ParseCache, default_cache_dir
+from .filestore import atomic_write, digest_file, digest_stream, open_private, private_dirs
 
 DESIGN_FORMAT = 1
 NAMESPACE = "design"

@@ -32,6 +32,7 @@ import networkx as nx
 
 from ..graph import SOURCE_KINDS
 from ..logic import op_as_expr
+from .order import fanin_postorder
 
 # ---------------------------------------------------------------------------------------------
 # Boolean algebras (explicit bit-parallel ints here; BDD and CNF builders elsewhere)
@@ -200,32 +201,10 @@ def cone(graph: nx.DiGraph, targets: Iterable[str]) -> list[str]:
 
     Raises :class:`CyclicCone` when the cone holds a combinational loop.
     """
-    # depth-first post-order over the predecessors, in the graph's own adjacency order: the
-    # same order for the same graph whatever the string hash seed (a sub-graph view of a set
-    # of nodes would iterate that set, in hash order)
-    pred = graph.pred
-    state: dict[str, bool] = {}          # False: on the stack, True: placed
-    order: list[str] = []
-    for t in targets:
-        if t in state:
-            continue
-        state[t] = False
-        stack = [(t, iter(pred[t]))]
-        while stack:
-            n, it = stack[-1]
-            for p in it:
-                seen = state.get(p)
-                if seen is None:
-                    state[p] = False
-                    stack.append((p, iter(pred[p])))
-                    break
-                if seen is False:
-                    raise CyclicCone("combinational loop in the cone")
-            else:
-                stack.pop()
-                state[n] = True
-                order.append(n)
-    return order
+    # in the graph's own adjacency order: the same for the same graph whatever the string
+    # hash seed (a sub-graph view of a set of nodes would iterate that set, in hash order)
+    return fanin_postorder(graph, targets,
+                           on_cycle=lambda: CyclicCone("combinational loop in the cone"))
 
 
 class CyclicCone(ValueError):

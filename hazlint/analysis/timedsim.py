@@ -34,6 +34,7 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from ..library import Delay
+from .order import ordered_copy
 from .ternary import IntAlgebra, bool_gate, ternary_fixpoint
 
 INF = float("inf")
@@ -434,7 +435,7 @@ def fanin_cone(graph: nx.DiGraph, roots: Iterable[str]) -> nx.DiGraph:
                 stack.append(u)
     # (a view, such as a sub-graph, is copied too: iterating a view costs a filter per node)
     sub = graph if len(seen) == len(graph) and not nx.is_frozen(graph) \
-        else _ordered_copy(graph, seen)
+        else ordered_copy(graph, seen)
     per[key] = sub
     if len(per) > _CONES_PER_GRAPH + 1:
         for k in list(per):
@@ -442,44 +443,6 @@ def fanin_cone(graph: nx.DiGraph, roots: Iterable[str]) -> nx.DiGraph:
                 del per[k]
                 break
     return sub
-
-
-def _ordered_copy(graph: nx.DiGraph, nodes: set) -> nx.DiGraph:
-    """The sub-graph of ``nodes`` as a copy whose nodes and edges keep ``graph``'s order (a
-    copy of a sub-graph view follows the order of the node set, which is the string hash
-    order: event times that tie would then be taken in another order on another run)."""
-    sub = nx.DiGraph()
-    sub.graph.update(graph.graph)
-    keep = [n for n in graph if n in nodes] if len(nodes) * 8 > len(graph) else \
-        _topological_within(graph, nodes)
-    sub.add_nodes_from((n, graph.nodes[n].copy()) for n in keep)
-    succ = graph.succ
-    sub.add_edges_from((u, v, d.copy()) for u in keep for v, d in succ[u].items() if v in nodes)
-    return sub
-
-
-def _topological_within(graph: nx.DiGraph, nodes: set) -> list[str]:
-    """``nodes`` (closed under predecessors) in depth-first post-order over the predecessors,
-    from the sorted sinks of the set: deterministic, and a topological order when acyclic."""
-    pred = graph.pred
-    placed: set[str] = set()
-    out: list[str] = []
-    for root in sorted(nodes):
-        if root in placed:
-            continue
-        placed.add(root)
-        stack = [(root, iter(pred[root]))]
-        while stack:
-            n, it = stack[-1]
-            for p in it:
-                if p in nodes and p not in placed:
-                    placed.add(p)
-                    stack.append((p, iter(pred[p])))
-                    break
-            else:
-                stack.pop()
-                out.append(n)
-    return out
 
 
 def glitch_at(trace: Trace, node: str, after: float, mode: str = "inertial") -> Glitch:
