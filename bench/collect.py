@@ -2,7 +2,8 @@
 """Gather the benchmark results into bench/RESULTS.md.
 
 Each bench script writes its own file (RESULTS-load.md, RESULTS-rules.md, RESULTS-hazards.md,
-RESULTS-hazards-giants.md, RESULTS-cache.md) so that one can be rerun without the others; this
+RESULTS-hazards-giants.md, RESULTS-cache.md, RESULTS-lsp.md, RESULTS-fuzz.md) so that one can
+be rerun without the others; this
 script puts them together, in that order, under one title with the goal of each, demoting their headings one level.
 
     python bench/collect.py
@@ -30,6 +31,10 @@ PARTS = [
     ("RESULTS-cache.md", "bench_cache.py",
      "a warm rerun on unchanged files costs at most 10% of the cold run, for ISCAS c7552 and "
      "EPFL sin.v."),
+    ("RESULTS-lsp.md", "bench_lsp.py",
+     "the diagnostics of a megabyte netlist within seconds of opening it in the editor."),
+    ("RESULTS-fuzz.md", "bench_fuzz.py",
+     "ten thousand hostile inputs: no crash, no hang, every exit 2 with `file:line`."),
 ]
 
 

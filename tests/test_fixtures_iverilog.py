@@ -21,9 +21,10 @@ from support import iverilog
 ROOT = Path(__file__).resolve().parent.parent
 FIX = ROOT / "fixtures"
 # fixtures that are deliberately malformed or need include paths/defines given by their tests
-# (frontend), and netlists of library cells, simulated against cell models in their own tests
-# (tests/test_liberty.py, tests/test_sdf.py)
-SPECIAL = {"frontend", "sdf", "liberty"}
+# (frontend), netlists of library cells, simulated against cell models in their own tests
+# (tests/test_liberty.py, tests/test_sdf.py), and the hostile inputs of
+# tests/test_hostile_input.py (errors and limits, not designs to simulate)
+SPECIAL = {"frontend", "sdf", "liberty", "hostile", "include_fanout", "include_beside"}
 
 
 def designs():

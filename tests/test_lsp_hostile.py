@@ -10,7 +10,7 @@ from __future__ import annotations
 import json
 
 import pytest
-from support.lsp_client import shutdown, start
+from support.lsp_client import megabyte_netlist, shutdown, start
 
 HAZARD = """\
 module press_valve(input guard_closed, input two_hand, input maint_key, output valve_enable);
@@ -26,24 +26,6 @@ endmodule
 def _open(c, uri, text, version=1):
     c.notify("textDocument/didOpen", {"textDocument": {
         "uri": uri, "languageId": "verilog", "version": version, "text": text}})
-
-
-def megabyte_netlist(n: int = 20000) -> str:
-    """The press valve of :data:`HAZARD` with the inverted branch of ``guard_closed`` delayed
-    through a chain of ``n`` buffers: one reconvergence whose slow path has ``n`` hops."""
-    lines = ["module press_chain(input guard_closed, input two_hand, input maint_key,",
-             "                   output valve_enable);",
-             "  wire run, bypass, " + ", ".join(f"delay_line_stage_{i:06d}"
-                                               for i in range(n + 1)) + ";",
-             "  not  g_inv (delay_line_stage_000000, guard_closed);"]
-    for i in range(n):
-        lines.append(f"  buf  delay_buffer_{i:06d} (delay_line_stage_{i + 1:06d}, "
-                     f"delay_line_stage_{i:06d});")
-    lines += ["  and  g_run (run, two_hand, guard_closed);",
-              f"  and  g_byp (bypass, maint_key, delay_line_stage_{n:06d});",
-              "  or   g_out (valve_enable, run, bypass);",
-              "endmodule"]
-    return "\n".join(lines) + "\n"
 
 
 @pytest.mark.slow

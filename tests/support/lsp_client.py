@@ -113,3 +113,22 @@ def shutdown(c):
     c.notify("exit", None)
     c.proc.stdin.close()
     assert c.proc.wait(timeout=30) == 0
+
+
+def megabyte_netlist(n: int = 20000) -> str:
+    """The press valve of the LSP tests (``guard_closed`` reconverging at an OR) with the
+    inverted branch delayed through a chain of ``n`` buffers: one reconvergence whose slow path
+    has ``n`` hops (about 2 MB of text for the default ``n``)."""
+    lines = ["module press_chain(input guard_closed, input two_hand, input maint_key,",
+             "                   output valve_enable);",
+             "  wire run, bypass, " + ", ".join(f"delay_line_stage_{i:06d}"
+                                               for i in range(n + 1)) + ";",
+             "  not  g_inv (delay_line_stage_000000, guard_closed);"]
+    for i in range(n):
+        lines.append(f"  buf  delay_buffer_{i:06d} (delay_line_stage_{i + 1:06d}, "
+                     f"delay_line_stage_{i:06d});")
+    lines += ["  and  g_run (run, two_hand, guard_closed);",
+              f"  and  g_byp (bypass, maint_key, delay_line_stage_{n:06d});",
+              "  or   g_out (valve_enable, run, bypass);",
+              "endmodule"]
+    return "\n".join(lines) + "\n"
