@@ -107,6 +107,9 @@ def run(args) -> int:
     renderer = _renderer(args.format)       # a missing format fails before the slow work
     from ..limits import DEFAULT as LIMITS, parse_assignments
     LIMITS.with_values(parse_assignments(args.limits), where="--limit: ")
+    if args.time_budget is not None and not args.time_budget >= 0:
+        raise HazlintError(f"--time-budget must be a number of seconds, 0 or more (0: none), "
+                           f"got {args.time_budget}")
     files = list(args.files)
     changed = None
     if args.changed:
