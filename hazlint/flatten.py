@@ -23,6 +23,8 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from . import budget as _budget
+from . import cells_yosys_words as yosys_cells
+from . import initial_values
 from . import library as lib
 from . import limits as _limits
 from .consteval import NotConstant, const_value
@@ -146,6 +148,7 @@ class Elaborator:
         self.port_bits_top: dict[str, str] = {}
         self.port_attrs: dict[str, dict] = {}
         self.latch_paths: list[tuple[str, str, str]] = []
+        self.init_values: initial_values.InitValues = {}    # net bit -> power-up value
         self.blackbox_cells_warned: set[str] = set()
         self.blackbox_pins: set[str] = set()    # net bits connected to black-box pins
         self.bb_owner: dict[str, tuple] = {}    # such a net bit -> (instance, cell, loc, reason)
@@ -344,6 +347,8 @@ class Elaborator:
                 self._set_param(scope, it, named)
         for pname, port in m.ports.items():
             self.declare(scope, pname, port.width, port.net_type, port.signed, port.loc)
+            if "init" in port.attrs:
+                initial_values.record_attribute(self, scope, port)
         self.elab_items(scope, m.items, depth, declare_only_params=False)
 
     def _set_param(self, scope: Scope, p: ir.Param, named: Mapping[str, Any]) -> None:
@@ -420,6 +425,8 @@ class Elaborator:
                 if it.attrs:
                     for b in scope.nets[it.name].bits():
                         self.port_attrs.setdefault(b, {}).update(it.attrs)
+                    if "init" in it.attrs:
+                        initial_values.record_attribute(self, scope, it)
             elif isinstance(it, ir.Param) and scope.parent is not None:
                 self._set_param(scope, it, {})
         for it in items:
@@ -508,8 +515,7 @@ class Elaborator:
         elif isinstance(it, ir.Always):
             self.elab_always(scope, it)
         elif isinstance(it, ir.Initial):
-            self.note("initial block ignored (simulation only)", it.loc, scope.instance,
-                      key=("initial", scope.module.name))
+            initial_values.record_block(self, scope, it)
         elif isinstance(it, ir.GenFor):
             self.elab_genfor(scope, it, depth)
         elif isinstance(it, ir.GenIf):
@@ -1029,7 +1035,10 @@ class Elaborator:
         elif cell in self.primitives:
             self.elab_udp(scope, inst, self.primitives[cell])
         elif cell in self.library:
-            self.elab_cell(scope, inst, self.library.get(cell))
+            cdef = self.library.get(cell)
+            self.elab_cell(scope, inst, cdef, yosys_cells.register_name(self, scope, inst, cdef))
+        elif cell.startswith("$") and yosys_cells.elaborate_cell(self, scope, inst):
+            pass                # a yosys cell, built in after the user's and Liberty cells
         else:
             if cell not in self.blackbox_cells_warned:
                 self.blackbox_cells_warned.add(cell)
@@ -1225,7 +1234,8 @@ class Elaborator:
             out[pname] = self.conn_bits(scope, e, inst.loc) if e is not None else None
         return out
 
-    def elab_cell(self, scope: Scope, inst: ir.Instance, cell: CellDef) -> None:
+    def elab_cell(self, scope: Scope, inst: ir.Instance, cell: CellDef,
+                  reg_name: str | None = None) -> None:
         path = f"{scope.instance}.{inst.name}"
         positional = any(p is None for p, _ in inst.connections)
         order = list(getattr(cell, "pin_order", None) or (cell.outputs + cell.inputs))
@@ -1251,7 +1261,7 @@ class Elaborator:
 
         self._unconn_noted = getattr(self, "_unconn_noted", {})
         if cell.sequential is not None:
-            self.elab_seq_cell(scope, inst, cell, conns, pin_sig, path)
+            self.elab_seq_cell(scope, inst, cell, conns, pin_sig, path, reg_name)
             return
         for out in cell.outputs:
             bits = conns.get(out)
@@ -1320,18 +1330,15 @@ class Elaborator:
         return self.gate(scope, tag, [self._expr_gates(scope, x, pin_sig, loc) for x in e[1:]],
                          loc, delay=ZERO_DELAY)
 
-    def elab_seq_cell(self, scope, inst, cell: CellDef, conns, pin_sig, path) -> None:
+    def elab_seq_cell(self, scope, inst, cell: CellDef, conns, pin_sig, path,
+                      reg_name: str | None = None) -> None:
         seq = cell.sequential
-        name = self.rel(scope, inst.name)
+        name = self.rel(scope, reg_name or inst.name)
         reg = Register(name=name, kind=seq.kind, cell=cell.name, instance=path,
                        path=inst.loc.path if inst.loc else "", line=inst.loc.line if inst.loc
                        else 0)
         loc = inst.loc
-
-        def iq(p):  # next_state may read the state itself (IQ)
-            if p in ("IQ", "IQN"):
-                return HOLD
-            return pin_sig(p)
+        mark = len(self.drivers)
         if seq.kind == "ff":
             if seq.clocked_on is None or seq.next_state is None:
                 raise ElaborationError(f"flip-flop cell '{cell.name}' needs clocked_on and "
@@ -1342,6 +1349,8 @@ class Elaborator:
                                               register=name, active=reg.clock_edge,
                                               **self._pin_of(seq.clocked_on))
             data_e = seq.next_state
+        elif seq.enable is None and seq.data_in is None and (seq.clear or seq.preset):
+            data_e = None           # a set/reset latch: only its asynchronous pins
         else:
             if seq.enable is None or seq.data_in is None:
                 raise ElaborationError(f"latch cell '{cell.name}' needs enable and data_in",
@@ -1380,9 +1389,10 @@ class Elaborator:
             if p == "IQN":
                 return reg.outputs.get("QN") or C0
             return pin_sig(p)
-        d = self._expr_gates(scope, data_e, data_pin, loc)
-        reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path, register=name,
-                                         **self._pin_of(data_e))
+        if data_e is not None:
+            d = self._expr_gates(scope, data_e, data_pin, loc)
+            reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path,
+                                             register=name, **self._pin_of(data_e))
         for role, e in (("reset", seq.clear), ("set", seq.preset)):
             if e is None:
                 continue
@@ -1392,8 +1402,11 @@ class Elaborator:
             reg.active[role] = level
             reg.pins[role] = self.add_sink(sig, role, f"{name}.{role}", loc, path,
                                            register=name, active=level, **self._pin_of(e))
+        for rec in self.drivers[mark:]:
+            if rec["kind"] == "gate":
+                rec["register"] = name      # the cell's own next-state and control logic
         self.registers.append(reg)
-        if seq.kind == "latch":
+        if seq.kind == "latch" and "enable" in reg.pins:
             self.latch_paths.append((reg.pins["data"], reg.pins["enable"],
                                      reg.outputs.get("Q") or next(iter(reg.outputs.values()))))
 
@@ -1671,27 +1684,30 @@ class Elaborator:
         while body and body[0] == "block" and len(body[1]) == 1:
             body = body[1][0]
         edge_names = {}
+        edge_exprs = {}
         for edge, e in edges:
-            if e[0] != "id":
+            key = _edge_key(e)          # a name, or one constant bit of a vector (yosys)
+            if key is None:
                 raise _BlackBoxModule("edge on an expression in a sensitivity list", loc)
-            edge_names[e[1]] = edge
+            edge_names[key] = edge
+            edge_exprs[key] = e
         # peel asynchronous branches: if (<async cond>) ... else if ... else <clocked>
         asyncs = []
         stmt = body
         while (stmt is not None and stmt[0] == "if" and len(edge_names) > 1
-               and _ids(stmt[1]) and _ids(stmt[1]) <= set(edge_names)
+               and _ids(stmt[1], True) and _ids(stmt[1], True) <= set(edge_names)
                and len(asyncs) < len(edge_names) - 1):
             asyncs.append((stmt[1], stmt[2]))
             stmt = stmt[3]
             while stmt is not None and stmt[0] == "block" and len(stmt[1]) == 1:
                 stmt = stmt[1][0]
-        used = set().union(*(_ids(c) for c, _ in asyncs)) if asyncs else set()
+        used = set().union(*(_ids(c, True) for c, _ in asyncs)) if asyncs else set()
         clocks = [n for n in edge_names if n not in used]
         if len(clocks) != 1:
             raise _BlackBoxModule("always block whose clock cannot be identified (sensitivity "
                                   f"list {', '.join(edge_names)})", loc)
         clk = clocks[0]
-        clk_sig = self.net_bits(scope, clk, loc)[0]
+        clk_sig = self.lvalue_bits(edge_exprs[clk], scope, loc, reading=True)[0]
         # the clocked part
         assigned: list[str] = []
         self._assigned(stmt, scope, loc, assigned)
@@ -1729,10 +1745,10 @@ class Elaborator:
     def _cond_signal(self, scope, cond, loc) -> tuple[str, int]:
         """An asynchronous condition as (net, active level); plain forms use no gate."""
         c = cond
-        if c[0] == "id":
-            return self.net_bits(scope, c[1], loc)[0], 1
-        if c[0] == "unop" and c[1] in ("!", "~") and c[2][0] == "id":
-            return self.net_bits(scope, c[2][1], loc)[0], 0
+        if _edge_key(c) is not None:
+            return self.lvalue_bits(c, scope, loc, reading=True)[0], 1
+        if c[0] == "unop" and c[1] in ("!", "~") and _edge_key(c[2]) is not None:
+            return self.lvalue_bits(c[2], scope, loc, reading=True)[0], 0
         if c[0] == "binop" and c[1] in ("==", "===") and c[2][0] == "id" and c[3][0] == "num":
             return self.net_bits(scope, c[2][1], loc)[0], 1 if c[3][2] else 0
         s = self.reduce(scope, "or", self.bits(cond, scope, loc, None), loc)
@@ -1748,6 +1764,11 @@ class Elaborator:
             members.setdefault(find(name), []).append(name)
         self._members = members
         port_set = set(inputs) | set(outputs)
+        inits = initial_values.by_net(self.init_values, find)
+        driven = {find(d["out"]) for d in self.drivers}
+        for root, (bit, v, loc, inst) in inits.items():
+            if root not in driven:      # a variable nothing assigns keeps its initial value
+                self._add_driver("const", bit, op=f"const{v}", instance=inst, loc=loc)
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
@@ -1826,6 +1847,7 @@ class Elaborator:
         # registers refer to sink ids (stable) and state node ids (merged-net names)
         for r in self.registers:
             r.outputs = {k: node_of(v) for k, v in r.outputs.items()}
+        initial_values.apply_to_graph(g, inits, rep, self.registers)
         design.latch_paths = [(d_, e_, node_of(q)) for d_, e_, q in self.latch_paths]
         return design
 
@@ -1959,7 +1981,21 @@ def _fold(op: str, ins: list[str]) -> str | None:
     return None
 
 
-def _ids(e) -> set[str]:
+def _edge_key(e) -> str | None:
+    """``name`` or ``name[3]`` for an identifier or a constant bit select, else None."""
+    if e[0] == "id":
+        return e[1]
+    if e[0] == "bit" and e[1][0] == "id" and e[2][0] == "num" and not e[2][3]:
+        return f"{e[1][1]}[{e[2][2]}]"
+    return None
+
+
+def _ids(e, bit_keys: bool = False) -> set[str]:
+    """The identifiers an expression reads; with ``bit_keys``, a constant bit select is kept
+    apart as ``name[3]`` (``_edge_key``)."""
+    key = _edge_key(e) if bit_keys else None
+    if key is not None:
+        return {key}
     tag = e[0]
     if tag == "id":
         return {e[1]}
@@ -1968,11 +2004,11 @@ def _ids(e) -> set[str]:
     out: set[str] = set()
     for x in e[1:]:
         if isinstance(x, tuple) and x and isinstance(x[0], str):
-            out |= _ids(x)
+            out |= _ids(x, bit_keys)
         elif isinstance(x, (list, tuple)):
             for y in x:
                 if isinstance(y, tuple) and y and isinstance(y[0], str):
-                    out |= _ids(y)
+                    out |= _ids(y, bit_keys)
     return out
 
 

@@ -22,9 +22,11 @@ ROOT = Path(__file__).resolve().parent.parent
 FIX = ROOT / "fixtures"
 # fixtures that are deliberately malformed or need include paths/defines given by their tests
 # (frontend), netlists of library cells, simulated against cell models in their own tests
-# (tests/test_liberty.py, tests/test_sdf.py), and the hostile inputs of
-# tests/test_hostile_input.py (errors and limits, not designs to simulate)
-SPECIAL = {"frontend", "sdf", "liberty", "hostile", "include_fanout", "include_beside"}
+# (tests/test_liberty.py, tests/test_sdf.py); RTL that yosys synthesises before hazlint reads it
+# (tests/test_synth_corpus.py compares those netlists with iverilog's simulation of the RTL);
+# the hostile inputs of tests/test_hostile_input.py (errors and limits, not designs)
+SPECIAL = {"frontend", "sdf", "liberty", "synth", "hostile", "include_fanout",
+           "include_beside"}
 
 
 def designs():
