@@ -50,6 +50,7 @@ ERRORS = [
     ("line_zero.v", 2, "`line needs a line number"),
     ("self_instance.v", 3, "instantiates itself"),
     ("long_identifier.v", 4, "undeclared identifier"),
+    ("yosys_lut_width.v", 3, "limit vector_width"),
 ]
 
 

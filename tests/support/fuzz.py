@@ -120,7 +120,7 @@ def netlists(draw):
         for k in range(draw(st.integers(0, 10))):
             w = f"w{k}"
             kind = draw(st.sampled_from(["gate", "gate", "assign", "assign", "param", "vec",
-                                         "inst", "gen", "always", "flop", "not"]))
+                                         "inst", "gen", "always", "flop", "not", "ycell"]))
             if kind == "gate":
                 ins_ = draw(st.lists(st.sampled_from(nets), min_size=1, max_size=3))
                 delay = draw(st.sampled_from(["", "", f"#({draw(const_exprs(1))}) ",
@@ -154,6 +154,27 @@ def netlists(draw):
                              f"gv{k} < {bound}; gv{k} = gv{k} + 1) begin : gb{k}"
                              f"\n    assign {w}[gv{k}] = {draw(st.sampled_from(nets))};\n"
                              "  end endgenerate")
+            elif kind == "ycell":
+                # a word-level cell of yosys' library, as synthesised netlists have them
+                n = draw(st.sampled_from(["1", "2", "4"])) if not _rarely(draw, 5) else \
+                    draw(const_exprs(1))
+                a, b = draw(st.sampled_from(nets)), draw(st.sampled_from(nets))
+                cell = draw(st.sampled_from(["and", "or", "xor", "add", "sub", "eq", "not",
+                                             "lut", "mux"]))
+                if cell == "not":
+                    text = (f"\\$not #(.A_SIGNED(0), .A_WIDTH({n}), .Y_WIDTH({n})) "
+                            f"y{k} (.A({a}), .Y({w}));")
+                elif cell == "lut":
+                    text = (f"\\$lut #(.WIDTH({n}), .LUT({draw(const_exprs(1))})) "
+                            f"y{k} (.A({a}), .Y({w}));")
+                elif cell == "mux":
+                    text = (f"\\$mux #(.WIDTH({n})) y{k} (.A({a}), .B({b}), "
+                            f".S({draw(st.sampled_from(nets))}), .Y({w}));")
+                else:
+                    text = (f"\\${cell} #(.A_SIGNED(0), .B_SIGNED(0), .A_WIDTH({n}), "
+                            f".B_WIDTH({n}), .Y_WIDTH({n})) y{k} (.A({a}), .B({b}), "
+                            f".Y({w}));")
+                lines.append(f"  wire [{n}-1:0] {w};\n  {text}")
             elif kind == "always":
                 lines.append(f"  reg {w};\n  always @(*) {w} = {draw(signal_exprs(nets))};")
             else:
@@ -179,7 +200,8 @@ REPLACEMENTS = ["module", "endmodule", "input", "output", "inout", "wire", "reg"
                 "#", "=", "<=", "'", "\"", "\\", "`", "/*", "*/", "//", "+:", "-:", "**",
                 "%", "/", "<<<", "1%0", "2**64", "(-1)**0.5", "1<<100000", "4'bxz",
                 "123456789012345678901234567890", "99999999", "[99999999:0]", "#(1/0)",
-                "`undefined_macro", "`define X `X", "\\escaped ", "\ufeff", "\x00", "\xff"]
+                "`undefined_macro", "`define X `X", "\\escaped ", "\ufeff", "\x00", "\xff",
+                "\\$lut ", "\\$add ", "#(.WIDTH(64))", ".A_WIDTH(99999999999)"]
 HOSTILE_LINES = ['`include "/etc/passwd"', '`include "../../../../etc/hostname"',
                  "`line 0 \"\" 0", "`define BOOM `BOOM `BOOM", "`BOOM",
                  "`define D4(x) x x x x", "wire w = `D4(`D4(`D4(`D4(`D4(a)))));",
