@@ -1551,11 +1551,13 @@ class Elaborator:
         self._merge(scope, loc, c, env, e_then, e_else, blocking_env, b_then, b_else)
 
     def _merge(self, scope, loc, c, env, e_then, e_else, benv, b_then, b_else):
-        for k in set(e_then) | set(e_else):
+        # (in the branches' own order, not a set's hash order: realize() names the gates it
+        # builds in the order it builds them)
+        for k in dict.fromkeys([*e_then, *e_else]):
             a = e_then.get(k, env.get(k, HOLD))
             b = e_else.get(k, env.get(k, HOLD))
             env[k] = a if a == b else ("mux", c, a, b)
-        for k in set(b_then) | set(b_else):
+        for k in dict.fromkeys([*b_then, *b_else]):
             a = b_then.get(k, benv.get(k, k))
             b = b_else.get(k, benv.get(k, k))
             if a == b:
