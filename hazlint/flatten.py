@@ -283,7 +283,15 @@ class Elaborator:
         for t in tops:
             m = self.modules[t]
             scope = Scope(prefix=f"{t}." if multi else "", instance=t, module=m)
-            self.elab_module(scope, m, overrides=[], depth=0, is_top=True)
+            try:
+                self.elab_module(scope, m, overrides=[], depth=0, is_top=True)
+            except _BlackBoxModule as bb:
+                # a submodule of that kind becomes a black box; the top cannot
+                raise ElaborationError(
+                    f"top module '{t}' has behavioural code hazlint does not model "
+                    f"({bb.reason}); synthesise it to gates first (yosys, for example) or "
+                    "name a structural top with --top", *_where(bb.loc or m.loc),
+                    construct=t) from None
             for pname in m.port_order:
                 port = m.ports.get(pname)
                 if port is None:

@@ -9,8 +9,8 @@ exhausting the machine. The defaults leave room for a netlist of ten million gat
 limit              default     what it bounds
 =================  ==========  ==================================================================
 vector_width       1048576     bits of one vector: a net, a port, a literal, a replication, a
-                               part select (IEEE 1364-2005 4.3.1 asks tools to support at least
-                               65,536, from memory)
+                               part select, the WIDTH of a yosys word-level cell (IEEE 1364-2005
+                               4.3.1 asks tools to support at least 65,536, from memory)
 const_bits         1048576     bits of one intermediate value of a constant expression
                                (``2**64``, ``1 << 100000``)
 delay              1e12        a delay value, in the module's time units
