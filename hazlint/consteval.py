@@ -23,7 +23,7 @@ import math
 from typing import Callable, Mapping
 
 from . import limits as _limits
-from .errors import ElaborationError
+from .errors import ElaborationError, number_text
 
 
 class NotConstant(Exception):
@@ -143,11 +143,11 @@ def _bound(op: str, a, b, max_bits: int) -> None:
         need = _bits(a) * b if b > 0 and abs(a) > 1 else 0
     elif op in ("<<", "<<<"):
         if b < 0:
-            raise _Refused(f"negative shift amount {b}")
+            raise _Refused(f"negative shift amount {number_text(b)}")
         need = _bits(a) + b if a else 0
     elif op in (">>", ">>>"):
         if b < 0:
-            raise _Refused(f"negative shift amount {b}")
+            raise _Refused(f"negative shift amount {number_text(b)}")
         return
     else:
         need = max(_bits(a), _bits(b)) + 1

@@ -30,7 +30,7 @@ from . import limits as _limits
 from .consteval import NotConstant, const_value
 from .design import BlackBox, Design, Register
 from .diagnostics import Diagnostic, Location, Severity
-from .errors import ElaborationError
+from .errors import ElaborationError, number_text
 from .frontend import ir
 from .library import UNIT_DELAY, ZERO_DELAY, CellDef, Delay, Library
 
@@ -380,6 +380,9 @@ class Elaborator:
             lsb = self.const(width[1], scope, loc)
             _limits.check("vector_width", abs(msb - lsb) + 1, f"the width of '{name[:60]}'",
                           _where(loc))
+            if max(abs(msb), abs(lsb)) >= 1 << 62:
+                raise ElaborationError(f"the range of '{name[:60]}' ([{number_text(msb)}:"
+                                       f"{number_text(lsb)}]) is beyond 2**62", *_where(loc))
             self._net_bits += abs(msb - lsb) + 1
             if abs(msb - lsb) > 8191:
                 _budget.check_loading("elaborating the design", *_where(loc)[:2])
@@ -446,6 +449,13 @@ class Elaborator:
                         "(recursive instantiation?)" if isinstance(it, ir.Instance) else
                         "expression or statement nested too deeply to elaborate")
                 raise ElaborationError(what, *_where(loc)) from None
+            except ValueError as exc:
+                if "integer string conversion" not in str(exc):
+                    raise
+                # a constant of thousands of digits in a name or a message
+                raise ElaborationError("a constant too large to print (more than 4300 digits) "
+                                       "in an index or a name", *_where(getattr(it, "loc",
+                                                                               None))) from None
             except ElaborationError as exc:
                 if not exc.path and getattr(it, "loc", None) is not None:
                     exc.path, exc.line = it.loc.path, it.loc.line    # an error without a place
@@ -762,11 +772,13 @@ class Elaborator:
                 if idx == 0:
                     b = info.base
                 else:
-                    raise ElaborationError(f"bit select [{idx}] of scalar '{base[1]}'",
+                    raise ElaborationError(f"bit select [{number_text(idx)}] of scalar "
+                                           f"'{base[1]}'",
                                            *_where(loc), construct=_expr_text(e))
             else:
                 if idx not in info.indices:
-                    raise ElaborationError(f"bit [{idx}] is out of the range of '{base[1]}'",
+                    raise ElaborationError(f"bit [{number_text(idx)}] is out of the range of "
+                                           f"'{base[1]}'",
                                            *_where(loc), construct=_expr_text(e))
                 b = info.bit(idx)
             if env is not None and reading and b in env:
@@ -807,7 +819,8 @@ class Elaborator:
             out = []
             for i in range(lsb, msb + step, step):
                 if info.indices is None or i not in info.indices:
-                    raise ElaborationError(f"part select [{msb}:{lsb}] is out of the range of "
+                    raise ElaborationError(f"part select [{number_text(msb)}:{number_text(lsb)}]"
+                                           " is out of the range of "
                                            f"'{base[1]}'", *_where(loc), construct=_expr_text(e))
                 b = info.bit(i)
                 if env is not None and reading and b in env:
@@ -2188,6 +2201,8 @@ def _expr_text(e, parent: int = 0) -> str:
             return e[1]
         if tag == "num":
             _, w, v, xz, _s = e
+            if abs(v) >= 10 ** 30:
+                return number_text(v)
             return f"{w}'d{v}" if w and not xz else (str(v) if not w else f"{w}'b{v:b}")
         if tag == "real":
             return str(e[1])

@@ -52,6 +52,7 @@ ERRORS = [
     ("long_identifier.v", 4, "undeclared identifier"),
     ("yosys_lut_width.v", 3, "limit vector_width"),
     ("behavioural_top.v", 5, "behavioural code"),       # found by bench/bench_fuzz.py
+    ("index_huge.v", 4, "100003-bit number"),           # found by bench/bench_fuzz.py
 ]
 
 
