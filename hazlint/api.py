@@ -17,6 +17,7 @@ import os
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, Iterable, Mapping, Sequence
 
+from . import budget
 from .config import Config, load_config
 from .diagnostics import Diagnostic, Severity, sort_diagnostics
 from .errors import EXIT_CLEAN, EXIT_FINDINGS, ConfigError, HazlintError
@@ -39,6 +40,7 @@ class LintResult:
     baselined: list[Diagnostic] = field(default_factory=list)
     files: list[str] = field(default_factory=list)
     context: Any = None
+    incomplete: bool = False               # the time budget cut some analysis short
 
     def relpath(self, path: str) -> str:
         # a report asks for the same few source paths once per evidence hop (millions of times
@@ -98,13 +100,15 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
         from .flatten import elaborate
         kwargs: dict[str, Any] = {"include_dirs": include_dirs, "defines": defines}
         params = inspect.signature(read_sources).parameters
-        optional = {"root": config.root, "jobs": config.jobs}
+        optional = {"root": config.include_root, "jobs": config.jobs}
         for k, v in optional.items():
             if k in params and v is not None:
                 kwargs[k] = v
         if "cache" in params and use_cache:
             from .cache import open_cache
             kwargs["cache"] = open_cache(config.cache_dir, limit_mb=config.cache_limit_mb)
+        if "tables" in params:
+            kwargs["tables"] = _table_cache(config) if use_cache else False
         if progress is not None and "progress" in params:
             kwargs["progress"] = progress
         if abs_texts:
@@ -123,10 +127,19 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
         return load_fresh()[0]
     from .design_cache import load_cached, open_design_cache
     return load_cached(list(files), config, texts=abs_texts, top=chosen_top,
-                       include_dirs=include_dirs, defines=defines, root=config.root,
+                       include_dirs=include_dirs, defines=defines, root=config.include_root,
                        load_fresh=load_fresh, cache=open_design_cache(config.cache_dir,
                                                limit_mb=config.cache_limit_mb),
                        info=cache_info)
+
+
+def _table_cache(config: Config):
+    """Where the parser keeps its tables: the run's cache folder, or nowhere (False) when
+    that folder may not be used."""
+    from . import __version__
+    from .cache import open_cache
+    return open_cache(config.cache_dir, namespace="parser", limit_mb=config.cache_limit_mb,
+                      version=f"{__version__}+tables") or False
 
 
 def _apply_sdf(design, config: Config, library) -> None:
@@ -152,6 +165,9 @@ def run_rules(design, rules: Sequence[Rule], context: "AnalysisContext",
     findings at the rule's default severity: levels a rule sets through its own options stay)."""
     out: list[Diagnostic] = []
     for rule in rules:
+        if budget.expired():
+            out.append(_not_run(design, rule))
+            continue
         override = (severity or {}).get(rule.id)
         level = Severity.parse(override) if override else None
         try:
@@ -165,6 +181,19 @@ def run_rules(design, rules: Sequence[Rule], context: "AnalysisContext",
                 d = d.with_severity(level)
             out.append(d)
     return out
+
+
+def _not_run(design, rule: Rule) -> Diagnostic:
+    """The finding that says a rule did not run because the time budget was used up."""
+    from .diagnostics import Location
+    files = list(getattr(design, "files", None) or [])
+    return Diagnostic(
+        rule=rule.id, kind="analysis-incomplete", severity=Severity.WARNING,
+        location=Location(files[0] if files else "", 1, 1), instance=getattr(design, "top", ""),
+        message=f"rule '{rule.id}' did not run: {budget.reason()}",
+        evidence={"reason": budget.reason(), "key": f"not-run:{rule.id}"},
+        fix="raise the time budget (--time-budget SECONDS, or time_budget in the "
+            "configuration; 0: none), or lint a smaller part of the design")
 
 
 def refine(design, diagnostics: list[Diagnostic], context, options: Mapping[str, Any]):
@@ -213,6 +242,8 @@ def _plan(files, *, config, cwd, texts, select, ignore, rule_options) -> _Plan:
                            "'files')")
     for p in paths:
         if not os.path.isfile(p) and not (texts and any(_norm(k) == _norm(p) for k in texts)):
+            if os.path.isdir(p):
+                raise HazlintError("is a directory, not a Verilog file", path=p)
             raise HazlintError(f"file not found: {relpath(p, cwd)}", path=p)
     sel = list(select) if select is not None else config.select
     ign = list(config.ignore) + list(ignore)
@@ -259,7 +290,7 @@ def report_key(files: Sequence[str] | None = None, *, config: Config | None = No
     config = plan.config
     incs, defs, chosen_top = _load_inputs(config, top, include_dirs, defines)
     dkey = design_key(plan.paths, texts=None, top=chosen_top, include_dirs=incs, defines=defs,
-                      root=config.root, cells=config.cells, cells_source=config.path,
+                      root=config.include_root, cells=config.cells, cells_source=config.path,
                       liberty=config.liberty, sdf=config.sdf, sdf_corner="minmax",
                       memory_max_bits=config.memory_as_registers_max_bits)
     if dkey is None:
@@ -303,12 +334,25 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
          ignore: Iterable[str] = (), prove: bool = True, top=None,
          include_dirs: Sequence[str] | None = None, defines: Mapping[str, str] | None = None,
          baseline: str | None = None, rule_options: Mapping[str, Mapping[str, Any]] | None = None,
-         use_cache: bool = True, progress=None) -> LintResult:
+         use_cache: bool = True, progress=None, time_budget: float | None = None,
+         limits: Mapping[str, Any] | None = None) -> LintResult:
     """Lint a design. ``files`` default to the configured ones; ``texts`` (path -> text)
     overrides file contents; ``changed`` keeps only findings located in those files or whose
-    evidence runs through them; ``select``/``ignore`` add to the configuration's."""
+    evidence runs through them; ``select``/``ignore`` add to the configuration's.
+    ``time_budget`` (seconds; default: the configuration's, else
+    :data:`hazlint.budget.DEFAULT_SECONDS`; 0: none) and ``limits`` (name -> value, over the
+    configuration's) bound the run (:mod:`hazlint.budget`, :mod:`hazlint.limits`)."""
     plan = _plan(files, config=config, cwd=cwd, texts=texts, select=select, ignore=ignore,
                  rule_options=rule_options)
+    from .budget import bounded
+    with bounded(plan.config, time_budget, limits):
+        return _lint_planned(plan, texts=texts, changed=changed, prove=prove, top=top,
+                             include_dirs=include_dirs, defines=defines, baseline=baseline,
+                             use_cache=use_cache, progress=progress)
+
+
+def _lint_planned(plan: _Plan, *, texts, changed, prove, top, include_dirs, defines, baseline,
+                  use_cache, progress) -> LintResult:
     config, cwd, root, paths = plan.config, plan.cwd, plan.root, plan.paths
     sel, ign, rules, opts, known_ids = plan.select, plan.ignore, plan.rules, plan.options, \
         plan.known_ids
@@ -341,8 +385,8 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
         diags = list(diags) + [n for n in (design.notes or []) if isinstance(n, Diagnostic)
                                and n.rule not in ign and (sel is None or n.rule in sel
                                                           or n.kind in _COVERAGE_KINDS)]
-        if rkey and not texts:
-            rcache.store(rkey, diags)
+        if rkey and not texts and not budget.hit():
+            rcache.store(rkey, diags)     # findings cut short by the clock are not kept
 
     # waivers: inline comments in every source read, plus the waiver file
     sources = list(dict.fromkeys(list(getattr(design, "files", []) or []) + paths
@@ -375,4 +419,4 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
     counts.update(total=len(kept), waived=len(waived), baselined=len(baselined))
     return LintResult(diagnostics=kept, waived=waived, design=design, config=config, root=root,
                       counts=counts, rules={r.id: r for r in rules}, baselined=baselined,
-                      files=paths, context=context)
+                      files=paths, context=context, incomplete=budget.hit())

@@ -7,8 +7,20 @@ read with :func:`json.loads`; the IR module rebuilds only its own dataclasses fr
 
 Layout: ``<dir>/<namespace>/<key[:2]>/<key>.json``, one file per entry::
 
-    {"format": 1, "hazlint": "0.1.0", "key": "<hex>", "deps": {"<path>": "<sha256>"},
-     "data": {...}}
+    {"format":2,"hazlint":"0.1.0+...","key":"<hex>","deps":{"<path>":"<sha256>"},
+     "digest":"<sha256 of the key, a newline and the data bytes>","data":{...}}
+
+An entry cannot lie: it records the key it was stored under and a digest of that key and its
+own ``data`` bytes, and both are checked before the data is decoded. An entry that fails any check (wrong
+key, wrong digest, not a regular file, not ours, a symbolic link, not JSON, a missing field) is
+removed and recomputed, and the first such entry of a run is mentioned at debug level (logger
+``hazlint.cache``; ``HAZLINT_DEBUG=1`` shows it). Reading opens without following links and
+without blocking, so a FIFO planted as an entry cannot hang a run.
+
+Ownership: every folder of the cache (the root, the namespaces, the key prefixes; and any
+parent the cache creates) is made mode 0700 whatever the umask, every folder from the root to
+an entry must belong to the user running hazlint, and an entry file owned by another user is
+refused: on a shared machine nobody else can plant a report for your next run.
 
 ``deps`` lists files the entry was derived from besides the one hashed into the key (files pulled
 in through ``include``): an entry whose dependency changed on disk is a miss, so an edit to a
@@ -30,17 +42,20 @@ from __future__ import annotations
 
 import hashlib
 import json
+import logging
 import os
 import re
 import sys
-import tempfile
 import time
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
 from . import __version__
+from .filestore import (Untrusted, atomic_write, digest_bytes, digest_file,  # noqa: F401
+                        digest_stream, open_private, private_dirs, read_private)
+# (re-exported: the cache's file rules are in hazlint.filestore)
 
-FORMAT = 1
+FORMAT = 2
 ENV_DIR = "HAZLINT_CACHE_DIR"
 ENV_LIMIT = "HAZLINT_CACHE_LIMIT_MB"
 DEFAULT_LIMIT_MB = 2048
@@ -98,6 +113,40 @@ def prune(directory: str | os.PathLike, limit_mb: int, keep: Path | None = None)
         removed += 1
     return removed
 _HEX_KEY = re.compile(r"[0-9a-f]{16,128}")
+log = logging.getLogger("hazlint.cache")
+
+
+def _payload_digest(key: str, payload: bytes) -> str:
+    """The digest an entry records: over the key it is stored under and its data bytes, so
+    neither a changed byte nor an entry copied under another key passes."""
+    return digest_bytes(key.encode("utf-8", "surrogateescape") + b"\n" + payload)
+
+
+def _entry_text(key: str, version: str, deps: Mapping[str, str], payload: str) -> str:
+    head = json.dumps({"format": FORMAT, "hazlint": version, "key": key, "deps": dict(deps),
+                       "digest": _payload_digest(key, payload.encode("utf-8"))},
+                      separators=(",", ":"))
+    return head[:-1] + ',"data":' + payload + "}"
+
+
+def _split_entry(raw: bytes) -> tuple[dict, bytes]:
+    """(header, data bytes) of an entry written by :func:`_entry_text`, checked: the header
+    must be exactly what the writer produces for its fields and the data must have the
+    recorded digest. Raises ``ValueError`` otherwise; the data itself is not decoded."""
+    cut = raw.find(b',"data":')
+    if cut < 0 or not raw.endswith(b"}"):
+        raise ValueError("not an entry")
+    head = json.loads(raw[:cut] + b"}")
+    if not isinstance(head, dict) or set(head) != {"format", "hazlint", "key", "deps",
+                                                   "digest"}:
+        raise ValueError("entry header has other fields")
+    again = json.dumps(head, separators=(",", ":"))[:-1] + ',"data":'
+    if raw[:cut + 8] != again.encode("utf-8"):
+        raise ValueError("entry header is not in the written form")
+    data = raw[cut + 8:-1]
+    if not isinstance(head["key"], str) or _payload_digest(head["key"], data) != head["digest"]:
+        raise ValueError("the data does not have the recorded digest")
+    return head, data
 
 
 def default_cache_dir() -> Path:
@@ -109,18 +158,6 @@ def default_cache_dir() -> Path:
         return Path(platformdirs.user_cache_dir("hazlint", appauthor=False))
     except ImportError:  # pragma: no cover - platformdirs is a dependency
         return Path.home() / ".cache" / "hazlint"
-
-
-def digest_bytes(data: bytes) -> str:
-    return hashlib.sha256(data).hexdigest()
-
-
-def digest_file(path: str | os.PathLike) -> str | None:
-    try:
-        with open(path, "rb") as fh:
-            return digest_bytes(fh.read())
-    except OSError:
-        return None
 
 
 def make_key(content: str | bytes, *, defines: Mapping[str, Any] | None = None,
@@ -193,25 +230,21 @@ class ParseCache:
         self.enabled = enabled
         self.hits = self.misses = self.stores = self.dropped = 0
         self.warning: str | None = None
+        self._said = False
         if enabled:
             self._check_owner()
 
     # ------------------------------------------------------------------------------------------
     def _check_owner(self) -> None:
-        """Refuse a cache folder that belongs to another user: its entries could be planted."""
-        if not hasattr(os, "getuid"):
-            return
-        probe = self.directory
-        while not probe.exists() and probe != probe.parent:
-            probe = probe.parent
+        """Refuse a cache folder that is not ours (owner, type) anywhere from the root down to
+        this namespace: entries in it could be planted. Folders that are ours but open to
+        others are made private again."""
         try:
-            st = probe.stat()
-        except OSError:
-            return
-        if probe == self.directory and st.st_uid != os.getuid():
+            private_dirs(self.directory, self.directory / self.namespace, create=False)
+        except OSError as exc:
             self.enabled = False
             self.warning = (f"hazlint: not using cache folder {self.directory}: "
-                            f"it belongs to another user")
+                            f"{exc.filename}: {exc.strerror}")
             print(self.warning, file=sys.stderr)
 
     def _entry_path(self, key: str) -> Path:
@@ -220,8 +253,11 @@ class ParseCache:
             key = digest_bytes(key.encode("utf-8", "surrogateescape"))
         return self.directory / self.namespace / key[:2] / f"{key}.json"
 
-    def _drop(self, path: Path) -> None:
+    def _drop(self, path: Path, why: str = "unreadable") -> None:
         self.dropped += 1
+        if not self._said:
+            self._said = True
+            log.debug("cache entry %s ignored and removed (%s); it is recomputed", path, why)
         try:
             path.unlink()
         except OSError:
@@ -233,26 +269,34 @@ class ParseCache:
             return None
         path = self._entry_path(key)
         try:
-            raw = path.read_bytes()
-        except OSError:
+            if not private_dirs(self.directory, path.parent, create=False):
+                self.misses += 1
+                return None
+            raw = read_private(path)
+        except FileNotFoundError:
+            self.misses += 1
+            return None
+        except OSError as exc:
+            self._drop(path, exc.strerror or "not ours")
             self.misses += 1
             return None
         try:
-            entry = json.loads(raw)
-        except (ValueError, UnicodeDecodeError):
-            self._drop(path)
+            head, payload = _split_entry(raw)
+            if head["key"] != key:
+                raise ValueError("stored under another key")
+            if head["format"] != FORMAT or not isinstance(head["deps"], dict):
+                raise ValueError("not an entry of this format")
+            if head["hazlint"] != self.version:
+                self.misses += 1       # written by another version: stale, not corrupt
+                return None
+            data = json.loads(payload)
+            if not isinstance(data, dict):
+                raise ValueError("the data is not a table")
+        except (ValueError, UnicodeDecodeError, RecursionError) as exc:
+            self._drop(path, str(exc) or type(exc).__name__)
             self.misses += 1
             return None
-        if (not isinstance(entry, dict) or entry.get("format") != FORMAT
-                or entry.get("key") != key or not isinstance(entry.get("data"), dict)
-                or not isinstance(entry.get("deps", {}), dict)):
-            self._drop(path)
-            self.misses += 1
-            return None
-        if entry.get("hazlint") != self.version:
-            self.misses += 1       # written by another version: stale, not corrupt
-            return None
-        for dep, want in entry.get("deps", {}).items():
+        for dep, want in head["deps"].items():
             if digest_file(dep) != want:
                 self.misses += 1   # an included file changed since the entry was written
                 return None
@@ -261,14 +305,14 @@ class ParseCache:
             os.utime(path)         # recently used: the size limit removes the oldest first
         except OSError:
             pass
-        return entry["data"]
+        return data
 
     def discard(self, key: str) -> None:
         """Remove an entry the caller could not use (well-formed JSON, unusable content)."""
         if self.enabled:
             path = self._entry_path(key)
-            if path.exists():
-                self._drop(path)
+            if os.path.lexists(path):
+                self._drop(path, "its content is not usable")
 
     def store(self, key: str, data: Mapping[str, Any],
               deps: Iterable[str] | Mapping[str, str] | None = None) -> None:
@@ -287,17 +331,17 @@ class ParseCache:
                 if d is None:
                     return      # cannot pin a dependency: do not cache at all
                 dep_map[str(p)] = d
-        entry = {"format": FORMAT, "hazlint": self.version, "key": key, "deps": dep_map,
-                 "data": data}
         path = self._entry_path(key)
         try:
-            text = json.dumps(entry, separators=(",", ":"))
-        except (TypeError, ValueError):
+            payload = json.dumps(data, separators=(",", ":"))
+        except (TypeError, ValueError, RecursionError):
             return              # not JSON-able: a programming error upstream; never pickle
+        text = _entry_text(key, self.version, dep_map, payload)
         try:
+            private_dirs(self.directory, path.parent, create=True)
             atomic_write(path, lambda fh: fh.write(text))
         except OSError:
-            return              # read-only or full disk: caching is best effort
+            return              # read-only, full disk or not ours: caching is best effort
         self.stores += 1
         self._maybe_prune(path)
 
@@ -325,38 +369,13 @@ class ParseCache:
         return n
 
 
-def atomic_write(path: Path, write, *, private: bool = True) -> None:
-    """Create ``path`` (and its folder, private) with what ``write(stream)`` writes (text,
-    UTF-8, no newline translation): into a temporary file in the same folder, then
-    :func:`os.replace`, so a reader never sees half a file. The temporary file is removed on
-    any failure, which propagates. ``private=False`` is for files users keep (a baseline): the
-    folder must exist and the file gets the usual permissions (0666 less the umask)."""
-    path = Path(path)
-    if private:
-        path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=path.suffix)
-    try:
-        if not private:
-            umask = os.umask(0)
-            os.umask(umask)
-            os.chmod(tmp, 0o666 & ~umask)
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            write(fh)
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
-
-
 def open_cache(directory: str | os.PathLike | None = None, *, enabled: bool = True,
-               namespace: str = "parse", limit_mb: int | None = None) -> ParseCache | None:
+               namespace: str = "parse", limit_mb: int | None = None,
+               version: str | None = None) -> ParseCache | None:
     """The cache for a run: ``None`` when disabled (callers then skip caching entirely)."""
     if not enabled:
         return None
-    cache = ParseCache(directory, namespace=namespace, limit_mb=limit_mb)
+    cache = ParseCache(directory, namespace=namespace, limit_mb=limit_mb, version=version)
     return cache if cache.enabled else None
 
 

@@ -22,8 +22,9 @@ import re
 from typing import Callable
 
 from . import cells_yosys
+from . import limits as _limits
 from .diagnostics import Severity
-from .errors import ElaborationError
+from .errors import ElaborationError, number_text
 from .frontend import ir
 
 # cells that drive nothing a glitch analysis needs
@@ -142,7 +143,16 @@ class _Word:
     # parameters and pins -------------------------------------------------------------------
     def p(self, name: str, default: int | None = None) -> int:
         if name in self.params:
-            return self.params[name]
+            v = self.params[name]
+            if name.endswith("WIDTH") or name == "DEPTH":
+                # a width builds that many bits (and a LUT or decoder 2**width of them)
+                if v < 0:
+                    raise ElaborationError(f"yosys cell '{self.inst.cell}' parameter {name} is "
+                                           f"negative ({number_text(v)})", *_where(self.loc),
+                                           construct=self.inst.name)
+                _limits.check("vector_width", v, f"parameter {name} of '{self.inst.name}'",
+                              _where(self.loc))
+            return v
         if default is None:
             raise ElaborationError(f"yosys cell '{self.inst.cell}' instance '{self.inst.name}' "
                                    f"needs parameter {name}", *_where(self.loc),
@@ -340,12 +350,19 @@ def _bmux(w: _Word) -> None:
     w.out("Y", [w.el.select_mux(w.scope, a[j::width], s, w.loc) for j in range(width)])
 
 
+def _decoded(w: _Word, n: int) -> int:
+    """2**n (the outputs of a decoder, the entries of a LUT), within the width limit."""
+    _limits.check("vector_width", 1 << min(n, 64), f"2**{n} entries of '{w.inst.name}'",
+                  _where(w.loc))
+    return 1 << n
+
+
 def _demux(w: _Word) -> None:
     width, n = w.p("WIDTH"), w.p("S_WIDTH")
     a, s = w.pin("A", width), w.pin("S", n)
     ns = [w.g("not", x) for x in s]
     y = []
-    for i in range(1 << n):
+    for i in range(_decoded(w, n)):
         hit = w.reduce("and", [s[k] if (i >> k) & 1 else ns[k] for k in range(n)])
         y += [w.g("and", x, hit) for x in a]
     w.out("Y", y)
@@ -353,7 +370,7 @@ def _demux(w: _Word) -> None:
 
 def _lut(w: _Word) -> None:
     width, table = w.p("WIDTH"), w.p("LUT")
-    consts = [w.C1 if (table >> i) & 1 else w.C0 for i in range(1 << width)]
+    consts = [w.C1 if (table >> i) & 1 else w.C0 for i in range(_decoded(w, width))]
     w.out("Y", [w.el.select_mux(w.scope, consts, w.pin("A", width), w.loc)])
 
 

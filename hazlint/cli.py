@@ -48,6 +48,11 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: list[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
+    debug = bool(os.environ.get("HAZLINT_DEBUG"))   # read now: under memory pressure, not later
+    if debug:
+        import logging
+        logging.basicConfig(level=logging.DEBUG, stream=sys.stderr,
+                            format="hazlint: debug: %(name)s: %(message)s")
     parser = build_parser()
     if not argv or (argv[0] not in COMMANDS and argv[0] not in ("-h", "--help", "--version")):
         argv = ["check", *argv]
@@ -66,15 +71,29 @@ def main(argv: list[str] | None = None) -> int:
     except BrokenPipeError:
         return 0
     except RecursionError:
-        print("error: input nested too deeply to analyse (expression or hierarchy depth)",
-              file=sys.stderr)
+        print(f"{_first_file(argv)}error: input nested too deeply to analyse (expression or "
+              "hierarchy depth)", file=sys.stderr)
+        return EXIT_INPUT_ERROR
+    except MemoryError:
+        # the big allocations are gone with the unwound stack; print without building much
+        sys.stderr.write(f"{_first_file(argv)}error: out of memory while reading or analysing "
+                         "the design; lower the size limits (--limit, e.g. gates=N) or give "
+                         "the run more memory\n")
         return EXIT_INPUT_ERROR
     except Exception as exc:  # a bug in hazlint, not in the user's input
-        if os.environ.get("HAZLINT_DEBUG"):
+        if debug:
             raise
         print(f"hazlint: internal error: {type(exc).__name__}: {exc} (this is a bug in hazlint; "
               f"rerun with HAZLINT_DEBUG=1 for the details to report)", file=sys.stderr)
         return EXIT_INTERNAL_ERROR
+
+
+def _first_file(argv) -> str:
+    """``FILE: `` for the first argument that names an existing file, else nothing."""
+    for a in argv[1:]:
+        if not a.startswith("-") and os.path.isfile(a):
+            return f"{a}: "
+    return ""
 
 
 if __name__ == "__main__":

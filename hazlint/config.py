@@ -29,6 +29,8 @@ Keys (all optional)::
     jobs = 2
     prove = { }                     # options handed to the hazard prover
     memory_as_registers_max_bits = 4096   # larger variable arrays become memory nodes
+    time_budget = 60                # seconds for the whole run (0: none); see hazlint.budget
+    limits = { vector_width = 1048576 }   # size limits; see hazlint.limits
 
     [rules.skewed-reconvergence]    # rule options (see ``hazlint explain RULE``)
     min_skew = 0.5
@@ -76,6 +78,8 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "jobs": ((int,), "a number of worker processes"),
     "prove": ((dict,), "a table of hazard-prover options"),
     "memory_as_registers_max_bits": ((int,), "a number of bits (arrays up to it are registers)"),
+    "time_budget": ((int, float), "a number of seconds (0: no time limit)"),
+    "limits": ((dict,), "a table of limit = number (see hazlint.limits)"),
 }
 FAIL_LEVELS = ("error", "warning", "info", "never")
 
@@ -107,8 +111,16 @@ class Config:
     jobs: int | None = None
     prove: dict[str, Any] = field(default_factory=dict)
     memory_as_registers_max_bits: int = 4096
+    time_budget: float | None = None  # seconds (None: the default, 0: none)
+    limits: dict[str, Any] = field(default_factory=dict)
     raw: dict[str, Any] = field(default_factory=dict)     # the table as written
     key_lines: dict[str, int] = field(default_factory=dict)   # key -> line in the file
+
+    @property
+    def include_root(self) -> str | None:
+        """Where ```include`` may read: the project root when a configuration file gives one;
+        None otherwise (the reader then takes each file's repository, else its folder)."""
+        return self.root if self.path else None
 
     def where(self, key: str | None = None) -> str:
         """``path:line: `` prefix for messages about a key (empty when defaults)."""
@@ -316,6 +328,14 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
             raise err("memory_as_registers_max_bits",
                       "memory_as_registers_max_bits must be a number of bits, 0 or more")
         cfg.memory_as_registers_max_bits = v
+    if "time_budget" in table:
+        if isinstance(table["time_budget"], bool) or not table["time_budget"] >= 0:
+            raise err("time_budget", "time_budget must be a number of seconds, 0 or more")
+        cfg.time_budget = float(table["time_budget"])
+    if "limits" in table:
+        from .limits import DEFAULT as LIMIT_DEFAULTS
+        LIMIT_DEFAULTS.with_values(table["limits"], path=path, line=key_lines.get("limits"))
+        cfg.limits = dict(table["limits"])
     cfg.prove = dict(table.get("prove", {}))
     if cfg.prove:
         from .analysis.prove import DEFAULTS as PROVE_DEFAULTS

@@ -190,7 +190,7 @@ def load_design(paths: str | Sequence[str], top: str | Sequence[str] | None = No
     from .frontend.reader import read_sources
     if isinstance(paths, str):
         paths = [paths]
-    reader_keys = ("root", "jobs", "cache", "texts", "progress")
+    reader_keys = ("root", "jobs", "cache", "texts", "progress", "tables")
     # Loading builds millions of small acyclic objects; the cyclic garbage collector would
     # rescan them again and again (it more than halves the load time of a 40k-gate netlist).
     gc_was_enabled = gc.isenabled()

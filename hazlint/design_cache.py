@@ -45,8 +45,8 @@ from typing import Any, Iterable, Mapping, Sequence
 
 
 from . import __version__
-from .cache import (Codec, CodecError, ParseCache, atomic_write, default_cache_dir,
-                    digest_file)
+from .cache import Codec, CodecError, ParseCache, default_cache_dir
+from .filestore import atomic_write, digest_file, digest_stream, open_private, private_dirs
 
 DESIGN_FORMAT = 1
 NAMESPACE = "design"
@@ -462,7 +462,7 @@ class DesignCache(_Store):
         gc.disable()                 # many small acyclic objects: no cyclic GC passes
         try:
             design = decode_design(data)
-        except (ValueError, RecursionError):
+        except (ValueError, RecursionError, LookupError, TypeError, AttributeError):
             design = None
         finally:
             if gc_was_enabled:
@@ -606,7 +606,7 @@ def open_result_cache(directory: str | os.PathLike | None = None, *,
 # ---------------------------------------------------------------------------------------------
 # finished reports of the command line
 
-REPORT_FORMAT = 1
+REPORT_FORMAT = 2
 REPORT_NAMESPACE = "report"
 
 
@@ -630,30 +630,41 @@ class ReportCache(_Store):
     def load(self, key: str):
         """``(file, worst)``: the report opened for reading (text, UTF-8) and the highest
         severity (an int of :class:`~hazlint.diagnostics.Severity`) among its findings, None
-        for none; or None on a miss."""
+        for none; or None on a miss. The report file must be a regular file of ours with the
+        size and digest the entry recorded; otherwise entry and file are removed."""
+        import io
         data = self._entry(key)
         if data is None:
             return None
-        size, worst = data.get("size"), data.get("worst")
+        size, worst, digest = data.get("size"), data.get("worst"), data.get("digest")
         if (data.get("format") != REPORT_FORMAT or type(size) is not int
-                or not (worst is None or type(worst) is int)):
-            self.store_.discard(key)
+                or not (worst is None or type(worst) is int and 0 <= worst <= 2)
+                or type(digest) is not str):
+            self._drop_both(key)
             return None
         path = self._text_path(key)
         try:
-            fh = open(path, encoding="utf-8", newline="")
+            raw = open_private(path)
         except OSError:
-            self.store_.discard(key)
+            self._drop_both(key)
             return None
         try:
-            if os.fstat(fh.fileno()).st_size != size:
-                raise OSError("size")
+            if os.fstat(raw.fileno()).st_size != size or digest_stream(raw) != digest:
+                raise OSError("the report file is not the one recorded")
+            raw.seek(0)
             os.utime(path)
         except OSError:
-            fh.close()
-            self.store_.discard(key)
+            raw.close()
+            self._drop_both(key)
             return None
-        return fh, worst
+        return io.TextIOWrapper(raw, encoding="utf-8", newline=""), worst
+
+    def _drop_both(self, key: str) -> None:
+        self.store_.discard(key)
+        try:
+            self._text_path(key).unlink()
+        except OSError:
+            pass
 
     def store(self, key: str, write, worst: int | None, deps: Iterable[str] = ()):
         """Run ``write(stream)`` into the report file for ``key`` and record the entry.
@@ -662,6 +673,7 @@ class ReportCache(_Store):
         written (read-only or full disk) and the caller should render directly."""
         path = self._text_path(key)
         try:
+            private_dirs(self.store_.directory, path.parent, create=True)
             atomic_write(path, write)
             size = path.stat().st_size
         except OSError:
@@ -669,8 +681,10 @@ class ReportCache(_Store):
         limit = self.store_.limit_mb * 1024 * 1024
         if limit and size > limit // 4:
             return path, False
-        self.store_.store(key, {"format": REPORT_FORMAT, "worst": worst, "size": size},
-                          deps=list(dict.fromkeys(deps)))
+        digest = digest_file(path)
+        if digest is not None:
+            self.store_.store(key, {"format": REPORT_FORMAT, "worst": worst, "size": size,
+                                    "digest": digest}, deps=list(dict.fromkeys(deps)))
         return path, True
 
 

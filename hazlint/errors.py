@@ -1,10 +1,20 @@
 """Errors that reach the user as ``file:line: error: ...`` with exit code 2, never a traceback."""
 from __future__ import annotations
 
+import re
+
 EXIT_CLEAN = 0
 EXIT_FINDINGS = 1
 EXIT_INPUT_ERROR = 2
 EXIT_INTERNAL_ERROR = 3    # a bug in hazlint itself
+
+
+def number_text(v) -> str:
+    """An integer for a message: as it is when short, else its size (Python refuses to print
+    an int of more than 4300 digits, and nobody wants to read one)."""
+    if isinstance(v, int) and not isinstance(v, bool) and abs(v) >= 10 ** 30:
+        return f"{'-' if v < 0 else ''}a {v.bit_length()}-bit number"
+    return str(v)
 
 
 class HazlintError(Exception):
@@ -28,16 +38,31 @@ class HazlintError(Exception):
     def __str__(self) -> str:
         where = ""
         if self.path:
-            where = self.path
+            where = excerpt(str(self.path), 400)
             if self.line:
                 where += f":{self.line}"
                 if self.column:
                     where += f":{self.column}"
             where += ": "
-        text = f"{where}error: {self.message}"
+        text = f"{where}error: {excerpt(self.message, 2000)}"
         if self.construct and self.construct not in self.message:
-            text += f" (at '{self.construct}')"
+            text += f" (at '{excerpt(self.construct, 60)}')"
         return text
+
+
+_LONG_WORD = re.compile(r"\S{121,}")
+
+
+def excerpt(text: str, limit: int) -> str:
+    """``text`` with every run of more than 120 non-blank characters (an identifier, a
+    literal) cut to its first 60, then cut to ``limit`` characters, each cut saying how much
+    it left out: an error line quotes the input, it never reproduces it."""
+    text = str(text)
+    total = len(text)
+    text = _LONG_WORD.sub(lambda m: f"{m.group()[:60]}...({len(m.group())} characters)", text)
+    if len(text) > limit:
+        text = f"{text[:limit]}...({total} characters)"
+    return text.replace("\n", " ")
 
 
 class ParseError(HazlintError):

@@ -21,9 +21,11 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from . import budget as _budget
 from . import cells_yosys_words as yosys_cells
 from . import initial_values
 from . import library as lib
+from . import limits as _limits
 from .consteval import NotConstant, const_value
 from .design import BlackBox, Design, Register
 from .diagnostics import Diagnostic, Location, Severity
@@ -39,7 +41,7 @@ from .elaborate.expressions import ExpressionElaborator, const_bits
 from .elaborate.gates import GateBuilder
 from .elaborate.memory import DEFAULT_MAX_BITS, MemoryElaborator
 from .elaborate.scope import NetInfo, Scope, index_range
-from .errors import ElaborationError
+from .errors import ElaborationError, number_text
 from .frontend import ir
 from .library import UNIT_DELAY, ZERO_DELAY, CellDef, Delay, Library
 
@@ -48,7 +50,7 @@ from .library import UNIT_DELAY, ZERO_DELAY, CellDef, Delay, Library
 class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryElaborator,
                  CoverageTracker):
     def __init__(self, sources: Sequence[ir.SourceFile], library: Library,
-                 default_delay: Delay = UNIT_DELAY, max_depth: int = 200,
+                 default_delay: Delay = UNIT_DELAY, max_depth: int = 100,
                  memory_max_bits: int = DEFAULT_MAX_BITS):
         self.memory_max_bits = memory_max_bits
         self.sources = list(sources)
@@ -95,6 +97,11 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         self._members: dict[str, list[str]] = {}
         self._n = 0
         self._noted: set[tuple] = set()
+        self._max_gates = _limits.current().gates
+        self._max_width = _limits.current().vector_width
+        self._max_net_bits = _limits.current().net_bits
+        self._net_bits = 0
+        self._instances = 0
 
     # ---------------------------------------------------------------- union-find ---------------
     def find(self, a: str) -> str:
@@ -152,6 +159,10 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         rec.update(extra)
         self.drivers.append(rec)
         self.parent.setdefault(out, out)
+        if len(self.drivers) > self._max_gates:
+            _limits.check("gates", len(self.drivers), "the number of gates", _where(loc))
+        if not len(self.drivers) & 8191:
+            _budget.check_loading("elaborating the design", *_where(loc)[:2])
 
     def gate(self, scope: Scope, op: str, ins: list[str], loc, delay: Delay | None = None,
              fold: bool = True) -> str:
@@ -174,6 +185,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         self.sink_ids.add(sid)
         self.sinks.append({"id": sid, "input": sig, "role": role, "name": name, "loc": loc,
                            "instance": instance, **attrs})
+        if not len(self.sinks) & 8191:
+            _budget.check_loading("elaborating the design", *_where(loc)[:2])
         return sid
 
     # ---------------------------------------------------------------- top ----------------------
@@ -196,9 +209,10 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
             tops = [n for n in self.modules if n not in used]
         if not tops:
             if not self.modules:
-                raise ElaborationError("no module found in the input files")
-            raise ElaborationError("cannot find a top module (every module is instantiated); "
-                                   "name one with --top")
+                first = self.sources[0].path if self.sources else None
+                raise ElaborationError("no module found in the input files",
+                                       path=first, line=1 if first else None)
+            raise _instantiation_cycle(self.modules)
         return tops
 
     def cell_known(self, name: str) -> bool:
@@ -346,8 +360,20 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         info = scope.nets.get(name)
         indices = None
         if width is not None:
-            indices = index_range(self.const(width[0], scope, loc),
-                                  self.const(width[1], scope, loc))
+            msb = self.const(width[0], scope, loc)
+            lsb = self.const(width[1], scope, loc)
+            _limits.check("vector_width", abs(msb - lsb) + 1, f"the width of '{name[:60]}'",
+                          _where(loc))
+            if max(abs(msb), abs(lsb)) >= 1 << 62:
+                raise ElaborationError(f"the range of '{name[:60]}' ([{number_text(msb)}:"
+                                       f"{number_text(lsb)}]) is beyond 2**62", *_where(loc))
+            self._net_bits += abs(msb - lsb) + 1
+            if abs(msb - lsb) > 8191:
+                _budget.check_loading("elaborating the design", *_where(loc)[:2])
+            if self._net_bits > self._max_net_bits:
+                _limits.check("net_bits", self._net_bits, "the number of net bits declared",
+                              _where(loc))
+            indices = index_range(msb, lsb)
         if info is not None:
             if indices is not None and info.indices is None:
                 info.indices = indices
@@ -375,6 +401,9 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         except NotConstant as exc:
             raise ElaborationError(f"expected a constant expression (it uses '{exc}')",
                                    *_where(loc), construct=_expr_text(e)) from None
+        if isinstance(v, float) and not -float("inf") < v < float("inf"):
+            raise ElaborationError("expected a finite constant", *_where(loc),
+                                   construct=_expr_text(e))
         return int(v)
 
     def elab_items(self, scope: Scope, items, depth: int, declare_only_params=False) -> None:
@@ -408,8 +437,21 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                 self.elab_item(scope, it, depth)
             except RecursionError:
                 loc = getattr(it, "loc", None)
-                raise ElaborationError("expression or statement nested too deeply to elaborate",
-                                       *_where(loc)) from None
+                what = (f"instance '{it.name}': the hierarchy is nested too deeply to elaborate "
+                        "(recursive instantiation?)" if isinstance(it, ir.Instance) else
+                        "expression or statement nested too deeply to elaborate")
+                raise ElaborationError(what, *_where(loc)) from None
+            except ValueError as exc:
+                if "integer string conversion" not in str(exc):
+                    raise
+                # a constant of thousands of digits in a name or a message
+                raise ElaborationError("a constant too large to print (more than 4300 digits) "
+                                       "in an index or a name", *_where(getattr(it, "loc",
+                                                                               None))) from None
+            except ElaborationError as exc:
+                if not exc.path and getattr(it, "loc", None) is not None:
+                    exc.path, exc.line = it.loc.path, it.loc.line    # an error without a place
+                raise
         if paths:
             self.apply_specify(scope, paths, self.drivers[mark:])
 
@@ -615,10 +657,18 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         vals = []
         for mtm in d[:2]:
             try:
-                mn, _typ, mx = (float(const_value(x, params)) for x in mtm)
+                mn, _typ, mx = (float(const_value(x, params, _where(loc))) for x in mtm)
             except NotConstant as exc:
                 raise ElaborationError(f"delay is not a constant expression ('{exc}')",
                                        *_where(loc)) from None
+            except OverflowError:
+                _limits.check("delay", float("inf"), "a delay too large to represent",
+                              _where(loc))
+            for v in (mn, mx):
+                if not v >= 0:
+                    raise ElaborationError(f"delay {v:g} is not a non-negative number",
+                                           *_where(loc))
+                _limits.check("delay", v, "the delay", _where(loc))
             vals.append((mn, mx))
         if len(vals) == 1:
             vals.append(vals[0])
@@ -636,6 +686,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         if inst.array is not None:
             msb = self.const(inst.array[0], scope, inst.loc)
             lsb = self.const(inst.array[1], scope, inst.loc)
+            _limits.check("instances", self._instances + abs(msb - lsb) + 1,
+                          f"the number of instances (array '{inst.name[:60]}')", _where(inst.loc))
             step = 1 if msb >= lsb else -1
             idxs = list(range(lsb, msb + step, step))
             n = len(idxs)
@@ -660,6 +712,11 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                                   attrs=inst.attrs)
                 self.elab_instance(scope, one, depth)
             return
+        self._instances += 1
+        if self._instances & 1023 == 0:
+            _limits.check("instances", self._instances, "the number of instances",
+                          _where(inst.loc))
+            _budget.check_loading("elaborating the design", *_where(inst.loc)[:2])
         cell = inst.cell
         if cell in lib.PRIMITIVES:
             self.elab_primitive(scope, inst)
@@ -776,6 +833,10 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
 
     def elab_submodule(self, scope: Scope, inst: ir.Instance, depth: int) -> None:
         m = self.modules[inst.cell]
+        if depth + 1 > self.max_depth:
+            raise ElaborationError(f"instance '{inst.name}' of '{m.name}' nests the hierarchy "
+                                   f"deeper than {self.max_depth} levels (recursive "
+                                   "instantiation?)", *_where(inst.loc), construct=inst.name)
         child = Scope(prefix=f"{scope.prefix}{inst.name}.", instance=f"{scope.instance}."
                       f"{inst.name}", module=m)
         overrides = []
@@ -1148,7 +1209,9 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                 return sig
             return rep[find(sig)]
 
-        for r, ds in drv_of.items():
+        for k, (r, ds) in enumerate(drv_of.items()):
+            if not k & 8191:
+                _budget.check_loading("building the gate graph", *_where(ds[0]["loc"])[:2])
             nid = rep[r]
             strong = [d for d in ds if not d.get("weak")]
             ds_use = strong or ds
@@ -1244,6 +1307,46 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
 
 
 # ------------------------------------------------------------------------------------------------
+def _instantiation_cycle(modules: Mapping[str, ir.Module]) -> ElaborationError:
+    """The error for a design whose every module is instantiated: the instantiation that
+    closes a cycle (a module that contains itself), at its line."""
+    first: dict[str, dict[str, ir.Instance]] = {}
+    for name in sorted(modules):
+        uses: dict[str, ir.Instance] = {}
+        for it in walk_items(modules[name].items):
+            if isinstance(it, ir.Instance) and it.cell in modules:
+                uses.setdefault(it.cell, it)
+        first[name] = uses
+    state: dict[str, int] = {}
+    for start in sorted(modules):
+        stack = [(start, iter(first[start].items()))]
+        state[start] = 1
+        path = [start]
+        while stack:
+            mod, it = stack[-1]
+            nxt = next(it, None)
+            if nxt is None:
+                state[mod] = 2
+                stack.pop()
+                path.pop()
+                continue
+            cell, inst = nxt
+            if state.get(cell) == 1:
+                loop = " -> ".join(path[path.index(cell):] + [cell])
+                how = ("itself" if cell == mod else
+                       f"'{cell}', which contains '{mod}' again ({loop})")
+                return ElaborationError(
+                    f"module '{mod}' instantiates {how} through instance '{inst.name}': the "
+                    "hierarchy never ends, so there is no top module", *_where(inst.loc),
+                    construct=inst.name)
+            if state.get(cell) is None:
+                state[cell] = 1
+                path.append(cell)
+                stack.append((cell, iter(first[cell].items())))
+    return ElaborationError("cannot find a top module (every module is instantiated); name "
+                            "one with --top")
+
+
 def _locattrs(loc) -> dict:
     if loc is None:
         return {"path": "", "line": 0, "column": 1}

@@ -10,6 +10,13 @@ along the reconvergent paths, the loop) as ``relatedInformation``.
 
 Linting runs in a worker thread, one run at a time; the result is published from the event loop.
 A run superseded by a newer edit of the same document is dropped instead of published.
+
+Robustness: a document whose URI does not name a file (``%00`` in it) gets one diagnostic
+saying so and is left out of every other document's run; converting findings reads each text
+once per run through a line index (:class:`TextLines`) and shows at most
+:data:`MAX_RELATED` related locations per diagnostic, so a megabyte netlist with findings of
+thousands of hops is published in seconds. Malformed frames are handled before pygls sees
+them (:mod:`hazlint.lsp_framing`).
 """
 from __future__ import annotations
 
@@ -37,8 +44,52 @@ _SEVERITY = {Severity.ERROR: types.DiagnosticSeverity.Error,
              Severity.INFO: types.DiagnosticSeverity.Information}
 
 
+MAX_RELATED = 100        # related locations shown per diagnostic (the rest are counted)
+
+
 def _norm(path: str) -> str:
-    return os.path.normcase(os.path.realpath(path))
+    try:
+        return os.path.normcase(os.path.realpath(path))
+    except (ValueError, OSError):       # a NUL in the name: keep it apart from every file
+        return path
+
+
+def usable_path(path: str | None) -> bool:
+    """Whether ``path`` (from a document URI) can name a file at all."""
+    return bool(path) and "\0" not in path
+
+
+class TextLines:
+    """The lines of one text, split once (a conversion asks for one line per location)."""
+
+    def __init__(self, text: str | None):
+        self.lines = text.splitlines() if text is not None else []
+
+    def line(self, line0: int) -> str:
+        return self.lines[line0] if 0 <= line0 < len(self.lines) else ""
+
+
+class _Texts:
+    """Per conversion run: the line index of every document and file a location points into,
+    each read and split once."""
+
+    def __init__(self, texts: dict[str, str]):
+        self.texts = texts
+        self.index: dict[str, TextLines] = {}
+
+    def of(self, path: str, text: str | None = None) -> TextLines:
+        got = self.index.get(path)
+        if got is None:
+            if text is None:
+                text = self.texts.get(path)
+            if text is None:
+                try:
+                    with open(path, encoding="utf-8", errors="replace") as fh:
+                        text = fh.read()
+                except (OSError, ValueError):
+                    text = None
+            got = self.index[path] = TextLines(text)
+        return got
 
 
 # ---------------------------------------------------------------------------------------------
@@ -102,15 +153,18 @@ def _abs(p: str, root: str) -> str:
     return p if os.path.isabs(p) else os.path.join(root, p)
 
 
-def _line_text(text: str | None, line0: int) -> str:
+def _line_text(text, line0: int) -> str:
     if text is None:
         return ""
+    if isinstance(text, TextLines):
+        return text.line(line0)
     lines = text.splitlines()
     return lines[line0] if 0 <= line0 < len(lines) else ""
 
 
-def _range(line: int, column: int, text: str | None) -> types.Range:
-    """From the reported column to the end of the line's text (the gate or statement)."""
+def _range(line: int, column: int, text) -> types.Range:
+    """From the reported column to the end of the line's text (the gate or statement);
+    ``text`` is the document's text or its :class:`TextLines`."""
     l0 = max(0, (line or 1) - 1)
     c0 = max(0, (column or 1) - 1)
     content = _line_text(text, l0)
@@ -121,41 +175,50 @@ def _range(line: int, column: int, text: str | None) -> types.Range:
                        end=types.Position(line=l0, character=end))
 
 
-def _location(path: str, line: int, column: int, root: str | None, texts: dict[str, str]):
+def _location(path: str, line: int, column: int, root: str | None, texts,
+              uris: dict | None = None):
     ap = _abs(path, root or os.getcwd())
-    text = texts.get(ap)
-    if text is None:
-        try:
-            with open(ap, encoding="utf-8", errors="replace") as fh:
-                text = fh.read()
-        except OSError:
-            text = None
-    return types.Location(uri=from_fs_path(ap), range=_range(line, column, text))
+    index = texts if isinstance(texts, _Texts) else _Texts(texts)
+    uri = uris.get(ap) if uris is not None else None
+    if uri is None:
+        uri = from_fs_path(ap)
+        if uris is not None:
+            uris[ap] = uri
+    return types.Location(uri=uri, range=_range(line, column, index.of(ap)))
 
 
-def to_lsp(d: Diagnostic, text: str | None, root: str | None,
-           texts: dict[str, str]) -> types.Diagnostic:
+def to_lsp(d: Diagnostic, text, root: str | None, texts) -> types.Diagnostic:
+    """The LSP diagnostic of a finding; ``texts`` is the open documents' texts (or the run's
+    :class:`_Texts`). Evidence becomes related information, at most :data:`MAX_RELATED`
+    locations (the first ones: the fast path, then the slow path), the rest counted."""
+    index = texts if isinstance(texts, _Texts) else _Texts(texts)
+    uris: dict[str, str] = {}
     related: list[types.DiagnosticRelatedInformation] = []
-    for r in d.related:
-        if r.location.path:
-            related.append(types.DiagnosticRelatedInformation(
-                location=_location(r.location.path, r.location.line, r.location.column, root,
-                                   texts),
-                message=r.message))
+    left = 0
+    places = [(r.location, r.message) for r in d.related if r.location.path]
     for i, flow in enumerate(d.flows):
         label = "loop" if d.kind in ("combinational-loop", "oscillation") else f"path {i + 1}"
-        for h in flow:
-            if h.location is None or not h.location.path:
-                continue
-            related.append(types.DiagnosticRelatedInformation(
-                location=_location(h.location.path, h.location.line, h.location.column, root,
-                                   texts),
-                message=f"{label}: {_hop_message(h)}"))
+        places += [(h.location, f"{label}: {_hop_message(h)}") for h in flow
+                   if h.location is not None and h.location.path]
+    if len(places) > MAX_RELATED:
+        left = len(places) - (MAX_RELATED - 1)
+        places = places[:MAX_RELATED - 1]
+    for loc, msg in places:
+        related.append(types.DiagnosticRelatedInformation(
+            location=_location(loc.path, loc.line, loc.column, root, index, uris), message=msg))
+    if left and places:
+        loc = places[-1][0]
+        related.append(types.DiagnosticRelatedInformation(
+            location=_location(loc.path, loc.line, loc.column, root, index, uris),
+            message=f"... {left} more evidence locations (the command line report lists "
+                    "them all)"))
     message = d.message
     if d.fix:
         message += f"\nfix: {d.fix}"
     return types.Diagnostic(
-        range=_range(d.line, d.column, text), message=message,
+        range=_range(d.line, d.column, text if not isinstance(text, str) else
+                     index.of(_abs(d.location.path, root or os.getcwd()), text)),
+        message=message,
         severity=_SEVERITY.get(d.severity, types.DiagnosticSeverity.Warning),
         code=d.rule, source=SOURCE,
         related_information=related or None,
@@ -163,8 +226,10 @@ def to_lsp(d: Diagnostic, text: str | None, root: str | None,
 
 
 def error_to_lsp(exc: HazlintError, text: str | None) -> types.Diagnostic:
+    from .errors import excerpt
     return types.Diagnostic(range=_range(exc.line or 1, exc.column or 1, text),
-                            message=exc.message, severity=types.DiagnosticSeverity.Error,
+                            message=excerpt(exc.message, 2000),
+                            severity=types.DiagnosticSeverity.Error,
                             source=SOURCE, code="input-error")
 
 
@@ -187,13 +252,18 @@ def diagnostics_by_document(path: str, diags: Iterable[Diagnostic], root: str | 
             str(error), line=1)
         out[target] = [error_to_lsp(e, texts.get(target))]
         return out
+    index = _Texts(texts)
+    keys: dict[str, str] = {}
     for d in diags:
         if not d.location.path:
             continue
-        key = _norm(_abs(d.location.path, root or os.path.dirname(path)))
+        key = keys.get(d.location.path)
+        if key is None:
+            key = keys[d.location.path] = _norm(_abs(d.location.path,
+                                                     root or os.path.dirname(path)))
         if key in want:
             p = want[key]
-            out[p].append(to_lsp(d, texts.get(p), root, texts))
+            out[p].append(to_lsp(d, index.of(p), root, index))
     return out
 
 
@@ -212,10 +282,15 @@ class HazlintServer(LanguageServer):
 
     # paths and texts of the open documents
     def open_texts(self) -> dict[str, str]:
+        """Path -> text of every open document whose URI names a file (others are left out:
+        one bad URI must not touch any other document's run)."""
         texts = {}
-        for uri, doc in self.workspace.text_documents.items():
-            p = to_fs_path(uri)
-            if p:
+        for uri, doc in list(self.workspace.text_documents.items()):
+            try:
+                p = to_fs_path(uri)
+            except Exception:          # noqa: BLE001 - a URI pygls cannot take apart
+                continue
+            if usable_path(p):
                 texts[os.path.abspath(p)] = doc.source
         return texts
 
@@ -230,8 +305,16 @@ class HazlintServer(LanguageServer):
             return lint_document(path, texts, self.workspace_root())
 
     async def lint_and_publish(self, uri: str) -> None:
-        path = to_fs_path(uri)
-        if not path:
+        try:
+            path = to_fs_path(uri)
+        except Exception:              # noqa: BLE001 - a URI pygls cannot take apart
+            path = None
+        if not usable_path(path):
+            self._publish(uri, [types.Diagnostic(
+                range=_range(1, 1, None), severity=types.DiagnosticSeverity.Error,
+                source=SOURCE, code="input-error",
+                message="hazlint cannot lint this document: its URI does not name a file "
+                        "(it holds a NUL character or is not a file: URI)")])
             return
         path = os.path.abspath(path)
         gen = self.generation.get(uri, 0)
@@ -247,14 +330,25 @@ class HazlintServer(LanguageServer):
             return
         if self.generation.get(uri, 0) != gen:
             return                 # the document changed meanwhile; a newer run will publish
-        by_doc = diagnostics_by_document(path, diags, root, error, texts, files)
+        try:
+            by_doc = diagnostics_by_document(path, diags, root, error, texts, files)
+        except Exception as exc:   # noqa: BLE001 - one document's trouble stays its own
+            log.exception("converting diagnostics failed")
+            self.window_log_message(types.LogMessageParams(
+                type=types.MessageType.Error, message=f"hazlint: internal error: {exc}"))
+            return
         for p, items in by_doc.items():
-            doc_uri = from_fs_path(p)
+            self._publish(from_fs_path(p), items)
+
+    def _publish(self, doc_uri: str, items) -> None:
+        version = None
+        try:
+            # (pygls keys documents by a normalised URI: ask it, do not look the key up)
+            version = self.workspace.get_text_document(doc_uri).version
+        except Exception:          # noqa: BLE001 - no version is still a valid publish
             version = None
-            if doc_uri in self.workspace.text_documents:
-                version = self.workspace.get_text_document(doc_uri).version
-            self.text_document_publish_diagnostics(types.PublishDiagnosticsParams(
-                uri=doc_uri, diagnostics=items, version=version))
+        self.text_document_publish_diagnostics(types.PublishDiagnosticsParams(
+            uri=doc_uri, diagnostics=items, version=version))
 
     def schedule(self, uri: str, delay: float) -> None:
         self.generation[uri] = self.generation.get(uri, 0) + 1
@@ -274,7 +368,10 @@ class HazlintServer(LanguageServer):
 
 
 def _wanted(uri: str) -> bool:
-    p = to_fs_path(uri) or ""
+    try:
+        p = to_fs_path(uri) or ""
+    except Exception:                  # noqa: BLE001
+        p = uri
     return p.lower().endswith(VERILOG_SUFFIXES)
 
 
@@ -284,7 +381,10 @@ CONFIG_NAMES = ("hazlint.toml", "pyproject.toml")
 def _is_config(uri: str) -> bool:
     """A file whose saving can change every open document's findings: a configuration file,
     or any TOML file (waiver files are TOML and may be named anything)."""
-    p = to_fs_path(uri) or ""
+    try:
+        p = to_fs_path(uri) or ""
+    except Exception:                  # noqa: BLE001
+        return False
     return os.path.basename(p) in CONFIG_NAMES or p.lower().endswith(".toml")
 
 

@@ -45,6 +45,7 @@ from __future__ import annotations
 
 import heapq
 
+from hazlint import budget
 from hazlint.diagnostics import Diagnostic, Severity
 
 from hazlint.plugins import Option
@@ -97,13 +98,15 @@ def plan_stems(context, reach, sinks, work_budget: float):
 
 
 def find_reconvergences(design, context, scope: str = "outputs", min_skew: float = 0.0,
-                        stem_ids=None):
+                        stem_ids=None, stopped: list | None = None):
     """Worst reconvergence per (stem, sink in scope), grouped by gate.
 
     Yields :class:`Finding` objects (stem and gate node ids, the :class:`Reconvergence`, the
     sinks, the fastest and slowest paths as node-id tuples). Work per stem is linear in its
     fanout cone plus the length of the reported paths. ``stem_ids`` (timing-graph indices)
-    limits the stems; by default every stem that reaches a sink in scope.
+    limits the stems; by default every stem that reaches a sink in scope. With ``stopped`` (a
+    list) the search ends when the run's time budget is used up, and the stems not analysed
+    are appended to it.
     """
     tg = context.timing_graph
     order = tg.order
@@ -115,7 +118,7 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
             reach = compiled.reach
             stem_ids = [tg.index[n] for n in context.stems if n in tg.index
                         and reach[tg.index[n]]]
-        yield from compiled.findings(stem_ids, min_skew)
+        yield from compiled.findings(stem_ids, min_skew, budget.expired, stopped)
         return
     sinks, reach = context.scope_reach(scope)
     if not sinks:
@@ -125,7 +128,13 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
     if stem_ids is None:
         stem_ids = [tg.index[n] for n in context.stems if n in tg.index and reach[tg.index[n]]]
     rank_np = None
+    done: set[int] = set()
     for si, st, found in context.stem_reconvergences(stem_ids, min_skew):
+        if stopped is not None:
+            if budget.expired():
+                stopped.extend(s for s in stem_ids if s not in done)
+                return
+            done.add(si)
         # every sink in scope goes to the worst reconvergence that reaches it (ties: the gate
         # first in source order); sinks are bits of the precomputed reachability sets. The
         # reconvergences are taken in that order until every sink is taken (one gate per
@@ -230,7 +239,9 @@ def check(design, context):
     nodes = design.graph.nodes
     severity = Severity.parse(SEVERITY)
     where: dict[str, tuple] = {}      # gate -> (location, instance): gates recur across stems
-    for f in find_reconvergences(design, context, opts["scope"], opts["min_skew"], stem_ids):
+    stopped: list[int] = []
+    for f in find_reconvergences(design, context, opts["scope"], opts["min_skew"], stem_ids,
+                                 stopped):
         gate = f.gate
         place = where.get(gate)
         if place is None:
@@ -246,6 +257,8 @@ def check(design, context):
             yield Diagnostic(rule=ID, kind="unbalanced-reconvergence", severity=severity,
                              location=location, instance=instance,
                              **_fields(context, f.stem, gate, f.r, f.sinks, f.path))
+    if stopped:
+        yield _incomplete(context, stopped, len(stem_ids) - len(stopped), None)
 
 
 class _Fields:
@@ -306,7 +319,7 @@ def _fields(context, stem, gate, r, sinks, path) -> dict:
              "while the branches disagree, or register the signal before the sensitive sink"))
 
 
-def _incomplete(context, left, analysed: int, budget: float) -> Diagnostic:
+def _incomplete(context, left, analysed: int, work_budget: float | None) -> Diagnostic:
     tg = context.timing_graph
     names = [tg.order[s] for s in sorted(left, key=lambda s: context.source_rank[tg.order[s]])]
     first = names[0]
@@ -315,16 +328,21 @@ def _incomplete(context, left, analysed: int, budget: float) -> Diagnostic:
         rule=ID, kind="analysis-incomplete", severity=Severity.WARNING,
         location=context.location(first), instance=context.graph.nodes[first].get(
             "instance", "") or "",
-        message=(f"reconvergence analysis stopped at its work budget ({budget:g} node "
-                 f"visits): {len(left)} of {len(left) + analysed} fanout stems not analysed, "
+        message=(f"reconvergence analysis stopped "
+                 + (f"at its work budget ({work_budget:g} node visits)" if work_budget is not None
+                    else f"because {budget.reason()}")
+                 + f": {len(left)} of {len(left) + analysed} fanout stems not analysed, "
                  f"first {name_list(shown, 3)}"),
-        evidence={"not_analysed": len(left), "analysed": analysed, "work_budget": budget,
+        evidence={"not_analysed": len(left), "analysed": analysed, "work_budget": work_budget,
                   "stems_not_analysed": [context.net_name(n) for n in names[:100]],
-                  "key": stable_key("reconv-incomplete", str(len(left)))},
+                  "key": stable_key("reconv-incomplete" if work_budget is not None
+                                    else "reconv-out-of-time", str(len(left)))},
         notes=(f"stems reaching a glitch-sensitive sink were analysed first; "
                f"not analysed: {name_list(shown, 10)}",),
-        fix=("raise [rules.skewed-reconvergence] work_budget (0: no limit), narrow scope to "
-             "'async', or lint the block's sub-modules one at a time"))
+        fix=(("raise [rules.skewed-reconvergence] work_budget (0: no limit)"
+              if work_budget is not None else "raise the time budget (--time-budget, "
+              "time_budget; 0: none)")
+             + ", narrow scope to 'async', or lint the block's sub-modules one at a time"))
 
 
 def _path_text(hops, keep: int = 4) -> str:

@@ -179,8 +179,8 @@ def test_cli_cache_dir_no_cache_jobs_and_corruption(tmp_path):
     report_text.write_text(cold.stdout[:-10])                   # truncated
     again = cli(tmp_path, "--cache-dir", str(cache), "top.v", "valve.v")
     assert again.stdout == cold.stdout and again.returncode == 1
-    assert json.loads(entries[0].read_text())["format"] == 1
-    assert json.loads(design_entry.read_text())["format"] == 1
+    assert json.loads(entries[0].read_text())["format"] == 2
+    assert json.loads(design_entry.read_text())["format"] == 2
     assert report_text.read_text() == cold.stdout
     # parallel parsing gives the same findings
     par = cli(tmp_path, "--no-cache", "-j", "2", "top.v", "valve.v")

@@ -24,9 +24,11 @@ FIX = ROOT / "fixtures"
 # (frontend), netlists of library cells, simulated against cell models in their own tests
 # (tests/test_liberty.py, tests/test_sdf.py), RTL that yosys synthesises before hazlint reads it
 # (tests/test_synth_corpus.py compares those netlists with iverilog's simulation of the RTL),
-# and RTL with memories, whose words cannot be forced in iverilog: simulated clock by clock in
-# tests/test_rtl_iverilog.py
-SPECIAL = {"frontend", "sdf", "liberty", "synth", "rtl"}
+# RTL with memories, whose words cannot be forced in iverilog: simulated clock by clock in
+# tests/test_rtl_iverilog.py, and the hostile inputs of tests/test_hostile_input.py (errors and
+# limits, not designs)
+SPECIAL = {"frontend", "sdf", "liberty", "synth", "rtl", "hostile", "include_fanout",
+           "include_beside"}
 
 
 def designs():

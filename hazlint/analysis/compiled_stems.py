@@ -74,10 +74,15 @@ class CompiledStems:
                                           array("q", (tg.index[n] for n in self.sinks)))
         self.reach = WindowReach(*self.windows)
 
-    def findings(self, stem_ids, min_skew: float):
+    def findings(self, stem_ids, min_skew: float, expired=None, stopped: list | None = None):
         """:class:`CompiledFinding` per chosen reconvergence: stems in the given order, each
-        stem's findings in source order of the gate."""
+        stem's findings in source order of the gate. With ``expired`` (a callable) and
+        ``stopped`` (a list), the search ends between batches once ``expired()`` is true and
+        the stems not analysed are appended to ``stopped``."""
         for i in range(0, len(stem_ids), BATCH_STEMS):
+            if stopped is not None and expired is not None and expired():
+                stopped.extend(stem_ids[i:])
+                return
             stems = array("q", stem_ids[i:i + BATCH_STEMS])
             F, S, T = self.kern.solve_stems(stems, *self.graph, self.rank, *self.windows,
                                             float(min_skew))

@@ -61,7 +61,8 @@ def sop(graph: nx.DiGraph, node: str, positive: bool = True, depth: int = 6
             if len(cubes) > MAX_CUBES:
                 return None
     # drop duplicates and cubes containing another
-    uniq = sorted(set(cubes), key=len)
+    # (ties in a fixed order, not a set's hash order: the first consensus found is reported)
+    uniq = sorted(set(cubes), key=lambda c: (len(c), sorted(c)))
     out: list[frozenset] = []
     for c in uniq:
         if not any(o <= c for o in out):

@@ -23,6 +23,7 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from .. import budget
 from ..diagnostics import Diagnostic, Severity
 from ..graph import ASYNC_ROLES, SOURCE_KINDS
 from . import fixes as _fixes
@@ -613,7 +614,9 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     for i, d in enumerate(diagnostics):
         ev = d.evidence if isinstance(d.evidence, Mapping) else {}
         try:
-            if plans[i] is not None:
+            if plans[i] is not None and budget.expired():
+                out.append(_out_of_time(d))
+            elif plans[i] is not None:
                 out.extend(_refine_planned(graph, d, ev, plans[i][1], context, opts, memo,
                                            known, i in full, limit))
             elif d.kind == "combinational-loop" and ev.get("scc"):
@@ -626,6 +629,15 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
         except (Budget, RuntimeError, KeyError) as exc:
             out.append(replace(d, notes=tuple(d.notes) + (f"prover: inconclusive ({exc})",)))
     return out
+
+
+def _out_of_time(d: Diagnostic) -> Diagnostic:
+    """A finding the prover had no time left for: inconclusive, with the budget as reason."""
+    why = budget.reason()
+    evidence = dict(d.evidence) if isinstance(d.evidence, Mapping) else {}
+    evidence.update(classification="inconclusive", inconclusive_reason=why)
+    return replace(d, severity=Severity.WARNING, evidence=evidence,
+                   notes=tuple(d.notes) + (f"hazard proof inconclusive: {why}",))
 
 
 def _plan(graph, d: Diagnostic, context, opts, memo=None):
@@ -873,6 +885,8 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
             sup[n] = v
     chunk = max(1, int(chunk))
     for c0 in range(0, len(chg), chunk):
+        if budget.expired():
+            break               # the pairs left open are proven one by one, or reported
         part = chg[c0:c0 + chunk]
         lane_of = {n: k for k, n in enumerate(part)}
         part_mask = 0
@@ -881,6 +895,8 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
         width = len(part) * vectors
         A = IntAlgebra(width)
         for _ in range(rounds):
+            if budget.expired():
+                break
             va, vb = {}, {}
             for n in srcs:
                 r = rng.getrandbits(width)
@@ -931,7 +947,10 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
     # what the random vectors left open: structural proof, then shared BDD / SAT per source
     open_pairs: dict[str, list[str]] = {}
     counts: dict[str, dict[str, int]] = {}
+    pos = {n: i for i, n in enumerate(order)}
     for t in targets:
+        if budget.expired():
+            break               # pairs left undecided are proven one by one, or reported
         s = sup[t] & chg_mask
         while s:
             i = (s & -s).bit_length() - 1
@@ -944,21 +963,22 @@ def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
             if not rest:
                 continue
             if x not in counts:
-                counts[x] = _path_counts(g, order, x)
+                counts[x] = _path_counts(g, order, x, pos=pos)
             if counts[x].get(t, 0) <= 1:
                 for k in rest:
                     res[k] = HazardProof(k, "absent", method="structural",
                                          reason="a single path from the changing input")
                 continue
             open_pairs.setdefault(x, []).append(t)
-    if open_pairs:
+    if open_pairs and not budget.expired():
         _prove_open(g, order, targets, srcs, open_pairs, found, opts)
     return found
 
 
-def _path_counts(g, order, source, cap=2) -> dict[str, int]:
+def _path_counts(g, order, source, cap=2, pos=None) -> dict[str, int]:
     """Paths (pin-wise) from ``source`` to every node, capped (DP over the topological order of
-    ``source``'s fan-out only)."""
+    ``source``'s fan-out only; with ``pos``, each node's position in ``order``, the fan-out is
+    sorted instead of ``order`` scanned: many sources with small fan-outs cost their size)."""
     cnt = {source: 1}
     stack, fo = [source], {source}
     while stack:
@@ -967,7 +987,8 @@ def _path_counts(g, order, source, cap=2) -> dict[str, int]:
             if s not in fo:
                 fo.add(s)
                 stack.append(s)
-    for n in order:
+    walk = order if pos is None else sorted((n for n in fo if n in pos), key=pos.__getitem__)
+    for n in walk:
         if n == source or n not in fo:
             continue
         c = sum(cnt.get(i, 0) for i in g.nodes[n].get("inputs") or ())
@@ -1047,13 +1068,15 @@ def _prove_open(g, order, targets, srcs, open_pairs, found, opts):
     base = (C.nvars, len(C.clauses), dict(C._memo), dict(C.defs))
     batch_time = float(opts["batch_time"])
     deadline = time.perf_counter() + batch_time if batch_time > 0 else float("inf")
+    deadline = min(deadline, time.perf_counter() + budget.left())
     late = (f"{bdd_reason}; the batched proof's time budget ({batch_time:g} s, option "
             "batch_time) was used up")
 
     def give_up(x, ts):
+        why = f"{bdd_reason}; {budget.reason()}" if budget.expired() else late
         for t in ts:
             for k in [k for k in HAZARD_KINDS if k not in found[(t, x)]]:
-                found[(t, x)][k] = HazardProof(k, "inconclusive", method="sat", reason=late)
+                found[(t, x)][k] = HazardProof(k, "inconclusive", method="sat", reason=why)
 
     for x, ts in todo.items():
         if time.perf_counter() > deadline:

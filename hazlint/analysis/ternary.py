@@ -32,6 +32,7 @@ import networkx as nx
 
 from ..graph import SOURCE_KINDS
 from ..logic import op_as_expr
+from .order import fanin_postorder
 
 # ---------------------------------------------------------------------------------------------
 # Boolean algebras (explicit bit-parallel ints here; BDD and CNF builders elsewhere)
@@ -200,20 +201,10 @@ def cone(graph: nx.DiGraph, targets: Iterable[str]) -> list[str]:
 
     Raises :class:`CyclicCone` when the cone holds a combinational loop.
     """
-    targets = list(targets)
-    nodes = set(targets)
-    stack = list(targets)
-    while stack:
-        n = stack.pop()
-        for p in graph.predecessors(n):
-            if p not in nodes:
-                nodes.add(p)
-                stack.append(p)
-    sub = graph.subgraph(nodes)
-    try:
-        return list(nx.topological_sort(sub))
-    except nx.NetworkXUnfeasible:
-        raise CyclicCone("combinational loop in the cone") from None
+    # in the graph's own adjacency order: the same for the same graph whatever the string
+    # hash seed (a sub-graph view of a set of nodes would iterate that set, in hash order)
+    return fanin_postorder(graph, targets,
+                           on_cycle=lambda: CyclicCone("combinational loop in the cone"))
 
 
 class CyclicCone(ValueError):

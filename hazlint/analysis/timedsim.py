@@ -34,6 +34,7 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from ..library import Delay
+from .order import ordered_copy
 from .ternary import IntAlgebra, bool_gate, ternary_fixpoint
 
 INF = float("inf")
@@ -425,7 +426,7 @@ def fanin_cone(graph: nx.DiGraph, roots: Iterable[str]) -> nx.DiGraph:
         per.move_to_end(key)
         return sub
     seen = set(key)
-    stack = list(key)
+    stack = sorted(key)
     pred = graph.pred
     while stack:
         for u in pred[stack.pop()]:
@@ -434,7 +435,7 @@ def fanin_cone(graph: nx.DiGraph, roots: Iterable[str]) -> nx.DiGraph:
                 stack.append(u)
     # (a view, such as a sub-graph, is copied too: iterating a view costs a filter per node)
     sub = graph if len(seen) == len(graph) and not nx.is_frozen(graph) \
-        else graph.subgraph(seen).copy()
+        else ordered_copy(graph, seen)
     per[key] = sub
     if len(per) > _CONES_PER_GRAPH + 1:
         for k in list(per):

@@ -58,6 +58,18 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--color", choices=("auto", "always", "never"), default="auto",
                    help="colour the text output (auto: only on a terminal, not with NO_COLOR)")
     p.add_argument("--brief", action="store_true", help="text: no evidence lines")
+    add_bound_arguments(p)
+
+
+def add_bound_arguments(p: argparse.ArgumentParser) -> None:
+    """``--time-budget`` and ``--limit``: the bounds of a run (shared by the commands that load
+    a design)."""
+    p.add_argument("--time-budget", type=float, metavar="SECONDS",
+                   help="time for the whole run; past it unfinished analyses are reported as "
+                        "incomplete (configuration 'time_budget'; default 60; 0: none)")
+    p.add_argument("--limit", action="append", metavar="NAME=VALUE", dest="limits",
+                   help="raise or lower a size limit, e.g. vector_width=4194304 (repeatable; "
+                        "configuration 'limits'; see the limits table in the README)")
 
 
 def _defines(items):
@@ -93,6 +105,11 @@ def run(args) -> int:
     cwd = os.getcwd()
     config = load_config(cwd, args.config)
     renderer = _renderer(args.format)       # a missing format fails before the slow work
+    from ..limits import DEFAULT as LIMITS, parse_assignments
+    LIMITS.with_values(parse_assignments(args.limits), where="--limit: ")
+    if args.time_budget is not None and not args.time_budget >= 0:
+        raise HazlintError(f"--time-budget must be a number of seconds, 0 or more (0: none), "
+                           f"got {args.time_budget}")
     files = list(args.files)
     changed = None
     if args.changed:
@@ -172,7 +189,9 @@ def _emit(args, write) -> None:
 
 
 def _lint(lint, args, files, config, cwd, changed, progress):
+    from ..limits import parse_assignments
     return lint(files or None, use_cache=not args.no_cache, progress=progress,
+                time_budget=args.time_budget, limits=parse_assignments(args.limits),
                 **_run_options(args, files, config, cwd, changed))
 
 
@@ -191,7 +210,7 @@ def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
         def write(stream):
             renderer.write(result, stream)
     kept = None
-    if reports is not None and key:
+    if reports is not None and key and not result.incomplete:
         # the report is written once, into the cache, and copied from there
         # (the input files' contents are in the key; what they include is checked on a hit)
         worst = max((int(d.severity) for d in result.diagnostics), default=None)

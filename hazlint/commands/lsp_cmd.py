@@ -15,6 +15,7 @@ def add_arguments(parser) -> None:
 
 def run(args) -> int:
     from ..lsp import create_server
+    from ..lsp_framing import FramedReader, LockedWriter
 
     if args.log_file:
         logging.basicConfig(filename=args.log_file, level=logging.INFO)
@@ -28,5 +29,7 @@ def run(args) -> int:
     os.dup2(2, 1)
     sys.stdout = sys.stderr
     server = create_server(debounce=args.debounce)
-    server.start_io(sys.stdin.buffer, proto_out)
+    # our own framing in front of pygls' reader: a malformed frame costs only itself
+    out = LockedWriter(proto_out)
+    server.start_io(FramedReader(sys.stdin.buffer, answer=out.write), out)
     return 0

@@ -36,14 +36,25 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--ascii", action="store_true", help="ASCII-only timing diagrams")
     p.add_argument("--fail-on", choices=("error", "warning", "never"), default="error",
                    help="lowest severity that makes the exit code 1 (default: error)")
+    from .check import add_bound_arguments
+    add_bound_arguments(p)
 
 
 def run(args) -> int:
+    from ..budget import bounded
+    from ..config import load_config
+    from ..limits import parse_assignments
+    with bounded(load_config(os.getcwd()), args.time_budget, parse_assignments(args.limits)):
+        return _run(args)
+
+
+def _run(args) -> int:
     from ..analysis import prove as P
     files = [os.path.abspath(f) for f in args.files]
     for f in files:
         if not os.path.isfile(f):
-            raise HazlintError(f"file not found: {f}", path=f)
+            raise HazlintError("is a directory, not a Verilog file" if os.path.isdir(f)
+                               else f"file not found: {f}", path=f)
     top = args.top[0] if args.top and len(args.top) == 1 else args.top
     opts: dict[str, Any] = {"show_proven_absent": args.show_proven_absent}
     out = sys.stdout

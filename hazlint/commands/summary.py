@@ -18,14 +18,24 @@ def add_arguments(p) -> None:
                    help="Liberty (.lib) file with the cells the netlist uses")
     p.add_argument("--config", help="configuration file (default: found upward from here)")
     p.add_argument("--format", choices=("text", "json"), default="text")
+    from .check import add_bound_arguments
+    add_bound_arguments(p)
 
 
 def design_from_args(args):
     """Load the design named by command-line arguments and configuration (shared by commands
-    that need a design but not the rules)."""
+    that need a design but not the rules), within the run's time budget and size limits."""
+    from ..budget import bounded
     from ..config import load_config
-    from ..design import load_design
+    from ..limits import parse_assignments
     cfg = load_config(path=args.config) if getattr(args, "config", None) else load_config()
+    with bounded(cfg, getattr(args, "time_budget", None),
+                 parse_assignments(getattr(args, "limits", None))):
+        return _load(args, cfg)
+
+
+def _load(args, cfg):
+    from ..design import load_design
     files = [os.path.abspath(f) for f in args.files] or list(cfg.files)
     if not files:
         raise HazlintError("no input files: name Verilog files or set 'files' in the "
@@ -41,7 +51,7 @@ def design_from_args(args):
             library = library.merge(resolve_library(path))
     return load_design(files, top=args.top or cfg.top,
                        include_dirs=[*cfg.include_dirs, *args.include_dirs],
-                       defines=defines, library=library, root=cfg.root,
+                       defines=defines, library=library, root=cfg.include_root,
                        memory_max_bits=cfg.memory_as_registers_max_bits), cfg
 
 

@@ -1,6 +1,7 @@
 """Values and small helpers shared by the elaboration modules."""
 from __future__ import annotations
 
+from ..errors import number_text
 from ..frontend import ir
 
 C0 = "1'b0"
@@ -84,6 +85,8 @@ def expr_text(e, parent: int = 0) -> str:
             return e[1]
         if tag == "num":
             _, w, v, xz, _s = e
+            if abs(v) >= 10 ** 30:
+                return number_text(v)
             return f"{w}'d{v}" if w and not xz else (str(v) if not w else f"{w}'b{v:b}")
         if tag == "real":
             return str(e[1])

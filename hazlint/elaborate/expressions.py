@@ -22,7 +22,8 @@ from __future__ import annotations
 import math
 
 from ..consteval import NotConstant, const_value
-from ..errors import ElaborationError
+from .. import limits as _limits
+from ..errors import ElaborationError, number_text
 from .common import C0, C1, BlackBoxModule, expr_text, extend, shift, where
 from .scope import span
 
@@ -189,6 +190,9 @@ class ExpressionElaborator:
             w, signed = self.expr_type(e, scope, loc)
             if W is None:
                 W = w
+            if max(W, w) > self._max_width:
+                _limits.check("vector_width", max(W, w), f"the width of '{expr_text(e)[:60]}'",
+                              where(loc))
             return self.eval_bits(e, scope, loc, max(W, w), signed, env)[:W]
         finally:
             if top:
@@ -382,6 +386,8 @@ class ExpressionElaborator:
             one: list[str] = []
             for x in reversed(e[2]):
                 one.extend(self.self_bits(x, scope, loc, env))
+            _limits.check("vector_width", len(one) * max(n, 0),
+                          f"the replication '{expr_text(e)[:60]}'", where(loc))
             return one * n
         if tag in ("bit", "part", "ipart"):
             return self._select(e, scope, loc, env)
@@ -453,11 +459,11 @@ class ExpressionElaborator:
         if info.indices is None:
             if k == 0:
                 return info.base
-            what = f"bit select [{k}] of scalar '{info.base}'"
+            what = f"bit select [{number_text(k)}] of scalar '{info.base}'"
         elif k in info.indices:
             return info.bit(k)
         else:
-            what = f"bit [{k}] is out of the range of '{info.base}'"
+            what = f"bit [{number_text(k)}] is out of the range of '{info.base}'"
         if env is None:
             raise ElaborationError(what, *where(loc), construct=expr_text(e))
         effect = "the write is ignored" if writing else "read as 0"
@@ -497,6 +503,8 @@ class ExpressionElaborator:
                 for n in self._part_names(info, a, b, scope, loc, env, e)]
 
     def _part_names(self, info, a, b, scope, loc, env, e, writing=False):
+        _limits.check("vector_width", abs(b - a) + 1, f"the part select '{expr_text(e)[:60]}'",
+                      where(loc))
         step = 1 if b >= a else -1
         return [self.bit_name(info, i, scope, loc, env, e, writing)
                 for i in range(a, b + step, step)]
@@ -532,6 +540,8 @@ class ExpressionElaborator:
                 start = self.const(final[2], scope, loc)
                 w = self.const(final[3], scope, loc)
                 lo, hi = (start, start + w - 1) if final[4] == "+" else (start - w + 1, start)
+            _limits.check("vector_width", hi - lo + 1, f"the part select of '{name[:60]}'",
+                          where(loc))
             return [C1 if (v >> i) & 1 else C0 for i in range(lo, hi + 1)]
         if len(idxs) != 1:
             raise ElaborationError(f"'{expr_text(e)}' selects from a parameter", *where(loc),

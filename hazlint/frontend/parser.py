@@ -19,20 +19,21 @@ Grammar additions and repairs over :class:`pyverilog.vparser.parser.VerilogParse
   ``integer`` arrays and ``output integer`` ports (:mod:`hazlint.frontend.grammar_tasks`);
 * the stock ``p_declassign_element_delay`` and ``p_integerdecl_signed`` index bugs are fixed.
 
-LALR tables are generated once per grammar signature and kept as JSON in the per-user cache
-directory (``platformdirs.user_cache_dir("hazlint")/parser``), written atomically; nothing is
-written to the working directory and no pickle is used. If the cache is unwritable the tables
-are built in memory.
+LALR tables are generated once per grammar signature and kept as a JSON entry of the hazlint
+cache (:class:`hazlint.cache.ParseCache`, namespace ``parser``) under the same folder as every
+other entry (``--cache-dir``, ``cache_dir``, ``HAZLINT_CACHE_DIR``, else the per-user cache
+folder), with its key and digest checked like any entry; nothing is written to the working
+directory and no pickle is used. Tables read back are validated (every state, action, goto and
+production refers to something that exists) and rebuilt when they are not valid. With
+``tables=False`` (``--no-cache``) or an unusable cache folder they are built in memory.
 """
 from __future__ import annotations
 
 import ast as pyast
 import hashlib
 import inspect
-import json
 import os
 import re
-import tempfile
 import textwrap
 import types
 
@@ -281,40 +282,50 @@ class HzParser(TaskFunctionGrammar, VerilogParser):
     p_task_calc = p_task_statement = p_taskvardecl = None
     p_taskvardecls = p_taskvardecls_empty = p_taskvardecls_one = None
 
-    def __init__(self, tables_module=None, write_tables=True):
+    def __init__(self, tables_module=None, write_tables=True, tables=None):
         self.lexer = HzLexer()
         self.lexer.build()
         self.tokens = self.lexer.tokens
         self.tables_source = None
         self.tables_path = None
-        self._build(write_tables)
+        self._build(tables if write_tables else False)
 
     # ------------------------------------------------------------------ tables
-    def _build(self, write_tables):
+    def _build(self, tables):
+        """Load the LALR tables from ``tables`` (a cache with ``load``/``store``/``discard``;
+        None: the default cache folder; False: none), else generate them (and store them)."""
         pdict = {k: getattr(self, k) for k in dir(self)}
         pdict["__file__"] = __file__
         reflect = yacc.ParserReflect(pdict, log=yacc.NullLogger())
         reflect.get_all()
         signature = reflect.signature()
         key = hashlib.sha256("\0".join([__version__, ply.__version__, yacc.__tabversion__,
-                                        signature]).encode()).hexdigest()[:20]
-        path = None
-        if write_tables:
-            path = _table_path(key)
-        tabmod = _load_tables(path, signature) if path else None
-        if tabmod is None:
-            tabmod = types.ModuleType("hazlint_parsetab_missing")
-            tabmod._tabversion = "none"
-        self.parser = yacc.yacc(module=self, method="LALR", tabmodule=tabmod, debug=False,
-                                write_tables=False, optimize=False, outputdir=_HERE,
-                                errorlog=yacc.NullLogger(), start=self.start)
-        if getattr(tabmod, "_lr_action", None) is self.parser.action:
+                                        signature]).encode()).hexdigest()
+        store = _table_store(tables)
+        tabmod = None
+        if store is not None:
+            try:
+                tabmod = _tables_module(store.load(key), signature, pdict)
+            except Exception:          # a broken cache never stops a run
+                tabmod = None
+            if tabmod is None:
+                store.discard(key)
+        try:
+            self.parser = _yacc(self, tabmod)
+        except Exception:
+            if tabmod is None:
+                raise
+            store.discard(key)         # valid-looking tables that ply cannot use: rebuild
+            tabmod = None
+            self.parser = _yacc(self, None)
+        if tabmod is not None and tabmod._lr_action is self.parser.action:
             self.tables_source = "cache"
         else:
             self.tables_source = "generated"
-            if path:
-                _store_tables(path, self.parser, signature)
-        self.tables_path = path
+            if store is not None:
+                store.store(key, _tables_data(self.parser, signature))
+        if store is not None:
+            self.tables_path = str(store._entry_path(key))
 
     # ------------------------------------------------------------------ parsing
     def parse(self, text, debug=0):
@@ -1114,43 +1125,77 @@ del _generated
 # ---------------------------------------------------------------------------------------------
 # table cache
 
-def _cache_dir() -> str:
-    import platformdirs
-    return os.path.join(platformdirs.user_cache_dir("hazlint"), "parser")
-
-
-def _table_path(key: str) -> str | None:
-    d = _cache_dir()
-    try:
-        os.makedirs(d, exist_ok=True)
-    except OSError:
+def _table_store(tables):
+    """The cache the tables live in: ``tables`` itself, the default cache folder (None) or
+    none (False, or a cache folder hazlint may not use)."""
+    if tables is False:
         return None
-    if not os.access(d, os.W_OK | os.X_OK):
-        path = os.path.join(d, f"verilog-{key}.json")
-        return path if os.path.exists(path) else None
-    return os.path.join(d, f"verilog-{key}.json")
+    if tables is not None:
+        return tables
+    from ..cache import open_cache
+    return open_cache(namespace="parser", version=f"{__version__}+tables")
 
 
-def _load_tables(path: str, signature: str):
-    try:
-        with open(path, "r", encoding="utf-8") as fh:
-            data = json.load(fh)
-    except (OSError, ValueError):
+def _yacc(module, tabmod):
+    if tabmod is None:
+        tabmod = types.ModuleType("hazlint_parsetab_missing")
+        tabmod._tabversion = "none"
+    return yacc.yacc(module=module, method="LALR", tabmodule=tabmod, debug=False,
+                     write_tables=False, optimize=False, outputdir=_HERE,
+                     errorlog=yacc.NullLogger(), start=module.start)
+
+
+def _tables_module(data, signature: str, pdict: dict):
+    """The tables of a cache entry as the module ply reads, or None when they are not valid
+    for this grammar: other version or signature, or any state, action, goto or production
+    that refers to something that does not exist (a corrupted entry must cost a rebuild,
+    never a crash)."""
+    if not isinstance(data, dict) or data.get("signature") != signature \
+            or data.get("tabversion") != yacc.__tabversion__ or data.get("method") != "LALR":
         return None
-    if data.get("signature") != signature or data.get("tabversion") != yacc.__tabversion__:
+    prods, action, goto = data.get("productions"), data.get("action"), data.get("goto")
+    if not (isinstance(prods, list) and isinstance(action, list) and isinstance(goto, list)
+            and prods and action):
+        return None
+    for pr in prods:
+        if not (isinstance(pr, list) and len(pr) == 6 and isinstance(pr[0], str)
+                and isinstance(pr[1], str) and type(pr[2]) is int and pr[2] >= 0
+                and (pr[3] is None or isinstance(pr[3], str) and callable(pdict.get(pr[3])))
+                and isinstance(pr[4], str) and type(pr[5]) is int):
+            return None
+    n_states, n_prods = len(action), len(prods)
+
+    def table(rows, ok):
+        out = {}
+        for row in rows:
+            if not (isinstance(row, list) and len(row) == 2 and type(row[0]) is int
+                    and 0 <= row[0] < n_states and row[0] not in out
+                    and isinstance(row[1], list)):
+                return None
+            entries = {}
+            for item in row[1]:
+                if not (isinstance(item, list) and len(item) == 2 and isinstance(item[0], str)
+                        and type(item[1]) is int and ok(item[1])):
+                    return None
+                entries[item[0]] = item[1]
+            out[row[0]] = entries
+        return out
+    act = table(action, lambda a: (0 < a < n_states) or (-n_prods < a <= 0))
+    got = table(goto, lambda g: 0 <= g < n_states)
+    if act is None or got is None or len(act) != n_states:
         return None
     mod = types.ModuleType("hazlint_parsetab")
     mod._tabversion = data["tabversion"]
     mod._lr_method = data["method"]
     mod._lr_signature = data["signature"]
-    mod._lr_action = {int(s): dict(acts) for s, acts in data["action"]}
-    mod._lr_goto = {int(s): dict(g) for s, g in data["goto"]}
-    mod._lr_productions = [tuple(p) for p in data["productions"]]
+    mod._lr_action = act
+    mod._lr_goto = got
+    mod._lr_productions = [tuple(p) for p in prods]
     return mod
 
 
-def _store_tables(path: str, parser, signature: str) -> None:
-    data = {
+def _tables_data(parser, signature: str) -> dict:
+    return {
         "tabversion": yacc.__tabversion__,
         "method": "LALR",
         "signature": signature,
@@ -1159,24 +1204,15 @@ def _store_tables(path: str, parser, signature: str) -> None:
         "productions": [[pr.str, pr.name, pr.len, pr.func, os.path.basename(pr.file or ""),
                          pr.line] for pr in parser.productions],
     }
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=".verilog-", suffix=".tmp", dir=os.path.dirname(path))
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            json.dump(data, fh, separators=(",", ":"))
-        os.replace(tmp, path)
-    except OSError:
-        try:
-            os.unlink(tmp)
-        except (OSError, UnboundLocalError):
-            pass
 
 
 _PARSER: HzParser | None = None
 
 
-def get_parser() -> HzParser:
-    """The process-wide parser (tables loaded from the user cache or built once)."""
+def get_parser(tables=None) -> HzParser:
+    """The process-wide parser, built once: its tables come from ``tables`` (a cache; None:
+    the default cache folder; False: built in memory, nothing read or written)."""
     global _PARSER
     if _PARSER is None:
-        _PARSER = HzParser()
+        _PARSER = HzParser(tables=tables)
     return _PARSER

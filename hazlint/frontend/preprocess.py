@@ -22,10 +22,13 @@ from __future__ import annotations
 import hashlib
 import os
 import re
+import stat
 from array import array
 from bisect import bisect_right
 from dataclasses import dataclass, field
 
+from .. import budget as _budget
+from .. import limits as _limits
 from ..errors import ParseError
 
 MAX_INCLUDE_DEPTH = 40
@@ -141,18 +144,51 @@ def read_text(path: str, texts: dict | None = None) -> str:
             if key in texts:
                 return texts[key]
     try:
-        with open(path, "rb") as fh:
+        # without blocking at open (a FIFO must not hang the run), and only a regular file
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+    except OSError as exc:
+        raise ParseError(f"cannot read file: {exc.strerror}", path=path) from None
+    except ValueError:                     # a NUL in the name
+        raise ParseError("cannot read file: the name holds a NUL character",
+                         path=path.replace("\0", "\\0")) from None
+    try:
+        st = os.fstat(fd)
+        if stat.S_ISDIR(st.st_mode):
+            raise ParseError("cannot read file: is a directory", path=path)
+        if not stat.S_ISREG(st.st_mode):
+            raise ParseError("cannot read file: not a regular file", path=path)
+        if hasattr(os, "set_blocking"):
+            os.set_blocking(fd, True)
+        with os.fdopen(fd, "rb") as fh:
+            fd = -1
             data = fh.read()
     except OSError as exc:
         raise ParseError(f"cannot read file: {exc.strerror}", path=path) from None
+    finally:
+        if fd >= 0:
+            os.close(fd)
     return data.decode("utf-8", "surrogateescape")
+
+
+def repository_root(path: str) -> str | None:
+    """The top folder of the version-control checkout holding ``path`` (the nearest folder
+    upward with a ``.git`` entry), or None."""
+    d = os.path.dirname(os.path.realpath(path))
+    while True:
+        if os.path.exists(os.path.join(d, ".git")):
+            return d
+        parent = os.path.dirname(d)
+        if parent == d:
+            return None
+        d = parent
 
 
 class Preprocessor:
     def __init__(self, include_dirs=(), defines: dict | None = None, root: str | None = None,
                  texts: dict | None = None):
         self.include_dirs = [os.path.abspath(d) for d in include_dirs]
-        # without a root, the directory of each main file is the root for its includes
+        # without a root, the repository holding each main file (else its folder) is the root
+        # for its includes; never the working directory
         self.root = os.path.realpath(root) if root else None
         self._dirs_real = [os.path.realpath(d) for d in self.include_dirs]
         self.texts = {os.path.abspath(k): v for k, v in (texts or {}).items()}
@@ -172,14 +208,20 @@ class Preprocessor:
         self.digests = {path: digest_text(text)}
         self.notes: list = []
         self._stack: list[str] = [os.path.realpath(path)]
-        root = self.root or os.path.dirname(self._stack[0])
+        root = self.root or repository_root(path) or os.path.dirname(self._stack[0])
         self._allowed = [root] + self._dirs_real
+        self._include_count = 0
+        self._include_texts: dict[str, str] = {}
+        self._expansion_left = _limits.current().macro_expansion
         self._process(path, text)
         return PreprocessResult("\n".join(self.out) + "\n", self.lmap, self.state,
                                 self.includes, self.digests, self.notes)
 
     # ------------------------------------------------------------------------------------------
     def _process(self, path: str, text: str) -> None:
+        _budget.check_loading("reading the sources", path, 1)
+        if text.startswith("\ufeff"):
+            text = text[1:]            # a UTF-8 byte-order mark: not part of the source
         lines = text.split("\n")
         if lines and lines[-1] == "":
             lines.pop()
@@ -341,7 +383,10 @@ class Preprocessor:
                     if not a:
                         self._error('malformed `line (expected `line N "file" level)', path,
                                     lineno, line[m.start():].strip())
-                    map_path = a.group(2)
+                    if int(a.group(1)) < 1 or len(a.group(1)) > 9:
+                        self._error("`line needs a line number from 1 to 999999999", path,
+                                    lineno, line[m.start():].strip())
+                    map_path = a.group(2) or map_path
                     line_delta = int(a.group(1)) - (lineno + 1)
                     pos = a.end()
                 elif name in _SKIPPED:
@@ -351,7 +396,9 @@ class Preprocessor:
                     pos = rest_at
                 elif name in self.macros:
                     body, pos, used = self._use_macro(name, path, lines, i + consumed, rest_at)
-                    parts.append(self._expand_text(body, path, lineno, 1, {name}))
+                    done = self._expand_text(body, path, lineno, 1, {name}, {})
+                    self._expansion_left -= len(done)
+                    parts.append(done)
                     if used:
                         # arguments spanned lines: go on with the tail of the last one
                         consumed += used
@@ -453,20 +500,29 @@ class Preprocessor:
                 self._error(f"unterminated argument list of macro `{name}", path, i + 1,
                             "`" + name)
 
-    def _expand_text(self, text: str, path: str, lineno: int, depth: int, active: set) -> str:
-        """Rescan an expansion for further macro uses (on one line)."""
+    def _expand_text(self, text: str, path: str, lineno: int, depth: int, active: set,
+                     memo: dict) -> str:
+        """Rescan an expansion for further macro uses (on one line). ``memo`` keeps the
+        expansion of each object-like macro of this use: it does not depend on where it
+        appears, so a macro used many times is expanded once (a definition that doubles at
+        every level costs its output size, not its call tree)."""
+        if len(text) > self._expansion_left:
+            self._too_much(path, lineno, text)
         if "`" not in text:
             return text
         if depth > MAX_MACRO_DEPTH:
             self._error("macro expansion nested too deeply (recursive macro?)", path, lineno,
                         text[:40])
-        out, pos = [], 0
+        out, pos, size = [], 0, 0
         pat = re.compile(r'"(?:[^"\\\n]|\\.)*"|`(' + _IDENT + r")")
         while True:
             m = pat.search(text, pos)
-            if m is None:
-                out.append(text[pos:])
-                return "".join(out)
+            if m is None or size > self._expansion_left:
+                out.append(text[pos:] if m is None else "")
+                done = "".join(out)
+                if len(done) > self._expansion_left:
+                    self._too_much(path, lineno, text)
+                return done
             out.append(text[pos:m.start()])
             name = m.group(1)
             if name is None:
@@ -483,7 +539,14 @@ class Preprocessor:
                 self._error(f"recursive macro `{name}", path, lineno, "`" + name)
             macro = self.macros[name]
             if macro.params is None:
-                body, pos = macro.body, m.end()
+                pos = m.end()
+                done = memo.get(name)
+                if done is None:
+                    done = memo[name] = self._expand_text(macro.body, path, lineno, depth + 1,
+                                                          active | {name}, memo)
+                out.append(done)
+                size += len(done)
+                continue
             else:
                 args, _, end = self._collect_args(name, path, [text], 0, m.end())
                 if len(args) == 1 and args[0].strip() == "" and not macro.params:
@@ -492,7 +555,15 @@ class Preprocessor:
                     self._error(f"macro `{name} takes {len(macro.params)} argument(s), got "
                                 f"{len(args)}", path, lineno, "`" + name)
                 body, pos = _substitute(macro, [a.strip() for a in args]), end
-            out.append(self._expand_text(body, path, lineno, depth + 1, active | {name}))
+            done = self._expand_text(body, path, lineno, depth + 1, active | {name}, memo)
+            out.append(done)
+            size += len(done)
+
+    @staticmethod
+    def _too_much(path, lineno, text):
+        raise _limits.LimitExceeded("macro_expansion", "the text produced by macro expansion "
+                                    "while reading this file", path=path, line=lineno,
+                                    construct=text[:40])
 
     def _include(self, path: str, lineno: int, target: str) -> None:
         if len(self._stack) > MAX_INCLUDE_DEPTH:
@@ -518,7 +589,14 @@ class Preprocessor:
                         "and every include directory", path, lineno, target)
         if real in self._stack:
             self._error(f'recursive include of "{target}"', path, lineno, target)
-        text = read_text(found, self.texts)
+        self._include_count += 1
+        if self._include_count > _limits.current().include_fanout:
+            raise _limits.LimitExceeded("include_fanout", "the number of `include directives "
+                                        "followed for this file", path=path, line=lineno,
+                                        construct=target[:60])
+        text = self._include_texts.get(found)
+        if text is None:
+            text = self._include_texts[found] = read_text(found, self.texts)
         rel = found
         if rel not in self.digests:
             self.digests[rel] = digest_text(text)

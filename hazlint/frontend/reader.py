@@ -30,23 +30,23 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
                  root: str | None = None, jobs: int = 1, cache=None,
                  texts: dict[str, str] = None,
                  progress: Callable[[int, int, str], None] | None = None,
-                 tolerant: bool = False) -> list[ir.SourceFile]:
+                 tolerant: bool = False, tables=None) -> list[ir.SourceFile]:
     """Read ``paths`` into IR, one :class:`ir.SourceFile` per path, in input order.
 
     ``texts`` overrides file contents by path (unsaved editor buffers, includes too);
     ``cache`` is an object with ``load(key) -> dict | None`` and ``store(key, dict)``;
     ``jobs > 1`` parses in worker processes; ``progress(done, total, path)`` is called once per
-    file; ``root`` bounds where includes may resolve (default: the common directory of the
-    inputs). Errors are :class:`~hazlint.errors.ParseError` with the original file:line; with
-    ``tolerant`` a file that cannot be read comes back without modules and with its error in
-    ``SourceFile.error`` (the elaborator decides whether the design needs it).
+    file; ``root`` bounds where includes may resolve (default, per input file: the repository
+    holding it, else its folder; never the working directory); ``tables``: where the parser
+    keeps its tables (see :func:`~hazlint.frontend.parser.get_parser`; False: built in memory,
+    nothing written). Errors are :class:`~hazlint.errors.ParseError` with the original
+    file:line; with ``tolerant`` a file that cannot be read comes back without modules and
+    with its error in ``SourceFile.error`` (the elaborator decides whether the design needs it).
     """
     paths = [os.fspath(p) for p in paths]
     include_dirs = [os.fspath(d) for d in include_dirs]
     defines = dict(defines or {})
     texts = {os.path.abspath(k): v for k, v in (texts or {}).items()}
-    if root is None:
-        root = _default_root(paths)
     total = len(paths)
     results: list = [None] * total
     keys: list = [None] * total
@@ -64,7 +64,7 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
                     progress(done, total, path)
                 continue
         todo.append(i)
-    config = (include_dirs, defines, root, texts)
+    config = (include_dirs, defines, root, texts, tables)
     if jobs > 1 and len(todo) > 1:
         from concurrent.futures import ProcessPoolExecutor, as_completed
         with ProcessPoolExecutor(max_workers=min(jobs, len(todo))) as pool:
@@ -87,7 +87,7 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
     else:
         for i in todo:
             try:
-                results[i] = read_one(paths[i], include_dirs, defines, root, texts)
+                results[i] = read_one(paths[i], include_dirs, defines, root, texts, tables)
             except HazlintError as exc:
                 if not tolerant:
                     raise
@@ -129,7 +129,8 @@ def _unread(path: str, err: dict, texts) -> ir.SourceFile:
                                                modules=names))
 
 
-def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) -> ir.SourceFile:
+def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None,
+             tables=None) -> ir.SourceFile:
     """Preprocess, parse and build the IR of one file."""
     # the AST and IR are acyclic and all stay alive until the end: cyclic GC passes over
     # hundreds of thousands of young objects would only cost time
@@ -137,19 +138,31 @@ def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) ->
         gc_was_enabled = gc.isenabled()
         gc.disable()
         try:
-            return _read_one(path, include_dirs, defines, root, texts)
+            return _read_one(path, include_dirs, defines, root, texts, tables)
         finally:
             if gc_was_enabled:
                 gc.enable()
 
 
-def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
+def _read_one(path, include_dirs, defines, root, texts, tables=None) -> ir.SourceFile:
     pre = Preprocessor(include_dirs, defines, root, texts).run(path)
-    parser = get_parser()
+    if _no_tokens(pre.text):
+        # nothing but blanks and comments: a file with no description (legal, and empty)
+        return ir.SourceFile(path=path, modules=[], primitives=[],
+                             notes=[(ir.Loc(p, n), msg) for p, n, msg in pre.notes],
+                             includes=list(pre.includes),
+                             digest=_combined_digest(pre.digests, path))
+    parser = get_parser(tables)
     try:
         ast = parser.parse(pre.text)
     except SyntaxErr as exc:
         file, line = pre.line_map.lookup(exc.lineno or 1)
+        if not file:
+            file, line = path, 1
+        if exc.construct == "EOF":
+            # the input ended early: that is the end of the file being read, not of the last
+            # file it included
+            file, line = path, max(1, read_text(path, texts).rstrip().count("\n") + 1)
         col = None
         if exc.lexpos is not None:
             col = exc.lexpos - (pre.text.rfind("\n", 0, exc.lexpos) + 1) + 1
@@ -157,7 +170,7 @@ def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
         if exc.construct and exc.construct != "EOF":
             msg = f"{msg} near '{exc.construct}'"
         raise ParseError(msg, path=file, line=line, column=col,
-                         construct=exc.construct) from None
+                         construct=exc.construct if exc.construct != "EOF" else None) from None
     except RecursionError:
         raise ParseError("input nested too deeply to parse", path=path) from None
     try:
@@ -176,14 +189,28 @@ def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
 
 # ---------------------------------------------------------------------------------------------
 
-def _default_root(paths) -> str:
-    dirs = [os.path.dirname(os.path.abspath(p)) for p in paths]
-    if not dirs:
-        return os.getcwd()
-    try:
-        return os.path.commonpath(dirs)
-    except ValueError:
-        return os.getcwd()
+_BLANKS = re.compile(r"\s*")
+
+
+def _no_tokens(text: str) -> bool:
+    """Whether ``text`` holds nothing but blanks and comments (one linear scan)."""
+    i, n = 0, len(text)
+    while True:
+        i = _BLANKS.match(text, i).end()
+        if i >= n:
+            return True
+        if text.startswith("//", i):
+            j = text.find("\n", i)
+            if j < 0:
+                return True
+            i = j
+        elif text.startswith("/*", i):
+            j = text.find("*/", i + 2)
+            if j < 0:
+                return False          # an open comment: the parser says where
+            i = j + 2
+        else:
+            return False
 
 
 def _combined_digest(digests: dict, path: str) -> str:
@@ -251,9 +278,9 @@ def _to_cache(cache, key, sf: ir.SourceFile, texts) -> None:
 
 
 def _worker(path, config):
-    include_dirs, defines, root, texts = config
+    include_dirs, defines, root, texts, tables = config
     try:
-        return ("ok", ir.to_json(read_one(path, include_dirs, defines, root, texts)))
+        return ("ok", ir.to_json(read_one(path, include_dirs, defines, root, texts, tables)))
     except HazlintError as exc:
         return ("error", {"message": exc.message, "path": exc.path, "line": exc.line,
                           "column": exc.column, "construct": exc.construct})
