@@ -143,6 +143,8 @@ class Elaborator:
         self.declared: set[str] = set()        # user-declared net bit names
         self.port_bits_top: dict[str, str] = {}
         self.port_attrs: dict[str, dict] = {}
+        # declarations carrying hazlint_* attributes: (name, bits, attributes, location)
+        self.attr_decls: list[tuple[str, list[str], dict, ir.Loc | None]] = []
         self.latch_paths: list[tuple[str, str, str]] = []
         self.blackbox_cells_warned: set[str] = set()
         self.blackbox_pins: set[str] = set()    # net bits connected to black-box pins
@@ -330,7 +332,14 @@ class Elaborator:
                 self._set_param(scope, it, named)
         for pname, port in m.ports.items():
             self.declare(scope, pname, port.width, port.net_type, port.signed, port.loc)
+            if port.attrs and is_top:
+                self._note_attrs(scope, pname, port.attrs, port.loc)
         self.elab_items(scope, m.items, depth, declare_only_params=False)
+
+    def _note_attrs(self, scope: Scope, name: str, attrs: dict, loc) -> None:
+        if any(str(k).startswith("hazlint_") for k in attrs):
+            self.attr_decls.append((self.rel(scope, name), scope.nets[name].bits(), dict(attrs),
+                                    loc))
 
     def _set_param(self, scope: Scope, p: ir.Param, named: Mapping[str, Any]) -> None:
         expr = named.get(p.name) if not p.local else None
@@ -395,6 +404,7 @@ class Elaborator:
                 if it.attrs:
                     for b in scope.nets[it.name].bits():
                         self.port_attrs.setdefault(b, {}).update(it.attrs)
+                    self._note_attrs(scope, it.name, it.attrs, it.loc)
             elif isinstance(it, ir.Param) and scope.parent is not None:
                 self._set_param(scope, it, {})
         for it in items:
@@ -794,15 +804,16 @@ class Elaborator:
             return a
         if c == C0:
             return b
-        nc = self.gate(scope, "not", [c], loc)
+        # one atomic mux node per bit (see hazlint.analysis.cellmodel): `?:`, if/else and a
+        # mux cell get the same verdict
         out = []
         for x, y in zip(a, b):
-            if x == y:
-                out.append(x)
-                continue
-            t = self.gate(scope, "and", [c, x], loc)
-            f = self.gate(scope, "and", [nc, y], loc)
-            out.append(self.gate(scope, "or", [t, f], loc))
+            if x == y or (x, y) == (C1, C0):
+                out.append(x if x == y else c)
+            elif (x, y) == (C0, C1):
+                out.append(self.gate(scope, "not", [c], loc))
+            else:
+                out.append(self.gate(scope, "mux", [c, x, y], loc))
         return out
 
     def adder(self, scope, a, b, loc, subtract=False):
@@ -1764,6 +1775,9 @@ class Elaborator:
             output_node={s["port"]: s["id"] for s in self.sinks if s["role"] == "output"},
             latch_paths=self.latch_paths,
             port_attrs={b: a for b, a in self.port_attrs.items() if b in port_set},
+            attr_decls=[{"name": name, "nodes": [rep.get(find(b)) for b in bits], "attrs": attrs,
+                         "path": loc.path if loc else "", "line": loc.line if loc else 0}
+                        for name, bits, attrs, loc in self.attr_decls],
         )
         # registers refer to sink ids (stable) and state node ids (merged-net names)
         for r in self.registers:

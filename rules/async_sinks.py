@@ -58,7 +58,7 @@ def cone_report(context, sink: str):
     g = context.graph
     gates, sources = context.fanin_cone(sink)
     quiet = {s for s in sources
-             if s in context.quiet_inputs or g.nodes[s]["kind"] == "const"}
+             if s in context.quiet_sources or g.nodes[s]["kind"] == "const"}
     toggling = sources - quiet
     members = gates | sources
     reads: dict[str, int] = {}

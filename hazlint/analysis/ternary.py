@@ -32,6 +32,7 @@ import networkx as nx
 
 from ..graph import SOURCE_KINDS
 from ..logic import op_as_expr
+from .cellmodel import atomic_ternary, atomic_transient, is_atomic_candidate, node_expr
 
 # ---------------------------------------------------------------------------------------------
 # Boolean algebras (explicit bit-parallel ints here; BDD and CNF builders elsewhere)
@@ -101,8 +102,8 @@ def bool_gate(A, op: str, ins: Sequence, expr=None):
 
 
 def ternary_gate(A, op: str, ins: Sequence[tuple], expr=None) -> tuple:
-    """Dual-rail ternary value ``(c0, c1)`` of a gate (the ternary extension for primitives;
-    structural for mux and expression cells, so hazards inside a complex cell are seen)."""
+    """Dual-rail ternary value ``(c0, c1)`` of a gate: the ternary extension of its function
+    (every node is atomic, see :mod:`hazlint.analysis.cellmodel`)."""
     if op in ("and", "nand"):
         c0 = A.or_(*(i[0] for i in ins))
         c1 = A.and_(*(i[1] for i in ins))
@@ -134,6 +135,8 @@ def ternary_gate(A, op: str, ins: Sequence[tuple], expr=None) -> tuple:
             d0, d1 = d1, d0
         # enabled: data; may be disabled (Z): X
         return (A.or_(A.and_(e1, d0), e0), A.or_(A.and_(e1, d1), e0))
+    if is_atomic_candidate(op, len(ins)):
+        return atomic_ternary(A, node_expr(op, len(ins), expr), ins)
     return _expr_eval(A, _structural(op, len(ins), expr), ins, ternary_gate)
 
 
@@ -179,6 +182,8 @@ def transient_gate(A, op: str, ins: Sequence[tuple], expr=None) -> tuple:
              "notif1": ("and", ("not", ("in", 0)), ("in", 1)),
              "notif0": ("and", ("not", ("in", 0)), ("not", ("in", 1)))}[op]
         return _expr_eval(A, e, ins, transient_gate)
+    if is_atomic_candidate(op, len(ins)):
+        return atomic_transient(A, node_expr(op, len(ins), expr), ins)
     return _expr_eval(A, _structural(op, len(ins), expr), ins, transient_gate)
 
 
