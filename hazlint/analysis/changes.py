@@ -30,6 +30,7 @@ attribute are input errors naming the configuration line or the source line.
 from __future__ import annotations
 
 import fnmatch
+import os
 import re
 from dataclasses import dataclass, field
 from typing import Any, Iterable, Mapping, Sequence
@@ -153,19 +154,20 @@ class SinkModel:
             return "no source of the cone can change (all quasi-static or constant)"
         if n == 1:
             text = f"changes of its only source {label(self.sources[0])}"
+        elif n == 2:
+            text = "single changes of both sources" + (
+                " and changes of both together" if top >= 2 else "")
         else:
-            parts = [f"single changes of all {n} sources"]
-            if top >= 2:
-                parts.append("changes of every pair")
-            if top >= 3:
-                if top == n:
-                    parts.append("of every larger set" if n > 3 else "of all 3 together")
-                else:
-                    parts.append(f"of every set of up to {top}")
-            text = parts[0] + (" and " + ", ".join(parts[1:]) if len(parts) > 1 else "")
-        cons = self.constraint_text(label)
-        if cons:
-            text += " the model allows (" + "; ".join(cons) + ")"
+            text = f"single changes of all {n} sources"
+            if top == 2:
+                text += " and changes of every pair"
+            elif top == n:
+                text += (", changes of every pair and of all 3 together" if n == 3 else
+                         ", changes of every pair and of every larger set")
+            elif top > 2:
+                text += f", changes of every pair and of every set of up to {top}"
+        if self.groups:
+            text += " the model allows"
         if bound is not None and bound < self.max_changes:
             text += (f"; transitions of more than {bound} sources were not examined (option "
                      "max_changes)")
@@ -261,6 +263,14 @@ def build_change_model(design, config=None) -> ChangeModel:
     names = _named_sources(design)
     sync = list(getattr(config, "sync_inputs", []) or [])
     cfg_path = getattr(config, "path", None)
+    root = getattr(config, "root", None)
+
+    def shown(path: str) -> str:
+        """A declaration's path as reports print it: relative to the project root inside it."""
+        if not root or not path:
+            return path or ""
+        rel = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
+        return path if rel.startswith("..") else rel.replace(os.sep, "/")
     lines = getattr(config, "key_lines", {}) or {}
 
     def cfg_err(key):
@@ -280,7 +290,7 @@ def build_change_model(design, config=None) -> ChangeModel:
         if key in seen_decl:
             continue
         seen_decl.add(key)
-        where = f"{decl['path']}:{decl['line']}" if decl.get("path") else ""
+        where = f"{shown(decl['path'])}:{decl['line']}" if decl.get("path") else ""
 
         def src_err(msg, decl=decl):
             return ElaborationError(msg, path=decl.get("path") or None,
@@ -314,7 +324,7 @@ def build_change_model(design, config=None) -> ChangeModel:
             err = cfg_err(key)
             pats = [pats] if isinstance(pats, str) else list(pats)
             members = _resolve(pats, names, err)
-            where = f"{cfg_path}:{lines.get(key)}" if cfg_path and lines.get(key) else ""
+            where = f"{shown(cfg_path)}:{lines.get(key)}" if cfg_path and lines.get(key) else ""
             groups.append(Group(str(gname), kind, tuple(members), where))
     return ChangeModel(quiet=frozenset(quiet), groups=tuple(groups),
                        labels=source_labels(design))

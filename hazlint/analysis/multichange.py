@@ -35,12 +35,13 @@ every machine); past it the question is "inconclusive" with the reason.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any, Mapping, Sequence
 
 from ..graph import SOURCE_KINDS
+from .cellmodel import MODEL_TEXT
 from .changes import ChangeModel, SinkModel
-from .symbolic import BACKEND, Budget, BDDAlgebra
+from .symbolic import BACKEND, Budget, BDDAlgebra, HazardProof, new_manager
 from .ternary import (HAZARD_KINDS, CyclicCone, bool_gate, cone, free_sources, function_hazard,
                       hazard_planes, propagate)
 
@@ -100,25 +101,97 @@ class SinkVerdict:
             return "inconclusive"
         return "hazard-free"
 
-    def best(self) -> tuple[str, Found] | None:
-        """The hazard to show: fewest changing sources, then a logic hazard before a function
-        hazard, then static-1, static-0, dynamic."""
+    def best(self) -> tuple[str, str, Found] | None:
+        """The hazard to show as (kind, question, witness): fewest changing sources, then a
+        logic hazard before a function hazard, then static-1, static-0, dynamic."""
         cands = []
         for r, k in enumerate(HAZARD_KINDS):
             q = self.kinds.get(k, {})
             for pref, name in ((0, "logic"), (1, "function"), (2, "any")):
                 f = q.get(name)
                 if f is not None and f.status == "present":
-                    cands.append((f.size or 0, pref, r, k, f))
+                    cands.append((f.size or 0, pref, r, k, name, f))
         if not cands:
             return None
         cands.sort(key=lambda x: x[:3])
-        return cands[0][3], cands[0][4]
+        return cands[0][3], cands[0][4], cands[0][5]
 
-    def to_json(self) -> dict[str, Any]:
+    def hazard_proofs(self) -> dict[str, HazardProof]:
+        """Per kind, the "any hazard" answer in the prover's proof form (the witness holds the
+        values of the sources that do not change)."""
+        out = {}
+        for k in HAZARD_KINDS:
+            q = self.kinds.get(k)
+            if q is None:
+                continue
+            f = q["any"]
+            held = None
+            if f.before is not None:
+                held = {n: v for n, v in f.before.items() if f.after.get(n) == v}
+            fh = {"present": True, "absent": False}.get(q["function"].status) \
+                if f.status == "present" else None
+            if fh and q["logic"].status == "present" and q["logic"].size == f.size:
+                fh = False
+            out[k] = HazardProof(k, f.status, witness=held, method=self.method,
+                                 reason=f.reason or self.reason, function_hazard=fh)
+        return out
+
+    def proof_text(self, label) -> str:
+        """What was proven, over which transitions, by which engine."""
+        cover = self.model.proven_text(label, self.bound)
+        engine = {"bdd": "BDD", "sat": "SAT"}.get(self.method, self.method)
+        if self.status == "hazard-free":
+            if self.method == "structural":
+                return f"hazard-free: {self.reason}"
+            return f"{engine} over {cover} ({self.reason})"
+        if self.status == "inconclusive":
+            why = sorted({f.reason for q in self.kinds.values() for f in q.values()
+                          if f.status == "inconclusive" and f.reason})
+            if not self.complete and not why:
+                why = [f"hazard-free for transitions of up to {self.bound} sources; the model "
+                       f"allows up to {self.model.max_changes} (option max_changes)"]
+            return "; ".join(why) or self.reason
+        return f"{engine} over {cover} ({self.reason})"
+
+    def summary(self, label) -> list[str]:
+        """One line per hazard kind found: its function and logic hazards and their smallest
+        change sets."""
+        out = []
+        words = {"static-1-hazard": "static-1", "static-0-hazard": "static-0",
+                 "dynamic-hazard": "dynamic"}
+        for k in HAZARD_KINDS:
+            q = self.kinds.get(k)
+            if q is None or q["any"].status != "present":
+                continue
+            parts = []
+            for name in ("function", "logic"):
+                f = q[name]
+                if f.status == "present":
+                    moved = ", ".join(f"{label(n)} {'rises' if f.after[n] else 'falls'}"
+                                      for n in f.changed)
+                    parts.append(f"{name} hazard when {moved}")
+                elif f.status == "absent":
+                    parts.append(f"no {name} hazard")
+                else:
+                    parts.append(f"{name} hazard undecided ({f.reason})")
+            out.append(f"{words[k]}: " + "; ".join(parts))
+        return out
+
+    def to_json(self, label=None) -> dict[str, Any]:
+        """The verdict without the values of unchanged sources (those of the shown witness are
+        in the finding's witness)."""
+        label = label or (lambda n: n)
+
+        def found(f: Found):
+            d: dict[str, Any] = {"status": f.status}
+            if f.before is not None:
+                d["changes"] = {label(n): [f.before[n], f.after[n]] for n in f.changed}
+                d["minimal"] = f.minimal
+            if f.reason:
+                d["reason"] = f.reason
+            return d
         return {"status": self.status, "method": self.method, "bound": self.bound,
-                "kinds": {k: {q: f.to_json() for q, f in v.items()}
-                          for k, v in self.kinds.items()},
+                "kinds": {k: {q: found(f) for q, f in v.items()} for k, v in self.kinds.items()},
                 **({"reason": self.reason} if self.reason else {})}
 
 
@@ -265,7 +338,7 @@ def _at_most_bdd(A, lits, m: int):
 
 def _decide_bdd(graph, order, target, srcs, v: SinkVerdict, node_budget: int) -> SinkVerdict:
     sm = v.model
-    A = BDDAlgebra(_small_manager(), node_budget=node_budget)
+    A = BDDAlgebra(new_manager(64), node_budget=node_budget)
     va, vb = {}, {}
     z, y = [], []
     names: dict[str, tuple[str, str]] = {}
@@ -301,17 +374,8 @@ def _decide_bdd(graph, order, target, srcs, v: SinkVerdict, node_budget: int) ->
         if len(A.bdd) > node_budget:
             raise Budget(f"BDD exceeded {node_budget} nodes")
     v.method = "bdd"
-    v.reason = f"BDD over {len(sm.sources)} changing and {len(sm.quiet)} held sources ({BACKEND})"
+    v.reason = f"{len(sm.sources)} changing and {len(sm.quiet)} held sources; {BACKEND}"
     return v
-
-
-def _small_manager():
-    """A BDD manager sized for one sink's cone (CUDD's default allocation costs tens of
-    milliseconds, more than most cones need)."""
-    from .symbolic import _bdd_mod
-    if BACKEND == "cudd":
-        return _bdd_mod.BDD(memory_estimate=64 * 2 ** 20, initial_cache_size=2 ** 14)
-    return _bdd_mod.BDD()
 
 
 def _smallest_bdd(A, u, counts, names, care, sm) -> Found:
@@ -444,8 +508,8 @@ def _decide_sat(graph, order, target, srcs, v: SinkVerdict, conflict_budget: int
             v.kinds[k] = q
     v.method = "sat"
     why = f"{v.reason}; " if v.reason else ""
-    v.reason = (f"{why}SAT over {len(sm.sources)} changing and {len(sm.quiet)} held sources "
-                f"({spent['queries']} queries)")
+    v.reason = (f"{why}{len(sm.sources)} changing and {len(sm.quiet)} held sources; "
+                f"{spent['queries']} queries")
     return v
 
 
@@ -493,3 +557,54 @@ def witness_function_hazard(graph, order, target, found: Found) -> bool | None:
 def is_free_source(graph, n: str) -> bool:
     d = graph.nodes[n]
     return d["kind"] in SOURCE_KINDS and d["kind"] != "const"
+
+
+def with_change_model(diag, v: SinkVerdict, label, cell_model: str = "atomic"):
+    """The finding with the change model and the cell model it was proven under, in its
+    evidence and notes (right after the proof line)."""
+    ev = dict(diag.evidence)
+    cons = v.model.constraint_text(label)
+    ev["change_model"] = {
+        "sources": {label(n): v.model.labels.get(n, "any time") for n in v.model.sources},
+        "held": sorted(label(n) for n in v.model.quiet),
+        "constraints": cons, "max_changes": v.model.max_changes, "bound": v.bound,
+        "covered": v.model.proven_text(label, v.bound)}
+    ev["cell_model"] = cell_model
+    ev["sink_hazards"] = v.to_json(label)
+    lines = [f"change model: {v.model.sources_text(label) or 'no changing source'}"
+             + (f"; {'; '.join(cons)}" if cons else ""),
+             f"cell model: {MODEL_TEXT.get(cell_model, cell_model)}"]
+    summary = v.summary(label)
+    if summary:
+        lines.append("hazards over the model:")
+        lines += [f"  {x}" for x in summary]
+    notes = [t for t in diag.notes if not t.startswith("also possible for other transitions")]
+    at = next((i + 1 for i, t in enumerate(notes) if t.startswith("proof:")), None)
+    if at is None:
+        at = next((i + 1 for i, t in enumerate(notes)
+                   if t.startswith(("proven hazard-free", "hazard proof inconclusive"))),
+                  len(notes))
+    notes[at:at] = lines
+    return replace(diag, evidence=ev, notes=tuple(notes), fix=_fix(diag, v, label))
+
+
+def _fix(diag, v: SinkVerdict, label) -> str | None:
+    """A function hazard is the circuit's, not the logic's: say which sources must not change
+    together, and how to tell the tool when the circuit guarantees it."""
+    fh = None
+    for k in HAZARD_KINDS:
+        f = v.kinds.get(k, {}).get("function")
+        if f is not None and f.status == "present" and (fh is None or f.size < fh.size):
+            fh = f
+    if fh is None:
+        return diag.fix
+    names = [label(n) for n in fh.changed]
+    together = f"{', '.join(names[:-1])} and {names[-1]}" if len(names) > 1 else names[0]
+    text = (f"{together} changing together glitch this pin whatever the logic (a function "
+            "hazard): drive the pin from a register, or make the sources change one at a time; "
+            "if the circuit guarantees that, declare it (configuration one_at_a_time or "
+            "sync_inputs, or the attributes hazlint_one_at_a_time / hazlint_static)")
+    best = v.best()
+    if best is not None and best[1] != "function" and diag.fix:
+        return f"{diag.fix}; this removes the logic hazard only: {text}"
+    return text

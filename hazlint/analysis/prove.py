@@ -31,6 +31,8 @@ from .satcheck import sat_hazards
 from .ternary import (HAZARD_KINDS, CyclicCone, IntAlgebra, cone, free_sources, function_hazard,
                       hazard_planes, propagate, ternary_fixpoint, bool_gate, ternary_gate)
 from .timedsim import DelayAssignment, Glitch, replay, search_assignment, simulate
+from .changes import ChangeModel
+from .multichange import decide_sink, with_change_model, witness_function_hazard
 from .waves import timing_diagram
 
 DEFAULTS: dict[str, Any] = {
@@ -47,6 +49,9 @@ DEFAULTS: dict[str, Any] = {
     "batch_time": 120.0,         # seconds for the SAT part of a batched pass (0: no limit)
     "engine": "sat",             # batched pass: "sat" (one incremental solver) or "bdd" (a
                                  # shared BDD, then SAT past its budget)
+    "max_changes": 0,            # glitch-sensitive sinks: largest set of simultaneously
+                                 # changing sources examined (0: every set the model allows)
+    "engine_sources": 48,        # ... cones with more sources go to SAT without a BDD try
     "show_proven_absent": False,
     "waveforms": True,
     "seed": 0,
@@ -233,22 +238,8 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
         if p.function_hazard is None and sum(a != b for a, b in changes.values()) > 1:
             c.function_hazard = function_hazard(graph, order, target, c.before, c.after)
         c.reason = p.reason or p.method
-        if replay_glitch and not _nominal_reversed(graph, c, k, order):
-            asg, gl, how = search_assignment(graph, target, c.before, c.after, order,
-                                             trials=int(opts["search_trials"]),
-                                             event_budget=int(opts["search_events"]),
-                                             seed=int(opts["seed"]),
-                                             want_dynamic=k == "dynamic-hazard")
-            if asg is not None:
-                c.assignment, c.glitch, c.how = asg, gl, how
-                # a transport glitch that inertial gates also show is reported as inertial
-                if asg.mode == "transport":
-                    inert = DelayAssignment(asg.corner, asg.pins, asg.wires, "inertial")
-                    g2, _ = replay(graph, target, c.before, c.after, inert, watch=[target])
-                    if g2.occurs and len(g2.changes) >= (3 if k == "dynamic-hazard" else 2):
-                        c.assignment, c.glitch = inert, g2
-            else:
-                c.how = how
+        if replay_glitch:
+            replay_witness(graph, c, k, order, opts)
     else:
         inc = [p for p in proofs.values() if p.status == "inconclusive"]
         if inc:
@@ -257,6 +248,28 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
         else:
             c.reason = "; ".join(sorted({p.reason for p in proofs.values() if p.reason}))
     return c
+
+
+def replay_witness(graph, c: Classification, k: str, order, opts) -> None:
+    """Replay a proven hazard's witness in the timed simulator: the nominal delays (either
+    direction), then a search for a glitching assignment (skews between changing sources,
+    delay bounds, arbitrary wire delays)."""
+    if _nominal_reversed(graph, c, k, order):
+        return
+    asg, gl, how = search_assignment(graph, c.target, c.before, c.after, order,
+                                     trials=int(opts["search_trials"]),
+                                     event_budget=int(opts["search_events"]),
+                                     seed=int(opts["seed"]), want_dynamic=k == "dynamic-hazard")
+    if asg is None:
+        c.how = how
+        return
+    c.assignment, c.glitch, c.how = asg, gl, how
+    # a transport glitch that inertial gates also show is reported as inertial
+    if asg.mode == "transport":
+        inert = DelayAssignment(asg.corner, asg.pins, asg.wires, "inertial", asg.offsets)
+        g2, _ = replay(graph, c.target, c.before, c.after, inert, watch=[c.target])
+        if g2.occurs and len(g2.changes) >= (3 if k == "dynamic-hazard" else 2):
+            c.assignment, c.glitch = inert, g2
 
 
 def _nominal_reversed(graph, c: Classification, kind: str, order) -> bool:
@@ -294,12 +307,14 @@ def combine(results: Sequence[Classification]) -> Classification | None:
 # ---------------------------------------------------------------------------------------------
 # Choice of changing sources for a finding
 
-def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int) -> list[str]:
+def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int,
+                 quiet: frozenset[str] = frozenset()) -> list[str]:
     """Free sources whose change can toggle ``stem`` (and so reach the ``target`` the stem
     feeds; the choice does not depend on it): the stem itself when it is a source, else the
-    sources of its fan-in cone, nearest first."""
+    sources of its fan-in cone, nearest first. ``quiet`` sources (quasi-static) never
+    change."""
     if graph.nodes[stem]["kind"] in SOURCE_KINDS:
-        return [stem]
+        return [] if stem in quiet else [stem]
     dist = {stem: 0}
     frontier = [stem]
     out = []
@@ -312,7 +327,8 @@ def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int) -
                 dist[p] = dist[n] + 1
                 k = graph.nodes[p]["kind"]
                 if k in SOURCE_KINDS and k != "const":
-                    out.append(p)
+                    if p not in quiet:
+                        out.append(p)
                 elif k == "gate":
                     nxt.append(p)
         frontier = nxt
@@ -470,6 +486,8 @@ def glitch_text(c: Classification) -> str:
             f"{len(g.changes)} output changes")
     if c.how == "nominal":
         return f"glitches with the nominal delays ({c.assignment.mode}): {what}"
+    if c.how == "skewed":
+        return f"glitches with the nominal delays and the changes skewed as below: {what}"
     if c.how in ("min-corner", "within-bounds"):
         return f"glitches within the delay bounds ({c.how}): {what}"
     return ("hazardous under arbitrary delays but not with the nominal delays; it glitches "
@@ -639,7 +657,8 @@ def _plan(graph, d: Diagnostic, context, opts, memo=None):
         sinks = sinks[: int(opts["max_sinks"])]
         srcs = memo.get(stem) if memo is not None else None
         if srcs is None:
-            srcs = stem_sources(graph, stem, None, int(opts["max_sources"]))
+            srcs = stem_sources(graph, stem, None, int(opts["max_sources"]),
+                                getattr(context, "quiet_sources", frozenset()))
             if memo is not None:
                 memo[stem] = srcs
         work = [(s, srcs) for s in sinks]
@@ -648,9 +667,8 @@ def _plan(graph, d: Diagnostic, context, opts, memo=None):
         skew = float(skew) if isinstance(skew, (int, float)) else 0.0
         return (0 if sens else 2, -skew, d.sort_key()), work
     if d.kind == "unregistered-async" and ev.get("sink_node") in graph:
-        sink = ev["sink_node"]
-        srcs = [s for s in ev.get("source_nodes") or [] if s in graph][: int(opts["max_sources"])]
-        return (1, 0.0, d.sort_key()), [(sink, srcs)]
+        # decided over the change model by refine_sink (multichange), not by single changes
+        return (1, 0.0, d.sort_key()), [(ev["sink_node"], [])]
     return None
 
 
@@ -714,9 +732,13 @@ class _RunMemo:
     per_source: dict[tuple, Classification] = field(default_factory=dict)
     # consensus-term searches, per change and gate (see fixes.consensus_fix)
     fixes: dict = field(default_factory=dict)
+    # driver of a glitch-sensitive sink -> its verdict over the change model
+    sinks: dict = field(default_factory=dict)
 
 
 def _refine_planned(graph, d, ev, work, context, opts, memo: _RunMemo, known, full, limit):
+    if d.kind == "unregistered-async":
+        return _refine_sink(graph, d, ev, context, opts, memo, full, limit)
     results = []
     cache = memo.verdicts
     for s, srcs in work:
@@ -746,6 +768,43 @@ def _refine_planned(graph, d, ev, work, context, opts, memo: _RunMemo, known, fu
     x = _apply(graph, d, c, ev, context, o, replayed=replayed, limit=limit,
                fix_memo=memo.fixes)
     return [x] if x is not None else []
+
+
+def _refine_sink(graph, d, ev, context, opts, memo: _RunMemo, full, limit):
+    """A glitch-sensitive sink's finding, decided over every transition the change model
+    allows (:mod:`hazlint.analysis.multichange`); its drivers' verdicts are shared."""
+    sink = ev["sink_node"]
+    drv = (graph.nodes[sink].get("inputs") or [sink])[0]
+    v = memo.sinks.get(drv)
+    if v is None:
+        model = getattr(context, "change_model", None) if context is not None else None
+        if model is None:
+            model = ChangeModel(quiet=frozenset(ev.get("quiet_nodes") or ()))
+        v = memo.sinks[drv] = decide_sink(graph, sink, model, opts)
+    label = lambda n: net_label(graph, n)  # noqa: E731
+    pick = v.best()
+    if pick is not None:
+        k, question, f = pick
+        c = Classification(sink, k, {n: (f.before[n], f.after[n]) for n in f.changed},
+                           dict(f.before), dict(f.after), proofs=v.hazard_proofs(),
+                           reason=v.proof_text(label))
+        got = _cone_of(graph, sink, memo.cones)
+        order = got[0] if got is not None else None
+        c.function_hazard = (question == "function" if question != "any" else
+                             witness_function_hazard(graph, order, sink, f))
+        if full and order is not None:
+            replay_witness(graph, c, k, order, opts)
+    else:
+        c = Classification(sink, "hazard-free" if v.status == "hazard-free" else "inconclusive",
+                           {}, proofs=v.hazard_proofs(), reason=v.proof_text(label))
+    o = opts if full else dict(opts, waveforms=False)
+    x = _apply(graph, d, c, ev, context, o, replayed=full or c.glitch is not None or bool(c.how),
+               limit=limit, fix_memo=memo.fixes)
+    return [] if x is None else [with_change_model(x, v, label, _cell_model(context))]
+
+
+def _cell_model(context) -> str:
+    return getattr(getattr(context, "config", None), "cell_model", None) or "atomic"
 
 
 def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed: bool = True,
@@ -785,7 +844,7 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed:
     notes.append(f"proof: {c.reason}")
     others = [k2 for k2 in c.present_kinds if k2 != kind]
     if others:
-        notes.append("also possible for other values of the held inputs: " + ", ".join(others))
+        notes.append("also possible for other transitions: " + ", ".join(others))
     evidence["present_kinds"] = c.present_kinds
     notes.append(f"witness: {witness_text(graph, c)}")
     if gt:

@@ -34,6 +34,14 @@ class Budget(Exception):
         self.reason = reason
 
 
+def new_manager(memory_mb: int | None = None):
+    """A fresh BDD manager; ``memory_mb`` sizes CUDD's tables (its default allocation costs
+    tens of milliseconds, more than a small cone needs)."""
+    if BACKEND == "cudd" and memory_mb:
+        return _bdd_mod.BDD(memory_estimate=memory_mb * 2 ** 20, initial_cache_size=2 ** 14)
+    return _bdd_mod.BDD()
+
+
 class BDDAlgebra:
     """The algebra interface of :class:`hazlint.analysis.ternary.IntAlgebra` over BDD nodes."""
 
