@@ -29,9 +29,10 @@ from . import fixes as _fixes
 from .symbolic import Budget, HazardProof, bdd_hazards
 from .satcheck import sat_hazards
 from .ternary import (HAZARD_KINDS, CyclicCone, IntAlgebra, cone, free_sources, function_hazard,
-                      hazard_planes, propagate, ternary_fixpoint, bool_gate, ternary_gate)
+                      hazard_planes, propagate, ternary_gate)
 from .timedsim import DelayAssignment, Glitch, replay, search_assignment, simulate
 from .changes import ChangeModel
+from .loops import classify_loop
 from .multichange import decide_sink, with_change_model, witness_function_hazard
 from .waves import timing_diagram
 
@@ -375,82 +376,13 @@ class LoopVerdict:
 
 def loop_behaviour(graph: nx.DiGraph, scc: Iterable[str], max_inputs: int = 12,
                    max_cut: int = 10) -> LoopVerdict:
-    """Does the loop settle for every value of the nets that feed it, hold state, or oscillate?
-
-    Every combination of the loop's external inputs (up to ``max_inputs``; treated as
-    independent) is simulated at once, bit-parallel. Ternary simulation from the all-X state
-    (Eichelberger's procedure B from total uncertainty) settles to binary values when the inputs
-    determine the loop; otherwise the binary stable states are counted over a feedback vertex
-    set: none means the loop cannot rest and must oscillate for those inputs, two or more mean
-    storage."""
-    comp = set(scc)
-    g = graph
-    ext = sorted({p for n in comp for p in g.predecessors(n) if p not in comp})
-    if len(ext) > max_inputs:
-        return LoopVerdict("inconclusive", reason=f"{len(ext)} loop inputs (limit {max_inputs})")
-    width = 1 << len(ext)
-    A = IntAlgebra(width)
-    vals = {}
-    for i, n in enumerate(ext):
-        bits = sum(1 << c for c in range(width) if (c >> i) & 1)
-        vals[n] = (A.not_(bits), bits)
-    for n in comp:
-        vals[n] = (A.true, A.true)
-    order = sorted(comp)
-    res = ternary_fixpoint(g, order, dict(vals), A)
-    undetermined = 0
-    for n in comp:
-        c0, c1 = res[n]
-        undetermined |= c0 & c1
-    if not undetermined:
-        return LoopVerdict("settles", reason="ternary simulation settles for all loop inputs")
-    cut = _feedback_set(g, comp)
-    if len(cut) > max_cut:
-        return LoopVerdict("inconclusive", reason=f"feedback set of {len(cut)} nets")
-    rest = [n for n in nx.topological_sort(g.subgraph(comp - set(cut)))]
-    count_ge1 = 0
-    count_ge2 = 0
-    BA = IntAlgebra(width)
-    for s in range(1 << len(cut)):
-        bv = {n: vals[n][1] for n in ext}
-        for i, n in enumerate(cut):
-            bv[n] = BA.mask if (s >> i) & 1 else 0
-        ev = dict(bv)
-        for n in rest:
-            d = g.nodes[n]
-            if d["kind"] == "gate":
-                ev[n] = bool_gate(BA, d["op"], [ev[i] for i in d["inputs"]], d.get("expr"))
-            elif d["kind"] == "sink":
-                ev[n] = ev[d["inputs"][0]]
-        ok = BA.mask
-        for n in cut:
-            d = g.nodes[n]
-            v = bool_gate(BA, d["op"], [ev[i] for i in d["inputs"]], d.get("expr")) \
-                if d["kind"] == "gate" else ev[d["inputs"][0]]
-            ok &= ~(v ^ bv[n]) & BA.mask
-        count_ge2 |= count_ge1 & ok
-        count_ge1 |= ok
-    no_state = undetermined & ~count_ge1 & A.mask
-    if no_state:
-        lane = (no_state & -no_state).bit_length() - 1
-        inputs = {n: (lane >> i) & 1 for i, n in enumerate(ext)}
-        return LoopVerdict("oscillation", inputs=inputs, stable_states=0,
-                           reason="no stable state for these loop inputs")
-    if count_ge2 & undetermined:
-        return LoopVerdict("storage", reason="two stable states for some loop inputs")
-    return LoopVerdict("settles", stable_states=1,
-                       reason="one stable state for every loop input")
-
-
-def _feedback_set(g: nx.DiGraph, comp: set[str]) -> list[str]:
-    """A small feedback vertex set of the strongly connected ``comp`` (greedy)."""
-    h = nx.DiGraph(g.subgraph(comp))
-    cut = []
-    while not nx.is_directed_acyclic_graph(h):
-        n = max(h.nodes, key=lambda x: (h.in_degree(x) * h.out_degree(x), str(x)))
-        cut.append(n)
-        h.remove_node(n)
-    return [n for n in cut if g.nodes[n]["kind"] == "gate"] or cut
+    """Does the loop settle, hold state, or oscillate? (:func:`hazlint.analysis.loops.
+    classify_loop`: stable states over every value of the loop inputs, then Eichelberger's
+    procedures A and B for every single input change.)"""
+    c = classify_loop(graph, scc, max_inputs=max_inputs, max_cut=max_cut)
+    w = c.witness or {}
+    return LoopVerdict(c.behaviour, inputs=w.get("inputs", w.get("to")),
+                       stable_states=0 if "inputs" in w else None, reason=c.reason)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -865,6 +797,9 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed:
 
 
 def _refine_loop(graph, d: Diagnostic, ev) -> Diagnostic | None:
+    """An oscillation finding for a loop finding the loop rule did not classify itself."""
+    if ev.get("loop"):
+        return None
     comp = [n for n in ev["scc"] if n in graph]
     v = loop_behaviour(graph, comp)
     if v.behaviour != "oscillation":

@@ -411,13 +411,15 @@ def procedure_a_b(graph: nx.DiGraph, nodes: Sequence[str], state: Mapping[str, t
         b = inputs_b.get(n, a)
         vals[n] = (A.true, A.true) if a != b else (A.not_(A.true * a), A.true * a)
     # procedure A may only add X: take the least upper bound with the old values
-    vals = _lub_fixpoint(graph, nodes, vals, A)
+    vals = lub_fixpoint(graph, nodes, vals, A)
     for n, b in inputs_b.items():
         vals[n] = (A.not_(A.true * b), A.true * b)
     return ternary_fixpoint(graph, nodes, vals, A)
 
 
-def _lub_fixpoint(graph, nodes, vals, A):
+def lub_fixpoint(graph, nodes, vals, A):
+    """Procedure A's propagation: iterate ternary evaluation of ``nodes``, each value the
+    least upper bound of its old value and the new one (values only become less defined)."""
     g = graph.nodes
     for _ in range(2 * len(nodes) + 2):
         changed = False
