@@ -548,26 +548,23 @@ def _search(graph, target, before, after, order, trials, seed, want_dynamic, eve
         return gl if ok else None
 
     tried = 0
-    for asg, how in ((DelayAssignment("max", mode="inertial"), "nominal"),
-                     (DelayAssignment("max", mode="transport"), "nominal"),
-                     (DelayAssignment("min", mode="inertial"), "min-corner"),
-                     (DelayAssignment("min", mode="transport"), "min-corner")):
+    gates = [n for n in order if n in moving and graph.nodes[n]["kind"] == "gate"]
+    tries = [(DelayAssignment("max", mode="inertial"), "nominal")]
+    if len(changing) >= 2:
+        # sources that change together do so a little apart: the nominal (inertial) delays
+        # with a skew between them, each order of the sources, the skew growing
+        depth = max(1, _depth(graph, order, moving))
+        tries += [(DelayAssignment("max", mode="inertial", offsets=off), "skewed")
+                  for off in skew_offsets(sorted(changing), depth * _max_delay(graph, gates),
+                                          max(1, trials // 3))]
+    tries += [(DelayAssignment("max", mode="transport"), "nominal"),
+              (DelayAssignment("min", mode="inertial"), "min-corner"),
+              (DelayAssignment("min", mode="transport"), "min-corner")]
+    for asg, how in tries:
         tried += 1
         gl = run(asg)
         if gl:
             return asg, gl, how
-    gates = [n for n in order if n in moving and graph.nodes[n]["kind"] == "gate"]
-    if len(changing) >= 2:
-        # sources that change together do so a little apart: the nominal delays with a skew
-        # between them, each order of the sources, the skew growing
-        depth = max(1, _depth(graph, order, moving))
-        for off in skew_offsets(sorted(changing), depth * _max_delay(graph, gates),
-                                max(1, (trials - tried) // 3)):
-            asg = DelayAssignment("max", mode="inertial", offsets=off)
-            tried += 1
-            gl = run(asg)
-            if gl:
-                return asg, gl, "skewed"
     rng = random.Random(seed)
     bounded = [(n, p) for n in gates for p in range(len(graph.nodes[n]["inputs"]))
                if _has_range(graph.nodes[n], p)]
@@ -596,6 +593,10 @@ def _search(graph, target, before, after, order, trials, seed, want_dynamic, eve
                 wires[e] = float(rng.randint(1, int(scale) * 2))
         wires = {e: w for e, w in wires.items() if w > 0}
         asg = DelayAssignment("max", wires=wires, mode="transport")
+        if len(changing) >= 2 and k % 4 >= 2:
+            # changes of several sources: skewed too, with inertial gates
+            asg = DelayAssignment("max", wires=wires, mode="inertial", offsets={
+                n: float(rng.randint(0, int(scale))) for n in sorted(changing)})
         gl = run(asg)
         if gl:
             try:
