@@ -29,6 +29,7 @@ class Register:
     outputs: dict[str, str] = field(default_factory=dict)
     clock_edge: str | None = None
     active: dict[str, int] = field(default_factory=dict)
+    init: int | None = None        # power-up value of Q (reg x = v, initial, init attribute)
 
 
 @dataclass
@@ -97,7 +98,7 @@ class Design:
 
         ``values`` maps primary input port bits (and, optionally, register names or state node
         ids for the current register contents) to ints carrying ``width`` independent vectors.
-        Missing inputs are 0. Returns the primary output port bits, and every driver node when
+        Missing inputs are 0; a register not given holds its power-up value (``init``), else 0. Returns the primary output port bits, and every driver node when
         ``nets`` is true. Combinational loops are evaluated in a fixed order once (no iteration);
         use the ternary analysis for their behaviour.
         """
@@ -107,7 +108,7 @@ class Design:
         for port, n in self.input_node.items():
             val[n] = values.get(port, 0) & mask
         for r in self.registers:
-            q = values.get(r.name, 0) & mask
+            q = values.get(r.name, mask if r.init else 0) & mask
             for which, n in r.outputs.items():
                 v = values.get(n, q if which == "Q" else ~q & mask)
                 val[n] = v & mask
@@ -131,8 +132,9 @@ class Design:
     def summary(self) -> dict[str, Any]:
         from collections import Counter
         g = self.graph
+        # gates inside a register cell (its enable mux, say) are part of that cell
         by_type = Counter(d.get("cell") or d["op"] for _, d in g.nodes(data=True)
-                          if d["kind"] == "gate")
+                          if d["kind"] == "gate" and not d.get("register"))
         depth = logic_depth(self)
         return {
             "top": self.top,

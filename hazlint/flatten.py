@@ -22,6 +22,8 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from . import cells_yosys_words as yosys_cells
+from . import initial_values
 from . import library as lib
 from .consteval import NotConstant, const_value
 from .design import BlackBox, Design, Register
@@ -146,6 +148,7 @@ class Elaborator:
         # declarations carrying hazlint_* attributes: (name, bits, attributes, location)
         self.attr_decls: list[tuple[str, list[str], dict, ir.Loc | None]] = []
         self.latch_paths: list[tuple[str, str, str]] = []
+        self.init_values: initial_values.InitValues = {}    # net bit -> power-up value
         self.blackbox_cells_warned: set[str] = set()
         self.blackbox_pins: set[str] = set()    # net bits connected to black-box pins
         self.bb_owner: dict[str, tuple] = {}    # such a net bit -> (instance, cell, loc, reason)
@@ -334,6 +337,8 @@ class Elaborator:
             self.declare(scope, pname, port.width, port.net_type, port.signed, port.loc)
             if port.attrs and is_top:
                 self._note_attrs(scope, pname, port.attrs, port.loc)
+            if "init" in port.attrs:
+                initial_values.record_attribute(self, scope, port)
         self.elab_items(scope, m.items, depth, declare_only_params=False)
 
     def _note_attrs(self, scope: Scope, name: str, attrs: dict, loc) -> None:
@@ -405,6 +410,8 @@ class Elaborator:
                     for b in scope.nets[it.name].bits():
                         self.port_attrs.setdefault(b, {}).update(it.attrs)
                     self._note_attrs(scope, it.name, it.attrs, it.loc)
+                    if "init" in it.attrs:
+                        initial_values.record_attribute(self, scope, it)
             elif isinstance(it, ir.Param) and scope.parent is not None:
                 self._set_param(scope, it, {})
         for it in items:
@@ -487,8 +494,7 @@ class Elaborator:
         elif isinstance(it, ir.Always):
             self.elab_always(scope, it)
         elif isinstance(it, ir.Initial):
-            self.note("initial block ignored (simulation only)", it.loc, scope.instance,
-                      key=("initial", scope.module.name))
+            initial_values.record_block(self, scope, it)
         elif isinstance(it, ir.GenFor):
             self.elab_genfor(scope, it, depth)
         elif isinstance(it, ir.GenIf):
@@ -989,6 +995,8 @@ class Elaborator:
             self.elab_udp(scope, inst, self.primitives[cell])
         elif cell in self.library:
             self.elab_cell(scope, inst, self.library.get(cell))
+        elif cell.startswith("$") and yosys_cells.elaborate_cell(self, scope, inst):
+            pass                # a yosys cell, built in after the user's and Liberty cells
         else:
             if cell not in self.blackbox_cells_warned:
                 self.blackbox_cells_warned.add(cell)
@@ -1282,11 +1290,7 @@ class Elaborator:
                        path=inst.loc.path if inst.loc else "", line=inst.loc.line if inst.loc
                        else 0)
         loc = inst.loc
-
-        def iq(p):  # next_state may read the state itself (IQ)
-            if p in ("IQ", "IQN"):
-                return HOLD
-            return pin_sig(p)
+        mark = len(self.drivers)
         if seq.kind == "ff":
             if seq.clocked_on is None or seq.next_state is None:
                 raise ElaborationError(f"flip-flop cell '{cell.name}' needs clocked_on and "
@@ -1297,6 +1301,8 @@ class Elaborator:
                                               register=name, active=reg.clock_edge,
                                               **self._pin_of(seq.clocked_on))
             data_e = seq.next_state
+        elif seq.enable is None and seq.data_in is None and (seq.clear or seq.preset):
+            data_e = None           # a set/reset latch: only its asynchronous pins
         else:
             if seq.enable is None or seq.data_in is None:
                 raise ElaborationError(f"latch cell '{cell.name}' needs enable and data_in",
@@ -1335,9 +1341,10 @@ class Elaborator:
             if p == "IQN":
                 return reg.outputs.get("QN") or C0
             return pin_sig(p)
-        d = self._expr_gates(scope, data_e, data_pin, loc)
-        reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path, register=name,
-                                         **self._pin_of(data_e))
+        if data_e is not None:
+            d = self._expr_gates(scope, data_e, data_pin, loc)
+            reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path,
+                                             register=name, **self._pin_of(data_e))
         for role, e in (("reset", seq.clear), ("set", seq.preset)):
             if e is None:
                 continue
@@ -1347,8 +1354,11 @@ class Elaborator:
             reg.active[role] = level
             reg.pins[role] = self.add_sink(sig, role, f"{name}.{role}", loc, path,
                                            register=name, active=level, **self._pin_of(e))
+        for rec in self.drivers[mark:]:
+            if rec["kind"] == "gate":
+                rec["register"] = name      # the cell's own next-state and control logic
         self.registers.append(reg)
-        if seq.kind == "latch":
+        if seq.kind == "latch" and "enable" in reg.pins:
             self.latch_paths.append((reg.pins["data"], reg.pins["enable"],
                                      reg.outputs.get("Q") or next(iter(reg.outputs.values()))))
 
@@ -1703,6 +1713,11 @@ class Elaborator:
             members.setdefault(find(name), []).append(name)
         self._members = members
         port_set = set(inputs) | set(outputs)
+        inits = initial_values.by_net(self.init_values, find)
+        driven = {find(d["out"]) for d in self.drivers}
+        for root, (bit, v, loc, inst) in inits.items():
+            if root not in driven:      # a variable nothing assigns keeps its initial value
+                self._add_driver("const", bit, op=f"const{v}", instance=inst, loc=loc)
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
@@ -1782,6 +1797,7 @@ class Elaborator:
         # registers refer to sink ids (stable) and state node ids (merged-net names)
         for r in self.registers:
             r.outputs = {k: node_of(v) for k, v in r.outputs.items()}
+        initial_values.apply_to_graph(g, inits, rep, self.registers)
         design.latch_paths = [(d_, e_, node_of(q)) for d_, e_, q in self.latch_paths]
         return design
 

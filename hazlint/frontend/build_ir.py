@@ -85,6 +85,15 @@ def parse_number(text: str):
     return ("num", width, value, xz, signed)
 
 
+_VARIABLE_KINDS = ("reg", "integer", "time")
+
+
+def _target(assign) -> str | None:
+    """The variable a declaration assignment initialises."""
+    lv = getattr(assign.left, "var", None)
+    return getattr(lv, "name", None)
+
+
 def attr_value(text):
     """Attribute value text -> Python value: None (bare flag), int, or str."""
     if text is None:
@@ -295,7 +304,8 @@ class Builder:
                                  kind=_ALWAYS_KIND.get(t, "always"),
                                  loc=self.loc(n.lineno, pos), attrs=self.attrs(pos)))
         elif t is va.Initial:
-            out.append(ir.Initial(loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
+            out.append(ir.Initial(loc=self.loc(n.lineno, getattr(n, "hz_pos", None)),
+                                  body=self.stmt(n.statement)))
         elif t is va.GenerateStatement:
             for x in n.items:
                 self._item(x, out, mod, ansi)
@@ -337,6 +347,7 @@ class Builder:
     def _decl(self, decl, out, mod):
         dpos = getattr(decl, "hz_pos", None)
         attrs = self.attrs(dpos)
+        variables = set()          # names declared here as variables (reg, integer, ...)
         for v in decl.list:
             t = type(v)
             pos = getattr(v, "hz_pos", dpos)
@@ -365,6 +376,10 @@ class Builder:
                 else:
                     out.append(ir.Net(name=name, kind=kind, width=self.width(v.width),
                                       loc=self.loc(v.lineno, pos), attrs=dict(attrs)))
+            elif t is va.Assign and _target(v) in variables:
+                # ``reg x = v;`` is an initial value (IEEE 1364-2005 6.2.1), not a driver
+                out.append(ir.Initial(loc=self.loc(v.lineno, dpos), body=(
+                    "assign", "=", self.expr(v.left), self.expr(v.right), self._line(v))))
             elif t is va.Assign:
                 out.append(ir.Assign(lhs=self.expr(v.left), rhs=self.expr(v.right),
                                      delay=self.delay(v.ldelay) if isinstance(
@@ -377,6 +392,8 @@ class Builder:
                                           loc=self.loc(v.lineno, pos)))
             elif isinstance(v, va.Variable):
                 kind = self._net_kind(v)
+                if kind in _VARIABLE_KINDS:
+                    variables.add(v.name)
                 width = self.width(v.width)
                 signed = bool(v.signed)
                 if kind == "integer":
@@ -398,9 +415,11 @@ class Builder:
                                   array=array, loc=self.loc(v.lineno, pos), attrs=dict(attrs),
                                   delay=self.delay(nd) if isinstance(nd, hp.DelaySpec)
                                   else None))
-                if getattr(v, "value", None) is not None and kind == "integer":
-                    out.append(ir.Unsupported(what=f"initial value of integer {v.name}",
-                                              loc=self.loc(v.lineno, pos)))
+                value = getattr(v, "value", None)      # integer i = 5;
+                if value is not None:
+                    value = value.var if isinstance(value, va.Rvalue) else value
+                    out.append(ir.Initial(loc=self.loc(v.lineno, pos), body=(
+                        "assign", "=", ("id", v.name), self.expr(value), self._line(v))))
             else:
                 out.append(ir.Unsupported(what=t.__name__, loc=self.loc(v.lineno, pos)))
 

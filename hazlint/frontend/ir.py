@@ -139,7 +139,11 @@ class Always:
 
 @dataclass
 class Initial:
+    """An ``initial`` block, or the initial value of a variable declaration (``reg x = v;``,
+    read as ``initial x = v;``); the constant assignments in ``body`` are power-up values."""
+
     loc: Optional[Loc] = None
+    body: Optional[Stmt] = None
 
 
 @dataclass
