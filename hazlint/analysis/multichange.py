@@ -369,7 +369,7 @@ def _decide_bdd(graph, order, target, srcs, v: SinkVerdict, node_budget: int) ->
         logic = A.and_(anyk, A.not_(fh_k))
         q = {}
         for name, u in (("any", anyk), ("function", fun), ("logic", logic)):
-            q[name] = _smallest_bdd(A, u, counts, names, care, sm)
+            q[name] = _smallest_bdd(A, u, counts, names, care, sm, c)
         v.kinds[k] = q
         if len(A.bdd) > node_budget:
             raise Budget(f"BDD exceeded {node_budget} nodes")
@@ -378,13 +378,25 @@ def _decide_bdd(graph, order, target, srcs, v: SinkVerdict, node_budget: int) ->
     return v
 
 
-def _smallest_bdd(A, u, counts, names, care, sm) -> Found:
+def _smallest_bdd(A, u, counts, names, care, sm, c) -> Found:
+    """The witness with the fewest changing sources; among those the first in a fixed order
+    (changes of sources earlier by name, then values 0 before 1), so the same circuit gets the
+    same witness whatever its spelling or the BDD's variable order."""
     if u == A.false:
         return Found("absent")
     for m, cm in enumerate(counts):
         w = A.and_(u, cm)
         if w == A.false:
             continue
+        index = {n: i for i, n in enumerate(sm.sources)}
+        for n in sorted(sm.sources):
+            w1 = A.and_(w, c[index[n]])
+            w = w1 if w1 != A.false else A.and_(w, A.not_(c[index[n]]))
+        for n in sorted(names):
+            for var in dict.fromkeys(names[n]):
+                x = A.bdd.var(var)
+                w0 = A.and_(w, A.not_(x))
+                w = w0 if w0 != A.false else A.and_(w, x)
         pick = A.bdd.pick(w, care_vars=care) or {}
         before = {n: int(bool(pick.get(a, False))) for n, (a, _) in names.items()}
         after = {n: int(bool(pick.get(b, False))) for n, (_, b) in names.items()}
