@@ -41,11 +41,15 @@ from typing import Any, Mapping, Sequence
 from ..graph import SOURCE_KINDS
 from .cellmodel import MODEL_TEXT
 from .changes import ChangeModel, SinkModel
+from .changesim import known_minimal, random_transitions
 from .symbolic import BACKEND, Budget, BDDAlgebra, HazardProof, new_manager
 from .ternary import (HAZARD_KINDS, CyclicCone, bool_gate, cone, free_sources, function_hazard,
                       hazard_planes, propagate)
 
 QUESTIONS = ("any", "function", "logic")
+# cones of at most this many sources always get the exact BDD engine first (its witness is the
+# first smallest one in a fixed order, the same for every spelling of the circuit)
+SMALL_CONE = 8
 
 
 @dataclass
@@ -229,13 +233,37 @@ def decide_sink(graph, target: str, model: ChangeModel | SinkModel | None = None
         v.method = "structural"
         return _all(v, "absent", "a single path from its only changing source")
     node_budget = int(opts.get("node_budget", 100_000))
-    limit = int(opts.get("engine_sources", 48))
-    if len(sm.sources) + len(sm.quiet) <= limit:
+    limit = int(opts.get("engine_sources", 16))
+    n_src = len(sm.sources) + len(sm.quiet)
+    known = None
+    if n_src > SMALL_CONE:
+        # random transitions first: most witnesses need no solver, and when every question
+        # has a witness of the smallest size it allows, nothing is left to prove
+        known = random_transitions(graph, order, target, srcs, sm, seed=int(opts.get("seed", 0)))
+        if v.bound is not None:
+            known = {k: {q: w for q, w in d.items() if w[2] <= v.bound}
+                     for k, d in known.items()}
+        if all(known_minimal(known.get(k, {}), q, k) for k in HAZARD_KINDS for q in QUESTIONS):
+            v.method = "simulation"
+            v.reason = (f"{len(sm.sources)} changing and {len(sm.quiet)} held sources; every "
+                        "witness found by simulating random transitions is of the smallest "
+                        "size possible")
+            for k in HAZARD_KINDS:
+                v.kinds[k] = {q: Found("present", *known[k][q][:2], size=known[k][q][2],
+                                       minimal=True) for q in QUESTIONS}
+            return v
+    if n_src <= limit:
         try:
             return _decide_bdd(graph, order, target, srcs, v, node_budget)
         except Budget as exc:
             v.reason = exc.reason
-    return _decide_sat(graph, order, target, srcs, v, int(opts.get("conflict_budget", 20_000)))
+    if known is None:
+        known = random_transitions(graph, order, target, srcs, sm, seed=int(opts.get("seed", 0)))
+        if v.bound is not None:
+            known = {k: {q: w for q, w in d.items() if w[2] <= v.bound}
+                     for k, d in known.items()}
+    return _decide_sat(graph, order, target, srcs, v, int(opts.get("conflict_budget", 20_000)),
+                       known)
 
 
 def _all(v: SinkVerdict, status: str, reason: str) -> SinkVerdict:
@@ -337,36 +365,51 @@ def _at_most_bdd(A, lits, m: int):
 
 
 def _decide_bdd(graph, order, target, srcs, v: SinkVerdict, node_budget: int) -> SinkVerdict:
+    """Every question exactly, over BDD variables a (before) and c (changes) per source (the
+    after value is a ^ c), plus corner variables z, y for dynamic function hazards."""
     sm = v.model
     A = BDDAlgebra(new_manager(64), node_budget=node_budget)
     va, vb = {}, {}
-    z, y = [], []
-    names: dict[str, tuple[str, str]] = {}
-    for i, n in enumerate(_source_order(graph, target, sm.sources)):
+    names: dict[str, tuple[str, str | None]] = {}
+    cvar = {}
+    for n in _source_order(graph, target, sm.sources):
         k = sm.sources.index(n)
-        names[n] = (f"a{k}", f"b{k}")
-        va[n], vb[n] = A.var(f"a{k}"), A.var(f"b{k}")
+        names[n] = (f"a{k}", f"c{k}")
+        va[n] = A.var(f"a{k}")
+        cvar[n] = A.var(f"c{k}")
+        vb[n] = A.xor(va[n], cvar[n])
         A.var(f"z{k}")
         A.var(f"y{k}")
     z = [A.bdd.var(f"z{k}") for k in range(len(sm.sources))]
     y = [A.bdd.var(f"y{k}") for k in range(len(sm.sources))]
     for j, n in enumerate(sm.quiet):
-        names[n] = (f"q{j}", f"q{j}")
+        names[n] = (f"q{j}", None)
         va[n] = vb[n] = A.var(f"q{j}")
     c, planes, fh = _conditions(A, graph, order, target, srcs, sm, va, vb, z, y)
+    c = [cvar[n] for n in sm.sources]      # the same functions, as plain variables
     cons = _model_constraint_bdd(A, sm, va, vb, c)
-    corner = _corner_constraint(A, sm, va, c, z, y)
-    zy = [f"z{k}" for k in range(len(sm.sources))] + [f"y{k}" for k in range(len(sm.sources))]
+    # static function hazard: the function takes both values over the cube; "can be 1" is f
+    # with every changing source quantified away, one source at a time
+    fa, fb = planes["before"], planes["after"]
+    can = []
+    for f0 in (fa, A.not_(fa)):
+        u = f0
+        for n in sm.sources:
+            a_n = names[n][0]
+            u = A.or_(A.and_(A.not_(cvar[n]), u), A.and_(cvar[n], A.bdd.exist([a_n], u)))
+        can.append(u)
+    sfh = A.and_(A.not_(A.xor(fa, fb)), can[0], can[1])
+    dfh = _dynamic_fh_bdd(A, graph, order, target, srcs, sm, va, vb, c, z, fa, fb)
+    fhs = {"static-1-hazard": sfh, "static-0-hazard": sfh, "dynamic-hazard": dfh}
     counts = _exactly_bdd(A, c, len(c))
     bound = v.bound
     if bound is not None:
         cons = A.and_(cons, A.or_(*counts[:bound + 1]))
-    care = sorted({x for pair in names.values() for x in pair})
+    care = sorted({x for pair in names.values() for x in pair if x})
     for k in HAZARD_KINDS:
-        fh_k = A.bdd.exist(zy, A.and_(corner, fh[k]))
         anyk = A.and_(planes[k], cons)
-        fun = A.and_(anyk, fh_k)
-        logic = A.and_(anyk, A.not_(fh_k))
+        fun = A.and_(anyk, fhs[k])
+        logic = A.and_(anyk, A.not_(fhs[k]))
         q = {}
         for name, u in (("any", anyk), ("function", fun), ("logic", logic)):
             q[name] = _smallest_bdd(A, u, counts, names, care, sm, c)
@@ -376,6 +419,27 @@ def _decide_bdd(graph, order, target, srcs, v: SinkVerdict, node_budget: int) ->
     v.method = "bdd"
     v.reason = f"{len(sm.sources)} changing and {len(sm.quiet)} held sources; {BACKEND}"
     return v
+
+
+def _dynamic_fh_bdd(A, graph, order, target, srcs, sm, va, vb, c, z, fa, fb):
+    """Dynamic function hazard: a corner x of the cube with f(x) = f(b) from which a later
+    corner (more sources at their after value) has f = f(a). "Some later corner has f = f(a)"
+    is built one source at a time from f(x) = f(a), so the only quantified copy is x."""
+    vz = dict(va)
+    for i, n in enumerate(sm.sources):
+        vz[n] = z[i]
+    fz = propagate(graph, order, {k: vz[k] for k in srcs}, A, bool_gate)[target]
+    later = A.not_(A.xor(fz, fa))
+    for i, n in enumerate(sm.sources):
+        zn = f"z{sm.sources.index(n)}"
+        at_a = A.not_(A.xor(z[i], va[n]))
+        moved = A.bdd.exist([zn], A.and_(later, A.xor(z[i], va[n])))   # later with z_i at b_i
+        later = A.or_(later, A.and_(c[i], at_a, moved))
+    inside = A.and_(*[A.or_(c[i], A.not_(A.xor(z[i], va[n])))
+                      for i, n in enumerate(sm.sources)])
+    first = A.and_(inside, A.not_(A.xor(fz, fb)))
+    zs = [f"z{k}" for k in range(len(sm.sources))]
+    return A.and_(A.xor(fa, fb), A.and_exists(first, later, zs))
 
 
 def _smallest_bdd(A, u, counts, names, care, sm, c) -> Found:
@@ -393,13 +457,16 @@ def _smallest_bdd(A, u, counts, names, care, sm, c) -> Found:
             w1 = A.and_(w, c[index[n]])
             w = w1 if w1 != A.false else A.and_(w, A.not_(c[index[n]]))
         for n in sorted(names):
-            for var in dict.fromkeys(names[n]):
+            for var in names[n]:
+                if var is None:
+                    continue
                 x = A.bdd.var(var)
                 w0 = A.and_(w, A.not_(x))
                 w = w0 if w0 != A.false else A.and_(w, x)
         pick = A.bdd.pick(w, care_vars=care) or {}
         before = {n: int(bool(pick.get(a, False))) for n, (a, _) in names.items()}
-        after = {n: int(bool(pick.get(b, False))) for n, (_, b) in names.items()}
+        after = {n: before[n] ^ int(bool(pick.get(ch, False))) if ch else before[n]
+                 for n, (_, ch) in names.items()}
         return Found("present", before, after, size=m, minimal=True)
     return Found("absent")       # pragma: no cover - u is not false, so some count holds
 
@@ -408,12 +475,13 @@ def _smallest_bdd(A, u, counts, names, care, sm, c) -> Found:
 # SAT
 
 
-def _decide_sat(graph, order, target, srcs, v: SinkVerdict, conflict_budget: int
-                ) -> SinkVerdict:
+def _decide_sat(graph, order, target, srcs, v: SinkVerdict, conflict_budget: int,
+                known: Mapping[str, Mapping[str, tuple]] | None = None) -> SinkVerdict:
     from pysat.card import CardEnc, EncType, ITotalizer
     from pysat.solvers import Solver
     from .satcheck import SOLVER, CNFAlgebra
     sm = v.model
+    known = known or {}
     C = CNFAlgebra()
     va, vb = {}, {}
     for n in sm.sources:
@@ -504,16 +572,31 @@ def _decide_sat(graph, order, target, srcs, v: SinkVerdict, conflict_budget: int
             size = sum(best[0][n] != best[1][n] for n in sm.sources)
             return Found("present", best[0], best[1], size=size, minimal=minimal)
 
+        def from_sim(hit, lits, start) -> Found:
+            """A simulated witness: minimal when of the smallest size possible, else the
+            solver looks for a smaller one."""
+            before, after, size = hit
+            if size <= start:
+                return Found("present", before, after, size=size, minimal=True)
+            return smallest(lits, start=start, known=(before, after))
+
         for k in HAZARD_KINDS:
             q: dict[str, Found] = {}
-            q["any"] = smallest([planes[k]])
+            sim = known.get(k, {})
+            q["any"] = from_sim(sim["any"], [planes[k]], 1) if "any" in sim else \
+                smallest([planes[k]])
             if q["any"].status == "absent":
                 q["function"] = Found("absent")
                 q["logic"] = Found("absent")
             else:
-                q["function"] = smallest([planes[k], fh[k]], start=2)
+                # a function hazard needs two changing sources, a dynamic one three
+                low = 3 if k == "dynamic-hazard" else 2
+                q["function"] = from_sim(sim["function"], [planes[k], fh[k]], low) \
+                    if "function" in sim else smallest([planes[k], fh[k]], start=low)
                 if q["function"].status == "absent":
                     q["logic"] = q["any"]
+                elif "logic" in sim and sim["logic"][2] <= 1:
+                    q["logic"] = from_sim(sim["logic"], [planes[k]], 1)
                 else:
                     q["logic"] = _logic_sat(ask, smallest, planes[k], k, act, pair_flat, sm,
                                             bound, conflict_budget, v.reason)

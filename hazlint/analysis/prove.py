@@ -52,7 +52,7 @@ DEFAULTS: dict[str, Any] = {
                                  # shared BDD, then SAT past its budget)
     "max_changes": 0,            # glitch-sensitive sinks: largest set of simultaneously
                                  # changing sources examined (0: every set the model allows)
-    "engine_sources": 48,        # ... cones with more sources go to SAT without a BDD try
+    "engine_sources": 16,        # ... cones with more sources go to SAT without a BDD try
     "show_proven_absent": False,
     "waveforms": True,
     "seed": 0,

@@ -91,6 +91,13 @@ class BDDAlgebra:
         self._tick()
         return self.bdd.apply("xor", a, b)
 
+    def and_exists(self, u, w, qvars):
+        """``exists qvars: u & w`` (one relational product with CUDD)."""
+        self._tick()
+        if BACKEND == "cudd" and hasattr(_bdd_mod, "and_exists"):
+            return _bdd_mod.and_exists(u, w, qvars)
+        return self.bdd.exist(qvars, u & w)
+
 
 @dataclass
 class HazardProof:
