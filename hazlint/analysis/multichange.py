@@ -171,8 +171,9 @@ class SinkVerdict:
             for name in ("function", "logic"):
                 f = q[name]
                 if f.status == "present":
-                    moved = ", ".join(f"{label(n)} {'rises' if f.after[n] else 'falls'}"
-                                      for n in f.changed)
+                    names = [label(n) for n in f.changed]
+                    moved = (f"{names[0]} changes" if len(names) == 1 else
+                             f"{', '.join(names[:-1])} and {names[-1]} change together")
                     parts.append(f"{name} hazard when {moved}")
                 elif f.status == "absent":
                     parts.append(f"no {name} hazard")
