@@ -15,8 +15,6 @@ from __future__ import annotations
 
 from pathlib import Path
 
-import pytest
-
 from hazlint.api import lint
 from hazlint.config import Config
 from support.yosys import datdir, run as yosys

@@ -33,7 +33,8 @@ from .ternary import (HAZARD_KINDS, CyclicCone, IntAlgebra, cone, free_sources, 
 from .timedsim import DelayAssignment, Glitch, replay, search_assignment, simulate
 from .changes import ChangeModel
 from .loops import classify_loop
-from .multichange import decide_sink, with_change_model, witness_function_hazard
+from .changewords import with_change_model
+from .multichange import decide_sink, witness_function_hazard
 from .waves import timing_diagram
 
 DEFAULTS: dict[str, Any] = {
