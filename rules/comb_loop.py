@@ -53,7 +53,6 @@ from __future__ import annotations
 from collections import deque
 
 
-from hazlint.analysis.loops import ELEMENT_WORDS, classify_loop, oscillation_trace
 from hazlint.diagnostics import Diagnostic, Severity
 from hazlint.plugins import Option
 
@@ -142,6 +141,7 @@ def _cycle_evidence(ctx, cycle: list[str]):
 
 
 def check(design, context):
+    from hazlint.analysis.loops import classify_loop   # here: a cached report loads no networkx
     g = design.graph
     opts = context.options(ID)
     reported_nodes: set[str] = set()
@@ -184,6 +184,7 @@ def _change(context, w) -> str:
 
 def _verdict(context, c, comp, cycle, loop_txt, opts):
     """(kind, severity, message, fix, extra notes) for a classified loop."""
+    from hazlint.analysis.loops import ELEMENT_WORDS
     n = len(cycle)
     gates = f"{n} gate{'s' if n != 1 else ''}"
     more = [f"behaviour: {c.behaviour} ({c.reason})"]
@@ -249,6 +250,7 @@ def _verdict(context, c, comp, cycle, loop_txt, opts):
 
 def _waveform(context, comp, c) -> list[str]:
     """A timed simulation of the oscillating loop (its input nets as sources)."""
+    from hazlint.analysis.loops import oscillation_trace
     from hazlint.analysis.waves import timing_diagram
     try:
         tr = oscillation_trace(context.graph, comp, c)
