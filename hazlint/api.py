@@ -361,8 +361,12 @@ def _lint_planned(plan: _Plan, *, texts, changed, prove, top, include_dirs, defi
                   defines=defines, use_cache=use_cache, progress=progress,
                   cache_info=cache_info)
 
+    if config.cell_model != "atomic":
+        from .analysis.cellmodel import decompose_design
+        design = decompose_design(design)
     from .analysis.context import AnalysisContext
     context = AnalysisContext(design, config, opts)
+    context.change_model        # checks the change-model declarations (exit 2 on bad names)
 
     # findings before waivers/baseline come from the result cache when nothing they depend
     # on changed (design key, configuration, rules); waivers and the rest are redone below

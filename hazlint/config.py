@@ -22,6 +22,9 @@ Keys (all optional)::
     fail_on = "warning"             # error | warning | info | never
     async_outputs = ["valve_enable"]   # output ports whose glitches do harm (globs allowed)
     sync_inputs = ["maint_key"]        # inputs that are synchronous or quasi-static (globs)
+    one_at_a_time = { wr_ptr = ["u_fifo.wr_gray"] }  # groups changing one member at a time
+    one_hot = { state = ["u_ctl.state_q"] }          # groups with at most one member at 1
+    cell_model = "atomic"           # or "sum-of-products" (see hazlint.analysis.cellmodel)
     waiver_file = "hazlint-waivers.toml"
     baseline = "hazlint-baseline.json"
     cache_dir = ".hazlint-cache"
@@ -71,6 +74,9 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "rules": ((dict,), "a table of rule id = option table"),
     "async_outputs": ((list, str), "a list of output port names or globs"),
     "sync_inputs": ((list, str), "a list of input port names or globs"),
+    "one_at_a_time": ((dict,), "a table of group name = list of signals"),
+    "one_hot": ((dict,), "a table of group name = list of signals"),
+    "cell_model": ((str,), '"atomic" or "sum-of-products"'),
     "waiver_file": ((str,), "a path"),
     "baseline": ((str,), "a path"),
     "cache_dir": ((str,), "a path"),
@@ -104,6 +110,9 @@ class Config:
     rules: dict[str, dict[str, Any]] = field(default_factory=dict)
     async_outputs: list[str] = field(default_factory=list)
     sync_inputs: list[str] = field(default_factory=list)
+    one_at_a_time: dict[str, list[str]] = field(default_factory=dict)
+    one_hot: dict[str, list[str]] = field(default_factory=dict)
+    cell_model: str = "atomic"
     waiver_file: str | None = None
     baseline: str | None = None
     cache_dir: str | None = None
@@ -311,6 +320,21 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
     cfg.rules = {k: dict(v) for k, v in rules.items()}
     cfg.async_outputs = strs("async_outputs")
     cfg.sync_inputs = strs("sync_inputs")
+    for key in ("one_at_a_time", "one_hot"):
+        groups = {}
+        for name, sigs in table.get(key, {}).items():
+            sigs = [sigs] if isinstance(sigs, str) else sigs
+            if not isinstance(sigs, list) or not sigs or \
+                    not all(isinstance(x, str) for x in sigs):
+                raise err(key, f"{key}.{name} must be a list of signal names")
+            groups[str(name)] = list(sigs)
+        setattr(cfg, key, groups)
+    if "cell_model" in table:
+        from .analysis.cellmodel import CELL_MODELS
+        if table["cell_model"] not in CELL_MODELS:
+            raise err("cell_model", f"cell_model must be one of {', '.join(CELL_MODELS)}, "
+                      f"got {table['cell_model']!r}")
+        cfg.cell_model = table["cell_model"]
     for key in ("waiver_file", "baseline", "cache_dir"):
         if key in table:
             setattr(cfg, key, abspath(table[key]))

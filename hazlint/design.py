@@ -59,6 +59,9 @@ class Design:
     output_node: dict[str, str] = field(default_factory=dict)   # port bit -> sink node id
     latch_paths: list[tuple[str, str, str]] = field(default_factory=list)
     port_attrs: dict[str, dict[str, Any]] = field(default_factory=dict)  # port bit -> attributes
+    # declarations with hazlint_* attributes: {"name", "nodes" (driver node per bit), "attrs",
+    # "path", "line"} (the change model reads them; see hazlint.analysis.changes)
+    attr_decls: list[dict[str, Any]] = field(default_factory=list)
     line_maps: dict[str, Any] = field(default_factory=dict)
     modules: list[str] = field(default_factory=list)          # module names elaborated
     # modules left out of the analysis: {"module", "reason", "path", "line", "instances"}

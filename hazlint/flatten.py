@@ -87,6 +87,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         self.declared: set[str] = set()        # user-declared net bit names
         self.port_bits_top: dict[str, str] = {}
         self.port_attrs: dict[str, dict] = {}
+        # declarations carrying hazlint_* attributes: (name, bits, attributes, location)
+        self.attr_decls: list[tuple[str, list[str], dict, ir.Loc | None]] = []
         self.latch_paths: list[tuple[str, str, str]] = []
         self.init_values: initial_values.InitValues = {}    # net bit -> power-up value
         self.blackbox_cells_warned: set[str] = set()
@@ -323,9 +325,16 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                 self._set_param(scope, it, named)
         for pname, port in m.ports.items():
             self.declare(scope, pname, port.width, port.net_type, port.signed, port.loc)
+            if port.attrs and is_top:
+                self._note_attrs(scope, pname, port.attrs, port.loc)
             if "init" in port.attrs:
                 initial_values.record_attribute(self, scope, port)
         self.elab_items(scope, m.items, depth, declare_only_params=False)
+
+    def _note_attrs(self, scope: Scope, name: str, attrs: dict, loc) -> None:
+        if any(str(k).startswith("hazlint_") for k in attrs):
+            self.attr_decls.append((self.rel(scope, name), scope.nets[name].bits(), dict(attrs),
+                                    loc))
 
     def _set_param(self, scope: Scope, p: ir.Param, named: Mapping[str, Any]) -> None:
         expr = named.get(p.name) if not p.local else None
@@ -428,6 +437,7 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
                 if it.attrs:
                     for b in scope.nets[it.name].bits():
                         self.port_attrs.setdefault(b, {}).update(it.attrs)
+                    self._note_attrs(scope, it.name, it.attrs, it.loc)
                     if "init" in it.attrs:
                         initial_values.record_attribute(self, scope, it)
             elif isinstance(it, ir.Param) and scope.parent is not None:
@@ -1265,6 +1275,9 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
             output_node={s["port"]: s["id"] for s in self.sinks if s["role"] == "output"},
             latch_paths=self.latch_paths,
             port_attrs={b: a for b, a in self.port_attrs.items() if b in port_set},
+            attr_decls=[{"name": name, "nodes": [rep.get(find(b)) for b in bits], "attrs": attrs,
+                         "path": loc.path if loc else "", "line": loc.line if loc else 0}
+                        for name, bits, attrs, loc in self.attr_decls],
         )
         # registers refer to sink ids (stable) and state node ids (merged-net names)
         for r in self.registers:

@@ -10,6 +10,15 @@ What it finds
     ``sync_inputs``, or ``(* hazlint_sync *)`` / ``(* hazlint_static *)`` on the port) and
     constants do not count as sources of glitches.
 
+    The hazard prover then decides each such pin over every transition its sources can make
+    (the change model): inputs change at any time, so several can change together; register
+    outputs of one clock change together at its edge; quasi-static sources never change; a
+    one-at-a-time group (``one_at_a_time``, ``(* hazlint_one_at_a_time *)``) changes one member
+    per transition; a one-hot group (``one_hot``, ``(* hazlint_one_hot *)``) is one-hot before
+    and after. A finding is dropped only when every allowed transition is proven hazard-free;
+    otherwise it shows the smallest witness, whether it is a function hazard (no logic removes
+    it) or a logic hazard, and the model that was proven.
+
 Why it matters
     These pins act on every pulse, however short. Logic between registers and such a pin can
     glitch when two of its inputs change together (or one input reaches it along two paths), and
@@ -26,8 +35,9 @@ Example
 
 How to fix
     Drive the pin from a register output (for a reset: assert asynchronously, release through a
-    reset synchroniser), use a clock-gating cell for clocks, or declare an input quasi-static
-    when it cannot change during operation.
+    reset synchroniser), use a clock-gating cell for clocks, or declare what the circuit
+    guarantees: an input quasi-static when it cannot change during operation, a group
+    one-at-a-time when its members never change together (a gray-coded pointer).
 """
 from __future__ import annotations
 
@@ -58,7 +68,7 @@ def cone_report(context, sink: str):
     g = context.graph
     gates, sources = context.fanin_cone(sink)
     quiet = {s for s in sources
-             if s in context.quiet_inputs or g.nodes[s]["kind"] == "const"}
+             if s in context.quiet_sources or g.nodes[s]["kind"] == "const"}
     toggling = sources - quiet
     members = gates | sources
     reads: dict[str, int] = {}

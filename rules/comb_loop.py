@@ -1,14 +1,27 @@
-"""Combinational loops.
+"""Combinational loops, judged by what they do.
 
 What it finds
     Feedback paths that do not pass through a register: strongly connected components of the gate
     graph (registers cut the graph, so every component with more than one gate, or a gate feeding
     itself, is a real loop). Each component is reported once, at its gate that comes first in
     source order, with a shortest cycle through that gate as evidence, hop by hop across module
-    boundaries. Two special cases are told apart:
+    boundaries, and with its behaviour, decided by ternary simulation whatever the spelling
+    (primitives, ``assign`` expressions, muxes, library cells):
 
-    * two cross-coupled NAND (or NOR) gates, the classic set/reset storage element, are reported
-      at a lower severity (option ``storage_pair_severity``);
+    * **oscillation** (kind ``oscillation``, an error): for some values of the loop's inputs no
+      state is stable (an odd inverting ring), or an input change leaves the loop undetermined
+      after Eichelberger's procedure B (it may oscillate or end in either state). The witness
+      gives the inputs, and a timed simulation of the loop shows it;
+    * **storage**: two stable states for some inputs. Set/reset latches (cross-coupled NAND or
+      NOR in any spelling), C-elements, mutexes and latches built from gates are named and
+      reported at option ``element_severity`` (default info), other storage loops at
+      ``storage_severity`` (default warning), with advice for asynchronous design: the loop's
+      hold condition (input changes that must not happen together, found by the same
+      procedures) and the hazard-freedom of the logic driving it;
+    * **settles**: one stable state for every input, reached from every change: the loop is
+      logically redundant (also ``storage_severity``);
+    * past the limits (``max_inputs`` loop inputs) the behaviour is left undecided and the loop
+      is an error;
     * a loop closed through a transparent latch (the latch's output reaches its own data input
       through logic) is reported as its own case (option ``latch_loops``), since it only
       oscillates or races while the latch is open.
@@ -16,7 +29,8 @@ What it finds
 Why it matters
     A combinational loop has no defined settling time: it can hold state by accident, oscillate,
     or resolve differently in silicon than in simulation. Timing analysis cannot see through it,
-    so every path through the loop is unconstrained.
+    so every path through the loop is unconstrained. In asynchronous design storage loops are
+    intended, and what matters is that their inputs obey the hold condition and do not glitch.
 
 Example
     ::
@@ -24,14 +38,15 @@ Example
         module careless(input a, input b, output y);
           wire n1, n2;
           nand g1 (n1, a, n2);     // reported here: first gate of the loop in source order
-          and  g2 (n2, n1, b);
+          and  g2 (n2, n1, b);     // oscillates when a = b = 1
           assign y = n2;
         endmodule
 
 How to fix
     Break the feedback with a register clocked by the design clock, or remove the path that was
-    added by mistake. If storage is intended, use a library latch or flip-flop cell so the tools
-    know about it, or accept the storage pair with a waiver that says why.
+    added by mistake. If storage is intended, use a library latch or flip-flop cell in
+    synchronous logic; in asynchronous logic keep the element, check its hold condition and
+    drive its inputs from hazard-free logic, and accept the finding with a waiver that says why.
 """
 from __future__ import annotations
 
@@ -45,13 +60,20 @@ from ._common import name_list, severity, stable_key
 
 ID = "comb-loop"
 SUMMARY = "feedback through combinational logic (a loop not broken by a register)"
-KINDS = ("combinational-loop",)
+KINDS = ("combinational-loop", "oscillation")
 SEVERITY = "error"
 _LEVELS = ("error", "warning", "info")
 OPTIONS = (
-    Option("storage_pair_severity", str, "info",
-           "severity for two cross-coupled NAND or NOR gates (a set/reset storage element)",
-           _LEVELS),
+    Option("element_severity", str, "info",
+           "severity of recognised asynchronous storage elements (set/reset latches, "
+           "C-elements, mutexes, latches built from gates)", _LEVELS),
+    Option("storage_severity", str, "warning",
+           "severity of other loops that hold state, and of loops that settle; oscillating "
+           "loops are errors", _LEVELS),
+    Option("storage_pair_severity", str, "",
+           "old name of element_severity (kept for existing configurations)", ("",) + _LEVELS),
+    Option("max_inputs", int, 12,
+           "loops with more input nets than this are not classified (reported as errors)"),
     Option("latch_loops", bool, True,
            "also report loops closed through a single transparent latch"),
     Option("latch_loop_severity", str, "warning", "severity for loops through a latch", _LEVELS),
@@ -109,22 +131,6 @@ def shortest_path_within(g: "nx.DiGraph", src: str, dst: str, within: set[str]) 
     return None
 
 
-def _storage_pair(g: "nx.DiGraph", comp: set[str]) -> str | None:
-    """'nand' or 'nor' when ``comp`` is two cross-coupled NAND/NOR gates, else None."""
-    if len(comp) != 2:
-        return None
-    a, b = sorted(comp)
-    da, db = g.nodes[a], g.nodes[b]
-    op = da.get("op")
-    if op not in ("nand", "nor") or db.get("op") != op:
-        return None
-    for x, y, dx in ((a, b, da), (b, a, db)):
-        ins = dx.get("inputs") or []
-        if len(ins) < 2 or ins.count(y) != 1 or x in ins:
-            return None
-    return op
-
-
 def _cycle_evidence(ctx, cycle: list[str]):
     hops = tuple(ctx.hop(n) for n in cycle) + (ctx.hop(cycle[0]),)
     notes = [f"loop of {len(cycle)} gate{'s' if len(cycle) != 1 else ''}:"]
@@ -135,6 +141,7 @@ def _cycle_evidence(ctx, cycle: list[str]):
 
 
 def check(design, context):
+    from hazlint.analysis.loops import classify_loop   # here: a cached report loads no networkx
     g = design.graph
     opts = context.options(ID)
     reported_nodes: set[str] = set()
@@ -145,29 +152,120 @@ def check(design, context):
         cycle = shortest_cycle(g, start, comp)
         reported_nodes |= comp
         hops, notes = _cycle_evidence(context, cycle)
-        pair = _storage_pair(g, comp)
         names = [context.net_name(n) for n in cycle]
-        sev = Severity.parse(SEVERITY)
-        if pair:
-            sev = severity(opts["storage_pair_severity"])
-            msg = (f"cross-coupled {pair.upper()} pair forms a set/reset storage element "
-                   f"({names[0]} <-> {names[1]})")
-            fix = ("use a library latch or flip-flop cell for storage, or waive this pair with "
-                   "the reason it is intended")
-        else:
-            loop_txt = " -> ".join(names[:8] + (["..."] if len(names) > 8 else []) + [names[0]])
-            extra = f"; the loop's component has {len(comp)} gates" if len(comp) > len(cycle) else ""
-            msg = f"combinational loop through {len(cycle)} gate(s): {loop_txt}{extra}"
-            fix = ("break the feedback with a register, or remove the path that closes the loop")
+        loop_txt = " -> ".join(names[:8] + (["..."] if len(names) > 8 else []) + [names[0]])
+        extra = f"; the loop's component has {len(comp)} gates" if len(comp) > len(cycle) else ""
+        c = classify_loop(g, comp, max_inputs=opts["max_inputs"])
+        kind, sev, msg, fix, more = _verdict(context, c, comp, cycle, loop_txt, opts)
         yield Diagnostic(
-            rule=ID, kind="combinational-loop", severity=sev, location=context.location(start),
-            instance=g.nodes[start].get("instance", "") or "", message=msg,
+            rule=ID, kind=kind, severity=sev, location=context.location(start),
+            instance=g.nodes[start].get("instance", "") or "", message=msg + extra,
             evidence={"cycle": list(cycle), "scc": sorted(comp),
-                      "storage_element": pair or None, "through_latch": [],
+                      "storage_element": c.element, "behaviour": c.behaviour,
+                      "loop": c.to_json(context.net_name), "through_latch": [],
                       "key": stable_key("loop", *sorted(comp))},
-            notes=tuple(notes), flows=(hops,), fix=fix)
+            notes=tuple(notes + more), flows=(hops,), fix=fix)
     if opts["latch_loops"]:
         yield from _latch_loops(design, context, opts, reported_nodes)
+
+
+def _vector(context, v) -> str:
+    return ", ".join(f"{context.net_name(n)}={x}" for n, x in sorted(
+        v.items(), key=lambda x: context.net_name(x[0]))) or "any input"
+
+
+def _change(context, w) -> str:
+    moved = [n for n in w["to"] if w["from"].get(n) != w["to"][n]]
+    held = {n: x for n, x in w["from"].items() if n not in moved}
+    text = " and ".join(f"{context.net_name(n)} {'rises' if w['to'][n] else 'falls'}"
+                        for n in sorted(moved, key=context.net_name))
+    return text + (f" with {_vector(context, held)}" if held else "")
+
+
+def _verdict(context, c, comp, cycle, loop_txt, opts):
+    """(kind, severity, message, fix, extra notes) for a classified loop."""
+    from hazlint.analysis.loops import ELEMENT_WORDS
+    n = len(cycle)
+    gates = f"{n} gate{'s' if n != 1 else ''}"
+    more = [f"behaviour: {c.behaviour} ({c.reason})"]
+    if c.inputs:
+        more.append("loop inputs: " + name_list(sorted(context.net_name(x) for x in c.inputs),
+                                                8))
+    if c.behaviour == "oscillation":
+        w = c.witness or {}
+        if "inputs" in w:
+            when = f"when {_vector(context, w['inputs'])}" if w["inputs"] else "for any input"
+            msg = f"loop oscillates {when}: no state is stable ({gates}: {loop_txt})"
+        else:
+            msg = (f"loop may oscillate when {_change(context, w)}: ternary simulation leaves it "
+                   f"undetermined ({gates}: {loop_txt})")
+        more += _waveform(context, comp, c)
+        return ("oscillation", Severity.ERROR, msg,
+                "break the feedback with a register, or make the loop's inversion count even so "
+                "it can hold a value", more)
+    if c.behaviour == "inconclusive":
+        return ("combinational-loop", Severity.parse(SEVERITY),
+                f"combinational loop through {gates}: {loop_txt} (behaviour not decided: "
+                f"{c.reason})",
+                "break the feedback with a register, or remove the path that closes the loop",
+                more)
+    level = opts["storage_severity"]
+    if c.element:
+        level = opts["storage_pair_severity"] or opts["element_severity"]
+    sev = severity(level)
+    if c.behaviour == "settles":
+        return ("combinational-loop", sev,
+                f"combinational loop through {gates} settles to one state for every input: "
+                f"{loop_txt}",
+                "remove the path that closes the loop (it is logically redundant) or break it "
+                "with a register: timing analysis cannot see through it", more)
+    if c.hold:
+        more.append("holds state when " + "; ".join(_vector(context, h) for h in c.hold[:3])
+                    + (f" (and {len(c.hold) - 3} more)" if len(c.hold) > 3 else ""))
+    race = ""
+    if c.race and c.element != "mutex":       # both requests at once is a mutex's job
+        race = (f"its state is undetermined when {_change(context, c.race)} together, so "
+                "those inputs must not change at the same time")
+        more.append(f"hold condition: {race}")
+    ins = name_list(sorted(context.net_name(x) for x in c.inputs), 6)
+    if c.element:
+        what = ELEMENT_WORDS[c.element]
+        msg = f"{what} built from {gates} (storage loop): {loop_txt}"
+        fix = (f"asynchronous storage: check its hold condition{' (' + race + ')' if race else ''}"
+               f" and that the logic driving {ins} is hazard-free, since a glitch there changes "
+               "the stored state; in synchronous logic use a library latch or flip-flop")
+        if c.element == "mutex":
+            fix = ("mutual exclusion: both requests together is its normal contention case (it "
+                   "may take time to decide; keep the grant filter); check that a request is "
+                   f"released only after its grant and that the logic driving {ins} is "
+                   "hazard-free")
+        return "combinational-loop", sev, msg, fix, more
+    msg = f"storage loop through {gates}: {loop_txt}"
+    fix = ("if the storage is intended, check its hold condition"
+           f"{' (' + race + ')' if race else ''} and that the logic driving {ins} is "
+           "hazard-free, or use a library latch; if not, break the feedback with a register or "
+           "remove the path that closes the loop")
+    return "combinational-loop", sev, msg, fix, more
+
+
+def _waveform(context, comp, c) -> list[str]:
+    """A timed simulation of the oscillating loop (its input nets as sources)."""
+    from hazlint.analysis.loops import oscillation_trace
+    from hazlint.analysis.waves import timing_diagram
+    try:
+        tr = oscillation_trace(context.graph, comp, c)
+    except Exception:  # noqa: BLE001 - the waveform is an illustration; the verdict stands
+        return []
+    moved = [n for n in c.inputs if len(tr.waves.get(n, ())) > 1]
+    loop = [n for n in sorted(comp, key=lambda x: context.source_rank[x])
+            if len(tr.waves.get(n, ())) > 1][:4]
+    if not loop:
+        return []
+    nets = moved + loop
+    head = ("timed simulation of the loop alone (its delays, inputs changed at 10): "
+            + ("still changing when the simulation stopped" if tr.truncated else
+               f"{max(len(tr.waves[n]) - 1 for n in loop)} changes"))
+    return [head] + timing_diagram(tr, nets, {n: context.net_name(n) for n in nets})
 
 
 def _latch_loops(design, context, opts, comb_nodes):

@@ -45,7 +45,8 @@ def test_demo_text_output_exit_code_and_caution(demo):
     lines = p.stdout.splitlines()
     # evidence lines are indented under their finding; the summary and caution close the output
     assert lines[1].startswith("    ")
-    assert lines[-2].startswith("hazlint: 5 findings (3 errors, 2 warnings)")
+    # the lamp feedback is a set/reset latch by its state table: a storage loop, info
+    assert lines[-2].startswith("hazlint: 5 findings (2 errors, 2 warnings, 1 info)")
     assert "does not make a machine safe" in lines[-1]
     assert "\033[" not in p.stdout          # not a terminal: no colour
 
@@ -110,7 +111,8 @@ def test_changed_keeps_findings_in_or_through_the_changed_files(demo):
     p = hazlint("--no-prove", "--changed", "status_lamp.v", "--format", "json", cwd=demo)
     rows = json.loads(p.stdout)
     # the loop is reported in press_top.v but its evidence runs through status_lamp.v
-    assert [r["rule"] for r in rows] == ["comb-loop"] and p.returncode == 1
+    # (a set/reset latch by its state table: info, which does not fail the run)
+    assert [r["rule"] for r in rows] == ["comb-loop"] and p.returncode == 0
     p = hazlint("--no-prove", "--changed", "two_hand.v", "--format", "json", cwd=demo)
     assert "comb-loop" not in [r["rule"] for r in json.loads(p.stdout)]
 

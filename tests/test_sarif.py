@@ -218,8 +218,8 @@ def test_cli_annotations_on_demo(tmp_path):
     findings = json.loads(j.stdout)
     assert a.returncode == 1 and len(lines) == len(findings)
     for line, f in zip(lines, sorted(findings, key=lambda f: (f["path"], f["line"]))):
-        assert line.startswith(f"::{'error' if f['severity'] == 'error' else 'warning'} "
-                               f"file={f['path']},line={f['line']},")
+        level = {"error": "error", "warning": "warning", "info": "notice"}[f["severity"]]
+        assert line.startswith(f"::{level} file={f['path']},line={f['line']},")
 
 
 def test_streamed_report_is_the_built_document_on_a_benchmark(schema, tmp_path):

@@ -7,35 +7,16 @@ options, and helpers that turn nodes into evidence hops.
 """
 from __future__ import annotations
 
-import fnmatch
-import re
 from functools import cached_property
-from typing import Any, Iterable, Mapping
+from typing import Any, Mapping
 
 import networkx as nx
 
 from ..diagnostics import Hop, Location
 from ..graph import ASYNC_ROLES, SOURCE_KINDS
+from .changes import (ASYNC_ATTR, ChangeModel, build_change_model, declared_quiet_inputs,
+                      matches as _matches, quiet_nets, truthy_attr as _truthy_attr)
 from .timing import ArrivalSolver, TimingGraph
-
-QUIET_ATTRS = ("hazlint_sync", "hazlint_static")
-ASYNC_ATTR = "hazlint_async"
-
-
-def _base(port: str) -> str:
-    return re.sub(r"\[\d+\]$", "", port)
-
-
-def _matches(port: str, patterns: Iterable[str]) -> bool:
-    return any(fnmatch.fnmatchcase(port, p) or fnmatch.fnmatchcase(_base(port), p)
-               for p in patterns)
-
-
-def _truthy_attr(attrs: Mapping[str, Any] | None, name: str) -> bool:
-    if not attrs or name not in attrs:
-        return False
-    v = attrs[name]
-    return v not in (0, "0", False, "false")
 
 
 class AnalysisContext:
@@ -76,15 +57,24 @@ class AnalysisContext:
     def quiet_inputs(self) -> frozenset[str]:
         """Input nodes declared synchronous or quasi-static (attribute or ``sync_inputs``):
         they are not treated as sources of glitches."""
-        pats = list(getattr(self.config, "sync_inputs", []) or [])
-        out = set()
-        g = self.graph
-        for port, n in self.design.input_node.items():
-            attrs = dict(self.design.port_attrs.get(port, {}) or {})
-            attrs.update(g.nodes[n].get("attrs") or {})
-            if any(_truthy_attr(attrs, a) for a in QUIET_ATTRS) or _matches(port, pats):
-                out.add(n)
-        return frozenset(out)
+        return declared_quiet_inputs(self.design,
+                                     list(getattr(self.config, "sync_inputs", []) or []))
+
+    @cached_property
+    def change_model(self) -> ChangeModel:
+        """Which sources change together (:mod:`hazlint.analysis.changes`); building it checks
+        the declarations (bad names are input errors)."""
+        return build_change_model(self.design, self.config)
+
+    @cached_property
+    def quiet_sources(self) -> frozenset[str]:
+        """Sources that never change: quasi-static inputs and registers."""
+        return self.quiet_inputs | self.change_model.quiet
+
+    @cached_property
+    def quiet_nets(self) -> frozenset[str]:
+        """Nets whose cone holds only quiet sources and constants: no finding starts there."""
+        return quiet_nets(self.graph, self.quiet_sources)
 
     @cached_property
     def async_outputs(self) -> frozenset[str]:
@@ -154,11 +144,12 @@ class AnalysisContext:
 
     @cached_property
     def stems(self) -> list[str]:
-        """Fanout stems (a net read by two or more pins), quiet inputs and constants excluded."""
+        """Fanout stems (a net read by two or more pins), quiet nets (constants and logic fed
+        only by quasi-static inputs) excluded."""
         g = self.graph
         out = []
         for n, d in g.nodes(data=True):
-            if d["kind"] == "sink" or d["kind"] == "const" or n in self.quiet_inputs:
+            if d["kind"] == "sink" or n in self.quiet_nets:
                 continue
             reads = 0
             for _, _, e in g.out_edges(n, data=True):

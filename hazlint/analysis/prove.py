@@ -30,8 +30,12 @@ from . import fixes as _fixes
 from .symbolic import Budget, HazardProof, bdd_hazards
 from .satcheck import sat_hazards
 from .ternary import (HAZARD_KINDS, CyclicCone, IntAlgebra, cone, free_sources, function_hazard,
-                      hazard_planes, propagate, ternary_fixpoint, bool_gate, ternary_gate)
+                      hazard_planes, propagate, ternary_gate)
 from .timedsim import DelayAssignment, Glitch, replay, search_assignment, simulate
+from .changes import ChangeModel
+from .loops import classify_loop
+from .changewords import with_change_model
+from .multichange import decide_sink, witness_function_hazard
 from .waves import timing_diagram
 
 DEFAULTS: dict[str, Any] = {
@@ -48,6 +52,9 @@ DEFAULTS: dict[str, Any] = {
     "batch_time": 120.0,         # seconds for the SAT part of a batched pass (0: no limit)
     "engine": "sat",             # batched pass: "sat" (one incremental solver) or "bdd" (a
                                  # shared BDD, then SAT past its budget)
+    "max_changes": 0,            # glitch-sensitive sinks: largest set of simultaneously
+                                 # changing sources examined (0: every set the model allows)
+    "engine_sources": 16,        # ... cones with more sources go to SAT without a BDD try
     "show_proven_absent": False,
     "waveforms": True,
     "seed": 0,
@@ -234,22 +241,8 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
         if p.function_hazard is None and sum(a != b for a, b in changes.values()) > 1:
             c.function_hazard = function_hazard(graph, order, target, c.before, c.after)
         c.reason = p.reason or p.method
-        if replay_glitch and not _nominal_reversed(graph, c, k, order):
-            asg, gl, how = search_assignment(graph, target, c.before, c.after, order,
-                                             trials=int(opts["search_trials"]),
-                                             event_budget=int(opts["search_events"]),
-                                             seed=int(opts["seed"]),
-                                             want_dynamic=k == "dynamic-hazard")
-            if asg is not None:
-                c.assignment, c.glitch, c.how = asg, gl, how
-                # a transport glitch that inertial gates also show is reported as inertial
-                if asg.mode == "transport":
-                    inert = DelayAssignment(asg.corner, asg.pins, asg.wires, "inertial")
-                    g2, _ = replay(graph, target, c.before, c.after, inert, watch=[target])
-                    if g2.occurs and len(g2.changes) >= (3 if k == "dynamic-hazard" else 2):
-                        c.assignment, c.glitch = inert, g2
-            else:
-                c.how = how
+        if replay_glitch:
+            replay_witness(graph, c, k, order, opts)
     else:
         inc = [p for p in proofs.values() if p.status == "inconclusive"]
         if inc:
@@ -258,6 +251,28 @@ def classify(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, in
         else:
             c.reason = "; ".join(sorted({p.reason for p in proofs.values() if p.reason}))
     return c
+
+
+def replay_witness(graph, c: Classification, k: str, order, opts) -> None:
+    """Replay a proven hazard's witness in the timed simulator: the nominal delays (either
+    direction), then a search for a glitching assignment (skews between changing sources,
+    delay bounds, arbitrary wire delays)."""
+    if _nominal_reversed(graph, c, k, order):
+        return
+    asg, gl, how = search_assignment(graph, c.target, c.before, c.after, order,
+                                     trials=int(opts["search_trials"]),
+                                     event_budget=int(opts["search_events"]),
+                                     seed=int(opts["seed"]), want_dynamic=k == "dynamic-hazard")
+    if asg is None:
+        c.how = how
+        return
+    c.assignment, c.glitch, c.how = asg, gl, how
+    # a transport glitch that inertial gates also show is reported as inertial
+    if asg.mode == "transport":
+        inert = DelayAssignment(asg.corner, asg.pins, asg.wires, "inertial", asg.offsets)
+        g2, _ = replay(graph, c.target, c.before, c.after, inert, watch=[c.target])
+        if g2.occurs and len(g2.changes) >= (3 if k == "dynamic-hazard" else 2):
+            c.assignment, c.glitch = inert, g2
 
 
 def _nominal_reversed(graph, c: Classification, kind: str, order) -> bool:
@@ -295,12 +310,14 @@ def combine(results: Sequence[Classification]) -> Classification | None:
 # ---------------------------------------------------------------------------------------------
 # Choice of changing sources for a finding
 
-def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int) -> list[str]:
+def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int,
+                 quiet: frozenset[str] = frozenset()) -> list[str]:
     """Free sources whose change can toggle ``stem`` (and so reach the ``target`` the stem
     feeds; the choice does not depend on it): the stem itself when it is a source, else the
-    sources of its fan-in cone, nearest first."""
+    sources of its fan-in cone, nearest first. ``quiet`` sources (quasi-static) never
+    change."""
     if graph.nodes[stem]["kind"] in SOURCE_KINDS:
-        return [stem]
+        return [] if stem in quiet else [stem]
     dist = {stem: 0}
     frontier = [stem]
     out = []
@@ -313,7 +330,8 @@ def stem_sources(graph: nx.DiGraph, stem: str, target: str | None, limit: int) -
                 dist[p] = dist[n] + 1
                 k = graph.nodes[p]["kind"]
                 if k in SOURCE_KINDS and k != "const":
-                    out.append(p)
+                    if p not in quiet:
+                        out.append(p)
                 elif k == "gate":
                     nxt.append(p)
         frontier = nxt
@@ -360,82 +378,13 @@ class LoopVerdict:
 
 def loop_behaviour(graph: nx.DiGraph, scc: Iterable[str], max_inputs: int = 12,
                    max_cut: int = 10) -> LoopVerdict:
-    """Does the loop settle for every value of the nets that feed it, hold state, or oscillate?
-
-    Every combination of the loop's external inputs (up to ``max_inputs``; treated as
-    independent) is simulated at once, bit-parallel. Ternary simulation from the all-X state
-    (Eichelberger's procedure B from total uncertainty) settles to binary values when the inputs
-    determine the loop; otherwise the binary stable states are counted over a feedback vertex
-    set: none means the loop cannot rest and must oscillate for those inputs, two or more mean
-    storage."""
-    comp = set(scc)
-    g = graph
-    ext = sorted({p for n in comp for p in g.predecessors(n) if p not in comp})
-    if len(ext) > max_inputs:
-        return LoopVerdict("inconclusive", reason=f"{len(ext)} loop inputs (limit {max_inputs})")
-    width = 1 << len(ext)
-    A = IntAlgebra(width)
-    vals = {}
-    for i, n in enumerate(ext):
-        bits = sum(1 << c for c in range(width) if (c >> i) & 1)
-        vals[n] = (A.not_(bits), bits)
-    for n in comp:
-        vals[n] = (A.true, A.true)
-    order = sorted(comp)
-    res = ternary_fixpoint(g, order, dict(vals), A)
-    undetermined = 0
-    for n in comp:
-        c0, c1 = res[n]
-        undetermined |= c0 & c1
-    if not undetermined:
-        return LoopVerdict("settles", reason="ternary simulation settles for all loop inputs")
-    cut = _feedback_set(g, comp)
-    if len(cut) > max_cut:
-        return LoopVerdict("inconclusive", reason=f"feedback set of {len(cut)} nets")
-    rest = [n for n in nx.topological_sort(g.subgraph(comp - set(cut)))]
-    count_ge1 = 0
-    count_ge2 = 0
-    BA = IntAlgebra(width)
-    for s in range(1 << len(cut)):
-        bv = {n: vals[n][1] for n in ext}
-        for i, n in enumerate(cut):
-            bv[n] = BA.mask if (s >> i) & 1 else 0
-        ev = dict(bv)
-        for n in rest:
-            d = g.nodes[n]
-            if d["kind"] == "gate":
-                ev[n] = bool_gate(BA, d["op"], [ev[i] for i in d["inputs"]], d.get("expr"))
-            elif d["kind"] == "sink":
-                ev[n] = ev[d["inputs"][0]]
-        ok = BA.mask
-        for n in cut:
-            d = g.nodes[n]
-            v = bool_gate(BA, d["op"], [ev[i] for i in d["inputs"]], d.get("expr")) \
-                if d["kind"] == "gate" else ev[d["inputs"][0]]
-            ok &= ~(v ^ bv[n]) & BA.mask
-        count_ge2 |= count_ge1 & ok
-        count_ge1 |= ok
-    no_state = undetermined & ~count_ge1 & A.mask
-    if no_state:
-        lane = (no_state & -no_state).bit_length() - 1
-        inputs = {n: (lane >> i) & 1 for i, n in enumerate(ext)}
-        return LoopVerdict("oscillation", inputs=inputs, stable_states=0,
-                           reason="no stable state for these loop inputs")
-    if count_ge2 & undetermined:
-        return LoopVerdict("storage", reason="two stable states for some loop inputs")
-    return LoopVerdict("settles", stable_states=1,
-                       reason="one stable state for every loop input")
-
-
-def _feedback_set(g: nx.DiGraph, comp: set[str]) -> list[str]:
-    """A small feedback vertex set of the strongly connected ``comp`` (greedy)."""
-    h = nx.DiGraph(g.subgraph(comp))
-    cut = []
-    while not nx.is_directed_acyclic_graph(h):
-        n = max(h.nodes, key=lambda x: (h.in_degree(x) * h.out_degree(x), str(x)))
-        cut.append(n)
-        h.remove_node(n)
-    return [n for n in cut if g.nodes[n]["kind"] == "gate"] or cut
+    """Does the loop settle, hold state, or oscillate? (:func:`hazlint.analysis.loops.
+    classify_loop`: stable states over every value of the loop inputs, then Eichelberger's
+    procedures A and B for every single input change.)"""
+    c = classify_loop(graph, scc, max_inputs=max_inputs, max_cut=max_cut)
+    w = c.witness or {}
+    return LoopVerdict(c.behaviour, inputs=w.get("inputs", w.get("to")),
+                       stable_states=0 if "inputs" in w else None, reason=c.reason)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -471,6 +420,8 @@ def glitch_text(c: Classification) -> str:
             f"{len(g.changes)} output changes")
     if c.how == "nominal":
         return f"glitches with the nominal delays ({c.assignment.mode}): {what}"
+    if c.how == "skewed":
+        return f"glitches with the nominal delays and the changes skewed as below: {what}"
     if c.how in ("min-corner", "within-bounds"):
         return f"glitches within the delay bounds ({c.how}): {what}"
     return ("hazardous under arbitrary delays but not with the nominal delays; it glitches "
@@ -651,7 +602,8 @@ def _plan(graph, d: Diagnostic, context, opts, memo=None):
         sinks = sinks[: int(opts["max_sinks"])]
         srcs = memo.get(stem) if memo is not None else None
         if srcs is None:
-            srcs = stem_sources(graph, stem, None, int(opts["max_sources"]))
+            srcs = stem_sources(graph, stem, None, int(opts["max_sources"]),
+                                getattr(context, "quiet_sources", frozenset()))
             if memo is not None:
                 memo[stem] = srcs
         work = [(s, srcs) for s in sinks]
@@ -660,9 +612,8 @@ def _plan(graph, d: Diagnostic, context, opts, memo=None):
         skew = float(skew) if isinstance(skew, (int, float)) else 0.0
         return (0 if sens else 2, -skew, d.sort_key()), work
     if d.kind == "unregistered-async" and ev.get("sink_node") in graph:
-        sink = ev["sink_node"]
-        srcs = [s for s in ev.get("source_nodes") or [] if s in graph][: int(opts["max_sources"])]
-        return (1, 0.0, d.sort_key()), [(sink, srcs)]
+        # decided over the change model by refine_sink (multichange), not by single changes
+        return (1, 0.0, d.sort_key()), [(ev["sink_node"], [])]
     return None
 
 
@@ -726,9 +677,13 @@ class _RunMemo:
     per_source: dict[tuple, Classification] = field(default_factory=dict)
     # consensus-term searches, per change and gate (see fixes.consensus_fix)
     fixes: dict = field(default_factory=dict)
+    # driver of a glitch-sensitive sink -> its verdict over the change model
+    sinks: dict = field(default_factory=dict)
 
 
 def _refine_planned(graph, d, ev, work, context, opts, memo: _RunMemo, known, full, limit):
+    if d.kind == "unregistered-async":
+        return _refine_sink(graph, d, ev, context, opts, memo, full, limit)
     results = []
     cache = memo.verdicts
     for s, srcs in work:
@@ -758,6 +713,43 @@ def _refine_planned(graph, d, ev, work, context, opts, memo: _RunMemo, known, fu
     x = _apply(graph, d, c, ev, context, o, replayed=replayed, limit=limit,
                fix_memo=memo.fixes)
     return [x] if x is not None else []
+
+
+def _refine_sink(graph, d, ev, context, opts, memo: _RunMemo, full, limit):
+    """A glitch-sensitive sink's finding, decided over every transition the change model
+    allows (:mod:`hazlint.analysis.multichange`); its drivers' verdicts are shared."""
+    sink = ev["sink_node"]
+    drv = (graph.nodes[sink].get("inputs") or [sink])[0]
+    v = memo.sinks.get(drv)
+    if v is None:
+        model = getattr(context, "change_model", None) if context is not None else None
+        if model is None:
+            model = ChangeModel(quiet=frozenset(ev.get("quiet_nodes") or ()))
+        v = memo.sinks[drv] = decide_sink(graph, sink, model, opts)
+    label = lambda n: net_label(graph, n)  # noqa: E731
+    pick = v.best()
+    if pick is not None:
+        k, question, f = pick
+        c = Classification(sink, k, {n: (f.before[n], f.after[n]) for n in f.changed},
+                           dict(f.before), dict(f.after), proofs=v.hazard_proofs(),
+                           reason=v.proof_text(label))
+        got = _cone_of(graph, sink, memo.cones)
+        order = got[0] if got is not None else None
+        c.function_hazard = (question == "function" if question != "any" else
+                             witness_function_hazard(graph, order, sink, f))
+        if full and order is not None:
+            replay_witness(graph, c, k, order, opts)
+    else:
+        c = Classification(sink, "hazard-free" if v.status == "hazard-free" else "inconclusive",
+                           {}, proofs=v.hazard_proofs(), reason=v.proof_text(label))
+    o = opts if full else dict(opts, waveforms=False)
+    x = _apply(graph, d, c, ev, context, o, replayed=full or c.glitch is not None or bool(c.how),
+               limit=limit, fix_memo=memo.fixes)
+    return [] if x is None else [with_change_model(x, v, label, _cell_model(context))]
+
+
+def _cell_model(context) -> str:
+    return getattr(getattr(context, "config", None), "cell_model", None) or "atomic"
 
 
 def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed: bool = True,
@@ -797,7 +789,7 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed:
     notes.append(f"proof: {c.reason}")
     others = [k2 for k2 in c.present_kinds if k2 != kind]
     if others:
-        notes.append("also possible for other values of the held inputs: " + ", ".join(others))
+        notes.append("also possible for other transitions: " + ", ".join(others))
     evidence["present_kinds"] = c.present_kinds
     notes.append(f"witness: {witness_text(graph, c)}")
     if gt:
@@ -818,6 +810,9 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed:
 
 
 def _refine_loop(graph, d: Diagnostic, ev) -> Diagnostic | None:
+    """An oscillation finding for a loop finding the loop rule did not classify itself."""
+    if ev.get("loop"):
+        return None
     comp = [n for n in ev["scc"] if n in graph]
     v = loop_behaviour(graph, comp)
     if v.behaviour != "oscillation":

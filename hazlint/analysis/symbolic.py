@@ -34,6 +34,14 @@ class Budget(Exception):
         self.reason = reason
 
 
+def new_manager(memory_mb: int | None = None):
+    """A fresh BDD manager; ``memory_mb`` sizes CUDD's tables (its default allocation costs
+    tens of milliseconds, more than a small cone needs)."""
+    if BACKEND == "cudd" and memory_mb:
+        return _bdd_mod.BDD(memory_estimate=memory_mb * 2 ** 20, initial_cache_size=2 ** 14)
+    return _bdd_mod.BDD()
+
+
 class BDDAlgebra:
     """The algebra interface of :class:`hazlint.analysis.ternary.IntAlgebra` over BDD nodes."""
 
@@ -82,6 +90,13 @@ class BDDAlgebra:
     def xor(self, a, b):
         self._tick()
         return self.bdd.apply("xor", a, b)
+
+    def and_exists(self, u, w, qvars):
+        """``exists qvars: u & w`` (one relational product with CUDD)."""
+        self._tick()
+        if BACKEND == "cudd" and hasattr(_bdd_mod, "and_exists"):
+            return _bdd_mod.and_exists(u, w, qvars)
+        return self.bdd.exist(qvars, u & w)
 
 
 @dataclass

@@ -33,6 +33,7 @@ import networkx as nx
 from ..graph import SOURCE_KINDS
 from ..logic import op_as_expr
 from .order import fanin_postorder
+from .cellmodel import atomic_ternary, atomic_transient, is_atomic_candidate, node_expr
 
 # ---------------------------------------------------------------------------------------------
 # Boolean algebras (explicit bit-parallel ints here; BDD and CNF builders elsewhere)
@@ -102,8 +103,8 @@ def bool_gate(A, op: str, ins: Sequence, expr=None):
 
 
 def ternary_gate(A, op: str, ins: Sequence[tuple], expr=None) -> tuple:
-    """Dual-rail ternary value ``(c0, c1)`` of a gate (the ternary extension for primitives;
-    structural for mux and expression cells, so hazards inside a complex cell are seen)."""
+    """Dual-rail ternary value ``(c0, c1)`` of a gate: the ternary extension of its function
+    (every node is atomic, see :mod:`hazlint.analysis.cellmodel`)."""
     if op in ("and", "nand"):
         c0 = A.or_(*(i[0] for i in ins))
         c1 = A.and_(*(i[1] for i in ins))
@@ -135,6 +136,8 @@ def ternary_gate(A, op: str, ins: Sequence[tuple], expr=None) -> tuple:
             d0, d1 = d1, d0
         # enabled: data; may be disabled (Z): X
         return (A.or_(A.and_(e1, d0), e0), A.or_(A.and_(e1, d1), e0))
+    if is_atomic_candidate(op, len(ins)):
+        return atomic_ternary(A, node_expr(op, len(ins), expr), ins)
     return _expr_eval(A, _structural(op, len(ins), expr), ins, ternary_gate)
 
 
@@ -180,6 +183,8 @@ def transient_gate(A, op: str, ins: Sequence[tuple], expr=None) -> tuple:
              "notif1": ("and", ("not", ("in", 0)), ("in", 1)),
              "notif0": ("and", ("not", ("in", 0)), ("not", ("in", 1)))}[op]
         return _expr_eval(A, e, ins, transient_gate)
+    if is_atomic_candidate(op, len(ins)):
+        return atomic_transient(A, node_expr(op, len(ins), expr), ins)
     return _expr_eval(A, _structural(op, len(ins), expr), ins, transient_gate)
 
 
@@ -397,13 +402,15 @@ def procedure_a_b(graph: nx.DiGraph, nodes: Sequence[str], state: Mapping[str, t
         b = inputs_b.get(n, a)
         vals[n] = (A.true, A.true) if a != b else (A.not_(A.true * a), A.true * a)
     # procedure A may only add X: take the least upper bound with the old values
-    vals = _lub_fixpoint(graph, nodes, vals, A)
+    vals = lub_fixpoint(graph, nodes, vals, A)
     for n, b in inputs_b.items():
         vals[n] = (A.not_(A.true * b), A.true * b)
     return ternary_fixpoint(graph, nodes, vals, A)
 
 
-def _lub_fixpoint(graph, nodes, vals, A):
+def lub_fixpoint(graph, nodes, vals, A):
+    """Procedure A's propagation: iterate ternary evaluation of ``nodes``, each value the
+    least upper bound of its old value and the new one (values only become less defined)."""
     g = graph.nodes
     for _ in range(2 * len(nodes) + 2):
         changed = False

@@ -35,6 +35,7 @@ import networkx as nx
 
 from ..library import Delay
 from .order import ordered_copy
+from .skews import skew_offsets
 from .ternary import IntAlgebra, bool_gate, ternary_fixpoint
 
 INF = float("inf")
@@ -45,27 +46,33 @@ class DelayAssignment:
     """Delays for one simulation: per gate pin ``(node, pin) -> (rise, fall)``, extra wire
     delays ``(u, v) -> delay`` (transport, in front of every pin of ``v`` fed by ``u``) or
     ``(u, v, pin) -> delay`` (that pin only), and the corner for everything not listed.
-    JSON-able through :meth:`to_json`."""
+    ``offsets`` delays the change of a source in a replayed transition (the skew between
+    sources that change together). JSON-able through :meth:`to_json`."""
 
     corner: str = "max"
     pins: dict[tuple[str, int], tuple[float, float]] = field(default_factory=dict)
     wires: dict[tuple[str, str], float] = field(default_factory=dict)
     mode: str = "inertial"
+    offsets: dict[str, float] = field(default_factory=dict)
 
     def to_json(self) -> dict[str, Any]:
-        return {"corner": self.corner, "mode": self.mode,
-                "pins": [{"node": n, "pin": p, "rise": r, "fall": f}
-                         for (n, p), (r, f) in sorted(self.pins.items())],
-                "wires": [dict({"from": k[0], "to": k[1], "delay": w},
-                               **({"pin": k[2]} if len(k) > 2 else {}))
-                          for k, w in sorted(self.wires.items())]}
+        out = {"corner": self.corner, "mode": self.mode,
+               "pins": [{"node": n, "pin": p, "rise": r, "fall": f}
+                        for (n, p), (r, f) in sorted(self.pins.items())],
+               "wires": [dict({"from": k[0], "to": k[1], "delay": w},
+                              **({"pin": k[2]} if len(k) > 2 else {}))
+                         for k, w in sorted(self.wires.items())]}
+        if self.offsets:
+            out["offsets"] = dict(sorted(self.offsets.items()))
+        return out
 
     @classmethod
     def from_json(cls, d: Mapping[str, Any]) -> "DelayAssignment":
         return cls(corner=d.get("corner", "max"), mode=d.get("mode", "inertial"),
                    pins={(p["node"], p["pin"]): (p["rise"], p["fall"]) for p in d.get("pins", [])},
                    wires={((w["from"], w["to"], w["pin"]) if "pin" in w else
-                           (w["from"], w["to"])): w["delay"] for w in d.get("wires", [])})
+                           (w["from"], w["to"])): w["delay"] for w in d.get("wires", [])},
+                   offsets=dict(d.get("offsets") or {}))
 
     def describe(self, graph: nx.DiGraph | None = None) -> list[str]:
         def nm(n):
@@ -73,6 +80,11 @@ class DelayAssignment:
                 return n
             return graph.nodes[n].get("instance") or graph.nodes[n].get("name") or n
         out = [f"{self.mode} delays, {self.corner} corner elsewhere"]
+        for n, t in sorted(self.offsets.items(), key=lambda x: (x[1], x[0])):
+            if t:
+                src = graph.nodes[n] if graph is not None and n in graph else {}
+                out.append(f"{src.get('port') or src.get('name') or n} changes {_num(t)} after "
+                           "the first change")
         for (n, p), (r, f) in sorted(self.pins.items()):
             out.append(f"pin {p} of {nm(n)}: rise {_num(r)}, fall {_num(f)}")
         for k, w in sorted(self.wires.items()):
@@ -470,7 +482,7 @@ def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Map
     if w is not None:
         # only the watched nets are recorded, so only their fan-in cone needs simulating
         graph = fanin_cone(graph, w)
-    evs = [(settle, n, v & 1) for n, v in after.items()
+    evs = [(settle + asg.offsets.get(n, 0.0), n, v & 1) for n, v in after.items()
            if (before.get(n, 0) & 1) != (v & 1) and n in graph]
     tr = simulate(graph, before, evs, assignment=asg, watch=w, prep=prep, max_events=max_events)
     return glitch_at(tr, target, settle, asg.mode), tr
@@ -537,16 +549,24 @@ def _search(graph, target, before, after, order, trials, seed, want_dynamic, eve
         return gl if ok else None
 
     tried = 0
-    for asg, how in ((DelayAssignment("max", mode="inertial"), "nominal"),
-                     (DelayAssignment("max", mode="transport"), "nominal"),
-                     (DelayAssignment("min", mode="inertial"), "min-corner"),
-                     (DelayAssignment("min", mode="transport"), "min-corner")):
+    gates = [n for n in order if n in moving and graph.nodes[n]["kind"] == "gate"]
+    tries = [(DelayAssignment("max", mode="inertial"), "nominal")]
+    if len(changing) >= 2:
+        # sources that change together do so a little apart: the nominal (inertial) delays
+        # with a skew between them, each order of the sources, the skew growing
+        depth = max(1, _depth(graph, order, moving))
+        tries += [(DelayAssignment("max", mode="inertial", offsets=off), "skewed")
+                  for off in skew_offsets(sorted(changing), depth * _max_delay(graph, gates),
+                                          max(1, trials // 3))]
+    tries += [(DelayAssignment("max", mode="transport"), "nominal"),
+              (DelayAssignment("min", mode="inertial"), "min-corner"),
+              (DelayAssignment("min", mode="transport"), "min-corner")]
+    for asg, how in tries:
         tried += 1
         gl = run(asg)
         if gl:
             return asg, gl, how
     rng = random.Random(seed)
-    gates = [n for n in order if n in moving and graph.nodes[n]["kind"] == "gate"]
     bounded = [(n, p) for n in gates for p in range(len(graph.nodes[n]["inputs"]))
                if _has_range(graph.nodes[n], p)]
     budget = max(0, trials - tried)
@@ -574,6 +594,10 @@ def _search(graph, target, before, after, order, trials, seed, want_dynamic, eve
                 wires[e] = float(rng.randint(1, int(scale) * 2))
         wires = {e: w for e, w in wires.items() if w > 0}
         asg = DelayAssignment("max", wires=wires, mode="transport")
+        if len(changing) >= 2 and k % 4 >= 2:
+            # changes of several sources: skewed too, with inertial gates
+            asg = DelayAssignment("max", wires=wires, mode="inertial", offsets={
+                n: float(rng.randint(0, int(scale))) for n in sorted(changing)})
         gl = run(asg)
         if gl:
             try:
@@ -591,7 +615,8 @@ def _shrink(asg: DelayAssignment, run) -> DelayAssignment:
     wires = dict(asg.wires)
 
     def ok(w):
-        return run(DelayAssignment(asg.corner, dict(asg.pins), w, asg.mode)) is not None
+        return run(DelayAssignment(asg.corner, dict(asg.pins), w, asg.mode,
+                                   dict(asg.offsets))) is not None
     for e in sorted(wires, key=lambda e: wires[e]):
         trial = dict(wires)
         del trial[e]
@@ -606,7 +631,7 @@ def _shrink(asg: DelayAssignment, run) -> DelayAssignment:
             else:
                 lo = mid
         wires[e] = float(hi)
-    return DelayAssignment(asg.corner, dict(asg.pins), wires, asg.mode)
+    return DelayAssignment(asg.corner, dict(asg.pins), wires, asg.mode, dict(asg.offsets))
 
 
 def _has_range(d, p) -> bool:

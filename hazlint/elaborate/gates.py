@@ -45,7 +45,9 @@ class GateBuilder:
         return self.gate(scope, "xnor", [a, b], loc)
 
     def mux_bits(self, scope, c: str, a: list[str], b: list[str], loc) -> list[str]:
-        """``c ? a : b`` bit by bit (one inverter for the select)."""
+        """``c ? a : b`` bit by bit: an atomic mux node per bit, or one AND/OR gate (and one
+        inverter for the select) where a data input is constant, which has the same ternary
+        extension as the mux with that constant."""
         if c == C1:
             return list(a)
         if c == C0:
@@ -67,9 +69,9 @@ class GateBuilder:
                     out.append(self.gate(scope, "and" if x == C0 else "or",
                                          [nc, y if x == C0 else x], loc))
                     continue
-                t = self.gate(scope, "and", [c, x], loc)
-                f = self.gate(scope, "and", [nc, y], loc)
-                out.append(self.gate(scope, "or", [t, f], loc))
+                # one atomic mux node (see hazlint.analysis.cellmodel): `?:`, if/else and a mux
+                # cell get the same verdict
+                out.append(self.gate(scope, "mux", [c, x, y], loc))
         return out
 
     # ---------------------------------------------------------------- arithmetic
