@@ -629,6 +629,10 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
     def elab_assign(self, scope: Scope, a: ir.Assign) -> None:
         lhs = self.lvalue_bits(a.lhs, scope, a.loc)
         delay = self.delay(a.delay, scope, a.loc) if a.delay else None
+        tri = _three_state(a.rhs)
+        if tri is not None:
+            self._assign_three_state(scope, a, lhs, delay, *tri)
+            return
         if delay is not None:
             saved = self.default_delay
             self.default_delay = ZERO_DELAY
@@ -659,6 +663,22 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
             rhs = self.bits(a.rhs, scope, a.loc, len(lhs))
             for dst, src in zip(lhs, rhs):
                 self.connect(scope, dst, src, a.loc)
+
+    def _assign_three_state(self, scope: Scope, a: ir.Assign, lhs: list[str], delay,
+                            cond, data, active: int) -> None:
+        """``assign y = en ? d : 'bz;`` (or ``en ? 'bz : d``): a three-state driver per bit,
+        as ``bufif1``/``bufif0`` would build it (its enable is a glitch-sensitive sink), so
+        the common RTL spelling of a bus driver gets the same verdict as the primitive."""
+        en = self.reduce(scope, "or", self.bits(cond, scope, a.loc, None), a.loc)
+        src = self.bits(data, scope, a.loc, len(lhs))
+        d = delay if delay is not None else self.default_delay
+        name = self.rel(scope, _expr_text(a.lhs)[:80])
+        op = "bufif1" if active else "bufif0"
+        for dst, s in zip(lhs, src):
+            self._add_driver("gate", dst, op=op, inputs=[s, en], delays=[d, d], cell=op,
+                             instance=f"{scope.instance}.{name}", loc=a.loc, tri=True)
+        self.add_sink(en, "tristate_enable", f"{name}.enable", a.loc,
+                      f"{scope.instance}.{name}", active=active)
 
     def delay(self, d, scope: Scope, loc) -> Delay:
         """An IR delay (list of (min, typ, max) expressions: rise, fall, turn-off) as a Delay in
@@ -1320,6 +1340,25 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
 
 
 # ------------------------------------------------------------------------------------------------
+def _all_z(e) -> bool:
+    """A literal whose every bit is z (``'bz``, ``8'hzz``; z bits have value 1 in the IR)."""
+    if not e or e[0] != "num":
+        return False
+    _, width, value, xz, _s = e
+    return bool(xz) and value == xz and (width is None or xz == (1 << width) - 1)
+
+
+def _three_state(e):
+    """(condition, data, active level) of ``c ? d : 'bz`` / ``c ? 'bz : d``, else None."""
+    if not e or e[0] != "cond":
+        return None
+    if _all_z(e[3]) and not _all_z(e[2]):
+        return e[1], e[2], 1
+    if _all_z(e[2]) and not _all_z(e[3]):
+        return e[1], e[3], 0
+    return None
+
+
 def _instantiation_cycle(modules: Mapping[str, ir.Module]) -> ElaborationError:
     """The error for a design whose every module is instantiated: the instantiation that
     closes a cycle (a module that contains itself), at its line."""

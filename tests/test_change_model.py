@@ -52,6 +52,8 @@ EXPECTED = {
                           "error")],
     "tristate_enable.v": [("tristate_enable.v", 7, "async-from-logic", "static-0-hazard",
                            "error")],
+    "tristate_assign.v": [("tristate_assign.v", 9, "async-from-logic", "static-0-hazard",
+                           "error")],
     "quiet_cone.v": [],
     "gray_pointer.v": [],
 }
@@ -60,6 +62,7 @@ WITNESS = {   # the smallest change set of each hazard: the two sources changing
     "reset_decoded_counter.v": ["count_q[0]", "count_q[1]"],
     "clock_and_gate.v": ["clk", "run"],
     "tristate_enable.v": ["cs_i", "rd_i"],
+    "tristate_assign.v": ["cs_i", "rd_i"],
 }
 
 
