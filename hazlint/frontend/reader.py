@@ -8,20 +8,16 @@ soon as a file's IR is built.
 from __future__ import annotations
 
 import gc
-import hashlib
-import json
-import os
 import threading
 from typing import Callable
 
-from .. import __version__
-from ..errors import HazlintError, ParseError
+from ..errors import ParseError
 from . import ir
 from .build_ir import build_source
+from .driver import CACHE_FORMAT, combined_digest, read_with  # noqa: F401 (CACHE_FORMAT: API)
 from .parser import SyntaxErr, get_parser
-from .preprocess import Preprocessor, digest_text, read_text
+from .preprocess import Preprocessor
 
-CACHE_FORMAT = 2        # 2: positional IR (ir.to_compact)
 _PARSE_LOCK = threading.RLock()
 
 
@@ -37,57 +33,8 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
     file; ``root`` bounds where includes may resolve (default: the common directory of the
     inputs). Errors are :class:`~hazlint.errors.ParseError` with the original file:line.
     """
-    paths = [os.fspath(p) for p in paths]
-    include_dirs = [os.fspath(d) for d in include_dirs]
-    defines = dict(defines or {})
-    texts = {os.path.abspath(k): v for k, v in (texts or {}).items()}
-    if root is None:
-        root = _default_root(paths)
-    total = len(paths)
-    results: list = [None] * total
-    keys: list = [None] * total
-    todo: list[int] = []
-    done = 0
-    for i, path in enumerate(paths):
-        text = read_text(path, texts)
-        if cache is not None:
-            keys[i] = _cache_key(path, text, include_dirs, defines, root)
-            sf = _from_cache(cache, keys[i], texts)
-            if sf is not None:
-                results[i] = sf
-                done += 1
-                if progress:
-                    progress(done, total, path)
-                continue
-        todo.append(i)
-    config = (include_dirs, defines, root, texts)
-    if jobs > 1 and len(todo) > 1:
-        from concurrent.futures import ProcessPoolExecutor, as_completed
-        with ProcessPoolExecutor(max_workers=min(jobs, len(todo))) as pool:
-            futures = {pool.submit(_worker, paths[i], config): i for i in todo}
-            errors = {}
-            for fut in as_completed(futures):
-                i = futures[fut]
-                status, payload = fut.result()
-                if status == "error":
-                    errors[i] = payload
-                    continue
-                results[i] = ir.from_json(payload)
-                done += 1
-                if progress:
-                    progress(done, total, paths[i])
-        if errors:
-            raise ParseError(**errors[min(errors)])     # the first failing file in input order
-    else:
-        for i in todo:
-            results[i] = read_one(paths[i], include_dirs, defines, root, texts)
-            done += 1
-            if progress:
-                progress(done, total, paths[i])
-    if cache is not None:
-        for i in todo:
-            _to_cache(cache, keys[i], results[i], texts)
-    return results
+    return read_with(read_one, paths, include_dirs=include_dirs, defines=defines, root=root,
+                     jobs=jobs, cache=cache, texts=texts, progress=progress)
 
 
 def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) -> ir.SourceFile:
@@ -131,90 +78,5 @@ def _read_one(path, include_dirs, defines, root, texts) -> ir.SourceFile:
         parser.lexer.attrs_at = {}
     sf = ir.SourceFile(path=path, modules=modules, primitives=prims,
                        notes=notes + [(ir.Loc(p, n), msg) for p, n, msg in pre.notes],
-                       includes=list(pre.includes), digest=_combined_digest(pre.digests, path))
+                       includes=list(pre.includes), digest=combined_digest(pre.digests, path))
     return sf
-
-
-# ---------------------------------------------------------------------------------------------
-
-def _default_root(paths) -> str:
-    dirs = [os.path.dirname(os.path.abspath(p)) for p in paths]
-    if not dirs:
-        return os.getcwd()
-    try:
-        return os.path.commonpath(dirs)
-    except ValueError:
-        return os.getcwd()
-
-
-def _combined_digest(digests: dict, path: str) -> str:
-    h = hashlib.sha256()
-    h.update(digests[path].encode())
-    for p in sorted(k for k in digests if k != path):
-        h.update(b"\0" + p.encode("utf-8", "surrogateescape") + b"\0" + digests[p].encode())
-    return h.hexdigest()
-
-
-def _cache_key(path, text, include_dirs, defines, root) -> str:
-    material = json.dumps({
-        "format": CACHE_FORMAT, "hazlint": __version__, "path": os.path.abspath(path),
-        "content": digest_text(text), "include_dirs": [os.path.abspath(d) for d in include_dirs],
-        "defines": sorted((str(k), None if v is None else str(v)) for k, v in defines.items()),
-        "root": os.path.abspath(root) if root else None,
-    }, sort_keys=True)
-    return hashlib.sha256(material.encode()).hexdigest()
-
-
-def _from_cache(cache, key, texts):
-    try:
-        data = cache.load(key)
-    except Exception:       # a broken cache must never stop a lint run
-        return None
-    if not isinstance(data, dict) or data.get("format") != CACHE_FORMAT:
-        return None
-    deps = data.get("deps") or {}
-    for dep, want in deps.items():
-        try:
-            if digest_text(read_text(dep, texts)) != want:
-                return None
-        except HazlintError:
-            return None
-    # decoding builds many small acyclic objects: no cyclic GC passes meanwhile
-    gc_was_enabled = gc.isenabled()
-    gc.disable()
-    try:
-        sf = ir.from_compact(data["ir"])
-    except (KeyError, TypeError, ValueError, AttributeError):
-        sf = None
-    finally:
-        if gc_was_enabled:
-            gc.enable()
-    if not isinstance(sf, ir.SourceFile):
-        discard = getattr(cache, "discard", None)
-        if discard is not None:
-            discard(key)            # valid JSON but not an entry we can use: remove it
-        return None
-    return sf
-
-
-def _to_cache(cache, key, sf: ir.SourceFile, texts) -> None:
-    deps = {}
-    for p in sf.includes:
-        try:
-            deps[p] = digest_text(read_text(p, texts))
-        except HazlintError:
-            return
-    try:
-        cache.store(key, {"format": CACHE_FORMAT, "ir": ir.to_compact(sf), "deps": deps,
-                          "includes": list(sf.includes)})
-    except Exception:
-        pass
-
-
-def _worker(path, config):
-    include_dirs, defines, root, texts = config
-    try:
-        return ("ok", ir.to_json(read_one(path, include_dirs, defines, root, texts)))
-    except HazlintError as exc:
-        return ("error", {"message": exc.message, "path": exc.path, "line": exc.line,
-                          "column": exc.column, "construct": exc.construct})
