@@ -27,6 +27,7 @@ Keys (all optional)::
     cache_dir = ".hazlint-cache"
     cache_limit_mb = 2048           # size limit of the cache folder (0: none)
     jobs = 2
+    frontend = "auto"               # auto | pyverilog | slang (auto: .sv files through slang)
     prove = { }                     # options handed to the hazard prover
 
     [rules.skewed-reconvergence]    # rule options (see ``hazlint explain RULE``)
@@ -73,6 +74,7 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "cache_dir": ((str,), "a path"),
     "cache_limit_mb": ((int,), "a size in MB (0: no limit)"),
     "jobs": ((int,), "a number of worker processes"),
+    "frontend": ((str,), "auto, pyverilog or slang"),
     "prove": ((dict,), "a table of hazard-prover options"),
 }
 FAIL_LEVELS = ("error", "warning", "info", "never")
@@ -103,6 +105,7 @@ class Config:
     cache_dir: str | None = None
     cache_limit_mb: int | None = None
     jobs: int | None = None
+    frontend: str = "auto"
     prove: dict[str, Any] = field(default_factory=dict)
     raw: dict[str, Any] = field(default_factory=dict)     # the table as written
     key_lines: dict[str, int] = field(default_factory=dict)   # key -> line in the file
@@ -307,6 +310,13 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         if table["jobs"] < 1:
             raise err("jobs", "jobs must be at least 1")
         cfg.jobs = table["jobs"]
+    if "frontend" in table:
+        from .frontend.registry import check_choice
+        try:
+            check_choice(table["frontend"])
+        except ConfigError as exc:
+            raise err("frontend", exc.message) from None
+        cfg.frontend = table["frontend"]
     cfg.prove = dict(table.get("prove", {}))
     if cfg.prove:
         from .analysis.prove import DEFAULTS as PROVE_DEFAULTS

@@ -51,6 +51,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="record the current findings in FILE and exit 0")
     p.add_argument("-j", "--jobs", type=int, metavar="N",
                    help="parse files in N worker processes (configuration 'jobs')")
+    add_frontend_argument(p)
     p.add_argument("--cache-dir", metavar="DIR",
                    help="parse cache folder (configuration 'cache_dir'; default: per-user "
                         "cache folder, or the HAZLINT_CACHE_DIR environment variable)")
@@ -58,6 +59,14 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--color", choices=("auto", "always", "never"), default="auto",
                    help="colour the text output (auto: only on a terminal, not with NO_COLOR)")
     p.add_argument("--brief", action="store_true", help="text: no evidence lines")
+
+
+def add_frontend_argument(p) -> None:
+    from ..frontend.registry import CHOICES
+    p.add_argument("--frontend", choices=CHOICES,
+                   help="reader of the Verilog files (configuration 'frontend'; default auto: "
+                        ".sv files through slang when pyslang is installed, others through "
+                        "pyverilog)")
 
 
 def _defines(items):
@@ -106,6 +115,10 @@ def run(args) -> int:
         config.jobs = args.jobs
     if args.cache_dir:
         config.cache_dir = os.path.abspath(args.cache_dir)
+    if args.frontend:
+        from ..frontend.registry import check_choice
+        check_choice(args.frontend)
+        config.frontend = args.frontend
     color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)
     render_opts = {"format": args.format, "color": color, "evidence": not args.brief}
     reports = key = None

@@ -5,6 +5,7 @@ import json
 import os
 
 from ..errors import HazlintError
+from .check import add_frontend_argument
 
 
 def add_arguments(p) -> None:
@@ -17,6 +18,7 @@ def add_arguments(p) -> None:
     p.add_argument("--library", action="append", default=[],
                    help="Liberty (.lib) file with the cells the netlist uses")
     p.add_argument("--config", help="configuration file (default: found upward from here)")
+    add_frontend_argument(p)
     p.add_argument("--format", choices=("text", "json"), default="text")
 
 
@@ -41,7 +43,8 @@ def design_from_args(args):
             library = library.merge(resolve_library(path))
     return load_design(files, top=args.top or cfg.top,
                        include_dirs=[*cfg.include_dirs, *args.include_dirs],
-                       defines=defines, library=library, root=cfg.root), cfg
+                       defines=defines, library=library, root=cfg.root,
+                       frontend=getattr(args, "frontend", None) or cfg.frontend), cfg
 
 
 def run(args) -> int:
