@@ -47,7 +47,7 @@ class Locator:
             elif buf == self.main_id:
                 p = self.main_path
             else:
-                p = os.path.abspath(self.sm.getFullPath(loc.buffer) or name)
+                p = os.path.abspath(os.fspath(self.sm.getFullPath(loc.buffer)) or name)
             self._names[key] = p
         return p
 

@@ -116,12 +116,9 @@ def _check_includes(tree, sm, at, path, include_dirs, root) -> list[str]:
     out: list[str] = []
     for inc in tree.getIncludeDirectives():
         buf = inc.buffer
-        if buf is None:
+        if buf is None or not buf:
             continue                        # not found: slang reports it
-        full = sm.getFullPath(buf.id)
-        if not full:
-            continue
-        full = os.path.abspath(full)
+        full = os.path.abspath(os.fspath(sm.getFullPath(buf.id)))
         real = os.path.realpath(full)
         if not any(_inside(real, b) for b in allowed):
             where = at.where(inc.syntax.getFirstToken().location)

@@ -1,0 +1,401 @@
+"""The slang front end (PyPI ``pyslang``) against the pyverilog front end, Icarus Verilog and
+published benchmark netlists.
+
+Oracles: the pyverilog front end, the reference reader (equal IR, equal gate graph, equal
+``Design.evaluate`` on random vectors, equal findings); Icarus Verilog (``iverilog -g2012``) for
+SystemVerilog that the pyverilog front end cannot read; the benchmark netlists shipped in the
+PyPI package circuitgraph==0.2.1 (ISCAS-85, ISCAS-89, EPFL, ITC-99, ...); random hierarchical
+netlists (tests/support/randnet.py). Where the two front ends differ by design, the difference
+is pinned here and listed in DEVELOPERS.md ("Front ends").
+"""
+from __future__ import annotations
+
+import os
+import random
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+import pyslang  # noqa: F401  (a test dependency: pip install -e '.[test]')
+import hazlint
+from hazlint.api import lint
+from hazlint.config import load_config
+from hazlint.errors import ConfigError, ParseError
+from hazlint.frontend import ir, registry
+from hazlint.frontend.slang import reader as slang_reader
+from support import iverilog, randnet
+from support.bench import netlist
+
+ROOT = Path(__file__).resolve().parent.parent
+FIX = ROOT / "fixtures"
+INC = [str(FIX / "frontend" / "inc")]
+FIXTURES = sorted(FIX.rglob("*.v"))
+# the flip-flop cells of the circuitgraph netlists (see tests/test_benchmarks_frontend.py)
+CELLS = {c: {"inputs": ["CK", "D"], "outputs": {"Q": "IQ"},
+             "ff": {"clocked_on": "CK", "next_state": "D"}} for c in ("ff", "fflopd")}
+NETLIST_DIR = Path(netlist("c17.v")).parent
+NETLISTS = sorted(p.name for p in NETLIST_DIR.glob("*.v"))
+BIG = 400_000            # bytes: larger netlists are slow tests
+
+
+def _ir(path, frontend, **kw):
+    (sf,) = registry.read_sources([str(path)], frontend=frontend, **kw)
+    return ir.to_json(sf)
+
+
+def _graph_view(design):
+    """Everything a rule reads from the gate graph, as plain comparable data."""
+    g = design.graph
+    keys = ("kind", "op", "inputs", "pins", "cell", "instance", "path", "line", "column",
+            "role", "delays", "expr")
+    nodes = {n: tuple(repr(d.get(k)) for k in keys) for n, d in g.nodes(data=True)}
+    return nodes, sorted(g.edges), design.inputs, design.outputs, \
+        [repr(r) for r in design.registers], [repr(b) for b in design.blackboxes], \
+        [repr(n) for n in design.notes]
+
+
+def _same_design(path, **kw):
+    """Both front ends give the same gate graph and the same values on random vectors."""
+    a = hazlint.load_design([str(path)], frontend="pyverilog", **kw)
+    b = hazlint.load_design([str(path)], frontend="slang", **kw)
+    assert _graph_view(a) == _graph_view(b)
+    rng = random.Random(str(path))
+    width = 64
+    values = {i: rng.getrandbits(width) for i in a.inputs}
+    for r in a.registers:
+        values[r.name] = rng.getrandbits(width)
+    assert a.evaluate(values, width=width, nets=True) == \
+        b.evaluate(values, width=width, nets=True)
+    return a, b
+
+
+def _findings(paths, frontend, cwd, cells=None, own_top=True):
+    cfg = load_config(cwd)
+    cfg.frontend = frontend
+    if own_top:
+        cfg.top = None              # the file's own top, not that of a configured design
+    if cells:
+        cfg.cells = dict(cells)
+    result = lint([str(p) for p in paths], config=cfg, cwd=str(cwd), use_cache=False,
+                  include_dirs=INC + list(cfg.include_dirs))
+    return [(d.rule, d.kind, str(d.severity), d.location, d.instance, d.message,
+             repr(d.evidence), d.notes, d.fix) for d in result.diagnostics]
+
+
+# ---------------------------------------------------------------------------------------------
+# every fixture: equal IR, equal design, equal findings
+
+@pytest.mark.parametrize("path", FIXTURES, ids=lambda p: str(p.relative_to(FIX)))
+def test_fixture_ir_design_and_findings_equal(path):
+    assert _ir(path, "slang", include_dirs=INC) == _ir(path, "pyverilog", include_dirs=INC)
+    # the text fast path gives what the syntax walk gives
+    slow = ir.to_json(slang_reader.read_one(str(path), INC, fast=False))
+    assert slow == _ir(path, "slang", include_dirs=INC)
+    if path.parent.name == "frontend" and path.name in ("specify_cells.v", "udp.v"):
+        return              # cell libraries without a top of their own
+    _same_design(path, include_dirs=INC)
+    assert _findings([path], "slang", path.parent) == _findings([path], "pyverilog", path.parent)
+
+
+def test_demo_design_findings_equal_with_its_configuration():
+    demo = FIX / "demo"
+    cfg = load_config(demo)
+    assert cfg.files
+    assert _findings(cfg.files, "slang", demo, own_top=False) == \
+        _findings(cfg.files, "pyverilog", demo, own_top=False)
+
+
+# ---------------------------------------------------------------------------------------------
+# benchmark netlists (circuitgraph): equal IR and the same function on random vectors
+
+def _netlist_params():
+    out = []
+    for name in NETLISTS:
+        size = (NETLIST_DIR / name).stat().st_size
+        marks = [pytest.mark.slow] if size > BIG else []
+        out.append(pytest.param(name, marks=marks, id=name))
+    return out
+
+
+@pytest.mark.parametrize("name", _netlist_params())
+def test_benchmark_netlist_reads_the_same(name):
+    path = netlist(name)
+    fast = _ir(path, "slang")
+    assert fast == _ir(path, "pyverilog")
+    assert ir.to_json(slang_reader.read_one(path, fast=False)) == fast
+    _same_design(path, library=CELLS)
+
+
+@pytest.mark.parametrize("name,cells", [("c17.v", None), ("c432.v", None), ("c880.v", None),
+                                        ("s27.v", CELLS), ("c499.v", None)])
+def test_benchmark_findings_equal(name, cells, tmp_path):
+    path = netlist(name)
+    assert _findings([path], "slang", tmp_path, cells) == \
+        _findings([path], "pyverilog", tmp_path, cells)
+
+
+@pytest.mark.parametrize("seed", range(8))
+def test_random_hierarchical_netlists_read_the_same(seed, tmp_path):
+    text, top, _ins, _outs = randnet.design(seed)
+    p = tmp_path / "dut.v"
+    p.write_text(text)
+    assert _ir(p, "slang") == _ir(p, "pyverilog")
+    _same_design(p, top=top)
+
+
+# ---------------------------------------------------------------------------------------------
+# locations through the preprocessor
+
+def test_locations_through_include_define_and_line(tmp_path):
+    (tmp_path / "inc").mkdir()
+    (tmp_path / "inc" / "cells.vh").write_text(
+        "// a header with a gate\n"
+        "  nand g_inc (n2, a, b);\n")
+    top = tmp_path / "top.v"
+    top.write_text(
+        "`define AND2(g, o, x, y) and g (o, x, y);\n"           # 1
+        "`define TWO_LINE(o, x) \\\n"                            # 2
+        "  not g_two (o, x);\n"                                  # 3
+        "module top (input a, b, output y, z, w);\n"             # 4
+        "  wire n1, n2;\n"                                       # 5
+        "  `AND2(g_n1, n1, a, b)\n"                              # 6
+        '`include "cells.vh"\n'                                  # 7
+        "  `TWO_LINE(w, a)\n"                                    # 8
+        '`line 40 "generated.v" 0\n'                             # 9
+        "  or g_line (y, n1, n2);\n"                             # 10 -> generated.v:40
+        "  assign z = n1;\n"                                     # 11 -> generated.v:41
+        "endmodule\n")
+    inc_dir = [str(tmp_path / "inc")]
+    (sf,) = registry.read_sources([str(top)], include_dirs=inc_dir, frontend="slang")
+    locs = {it.name or it.cell: (os.path.basename(it.loc.path), it.loc.line)
+            for it in sf.modules[0].items if isinstance(it, ir.Instance)}
+    # lines known by construction of the text above
+    assert locs == {"g_n1": ("top.v", 6), "g_inc": ("cells.vh", 2), "g_two": ("top.v", 8),
+                    "g_line": ("generated.v", 40)}
+    assign = [it for it in sf.modules[0].items if isinstance(it, ir.Assign)][0]
+    assert (assign.loc.path, assign.loc.line) == ("generated.v", 41)
+    assert sf.includes == [str(tmp_path / "inc" / "cells.vh")]
+    sl, pv = _ir(top, "slang", include_dirs=inc_dir), _ir(top, "pyverilog", include_dirs=inc_dir)
+    # a construct that comes out of a macro: slang gives the macro use's column (3), the
+    # pyverilog front end the column in its expanded line (7); everything else is equal
+    for k in (2, 4):
+        assert (sl["modules"][0]["items"][k]["loc"]["col"],
+                pv["modules"][0]["items"][k]["loc"]["col"]) == (3, 7)
+        pv["modules"][0]["items"][k]["loc"]["col"] = 3
+    assert sl == pv
+
+
+def test_editor_buffers_stand_in_for_files_and_includes(tmp_path):
+    top = tmp_path / "top.sv"
+    top.write_text('`include "h.vh"\nmodule on_disk; endmodule\n')
+    (tmp_path / "h.vh").write_text("module from_header_disk; endmodule\n")
+    buffers = {str(top): '`include "h.vh"\n\nmodule unsaved; endmodule\n',
+               str(tmp_path / "h.vh"): "module header_buffer; endmodule\n"}
+    (sf,) = registry.read_sources([str(top)], texts=buffers, frontend="slang")
+    assert [m.name for m in sf.modules] == ["header_buffer", "unsaved"]
+    assert sf.modules[1].loc.line == 3 and sf.modules[0].loc.path == str(tmp_path / "h.vh")
+
+
+# ---------------------------------------------------------------------------------------------
+# errors: file:line, exit code 2, never a traceback
+
+@pytest.mark.parametrize("text,line,word", [
+    ("module m (input a, output y);\n  assign y = a &;\nendmodule\n", 2, None),
+    ("module m (input a, output y);\n  and g1 (y a);\nendmodule\n", 2, None),
+    ("module m (input a, output y);\n`undefined_macro\nendmodule\n", 2, "undefined_macro"),
+    ("module m (input a, output y);\n  assign y = a;\n", 2, "endmodule"),
+])
+def test_syntax_errors_name_the_file_and_line(tmp_path, text, line, word):
+    p = tmp_path / "bad.sv"
+    p.write_text(text)
+    with pytest.raises(ParseError) as exc:
+        registry.read_sources([str(p)], frontend="slang")
+    assert exc.value.path == str(p) and exc.value.line == line
+    if word:
+        assert word in str(exc.value)
+    r = subprocess.run([sys.executable, "-m", "hazlint", "check", "--no-cache", str(p)],
+                       capture_output=True, text=True, cwd=tmp_path)
+    assert r.returncode == 2
+    assert f"bad.sv:{line}:" in r.stderr and "Traceback" not in r.stderr
+
+
+def test_error_inside_an_include_points_into_the_header(tmp_path):
+    (tmp_path / "h.vh").write_text("wire ok;\nwire broken broken;\n")
+    top = tmp_path / "top.sv"
+    top.write_text('module m (input a, output y);\n`include "h.vh"\n  assign y = a;\nendmodule\n')
+    with pytest.raises(ParseError) as exc:
+        registry.read_sources([str(top)], frontend="slang")
+    assert exc.value.path == str(tmp_path / "h.vh") and exc.value.line == 2
+
+
+def test_include_outside_the_project_root_is_refused(tmp_path):
+    outside = tmp_path / "outside"
+    proj = tmp_path / "proj"
+    outside.mkdir()
+    proj.mkdir()
+    (outside / "secret.vh").write_text("wire s;\n")
+    top = proj / "top.sv"
+    top.write_text('module m;\n`include "../outside/secret.vh"\nendmodule\n')
+    with pytest.raises(ParseError, match="refused") as exc:
+        registry.read_sources([str(top)], frontend="slang")
+    assert exc.value.line == 2
+
+
+def test_deep_nesting_is_an_error_not_a_crash(tmp_path):
+    p = tmp_path / "deep.sv"
+    p.write_text("module m(input a, output y);\nassign y = " + "(" * 3000 + "a" + ")" * 3000
+                 + ";\nendmodule\n")
+    with pytest.raises(ParseError):
+        registry.read_sources([str(p)], frontend="slang")
+
+
+# ---------------------------------------------------------------------------------------------
+# choosing the front end
+
+SV_TEXT = """\
+module sv_top (input logic [3:0] a, input logic s, output logic [3:0] y, output logic p);
+  for (genvar i = 0; i < 4; i++) begin : g
+    assign y[i] = s ? a[i] : ~a[i];
+  end
+  always_comb p = ^a;
+endmodule
+"""
+
+
+def test_sv_files_go_through_slang_and_match_iverilog(tmp_path):
+    sv = tmp_path / "sv_top.sv"
+    sv.write_text(SV_TEXT)
+    assert registry.reader_for(str(sv)) == "slang"
+    assert registry.reader_for(str(tmp_path / "x.v")) == "pyverilog"
+    with pytest.raises(ParseError):
+        registry.read_sources([str(sv)], frontend="pyverilog")   # genvar in for, i++
+    d = hazlint.load_design([str(sv)])                           # auto: slang
+    # Reference: Icarus Verilog (-g2012) simulation of the same file on every input.
+    tb = ["module tb;", "  reg [3:0] a; reg s; wire [3:0] y; wire p;",
+          "  sv_top dut (.a(a), .s(s), .y(y), .p(p));", "  integer k;", "  initial begin",
+          "    for (k = 0; k < 32; k = k + 1) begin",
+          "      {s, a} = k; #1 $display(\"%b %b\", y, p);", "    end", "  end", "endmodule"]
+    sim = iverilog.simulate({"sv_top.sv": SV_TEXT, "tb.v": "\n".join(tb)}, "tb",
+                            generation="2012").split("\n")
+    for k in range(32):
+        a, s = k & 15, k >> 4
+        values = {f"a[{i}]": (a >> i) & 1 for i in range(4)}
+        values["s"] = s
+        got = d.evaluate(values)
+        y = "".join(str(got[f"y[{i}]"]) for i in reversed(range(4)))
+        assert f"{y} {got['p']}" == sim[k].strip()
+
+
+def test_frontend_configuration_key_and_option(tmp_path):
+    (tmp_path / "hazlint.toml").write_text('frontend = "slang"\n')
+    assert load_config(tmp_path).frontend == "slang"
+    (tmp_path / "hazlint.toml").write_text('jobs = 1\nfrontend = "verilator"\n')
+    with pytest.raises(ConfigError) as exc:
+        load_config(tmp_path)
+    assert exc.value.line == 2 and "frontend" in str(exc.value)
+    v = tmp_path / "t.v"
+    v.write_text("module t (input a, output y);\n  not g (y, a);\nendmodule\n")
+    (tmp_path / "hazlint.toml").write_text("")
+    for fe in ("slang", "pyverilog", "auto"):
+        r = subprocess.run([sys.executable, "-m", "hazlint", "summary", "--frontend", fe,
+                            "--format", "json", str(v)], capture_output=True, text=True,
+                           cwd=tmp_path)
+        assert r.returncode == 0, r.stderr
+        assert '"gates": 1' in r.stdout
+
+
+def test_mixed_files_keep_input_order_and_one_progress_count(tmp_path):
+    a = tmp_path / "leaf.sv"
+    a.write_text("module leaf (input logic x, output logic y); assign y = ~x; endmodule\n")
+    b = tmp_path / "top.v"
+    b.write_text("module top (input i, output o); leaf u (.x(i), .y(o)); endmodule\n")
+    calls = []
+    out = registry.read_sources([str(b), str(a)], progress=lambda *c: calls.append(c))
+    assert [sf.path for sf in out] == [str(b), str(a)]
+    assert [c[0] for c in calls] == [1, 2] and {c[1] for c in calls} == {2}
+    d = hazlint.load_design([str(b), str(a)])
+    assert d.evaluate({"i": 1})["o"] == 0 and d.evaluate({"i": 0})["o"] == 1
+
+
+def test_parse_cache_keeps_the_front_ends_apart(tmp_path):
+    from hazlint.cache import ParseCache
+    p = tmp_path / "t.v"
+    p.write_text("module t (input a, output y);\n  not g (y, a);\nendmodule\n")
+    cache = ParseCache(tmp_path / "cache")
+    registry.read_sources([str(p)], cache=cache, frontend="pyverilog")
+    registry.read_sources([str(p)], cache=cache, frontend="slang")
+    assert (cache.hits, cache.stores) == (0, 2)
+    registry.read_sources([str(p)], cache=cache, frontend="slang")
+    assert cache.hits == 1
+
+
+def test_design_cache_key_follows_the_front_end(tmp_path):
+    from hazlint.design_cache import design_key
+    v, sv = tmp_path / "t.v", tmp_path / "t.sv"
+    for p in (v, sv):
+        p.write_text("module t; endmodule\n")
+    assert design_key([str(v)], frontend="auto") == design_key([str(v)], frontend="pyverilog")
+    assert design_key([str(v)], frontend="slang") != design_key([str(v)], frontend="pyverilog")
+    assert design_key([str(sv)], frontend="auto") == design_key([str(sv)], frontend="slang")
+
+
+# ---------------------------------------------------------------------------------------------
+# the differences, pinned (DEVELOPERS.md, "Front ends")
+
+def test_binary_xnor_written_caret_tilde(tmp_path):
+    p = tmp_path / "x.v"
+    p.write_text("module x (input a, b, output y);\n  assign y = a ^~ b;\nendmodule\n")
+    pv, sl = _ir(p, "pyverilog"), _ir(p, "slang")
+    # IEEE 1364-2005 5.1 lists ^~ as binary XNOR: slang reads one XNOR, pyverilog a ^ (~b)
+    assert sl["modules"][0]["items"][0]["rhs"] == ["binop", "~^", ["id", "a"], ["id", "b"]]
+    assert pv["modules"][0]["items"][0]["rhs"] == \
+        ["binop", "^", ["id", "a"], ["unop", "~", ["id", "b"]]]
+    a = hazlint.load_design([str(p)], frontend="pyverilog")
+    b = hazlint.load_design([str(p)], frontend="slang")
+    for va in (0, 1):                     # the same function (brute force over both inputs)
+        for vb in (0, 1):
+            assert a.evaluate({"a": va, "b": vb}) == b.evaluate({"a": va, "b": vb}) \
+                == {"y": 1 - (va ^ vb)}
+
+
+@pytest.mark.parametrize("word", ["medium", "bit", "logic", "cell", "int"])
+def test_keywords_of_the_standards_are_not_names_in_slang(tmp_path, word):
+    # IEEE 1364-2005 annex B (medium, cell) and IEEE 1800-2017 annex B (bit, logic, int)
+    p = tmp_path / "k.v"
+    p.write_text(f"module k (input a, output y);\n  wire {word};\n  assign y = a;\nendmodule\n")
+    with pytest.raises(ParseError) as exc:
+        registry.read_sources([str(p)], frontend="slang")
+    assert exc.value.line == 2
+    if word in ("medium", "cell"):
+        registry.read_sources([str(p)], frontend="pyverilog")     # read as plain names
+
+
+def test_token_pasting_in_macros_reads_in_slang_only(tmp_path):
+    # IEEE 1800-2017 22.5.1: `` joins tokens in a macro body (not in IEEE 1364)
+    p = tmp_path / "paste.v"
+    p.write_text("`define INV(n) not g_``n (n``_b, n);\n"
+                 "module paste (input a, output a_b);\n  `INV(a)\nendmodule\n")
+    (sf,) = registry.read_sources([str(p)], frontend="slang")
+    (inst,) = sf.modules[0].items
+    assert (inst.name, inst.connections, inst.loc.line) == \
+        ("g_a", [(None, ("id", "a_b")), (None, ("id", "a"))], 3)
+    with pytest.raises(ParseError):
+        registry.read_sources([str(p)], frontend="pyverilog")
+
+
+def test_input_reg_is_a_systemverilog_port_in_slang(tmp_path):
+    p = tmp_path / "r.v"
+    p.write_text("module r (input reg a, output y);\n  assign y = a;\nendmodule\n")
+    with pytest.raises(ParseError):
+        registry.read_sources([str(p)], frontend="pyverilog")
+    d = hazlint.load_design([str(p)], frontend="slang")
+    assert d.evaluate({"a": 1}) == {"y": 1}
+
+
+def test_slang_front_end_missing_is_a_clear_error(monkeypatch):
+    monkeypatch.setattr(registry, "slang_available", lambda: False)
+    with pytest.raises(ConfigError, match="pyslang"):
+        registry.check_choice("slang")
+    assert registry.reader_for("x.sv") == "pyverilog"
