@@ -1695,7 +1695,7 @@ class Elaborator:
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
-        rep = {r: min(ms, key=rank) for r, ms in members.items()}
+        rep = {r: ms[0] if len(ms) == 1 else min(ms, key=rank) for r, ms in members.items()}
         # drivers per merged net
         drv_of: dict[str, list[dict]] = {}
         for d in self.drivers:
@@ -1742,16 +1742,20 @@ class Elaborator:
             attrs = {k: v for k, v in s.items() if k not in ("id", "input", "loc")}
             g.add_node(s["id"], kind="sink", inputs=[src], pins=["in"],
                        delays=[ZERO_DELAY], **_locattrs(s["loc"]), **attrs)
-        # edges (and undriven-net sources)
-        for n in list(g.nodes):
-            d = g.nodes[n]
-            for i, src in enumerate(d["inputs"]):
+        # edges (and undriven-net sources), gathered first and added in one call: the same
+        # edges in the same order, without networkx's per-edge checks
+        edges: dict[tuple[str, str], list[int]] = {}
+        nodes = g.nodes
+        for n in list(nodes):
+            for i, src in enumerate(nodes[n]["inputs"]):
                 if src not in g:
                     self._undriven(g, src)
-                if g.has_edge(src, n):
-                    g.edges[src, n]["pins"].append(i)
+                pins = edges.get((src, n))
+                if pins is None:
+                    edges[(src, n)] = [i]
                 else:
-                    g.add_edge(src, n, pins=[i])
+                    pins.append(i)
+        g.add_edges_from((u, v, {"pins": pins}) for (u, v), pins in edges.items())
         design = Design(
             graph=g, top=tops[0] if len(tops) == 1 else ",".join(tops),
             inputs=inputs, outputs=outputs, registers=self.registers,
