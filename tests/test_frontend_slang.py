@@ -288,6 +288,56 @@ def test_sv_files_go_through_slang_and_match_iverilog(tmp_path):
         assert f"{y} {got['p']}" == sim[k].strip()
 
 
+def test_systemverilog_declarations_map_to_ir(tmp_path):
+    p = tmp_path / "sv1.sv"
+    p.write_text(
+        "module leaf (input logic a, b, output logic y);\n  assign y = a ^ b;\nendmodule\n"
+        "module sv1 (input logic a, b, output logic y, output int unsigned cnt);\n"
+        "  timeunit 1ns; timeprecision 10ps;\n"
+        "  int k;\n"
+        "  wire w1 = a, w2 = b;\n"
+        "  leaf u (.a, .b(w2), .y);\n"
+        "  genvar i;\n"
+        "  for (i = 0; i < 2; i += 1) begin : g end\n"
+        "  always_comb begin k = 0; k++; end\n"
+        "endmodule\n")
+    (sf,) = registry.read_sources([str(p)])
+    m = sf.modules[1]
+    one, w32 = ("num", None, 1, 0, True), (("num", None, 31, 0, True), ("num", None, 0, 0, True))
+    assert m.timescale == (1e-9, 1e-11)                      # timeunit / timeprecision
+    assert (m.ports["cnt"].width, m.ports["cnt"].signed) == (w32, False)
+    nets = {it.name: it for it in m.items if isinstance(it, ir.Net)}
+    assert (nets["k"].width, nets["k"].signed) == (w32, True)    # int: signed 32 bits
+    assigns = [(it.lhs, it.rhs) for it in m.items if isinstance(it, ir.Assign)]
+    assert assigns == [(("id", "w1"), ("id", "a")), (("id", "w2"), ("id", "b"))]
+    (inst,) = [it for it in m.items if isinstance(it, ir.Instance)]
+    assert inst.connections == [("a", ("id", "a")), ("b", ("id", "w2")), ("y", ("id", "y"))]
+    (loop,) = [it for it in m.items if isinstance(it, ir.GenFor)]
+    assert loop.step == ("binop", "+", ("id", "i"), one)
+    (comb,) = [it for it in m.items if isinstance(it, ir.Always)]
+    assert comb.kind == "always_comb" and comb.body[1][1][3] == ("binop", "+", ("id", "k"), one)
+
+
+def test_several_declaration_assignments_read_in_slang_only(tmp_path):
+    # IEEE 1364-2005 6.1.1: a net declaration assignment list may name several nets
+    p = tmp_path / "d.v"
+    p.write_text("module d (input a, b, output y);\n  wire n1 = a, n2 = b;\n"
+                 "  and g (y, n1, n2);\nendmodule\n")
+    d = hazlint.load_design([str(p)], frontend="slang")
+    assert [d.evaluate({"a": x, "b": z})["y"] for x in (0, 1) for z in (0, 1)] == [0, 0, 0, 1]
+    with pytest.raises(ParseError):
+        registry.read_sources([str(p)], frontend="pyverilog")
+
+
+def test_columns_count_characters_after_non_ascii_text(tmp_path):
+    p = tmp_path / "u.v"
+    p.write_bytes("module u (input a, output y);\n  /* éé */ not g (y, a);\nendmodule\n"
+                  .encode("utf-8"))
+    sl = _ir(p, "slang")
+    assert sl == _ir(p, "pyverilog")
+    assert sl["modules"][0]["items"][0]["loc"]["col"] == 16       # 'g', counted in characters
+
+
 def test_frontend_configuration_key_and_option(tmp_path):
     (tmp_path / "hazlint.toml").write_text('frontend = "slang"\n')
     assert load_config(tmp_path).frontend == "slang"

@@ -17,12 +17,16 @@ from ... import errors
 from .. import ir
 
 
+_UNKNOWN = object()
+
+
 class Locator:
     def __init__(self, sm, main_path: str, main_buffer):
         self.sm = sm
         self.main_path = main_path
         self.main_id = main_buffer.id
         self._names: dict = {}          # (buffer id, name slang reports) -> our path
+        self._utf8: dict = {}           # buffer id -> its UTF-8 bytes, None when ASCII
         # bound methods, looked up once: these run once per construct of a large netlist
         self._is_macro = sm.isMacroLoc
         self._expanded = sm.getFullyExpandedLoc
@@ -54,7 +58,24 @@ class Locator:
     def loc(self, tok) -> ir.Loc:
         """Where ``tok`` (a token) is in the original file."""
         loc = self._real(tok.location)
-        return ir.Loc(self.path(loc), self._line(loc), self._col(loc))
+        return ir.Loc(self.path(loc), self._line(loc), self.column(loc))
+
+    def column(self, loc) -> int:
+        """1-based column in characters (slang counts bytes: they differ after non-ASCII
+        text on the same line)."""
+        data = self._utf8.get(loc.buffer.id, _UNKNOWN)
+        if data is _UNKNOWN:
+            try:
+                text = self.sm.getSourceText(loc.buffer)
+            except Exception:
+                text = None
+            data = None if text is None or text.isascii() else text.encode("utf-8")
+            self._utf8[loc.buffer.id] = data
+        if data is None:
+            return self._col(loc)
+        off = loc.offset
+        start = data.rfind(b"\n", 0, off) + 1
+        return len(data[start:off].decode("utf-8", "replace")) + 1
 
     def loc_line_only(self, tok) -> ir.Loc:
         """``file:line`` of ``tok`` with column 1 (where the pyverilog front end has no column)."""
@@ -67,7 +88,7 @@ class Locator:
     def where(self, loc) -> tuple[str, int, int]:
         """(path, line, column) of a slang ``SourceLocation``."""
         loc = self._real(loc)
-        return self.path(loc), self._line(loc), self._col(loc)
+        return self.path(loc), self._line(loc), self.column(loc)
 
     def error(self, message: str, what, construct=None):
         """Raise a :class:`ParseError` at ``what`` (a token or a syntax node)."""
