@@ -66,10 +66,13 @@ class Builder(Procedural):
         return out
 
     def width(self, dims):
-        """(msb, lsb) of the first packed dimension, None for a scalar."""
-        for d in dims:
-            return self._range(d)
-        return None
+        """(msb, lsb) of the packed dimension, None for a scalar."""
+        if not dims:
+            return None
+        if len(dims) > 1:
+            self.error("more than one packed dimension is not supported", dims[1],
+                       str(dims[1]).strip())
+        return self._range(dims[0])
 
     def _range(self, dim):
         spec = dim.specifier

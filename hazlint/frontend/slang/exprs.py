@@ -47,7 +47,8 @@ _WRAPPERS = frozenset((SK.SimplePropertyExpr, SK.SimpleSequenceExpr))
 _WHAT = {
     SK.UnbasedUnsizedLiteralExpression: "unbased unsized literal",
     SK.TimeLiteralExpression: "time literal", SK.CastExpression: "cast",
-    SK.SignedCastExpression: "signed cast", SK.StreamingConcatenationExpression: "streaming operator",
+    SK.SignedCastExpression: "signed cast",
+    SK.StreamingConcatenationExpression: "streaming operator",
     SK.AssignmentPatternExpression: "assignment pattern", SK.InsideExpression: "inside operator",
     SK.MemberAccessExpression: "member access", SK.WildcardEqualityExpression: "==? operator",
     SK.WildcardInequalityExpression: "!=? operator", SK.NullLiteralExpression: "null",

@@ -19,7 +19,7 @@ from pyslang import ast, parsing, syntax
 
 from ...errors import ParseError
 from .. import ir
-from ..driver import combined_digest, default_root, read_with
+from ..driver import combined_digest, read_with
 from ..preprocess import digest_text, read_text
 from .build import Builder
 from .locate import Locator
@@ -188,5 +188,3 @@ def _definition_state(tree) -> dict:
             "default_nettype": nettype}
     return out
 
-
-__all__ = ["read_sources", "read_one", "default_root"]
