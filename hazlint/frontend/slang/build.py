@@ -174,7 +174,7 @@ class Builder(Procedural):
             else:
                 attrs = own_attrs
                 prev = (direction, net_type, width, signed, attrs)
-                loc_tok = p.getFirstToken() if not p.attributes else _first_of_header(h)
+                loc_tok = h.getFirstToken()             # the direction keyword
             mod.port_order.append(name_tok.valueText)
             mod.ports[name_tok.valueText] = ir.Port(
                 name=name_tok.valueText, direction=direction, width=width, net_type=net_type,
@@ -541,10 +541,6 @@ class Builder(Procedural):
     def _gen_block(self, n, out, mod):
         name, body = self._block_items(n, mod)
         out.append(ir.GenBlock(name=name, items=body, loc=self.at.loc_line_only(n.begin)))
-
-
-def _first_of_header(h):
-    return h.getFirstToken()
 
 
 def _has_explicit_type(h) -> bool:
