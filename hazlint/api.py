@@ -58,6 +58,10 @@ class LintResult:
             else EXIT_CLEAN
 
 
+# front-end notes that say part of the design was not analysed
+_COVERAGE_KINDS = frozenset(("not-analysed", "file-not-read"))
+
+
 def relpath(path: str, root: str) -> str:
     """``path`` relative to ``root`` with forward slashes when inside it, else unchanged."""
     if not path:
@@ -110,8 +114,9 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
                                    "takes no 'texts')")
             kwargs["texts"] = abs_texts
         library = config.library()
-        sources = read_sources(list(files), **kwargs)
-        design = elaborate(sources, top=chosen_top, library=library)
+        sources = read_sources(list(files), tolerant=True, **kwargs)
+        design = elaborate(sources, top=chosen_top, library=library,
+                           memory_max_bits=config.memory_as_registers_max_bits)
         _apply_sdf(design, config, library)
         return design, sources
 
@@ -257,6 +262,7 @@ def report_key(files: Sequence[str] | None = None, *, config: Config | None = No
     dkey = design_key(plan.paths, texts=None, top=chosen_top, include_dirs=incs, defines=defs,
                       root=config.root, cells=config.cells, cells_source=config.path,
                       liberty=config.liberty, sdf=config.sdf, sdf_corner="minmax",
+                      memory_max_bits=config.memory_as_registers_max_bits,
                       frontend=config.frontend)
     if dkey is None:
         return None
@@ -332,8 +338,11 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
             diags = refine(design, diags, context, config.prove)
         # front-end notes ride along unless their rule id is ignored or a selection leaves
         # it out
+        # (what the analysis left out is always reported: a selection of rules does not
+        # make a partly analysed design look clean)
         diags = list(diags) + [n for n in (design.notes or []) if isinstance(n, Diagnostic)
-                               and n.rule not in ign and (sel is None or n.rule in sel)]
+                               and n.rule not in ign and (sel is None or n.rule in sel
+                                                          or n.kind in _COVERAGE_KINDS)]
         if rkey and not texts:
             rcache.store(rkey, diags)
 
@@ -358,7 +367,7 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
 
     if changed is not None:
         ch = {_norm(p if os.path.isabs(p) else os.path.join(cwd, p)) for p in changed}
-        kept = [d for d in kept if _touches(d, ch)]
+        kept = [d for d in kept if _touches(d, ch) or d.kind in _COVERAGE_KINDS]
         waived = [d for d in waived if _touches(d, ch)]
         baselined = [d for d in baselined if _touches(d, ch)]
 

@@ -29,6 +29,7 @@ Keys (all optional)::
     jobs = 2
     frontend = "auto"               # auto | pyverilog | slang (auto: .sv files through slang)
     prove = { }                     # options handed to the hazard prover
+    memory_as_registers_max_bits = 4096   # larger variable arrays become memory nodes
 
     [rules.skewed-reconvergence]    # rule options (see ``hazlint explain RULE``)
     min_skew = 0.5
@@ -76,6 +77,7 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "jobs": ((int,), "a number of worker processes"),
     "frontend": ((str,), "auto, pyverilog or slang"),
     "prove": ((dict,), "a table of hazard-prover options"),
+    "memory_as_registers_max_bits": ((int,), "a number of bits (arrays up to it are registers)"),
 }
 FAIL_LEVELS = ("error", "warning", "info", "never")
 
@@ -107,6 +109,7 @@ class Config:
     jobs: int | None = None
     frontend: str = "auto"
     prove: dict[str, Any] = field(default_factory=dict)
+    memory_as_registers_max_bits: int = 4096
     raw: dict[str, Any] = field(default_factory=dict)     # the table as written
     key_lines: dict[str, int] = field(default_factory=dict)   # key -> line in the file
 
@@ -317,6 +320,12 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         except ConfigError as exc:
             raise err("frontend", exc.message) from None
         cfg.frontend = table["frontend"]
+    if "memory_as_registers_max_bits" in table:
+        v = table["memory_as_registers_max_bits"]
+        if isinstance(v, bool) or v < 0:
+            raise err("memory_as_registers_max_bits",
+                      "memory_as_registers_max_bits must be a number of bits, 0 or more")
+        cfg.memory_as_registers_max_bits = v
     cfg.prove = dict(table.get("prove", {}))
     if cfg.prove:
         from .analysis.prove import DEFAULTS as PROVE_DEFAULTS

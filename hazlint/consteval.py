@@ -11,11 +11,13 @@ class NotConstant(Exception):
     """The expression depends on something that is not a parameter or constant."""
 
 
-def const_value(e, params: Mapping[str, object], where=None):
+def const_value(e, params: Mapping[str, object], where=None, call=None):
     """Evaluate ``e`` to an int (or float for real constants).
 
-    ``params`` maps parameter and genvar names to values. Raises :class:`NotConstant` when ``e``
-    reads a net, and :class:`ElaborationError` for unsupported operators.
+    ``params`` maps parameter and genvar names to values. ``call(name, values)`` evaluates
+    calls of other functions (constant user functions, constant system functions); without it
+    they are not constant. Raises :class:`NotConstant` when ``e`` reads a net, and
+    :class:`ElaborationError` for unsupported operators.
     """
     tag = e[0]
     if tag == "num":
@@ -36,7 +38,7 @@ def const_value(e, params: Mapping[str, object], where=None):
     if tag == "str":
         raise NotConstant("string")
     if tag == "unop":
-        op, a = e[1], const_value(e[2], params, where)
+        op, a = e[1], const_value(e[2], params, where, call)
         if op == "-":
             return -a
         if op == "+":
@@ -51,8 +53,8 @@ def const_value(e, params: Mapping[str, object], where=None):
                                *(where or ()))
     if tag == "binop":
         op = e[1]
-        a = const_value(e[2], params, where)
-        b = const_value(e[3], params, where)
+        a = const_value(e[2], params, where, call)
+        b = const_value(e[3], params, where, call)
         fn = _BINOPS.get(op)
         if fn is None:
             raise ElaborationError(f"unsupported operator '{op}' in constant expression",
@@ -63,15 +65,18 @@ def const_value(e, params: Mapping[str, object], where=None):
             raise ElaborationError("division by zero in constant expression",
                                    *(where or ())) from None
     if tag == "cond":
-        return const_value(e[2] if const_value(e[1], params, where) else e[3], params, where)
+        return const_value(e[2] if const_value(e[1], params, where, call) else e[3], params,
+                           where, call)
     if tag == "call":
         name, args = e[1], e[2]
-        vals = [const_value(a, params, where) for a in args]
+        vals = [const_value(a, params, where, call) for a in args]
         if name == "$clog2":
             v = int(vals[0])
             return 0 if v <= 1 else (v - 1).bit_length()
         if name in ("$unsigned", "$signed"):
             return vals[0]
+        if call is not None:
+            return call(name, vals)
         raise NotConstant(name)
     if tag == "concat":
         raise NotConstant("concatenation")

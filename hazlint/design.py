@@ -29,6 +29,7 @@ class Register:
     outputs: dict[str, str] = field(default_factory=dict)
     clock_edge: str | None = None
     active: dict[str, int] = field(default_factory=dict)
+    init: int | None = None        # power-up value of Q (reg x = v, initial, init attribute)
 
 
 @dataclass
@@ -59,6 +60,12 @@ class Design:
     latch_paths: list[tuple[str, str, str]] = field(default_factory=list)
     port_attrs: dict[str, dict[str, Any]] = field(default_factory=dict)  # port bit -> attributes
     line_maps: dict[str, Any] = field(default_factory=dict)
+    modules: list[str] = field(default_factory=list)          # module names elaborated
+    # modules left out of the analysis: {"module", "reason", "path", "line", "instances"}
+    not_analysed: list[dict[str, Any]] = field(default_factory=list)
+    # arrays kept as memory nodes: {"name", "words", "width", "path", "line", "write_ports",
+    # "read_ports", "read_data": [state node ids]}
+    memories: list[dict[str, Any]] = field(default_factory=list)
 
     # ------------------------------------------------------------------------------------------
     @cached_property
@@ -94,9 +101,10 @@ class Design:
 
         ``values`` maps primary input port bits (and, optionally, register names or state node
         ids for the current register contents) to ints carrying ``width`` independent vectors.
-        Missing inputs are 0. Returns the primary output port bits, and every driver node when
-        ``nets`` is true. Combinational loops are evaluated in a fixed order once (no iteration);
-        use the ternary analysis for their behaviour.
+        Missing inputs are 0; a register not given holds its power-up value (``init``), else
+        0. Returns the primary output port bits, and every driver node when ``nets`` is true.
+        Combinational loops are evaluated in a fixed order once (no iteration); use the
+        ternary analysis for their behaviour.
         """
         mask = (1 << width) - 1
         g = self.graph
@@ -104,7 +112,7 @@ class Design:
         for port, n in self.input_node.items():
             val[n] = values.get(port, 0) & mask
         for r in self.registers:
-            q = values.get(r.name, 0) & mask
+            q = values.get(r.name, mask if r.init else 0) & mask
             for which, n in r.outputs.items():
                 v = values.get(n, q if which == "Q" else ~q & mask)
                 val[n] = v & mask
@@ -116,7 +124,8 @@ class Design:
             if k == "gate" or k == "const":
                 ins = [val.get(i, 0) for i in d["inputs"]]
                 val[n] = eval_op(d["op"], ins, mask, d.get("expr"))
-            elif k == "blackbox":
+            elif k == "blackbox" or k == "state":
+                # black-box outputs and memory read data (registers were set above)
                 val.setdefault(n, values.get(n, 0) & mask)
             elif k == "sink":
                 val[n] = val.get(d["inputs"][0], 0) if d["inputs"] else 0
@@ -128,8 +137,9 @@ class Design:
     def summary(self) -> dict[str, Any]:
         from collections import Counter
         g = self.graph
+        # gates inside a register cell (its enable mux, say) are part of that cell
         by_type = Counter(d.get("cell") or d["op"] for _, d in g.nodes(data=True)
-                          if d["kind"] == "gate")
+                          if d["kind"] == "gate" and not d.get("register"))
         depth = logic_depth(self)
         return {
             "top": self.top,
@@ -144,6 +154,10 @@ class Design:
             "blackboxes": [{"instance": b.name, "cell": b.cell, "path": b.path, "line": b.line,
                             "reason": b.reason} for b in self.blackboxes],
             "combinational_loops": self.has_loop,
+            "modules": len(self.modules),
+            "not_analysed": [dict(r) for r in self.not_analysed],
+            "memories": [{k: v for k, v in m.items() if k != "read_data"}
+                         for m in self.memories],
         }
 
 
@@ -183,7 +197,7 @@ def load_design(paths: str | Sequence[str], top: str | Sequence[str] | None = No
     gc.disable()
     try:
         sources = read_sources(list(paths), include_dirs=list(include_dirs),
-                               defines=dict(defines or {}),
+                               defines=dict(defines or {}), tolerant=True,
                                **{k: v for k, v in options.items() if k in reader_keys})
         return elaborate(sources, top=top, library=library,
                          **{k: v for k, v in options.items() if k not in reader_keys})

@@ -119,11 +119,43 @@ class Diagnostic:
     instance: str
     message: str
     evidence: Mapping[str, Any] = field(default_factory=dict)   # JSON-able, structured
-    notes: tuple[str, ...] = ()              # human-readable evidence lines, printed indented
-    related: tuple[Related, ...] = ()
-    flows: tuple[tuple[Hop, ...], ...] = ()  # paths (SARIF codeFlows): reconvergent branches, loops
-    fix: str = ""
+    # (defaults by factory, so the class has no attribute of these names: a deferred
+    # diagnostic's __getattr__ must see the access; see Diagnostic.deferred)
+    notes: tuple[str, ...] = field(default_factory=tuple)   # human-readable evidence lines
+    related: tuple[Related, ...] = field(default_factory=tuple)
+    flows: tuple[tuple[Hop, ...], ...] = field(default_factory=tuple)  # paths (SARIF codeFlows)
+    fix: str = field(default_factory=str)
     waived: str | None = None                # reason, when a waiver matched
+
+    # ---- deferred findings ---------------------------------------------------------------------
+    @classmethod
+    def deferred(cls, rule: str, kind: str, severity: Severity, location: Location,
+                 instance: str, build) -> "Diagnostic":
+        """A diagnostic whose ``message``, ``evidence``, ``notes``, ``related``, ``flows`` and
+        ``fix`` are made by ``build()`` (a dict of those fields) on first access. A rule with
+        tens of thousands of findings yields these at the cost of a small record each; what a
+        reader then sees is exactly the diagnostic ``Diagnostic(..., **build())`` (equality,
+        hashing, ``replace``, pickling and every report read the fields as usual)."""
+        d = object.__new__(cls)
+        d.__dict__.update(rule=rule, kind=kind, severity=severity, location=location,
+                          instance=instance, waived=None, _build=build)
+        return d
+
+    def __getattr__(self, name: str):
+        # called only for attributes missing from __dict__: the fields a deferred diagnostic
+        # has not built yet
+        build = self.__dict__.get("_build")
+        if build is None or name not in _DEFERRED:
+            raise AttributeError(name)
+        made = build()      # two threads racing here both build the same values
+        self.__dict__.update((f, made[f] if f in made else _DEFAULTS[f]()) for f in _DEFERRED)
+        self.__dict__.pop("_build", None)
+        return self.__dict__[name]
+
+    def __getstate__(self):
+        if "_build" in self.__dict__:
+            self.message          # noqa: B018 - builds the deferred fields
+        return dict(self.__dict__)
 
     # ---- convenience -------------------------------------------------------------------------
     @property
@@ -175,6 +207,11 @@ class Diagnostic:
         if self.waived is not None:
             d["waived"] = self.waived
         return d
+
+
+_DEFERRED = ("message", "evidence", "notes", "related", "flows", "fix")
+_DEFAULTS = {"message": str, "evidence": dict, "notes": tuple, "related": tuple,
+             "flows": tuple, "fix": str}
 
 
 def _relativise(obj: Any, relpath) -> Any:

@@ -17,98 +17,40 @@ from __future__ import annotations
 
 import fnmatch
 import re
-from dataclasses import dataclass, field
 from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from . import cells_yosys_words as yosys_cells
+from . import initial_values
 from . import library as lib
 from .consteval import NotConstant, const_value
 from .design import BlackBox, Design, Register
 from .diagnostics import Diagnostic, Location, Severity
+from .elaborate.behaviour import BehaviourElaborator
+from .elaborate.common import C0, C1, walk_items
+from .elaborate.common import fold as _fold
+from .elaborate.common import BlackBoxModule as _BlackBoxModule
+from .elaborate.common import expr_text as _expr_text
+from .elaborate.common import extend as _extend
+from .elaborate.common import where as _where
+from .elaborate.coverage import CoverageTracker
+from .elaborate.expressions import ExpressionElaborator, const_bits
+from .elaborate.gates import GateBuilder
+from .elaborate.memory import DEFAULT_MAX_BITS, MemoryElaborator
+from .elaborate.scope import NetInfo, Scope, index_range
 from .errors import ElaborationError
 from .frontend import ir
 from .library import UNIT_DELAY, ZERO_DELAY, CellDef, Delay, Library
 
-C0 = "1'b0"
-C1 = "1'b1"
-HOLD = ("hold",)        # the value a variable keeps when a path through a block assigns nothing
 
 
-class _BlackBoxModule(Exception):
-    def __init__(self, reason: str, loc: ir.Loc | None):
-        super().__init__(reason)
-        self.reason = reason
-        self.loc = loc
-
-
-@dataclass
-class NetInfo:
-    base: str              # hierarchical name without bit index
-    indices: list | None   # declared indices LSB first, None for a scalar
-    kind: str = "wire"
-    signed: bool = False
-
-    def bit(self, i: int | None) -> str:
-        if self.indices is None:
-            return self.base
-        return f"{self.base}[{i}]"
-
-    def bits(self) -> list[str]:
-        if self.indices is None:
-            return [self.base]
-        return [f"{self.base}[{i}]" for i in self.indices]
-
-
-@dataclass
-class Scope:
-    prefix: str                                # net-name prefix, "" at top, "u1." inside u1
-    instance: str                              # hierarchical instance path, "top.u1"
-    module: ir.Module
-    params: dict = field(default_factory=dict)
-    nets: dict = field(default_factory=dict)   # local name -> NetInfo
-    parent: "Scope | None" = None
-    genblk: list = field(default_factory=lambda: [0])
-
-    def lookup(self, name: str) -> NetInfo | None:
-        s: Scope | None = self
-        while s is not None:
-            n = s.nets.get(name)
-            if n is not None:
-                return n
-            s = s.parent
-        return None
-
-    def param(self, name: str):
-        s: Scope | None = self
-        while s is not None:
-            if name in s.params:
-                return s.params[name]
-            s = s.parent
-        raise KeyError(name)
-
-    def all_params(self) -> dict:
-        chain = []
-        s: Scope | None = self
-        while s is not None:
-            chain.append(s.params)
-            s = s.parent
-        out: dict = {}
-        for p in reversed(chain):
-            out.update(p)
-        return out
-
-    def child(self, name: str | None) -> "Scope":
-        if name is None:
-            self.genblk[0] += 1
-            name = f"genblk{self.genblk[0]}"
-        return Scope(prefix=f"{self.prefix}{name}.", instance=f"{self.instance}.{name}",
-                     module=self.module, params={}, nets={}, parent=self, genblk=[0])
-
-
-class Elaborator:
+class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryElaborator,
+                 CoverageTracker):
     def __init__(self, sources: Sequence[ir.SourceFile], library: Library,
-                 default_delay: Delay = UNIT_DELAY, max_depth: int = 200):
+                 default_delay: Delay = UNIT_DELAY, max_depth: int = 200,
+                 memory_max_bits: int = DEFAULT_MAX_BITS):
+        self.memory_max_bits = memory_max_bits
         self.sources = list(sources)
         self.library = library
         self.default_delay = default_delay
@@ -144,6 +86,7 @@ class Elaborator:
         self.port_bits_top: dict[str, str] = {}
         self.port_attrs: dict[str, dict] = {}
         self.latch_paths: list[tuple[str, str, str]] = []
+        self.init_values: initial_values.InitValues = {}    # net bit -> power-up value
         self.blackbox_cells_warned: set[str] = set()
         self.blackbox_pins: set[str] = set()    # net bits connected to black-box pins
         self.bb_owner: dict[str, tuple] = {}    # such a net bit -> (instance, cell, loc, reason)
@@ -176,13 +119,13 @@ class Elaborator:
 
     # ---------------------------------------------------------------- notes --------------------
     def note(self, message: str, loc: ir.Loc | None, instance: str = "", key=None,
-             severity: Severity = Severity.INFO) -> None:
+             severity: Severity = Severity.INFO, kind: str = "design-note") -> None:
         k = key if key is not None else (message, loc.path if loc else "", loc.line if loc else 0)
         if k in self._noted:
             return
         self._noted.add(k)
         self.notes.append(Diagnostic(
-            rule="front-end", kind="design-note", severity=severity,
+            rule="front-end", kind=kind, severity=severity,
             location=Location(loc.path if loc else "", loc.line if loc else 0,
                               loc.col if loc else 1),
             instance=instance, message=message))
@@ -245,7 +188,7 @@ class Elaborator:
             return tops
         used: set[str] = set()
         for m in self.modules.values():
-            for it in _walk_items(m.items):
+            for it in walk_items(m.items):
                 if isinstance(it, ir.Instance):
                     used.add(it.cell)
         tops = [n for n in self.modules if n not in used and not self.modules[n].celldefine]
@@ -258,15 +201,44 @@ class Elaborator:
                                    "name one with --top")
         return tops
 
+    def cell_known(self, name: str) -> bool:
+        return (name in self.modules or name in self.primitives or name in self.library
+                or name in lib.PRIMITIVES or name in lib.SWITCH_PRIMITIVES)
+
+    def checkpoint(self) -> tuple:
+        return (len(self.drivers), len(self.sinks), len(self.registers), len(self.latch_paths),
+                len(self.__dict__.get("_deferred", ())), len(self.__dict__.get("memories", ())))
+
+    def rollback(self, mark: tuple) -> None:
+        """Forget what a module left out of the analysis had built."""
+        del self.drivers[mark[0]:]
+        del self.sinks[mark[1]:]
+        del self.registers[mark[2]:]
+        del self.latch_paths[mark[3]:]
+        del self.__dict__.setdefault("_deferred", [])[mark[4]:]
+        del self.__dict__.setdefault("memories", [])[mark[5]:]
+
     def elaborate(self, top=None) -> Design:
+        requested = [top] if isinstance(top, str) else list(top or [])
+        self.check_unread_files(requested, self.cell_known)
         tops = self.choose_tops(top)
+        self.check_unread_files(tops, self.cell_known)
         multi = len(tops) > 1
         inputs: list[str] = []
         outputs: list[str] = []
         for t in tops:
             m = self.modules[t]
             scope = Scope(prefix=f"{t}." if multi else "", instance=t, module=m)
-            self.elab_module(scope, m, overrides=[], depth=0, is_top=True)
+            mark = self.checkpoint()
+            left_out = None
+            try:
+                self.elab_module(scope, m, overrides=[], depth=0, is_top=True)
+            except _BlackBoxModule as bb:
+                self.rollback(mark)
+                self.module_not_analysed(m, bb.reason, bb.loc, t)
+                left_out = f"module '{t}' not analysed"
+                for pname, port in m.ports.items():
+                    self.declare(scope, pname, port.width, port.net_type, port.signed, port.loc)
             for pname in m.port_order:
                 port = m.ports.get(pname)
                 if port is None:
@@ -280,6 +252,9 @@ class Elaborator:
                         inputs.append(b)
                     elif port.direction == "output":
                         outputs.append(b)
+                        if left_out:
+                            self._add_driver("blackbox", b, op="buf", instance=t, loc=port.loc,
+                                             cell=m.name, reason=left_out)
                     else:
                         inputs.append(b)
                         outputs.append(b)
@@ -291,7 +266,14 @@ class Elaborator:
         for b in outputs:
             self.add_sink(b, "output", b, self._port_loc(b, tops, multi),
                           tops[0] if not multi else b.split(".")[0], port=b)
-        return self.build_graph(tops, inputs, outputs)
+        self.resolve_deferred(inputs)
+        modules, left = self.coverage_report()
+        design = self.build_graph(tops, inputs, outputs)
+        design.modules = modules
+        design.not_analysed = left
+        design.memories = self.memory_records(lambda n: self._rep.get(self.find(n), n))
+        self.check_memory_reads(design)
+        return design
 
     def _port_loc(self, bit: str, tops, multi) -> ir.Loc | None:
         name = bit.split("[")[0]
@@ -309,6 +291,8 @@ class Elaborator:
             raise ElaborationError(f"hierarchy deeper than {self.max_depth} levels (recursive "
                                    f"instantiation of '{m.name}'?)", *_where(m.loc),
                                    construct=m.name)
+        self.module_seen(m.name)
+        self.register_subprograms(scope, m.items)
         # parameters: header, then body, with overrides
         named = {n: v for n, v in overrides if n is not None}
         positional = [v for n, v in overrides if n is None]
@@ -320,16 +304,13 @@ class Elaborator:
                 named.setdefault(overridable[i].name, v)
         for p in header:
             self._set_param(scope, p, named)
-        # ports and declarations first (Verilog allows use before declaration of ports)
-        for pname in m.port_order:
-            port = m.ports.get(pname)
-            if port is None:
-                continue
         for it in m.items:
             if isinstance(it, ir.Param):
                 self._set_param(scope, it, named)
         for pname, port in m.ports.items():
             self.declare(scope, pname, port.width, port.net_type, port.signed, port.loc)
+            if "init" in port.attrs:
+                initial_values.record_attribute(self, scope, port)
         self.elab_items(scope, m.items, depth, declare_only_params=False)
 
     def _set_param(self, scope: Scope, p: ir.Param, named: Mapping[str, Any]) -> None:
@@ -339,20 +320,34 @@ class Elaborator:
                 # overrides are evaluated in the parent's scope by the caller
                 v = expr[1] if isinstance(expr, tuple) and expr and expr[0] == "_value" else expr
             else:
-                v = const_value(p.value, scope.all_params(), _where(p.loc))
+                v = self.const_expr(p.value, scope, p.loc)
         except NotConstant as exc:
             raise ElaborationError(f"parameter '{p.name}' is not a constant expression "
                                    f"(uses '{exc}')", *_where(p.loc), construct=p.name) from None
+        # its type (IEEE 1364-2005 12.2): the declared range and sign, else the value's
+        if p.width is not None:
+            w = abs(self.const(p.width[0], scope, p.loc) - self.const(p.width[1], scope, p.loc)) + 1
+            if isinstance(v, int):
+                v &= (1 << w) - 1
+                if p.signed and (v >> (w - 1)) & 1:
+                    v -= 1 << w
+            scope.ptypes[p.name] = (w, p.signed)
+        elif expr is None and isinstance(v, int):
+            try:
+                w, sg = self.expr_type(p.value, scope, p.loc)
+            except (ElaborationError, _BlackBoxModule):
+                w, sg = 32, True
+            scope.ptypes[p.name] = (max(w, v.bit_length() + (1 if v < 0 else 0)),
+                                    sg or p.signed)
         scope.params[p.name] = v
 
-    def declare(self, scope: Scope, name: str, width, kind: str, signed: bool, loc) -> NetInfo:
+    def declare(self, scope: Scope, name: str, width, kind: str, signed: bool, loc,
+                array=None) -> NetInfo:
         info = scope.nets.get(name)
         indices = None
         if width is not None:
-            msb = self.const(width[0], scope, loc)
-            lsb = self.const(width[1], scope, loc)
-            step = 1 if msb >= lsb else -1
-            indices = list(range(lsb, msb + step, step))
+            indices = index_range(self.const(width[0], scope, loc),
+                                  self.const(width[1], scope, loc))
         if info is not None:
             if indices is not None and info.indices is None:
                 info.indices = indices
@@ -361,6 +356,10 @@ class Elaborator:
             return info
         info = NetInfo(base=f"{scope.prefix}{name}", indices=indices, kind=kind, signed=signed)
         scope.nets[name] = info
+        if array:
+            info.dims = self.array_dims(scope, array, loc)
+            self.declare_array(scope, info, kind, loc)
+            return info
         for b in info.bits():
             self.parent.setdefault(b, b)
             self.declared.add(b)
@@ -372,7 +371,7 @@ class Elaborator:
 
     def const(self, e, scope: Scope, loc) -> int:
         try:
-            v = const_value(e, scope.all_params(), _where(loc))
+            v = self.const_expr(e, scope, loc)
         except NotConstant as exc:
             raise ElaborationError(f"expected a constant expression (it uses '{exc}')",
                                    *_where(loc), construct=_expr_text(e)) from None
@@ -382,9 +381,14 @@ class Elaborator:
         # declarations first so that nets may be used before their declaration in the text
         mark = len(self.drivers)
         paths = [it for it in items if isinstance(it, ir.SpecifyPath)]
+        if scope.parent is not None:
+            self.register_subprograms(scope, items)
         for it in items:
             if isinstance(it, ir.Net):
-                self.declare(scope, it.name, it.width, it.kind, it.signed, it.loc)
+                if it.kind == "real":
+                    raise _BlackBoxModule(f"real variable '{it.name}'", it.loc)
+                self.declare(scope, it.name, it.width, it.kind, it.signed, it.loc,
+                             array=it.array)
                 if it.kind == "trireg":
                     self.note(f"trireg '{it.name}': charge storage is not modelled, the net is "
                               "treated as a wire", it.loc, scope.instance)
@@ -395,6 +399,8 @@ class Elaborator:
                 if it.attrs:
                     for b in scope.nets[it.name].bits():
                         self.port_attrs.setdefault(b, {}).update(it.attrs)
+                    if "init" in it.attrs:
+                        initial_values.record_attribute(self, scope, it)
             elif isinstance(it, ir.Param) and scope.parent is not None:
                 self._set_param(scope, it, {})
         for it in items:
@@ -477,8 +483,7 @@ class Elaborator:
         elif isinstance(it, ir.Always):
             self.elab_always(scope, it)
         elif isinstance(it, ir.Initial):
-            self.note("initial block ignored (simulation only)", it.loc, scope.instance,
-                      key=("initial", scope.module.name))
+            initial_values.record_block(self, scope, it)
         elif isinstance(it, ir.GenFor):
             self.elab_genfor(scope, it, depth)
         elif isinstance(it, ir.GenIf):
@@ -501,8 +506,9 @@ class Elaborator:
                 self.elab_items(scope.child(chosen[0]), chosen[1], depth)
         elif isinstance(it, ir.GenBlock):
             self.elab_items(scope.child(it.name), it.items, depth)
-        elif isinstance(it, ir.SpecifyPath):
-            pass                       # applied by apply_specify once the module's gates exist
+        elif isinstance(it, (ir.SpecifyPath, ir.Function, ir.Task)):
+            pass        # specify paths: applied once the module's gates exist; functions and
+            #             tasks: registered with the scope, inlined where they are called
         elif isinstance(it, ir.Unsupported):
             raise _BlackBoxModule(it.what, it.loc)
 
@@ -535,7 +541,7 @@ class Elaborator:
         if info is None:
             try:
                 v = scope.param(name)
-                return self.const_bits(int(v if not isinstance(v, tuple) else v[0]), 32)
+                return const_bits(int(v if not isinstance(v, tuple) else v[0]), 32)
             except KeyError:
                 pass
             if scope.module.default_nettype == "none":
@@ -550,320 +556,7 @@ class Elaborator:
             info = self.declare(scope, name, None, "wire", False, loc)
         return info.bits()
 
-    @staticmethod
-    def const_bits(value: int, width: int) -> list[str]:
-        return [C1 if (value >> i) & 1 else C0 for i in range(width)]
-
-    def width(self, e, scope: Scope, loc) -> int:
-        tag = e[0]
-        if tag == "num":
-            return e[1] if e[1] else 32
-        if tag == "id":
-            info = scope.lookup(e[1])
-            if info is not None:
-                return 1 if info.indices is None else len(info.indices)
-            return 32
-        if tag == "bit":
-            return 1
-        if tag == "part":
-            return abs(self.const(e[2], scope, loc) - self.const(e[3], scope, loc)) + 1
-        if tag == "ipart":
-            return self.const(e[3], scope, loc)
-        if tag == "concat":
-            return sum(self.width(x, scope, loc) for x in e[1])
-        if tag == "repl":
-            return self.const(e[1], scope, loc) * sum(self.width(x, scope, loc) for x in e[2])
-        if tag == "unop":
-            if e[1] in ("~", "-", "+"):
-                return self.width(e[2], scope, loc)
-            return 1
-        if tag == "binop":
-            op = e[1]
-            if op in ("+", "-", "*", "/", "%", "&", "|", "^", "~^", "^~"):
-                return max(self.width(e[2], scope, loc), self.width(e[3], scope, loc))
-            if op in ("<<", ">>", "<<<", ">>>", "**"):
-                return self.width(e[2], scope, loc)
-            return 1
-        if tag == "cond":
-            return max(self.width(e[2], scope, loc), self.width(e[3], scope, loc))
-        if tag == "call" and e[1] in ("$signed", "$unsigned"):
-            return self.width(e[2][0], scope, loc)
-        return 32
-
-    def bits(self, e, scope: Scope, loc, W: int | None = None, env=None) -> list[str]:
-        """Bit-blast expression ``e`` to ``W`` signals (LSB first), creating gates as needed.
-        ``env`` maps net bits to values for statements inside always blocks."""
-        if W is None:
-            W = self.width(e, scope, loc)
-        tag = e[0]
-        if tag == "num":
-            _, width, value, xz, _s = e
-            if xz:
-                self.note("x/z bits in a constant are taken as 0 for analysis", loc,
-                          scope.instance)
-                value &= ~xz
-            return self.const_bits(value, W)
-        if tag in ("id", "bit", "part", "ipart", "concat", "repl"):
-            sig = self.lvalue_bits(e, scope, loc, reading=True, env=env)
-            return _extend(sig, W)
-        if tag == "unop":
-            op = e[1]
-            if op == "~":
-                return [self.gate(scope, "not", [b], loc) for b in self.bits(e[2], scope, loc, W,
-                                                                               env)]
-            if op == "+":
-                return self.bits(e[2], scope, loc, W, env)
-            if op == "-":
-                a = self.bits(e[2], scope, loc, W, env)
-                return self.adder(scope, [C0] * W, a, loc, subtract=True)[0]
-            if op == "!":
-                r = self.reduce(scope, "or", self.bits(e[2], scope, loc, None, env), loc)
-                return _extend([self.gate(scope, "not", [r], loc)], W)
-            red = {"&": ("and", False), "|": ("or", False), "^": ("xor", False),
-                   "~&": ("and", True), "~|": ("or", True), "~^": ("xor", True),
-                   "^~": ("xor", True)}
-            if op in red:
-                g, inv = red[op]
-                a = self.bits(e[2], scope, loc, None, env)
-                r = self.reduce(scope, g, a, loc)
-                if inv:
-                    r = self.gate(scope, "not", [r], loc)
-                return _extend([r], W)
-            raise self._unsupported(f"operator '{op}'", e, loc)
-        if tag == "binop":
-            op = e[1]
-            if op in ("&", "|", "^", "~^", "^~"):
-                a = self.bits(e[2], scope, loc, W, env)
-                b = self.bits(e[3], scope, loc, W, env)
-                g = {"&": "and", "|": "or", "^": "xor", "~^": "xnor", "^~": "xnor"}[op]
-                return [self.gate(scope, g, [x, y], loc) for x, y in zip(a, b)]
-            if op in ("&&", "||"):
-                a = self.reduce(scope, "or", self.bits(e[2], scope, loc, None, env), loc)
-                b = self.reduce(scope, "or", self.bits(e[3], scope, loc, None, env), loc)
-                return _extend([self.gate(scope, "and" if op == "&&" else "or", [a, b], loc)], W)
-            if op in ("+", "-"):
-                a = self.bits(e[2], scope, loc, W, env)
-                b = self.bits(e[3], scope, loc, W, env)
-                return self.adder(scope, a, b, loc, subtract=(op == "-"))[0]
-            if op == "*":
-                a = self.bits(e[2], scope, loc, W, env)
-                b = self.bits(e[3], scope, loc, W, env)
-                return self.multiplier(scope, a, b, W, loc)
-            if op in ("==", "!=", "===", "!==", "<", "<=", ">", ">="):
-                w = max(self.width(e[2], scope, loc), self.width(e[3], scope, loc))
-                a = self.bits(e[2], scope, loc, w, env)
-                b = self.bits(e[3], scope, loc, w, env)
-                return _extend([self.compare(scope, op, a, b, loc)], W)
-            if op in ("<<", ">>", "<<<", ">>>"):
-                a = self.bits(e[2], scope, loc, W, env)
-                try:
-                    n = const_value(e[3], scope.all_params())
-                    return _shift(a, int(n), op in ("<<", "<<<"))
-                except NotConstant:
-                    amt = self.bits(e[3], scope, loc, None, env)
-                    return self.barrel(scope, a, amt, op in ("<<", "<<<"), loc)
-            raise self._unsupported(f"operator '{op}'", e, loc)
-        if tag == "cond":
-            c = self.reduce(scope, "or", self.bits(e[1], scope, loc, None, env), loc)
-            a = self.bits(e[2], scope, loc, W, env)
-            b = self.bits(e[3], scope, loc, W, env)
-            return self.mux_bits(scope, c, a, b, loc)
-        if tag == "call":
-            if e[1] in ("$signed", "$unsigned"):
-                return self.bits(e[2][0], scope, loc, W, env)
-            raise self._unsupported(f"function call '{e[1]}'", e, loc)
-        if tag == "real":
-            raise self._unsupported("real constant", e, loc)
-        if tag == "str":
-            raise self._unsupported("string", e, loc)
-        raise self._unsupported(f"expression '{tag}'", e, loc)
-
-    def _unsupported(self, what: str, e, loc) -> ElaborationError:
-        return ElaborationError(f"{what} cannot be turned into gates (in '{_expr_text(e)}')",
-                                *_where(loc), construct=_expr_text(e))
-
-    def lvalue_bits(self, e, scope: Scope, loc, reading: bool = False, env=None) -> list[str]:
-        tag = e[0]
-        if tag == "id":
-            bits = self.net_bits(scope, e[1], loc, implicit=not reading)
-            if env is not None and reading:
-                return [env.get(b, b) if not isinstance(env.get(b, b), tuple) else
-                        self.realize(scope, env[b], b, loc) for b in bits]
-            return bits
-        if tag == "bit":
-            base = e[1]
-            if base[0] != "id":
-                raise self._unsupported("bit select of an expression", e, loc)
-            info = scope.lookup(base[1])
-            if info is None:
-                try:
-                    v = scope.param(base[1])
-                    idx = self.const(e[2], scope, loc)
-                    return [C1 if (int(v) >> idx) & 1 else C0]
-                except KeyError:
-                    raise ElaborationError(f"undeclared identifier '{base[1]}'", *_where(loc),
-                                           construct=base[1]) from None
-            try:
-                idx = const_value(e[2], scope.all_params())
-            except NotConstant:
-                if not reading:
-                    raise self._unsupported("assignment to a variable bit index", e, loc)
-                whole = self.lvalue_bits(base, scope, loc, True, env)
-                sel = self.bits(e[2], scope, loc, None, env)
-                return [self.select_mux(scope, whole, sel, loc)]
-            if info.indices is None:
-                if idx == 0:
-                    b = info.base
-                else:
-                    raise ElaborationError(f"bit select [{idx}] of scalar '{base[1]}'",
-                                           *_where(loc), construct=_expr_text(e))
-            else:
-                if idx not in info.indices:
-                    raise ElaborationError(f"bit [{idx}] is out of the range of '{base[1]}'",
-                                           *_where(loc), construct=_expr_text(e))
-                b = info.bit(idx)
-            if env is not None and reading and b in env:
-                v = env[b]
-                return [v if not isinstance(v, tuple) else self.realize(scope, v, b, loc)]
-            return [b]
-        if tag in ("part", "ipart"):
-            base = e[1]
-            if base[0] != "id":
-                raise self._unsupported("part select of an expression", e, loc)
-            info = scope.lookup(base[1])
-            if tag == "part":
-                msb = self.const(e[2], scope, loc)
-                lsb = self.const(e[3], scope, loc)
-            else:
-                try:
-                    start = const_value(e[2], scope.all_params())
-                except NotConstant:
-                    raise self._unsupported("indexed part select with a variable base", e, loc)
-                w = self.const(e[3], scope, loc)
-                if e[4] == "+":
-                    lsb, msb = int(start), int(start) + w - 1
-                else:
-                    msb, lsb = int(start), int(start) - w + 1
-                if info is not None and info.indices and info.indices[0] > info.indices[-1]:
-                    msb, lsb = lsb, msb
-            if info is None:
-                try:
-                    v = int(scope.param(base[1]))
-                except KeyError:
-                    raise ElaborationError(f"undeclared identifier '{base[1]}'", *_where(loc),
-                                           construct=base[1]) from None
-                lo, hi = min(msb, lsb), max(msb, lsb)
-                return [C1 if (v >> i) & 1 else C0 for i in range(lo, hi + 1)]
-            step = 1 if msb >= lsb else -1
-            out = []
-            for i in range(lsb, msb + step, step):
-                if info.indices is None or i not in info.indices:
-                    raise ElaborationError(f"part select [{msb}:{lsb}] is out of the range of "
-                                           f"'{base[1]}'", *_where(loc), construct=_expr_text(e))
-                b = info.bit(i)
-                if env is not None and reading and b in env:
-                    v = env[b]
-                    b = v if not isinstance(v, tuple) else self.realize(scope, v, b, loc)
-                out.append(b)
-            return out
-        if tag == "concat":
-            out: list[str] = []
-            for x in reversed(e[1]):
-                out.extend(self.lvalue_bits(x, scope, loc, reading, env) if not reading else
-                           self.bits(x, scope, loc, None, env))
-            return out
-        if tag == "repl":
-            n = self.const(e[1], scope, loc)
-            one: list[str] = []
-            for x in reversed(e[2]):
-                one.extend(self.bits(x, scope, loc, None, env))
-            return one * n
-        if reading:
-            return self.bits(e, scope, loc, None, env)
-        raise ElaborationError(f"'{_expr_text(e)}' cannot be assigned to", *_where(loc),
-                               construct=_expr_text(e))
-
     # ------------------------------------------------------------- gate structures -------------
-    def reduce(self, scope, op: str, bits: list[str], loc) -> str:
-        if len(bits) == 1:
-            return bits[0]
-        return self.gate(scope, op, bits, loc)
-
-    def mux_bits(self, scope, c: str, a: list[str], b: list[str], loc) -> list[str]:
-        if c == C1:
-            return a
-        if c == C0:
-            return b
-        nc = self.gate(scope, "not", [c], loc)
-        out = []
-        for x, y in zip(a, b):
-            if x == y:
-                out.append(x)
-                continue
-            t = self.gate(scope, "and", [c, x], loc)
-            f = self.gate(scope, "and", [nc, y], loc)
-            out.append(self.gate(scope, "or", [t, f], loc))
-        return out
-
-    def adder(self, scope, a, b, loc, subtract=False):
-        """Ripple-carry adder (a + b, or a - b as a + ~b + 1): returns (sum bits, carry out)."""
-        carry = C1 if subtract else C0
-        out = []
-        for x, y in zip(a, b):
-            if subtract:
-                y = self.gate(scope, "not", [y], loc)
-            p = self.gate(scope, "xor", [x, y], loc)
-            out.append(self.gate(scope, "xor", [p, carry], loc))
-            g1 = self.gate(scope, "and", [x, y], loc)
-            g2 = self.gate(scope, "and", [p, carry], loc)
-            carry = self.gate(scope, "or", [g1, g2], loc)
-        return out, carry
-
-    def multiplier(self, scope, a, b, W, loc):
-        """Array multiplier truncated to W bits: shift-and-add of partial products."""
-        acc = [C0] * W
-        for j, bj in enumerate(b[:W]):
-            pp = [C0] * j + [self.gate(scope, "and", [ai, bj], loc) for ai in a[:W - j]]
-            acc = self.adder(scope, acc, pp, loc)[0]
-        return acc
-
-    def compare(self, scope, op, a, b, loc) -> str:
-        if op in ("==", "===", "!=", "!=="):
-            eqs = [self.gate(scope, "xnor", [x, y], loc) for x, y in zip(a, b)]
-            eq = self.reduce(scope, "and", eqs, loc) if eqs else C1
-            return eq if op in ("==", "===") else self.gate(scope, "not", [eq], loc)
-        if op in (">", "<="):
-            a, b = b, a          # a > b  <=>  b < a
-        # a < b  <=>  borrow out of a - b
-        _, carry = self.adder(scope, a, b, loc, subtract=True)
-        lt = self.gate(scope, "not", [carry], loc)
-        return lt if op in ("<", ">") else self.gate(scope, "not", [lt], loc)
-
-    def barrel(self, scope, a, amt, left, loc):
-        cur = list(a)
-        for k, s in enumerate(amt):
-            n = 1 << k
-            if n >= len(cur) * 2 and s not in (C0,):
-                shifted = [C0] * len(cur)
-            else:
-                shifted = _shift(cur, n, left)
-            cur = self.mux_bits(scope, s, shifted, cur, loc)
-        return cur
-
-    def select_mux(self, scope, whole: list[str], sel: list[str], loc) -> str:
-        """whole[sel] for a variable index, as a mux tree over the select bits."""
-        level = list(whole)
-        for s in sel:
-            nxt = []
-            for i in range(0, len(level), 2):
-                lo = level[i]
-                hi = level[i + 1] if i + 1 < len(level) else C0
-                nxt.append(self.mux_bits(scope, s, [hi], [lo], loc)[0])
-            level = nxt
-            if len(level) == 1:
-                break
-        return level[0] if level else C0
-
     # ---------------------------------------------------------------- assigns ------------------
     def connect(self, scope, dst: str, src: str, loc, delay: Delay | None = None,
                 instance: str = "") -> None:
@@ -977,7 +670,10 @@ class Elaborator:
         elif cell in self.primitives:
             self.elab_udp(scope, inst, self.primitives[cell])
         elif cell in self.library:
-            self.elab_cell(scope, inst, self.library.get(cell))
+            cdef = self.library.get(cell)
+            self.elab_cell(scope, inst, cdef, yosys_cells.register_name(self, scope, inst, cdef))
+        elif cell.startswith("$") and yosys_cells.elaborate_cell(self, scope, inst):
+            pass                # a yosys cell, built in after the user's and Liberty cells
         else:
             if cell not in self.blackbox_cells_warned:
                 self.blackbox_cells_warned.add(cell)
@@ -1106,18 +802,13 @@ class Elaborator:
                 raise ElaborationError(f"module '{m.name}' has no port '{pname}'",
                                        *_where(inst.loc), construct=f".{pname}")
             conns[pname] = e
+        mark = self.checkpoint()
         try:
-            mark = (len(self.drivers), len(self.sinks), len(self.registers))
             self.elab_module(child, m, overrides, depth + 1)
         except _BlackBoxModule as bb:
-            del self.drivers[mark[0]:]
-            del self.sinks[mark[1]:]
-            del self.registers[mark[2]:]
-            where = f" at {bb.loc.path}:{bb.loc.line}" if bb.loc else ""
-            self.note(f"module '{m.name}' has behavioural code that hazlint does not model "
-                      f"({bb.reason}{where}); its instances are black boxes", bb.loc,
-                      child.instance, key=("bbmod", m.name))
-            self.blackbox(scope, inst, f"behavioural module '{m.name}'", note=False)
+            self.rollback(mark)
+            self.module_not_analysed(m, bb.reason, bb.loc, child.instance)
+            self.blackbox(scope, inst, f"module '{m.name}' not analysed", note=False)
             return
         for pname in m.port_order:
             port = m.ports.get(pname)
@@ -1169,7 +860,8 @@ class Elaborator:
             out[pname] = self.conn_bits(scope, e, inst.loc) if e is not None else None
         return out
 
-    def elab_cell(self, scope: Scope, inst: ir.Instance, cell: CellDef) -> None:
+    def elab_cell(self, scope: Scope, inst: ir.Instance, cell: CellDef,
+                  reg_name: str | None = None) -> None:
         path = f"{scope.instance}.{inst.name}"
         positional = any(p is None for p, _ in inst.connections)
         order = list(getattr(cell, "pin_order", None) or (cell.outputs + cell.inputs))
@@ -1195,7 +887,7 @@ class Elaborator:
 
         self._unconn_noted = getattr(self, "_unconn_noted", {})
         if cell.sequential is not None:
-            self.elab_seq_cell(scope, inst, cell, conns, pin_sig, path)
+            self.elab_seq_cell(scope, inst, cell, conns, pin_sig, path, reg_name)
             return
         for out in cell.outputs:
             bits = conns.get(out)
@@ -1264,18 +956,15 @@ class Elaborator:
         return self.gate(scope, tag, [self._expr_gates(scope, x, pin_sig, loc) for x in e[1:]],
                          loc, delay=ZERO_DELAY)
 
-    def elab_seq_cell(self, scope, inst, cell: CellDef, conns, pin_sig, path) -> None:
+    def elab_seq_cell(self, scope, inst, cell: CellDef, conns, pin_sig, path,
+                      reg_name: str | None = None) -> None:
         seq = cell.sequential
-        name = self.rel(scope, inst.name)
+        name = self.rel(scope, reg_name or inst.name)
         reg = Register(name=name, kind=seq.kind, cell=cell.name, instance=path,
                        path=inst.loc.path if inst.loc else "", line=inst.loc.line if inst.loc
                        else 0)
         loc = inst.loc
-
-        def iq(p):  # next_state may read the state itself (IQ)
-            if p in ("IQ", "IQN"):
-                return HOLD
-            return pin_sig(p)
+        mark = len(self.drivers)
         if seq.kind == "ff":
             if seq.clocked_on is None or seq.next_state is None:
                 raise ElaborationError(f"flip-flop cell '{cell.name}' needs clocked_on and "
@@ -1286,6 +975,8 @@ class Elaborator:
                                               register=name, active=reg.clock_edge,
                                               **self._pin_of(seq.clocked_on))
             data_e = seq.next_state
+        elif seq.enable is None and seq.data_in is None and (seq.clear or seq.preset):
+            data_e = None           # a set/reset latch: only its asynchronous pins
         else:
             if seq.enable is None or seq.data_in is None:
                 raise ElaborationError(f"latch cell '{cell.name}' needs enable and data_in",
@@ -1324,9 +1015,10 @@ class Elaborator:
             if p == "IQN":
                 return reg.outputs.get("QN") or C0
             return pin_sig(p)
-        d = self._expr_gates(scope, data_e, data_pin, loc)
-        reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path, register=name,
-                                         **self._pin_of(data_e))
+        if data_e is not None:
+            d = self._expr_gates(scope, data_e, data_pin, loc)
+            reg.pins["data"] = self.add_sink(d, "data", f"{name}.data", loc, path,
+                                             register=name, **self._pin_of(data_e))
         for role, e in (("reset", seq.clear), ("set", seq.preset)):
             if e is None:
                 continue
@@ -1336,8 +1028,11 @@ class Elaborator:
             reg.active[role] = level
             reg.pins[role] = self.add_sink(sig, role, f"{name}.{role}", loc, path,
                                            register=name, active=level, **self._pin_of(e))
+        for rec in self.drivers[mark:]:
+            if rec["kind"] == "gate":
+                rec["register"] = name      # the cell's own next-state and control logic
         self.registers.append(reg)
-        if seq.kind == "latch":
+        if seq.kind == "latch" and "enable" in reg.pins:
             self.latch_paths.append((reg.pins["data"], reg.pins["enable"],
                                      reg.outputs.get("Q") or next(iter(reg.outputs.values()))))
 
@@ -1386,195 +1081,6 @@ class Elaborator:
             self.latch_paths.append((reg.pins["data"], reg.pins["enable"], out))
 
     # ---------------------------------------------------------------- always blocks ------------
-    def elab_always(self, scope: Scope, al: ir.Always) -> None:
-        edges = [(edge, e) for edge, e in al.sens if edge in ("posedge", "negedge")]
-        body = al.body
-        if body is None:
-            return
-        if edges:
-            self.elab_clocked(scope, al, edges)
-        else:
-            self.elab_level(scope, al)
-
-    def _assigned(self, stmt, scope, loc, out: list) -> None:
-        """Collect the net bits a statement assigns (in order)."""
-        if stmt is None:
-            return
-        tag = stmt[0]
-        if tag == "block":
-            for s in stmt[1]:
-                self._assigned(s, scope, loc, out)
-        elif tag == "if":
-            self._assigned(stmt[2], scope, loc, out)
-            self._assigned(stmt[3], scope, loc, out)
-        elif tag == "case":
-            for _labels, s in stmt[3]:
-                self._assigned(s, scope, loc, out)
-        elif tag == "assign":
-            for b in self.lvalue_bits(stmt[2], scope, _line(loc, stmt[4])):
-                if b not in out:
-                    out.append(b)
-        elif tag == "other":
-            raise _BlackBoxModule(stmt[1], _line(loc, stmt[2]))
-
-    def exec_stmt(self, stmt, scope, loc, env: dict, blocking_env: dict) -> None:
-        """Symbolic execution: ``env`` maps assigned net bits to value trees
-        (signal | HOLD | ("mux", cond_signal, then_tree, else_tree))."""
-        if stmt is None:
-            return
-        tag = stmt[0]
-        if tag == "block":
-            for s in stmt[1]:
-                self.exec_stmt(s, scope, loc, env, blocking_env)
-        elif tag == "assign":
-            kind, lhs, rhs, line = stmt[1], stmt[2], stmt[3], stmt[4]
-            sl = _line(loc, line)
-            dst = self.lvalue_bits(lhs, scope, sl)
-            src = self.bits(rhs, scope, sl, len(dst), env=blocking_env)
-            for d, s in zip(dst, src):
-                env[d] = s
-                if kind == "=":
-                    blocking_env[d] = s
-        elif tag == "if":
-            c = self.reduce(scope, "or", self.bits(stmt[1], scope, loc, None, env=blocking_env),
-                            loc)
-            e_then, e_else = dict(env), dict(env)
-            b_then, b_else = dict(blocking_env), dict(blocking_env)
-            self.exec_stmt(stmt[2], scope, loc, e_then, b_then)
-            self.exec_stmt(stmt[3], scope, loc, e_else, b_else)
-            self._merge(scope, loc, c, env, e_then, e_else, blocking_env, b_then, b_else)
-        elif tag == "case":
-            kind, sel, arms = stmt[1], stmt[2], stmt[3]
-            w = self.width(sel, scope, loc)
-            s_bits = self.bits(sel, scope, loc, None, env=blocking_env)
-            default = None
-            conds = []
-            for labels, s in arms:
-                if labels is None:
-                    default = s
-                    continue
-                terms = []
-                for lb in labels:
-                    terms.append(self._case_match(scope, kind, s_bits, lb, w, loc,
-                                                  blocking_env))
-                conds.append((self.reduce(scope, "or", terms, loc), s))
-            # build from the last arm backwards: if (c1) s1 else if (c2) s2 ... else default
-            chain = default
-            for c, s in reversed(conds):
-                chain = ("if_sig", c, s, chain)
-            self._exec_chain(chain, scope, loc, env, blocking_env)
-        elif tag == "if_sig":
-            self._exec_chain(stmt, scope, loc, env, blocking_env)
-        elif tag == "other":
-            raise _BlackBoxModule(stmt[1], _line(loc, stmt[2]))
-
-    def _exec_chain(self, chain, scope, loc, env, blocking_env):
-        if chain is None:
-            return
-        if chain[0] != "if_sig":
-            self.exec_stmt(chain, scope, loc, env, blocking_env)
-            return
-        _, c, s, rest = chain
-        e_then, e_else = dict(env), dict(env)
-        b_then, b_else = dict(blocking_env), dict(blocking_env)
-        self.exec_stmt(s, scope, loc, e_then, b_then)
-        self._exec_chain(rest, scope, loc, e_else, b_else)
-        self._merge(scope, loc, c, env, e_then, e_else, blocking_env, b_then, b_else)
-
-    def _merge(self, scope, loc, c, env, e_then, e_else, benv, b_then, b_else):
-        for k in set(e_then) | set(e_else):
-            a = e_then.get(k, env.get(k, HOLD))
-            b = e_else.get(k, env.get(k, HOLD))
-            env[k] = a if a == b else ("mux", c, a, b)
-        for k in set(b_then) | set(b_else):
-            a = b_then.get(k, benv.get(k, k))
-            b = b_else.get(k, benv.get(k, k))
-            if a == b:
-                benv[k] = a
-            else:
-                benv[k] = self.realize(scope, ("mux", c, a, b), k, loc)
-
-    def _case_match(self, scope, kind, s_bits, label, w, loc, env) -> str:
-        if label[0] == "num" and kind in ("casez", "casex") and label[3]:
-            _, _lw, value, xz, _ = label
-            terms = []
-            for i, sb in enumerate(s_bits):
-                if (xz >> i) & 1:
-                    continue
-                bit = C1 if (value >> i) & 1 else C0
-                terms.append(sb if bit == C1 else self.gate(scope, "not", [sb], loc))
-            return self.reduce(scope, "and", terms, loc) if terms else C1
-        lb = self.bits(label, scope, loc, len(s_bits), env=env)
-        return self.compare(scope, "==", s_bits, lb, loc)
-
-    def realize(self, scope, tree, hold: str, loc) -> str:
-        """Turn a value tree into gates; HOLD stands for ``hold`` (the variable's own value)."""
-        if tree == HOLD:
-            return hold
-        if isinstance(tree, str):
-            return tree
-        _, c, a, b = tree
-        ra = self.realize(scope, a, hold, loc)
-        rb = self.realize(scope, b, hold, loc)
-        if ra == rb:
-            return ra
-        return self.mux_bits(scope, c, [ra], [rb], loc)[0]
-
-    @staticmethod
-    def _has_hold(tree) -> bool:
-        if tree == HOLD:
-            return True
-        if isinstance(tree, str):
-            return False
-        return Elaborator._has_hold(tree[2]) or Elaborator._has_hold(tree[3])
-
-    def _enable_of(self, scope, tree, loc) -> str:
-        """Condition under which a value tree does not hold (latch enable)."""
-        if tree == HOLD:
-            return C0
-        if isinstance(tree, str):
-            return C1
-        _, c, a, b = tree
-        ea = self._enable_of(scope, a, loc)
-        eb = self._enable_of(scope, b, loc)
-        if ea == eb:
-            return ea
-        if ea == C1 and eb == C0:
-            return c
-        if ea == C0 and eb == C1:
-            return self.gate(scope, "not", [c], loc)
-        return self.mux_bits(scope, c, [ea], [eb], loc)[0]
-
-    def _data_of(self, tree):
-        """The value tree with held branches pruned (latch data)."""
-        if isinstance(tree, str) or tree == HOLD:
-            return tree
-        _, c, a, b = tree
-        a, b = self._data_of(a), self._data_of(b)
-        if a == HOLD:
-            return b
-        if b == HOLD:
-            return a
-        return ("mux", c, a, b)
-
-    def elab_level(self, scope: Scope, al: ir.Always) -> None:
-        loc = al.loc
-        assigned: list[str] = []
-        self._assigned(al.body, scope, loc, assigned)
-        env: dict = {}
-        self.exec_stmt(al.body, scope, loc, env, {})
-        for b in assigned:
-            tree = env.get(b, HOLD)
-            if not self._has_hold(tree):
-                self.connect(scope, b, self.realize(scope, tree, b, loc), loc)
-                continue
-            if al.kind == "always_comb":
-                self.note(f"'{b}' is not assigned on every path of an always_comb block: "
-                          f"modelled as a latch", loc, scope.instance)
-            en = self._enable_of(scope, tree, loc)
-            data = self.realize(scope, self._data_of(tree), C0, loc)
-            self._make_register(scope, al, b, "latch", enable=(en, 1), data=data)
-
     def _make_register(self, scope, al, bit, kind, *, clock=None, enable=None, data=None,
                        sets=(), resets=()) -> Register:
         loc = al.loc
@@ -1609,79 +1115,6 @@ class Elaborator:
             self.latch_paths.append((reg.pins["data"], reg.pins["enable"], bit))
         return reg
 
-    def elab_clocked(self, scope: Scope, al: ir.Always, edges) -> None:
-        loc = al.loc
-        body = al.body
-        while body and body[0] == "block" and len(body[1]) == 1:
-            body = body[1][0]
-        edge_names = {}
-        for edge, e in edges:
-            if e[0] != "id":
-                raise _BlackBoxModule("edge on an expression in a sensitivity list", loc)
-            edge_names[e[1]] = edge
-        # peel asynchronous branches: if (<async cond>) ... else if ... else <clocked>
-        asyncs = []
-        stmt = body
-        while (stmt is not None and stmt[0] == "if" and len(edge_names) > 1
-               and _ids(stmt[1]) and _ids(stmt[1]) <= set(edge_names)
-               and len(asyncs) < len(edge_names) - 1):
-            asyncs.append((stmt[1], stmt[2]))
-            stmt = stmt[3]
-            while stmt is not None and stmt[0] == "block" and len(stmt[1]) == 1:
-                stmt = stmt[1][0]
-        used = set().union(*(_ids(c) for c, _ in asyncs)) if asyncs else set()
-        clocks = [n for n in edge_names if n not in used]
-        if len(clocks) != 1:
-            raise _BlackBoxModule("always block whose clock cannot be identified (sensitivity "
-                                  f"list {', '.join(edge_names)})", loc)
-        clk = clocks[0]
-        clk_sig = self.net_bits(scope, clk, loc)[0]
-        # the clocked part
-        assigned: list[str] = []
-        self._assigned(stmt, scope, loc, assigned)
-        env: dict = {}
-        self.exec_stmt(stmt, scope, loc, env, {})
-        # asynchronous controls per assigned bit
-        async_of: dict[str, list] = {}
-        for cond, branch in asyncs:
-            sig, level = self._cond_signal(scope, cond, loc)
-            benv: dict = {}
-            self.exec_stmt(branch, scope, loc, benv, {})
-            b_assigned: list[str] = []
-            self._assigned(branch, scope, loc, b_assigned)
-            for b in b_assigned:
-                v = benv.get(b)
-                if b not in assigned:
-                    assigned.append(b)
-                if v == C0:
-                    async_of.setdefault(b, []).append(("reset", sig, level))
-                elif v == C1:
-                    async_of.setdefault(b, []).append(("set", sig, level))
-                else:
-                    self.note(f"asynchronous load of a non-constant value into '{b}' is "
-                              f"modelled as both set and reset pins", loc, scope.instance)
-                    async_of.setdefault(b, []).append(("set", sig, level))
-                    async_of.setdefault(b, []).append(("reset", sig, level))
-        for b in assigned:
-            tree = env.get(b, HOLD)
-            data = self.realize(scope, tree, b, loc)
-            sets = [(s, lv, loc) for role, s, lv in async_of.get(b, []) if role == "set"]
-            resets = [(s, lv, loc) for role, s, lv in async_of.get(b, []) if role == "reset"]
-            self._make_register(scope, al, b, "ff", clock=(clk_sig, edge_names[clk]), data=data,
-                                sets=sets, resets=resets)
-
-    def _cond_signal(self, scope, cond, loc) -> tuple[str, int]:
-        """An asynchronous condition as (net, active level); plain forms use no gate."""
-        c = cond
-        if c[0] == "id":
-            return self.net_bits(scope, c[1], loc)[0], 1
-        if c[0] == "unop" and c[1] in ("!", "~") and c[2][0] == "id":
-            return self.net_bits(scope, c[2][1], loc)[0], 0
-        if c[0] == "binop" and c[1] in ("==", "===") and c[2][0] == "id" and c[3][0] == "num":
-            return self.net_bits(scope, c[2][1], loc)[0], 1 if c[3][2] else 0
-        s = self.reduce(scope, "or", self.bits(cond, scope, loc, None), loc)
-        return s, 1
-
     # ---------------------------------------------------------------- graph --------------------
     def build_graph(self, tops, inputs, outputs) -> Design:
         find = self.find
@@ -1692,10 +1125,16 @@ class Elaborator:
             members.setdefault(find(name), []).append(name)
         self._members = members
         port_set = set(inputs) | set(outputs)
+        inits = initial_values.by_net(self.init_values, find)
+        driven = {find(d["out"]) for d in self.drivers}
+        for root, (bit, v, loc, inst) in inits.items():
+            if root not in driven:      # a variable nothing assigns keeps its initial value
+                self._add_driver("const", bit, op=f"const{v}", instance=inst, loc=loc)
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
-        rep = {r: ms[0] if len(ms) == 1 else min(ms, key=rank) for r, ms in members.items()}
+        rep = self._rep = {r: ms[0] if len(ms) == 1 else min(ms, key=rank)
+                           for r, ms in members.items()}
         # drivers per merged net
         drv_of: dict[str, list[dict]] = {}
         for d in self.drivers:
@@ -1772,6 +1211,7 @@ class Elaborator:
         # registers refer to sink ids (stable) and state node ids (merged-net names)
         for r in self.registers:
             r.outputs = {k: node_of(v) for k, v in r.outputs.items()}
+        initial_values.apply_to_graph(g, inits, rep, self.registers)
         design.latch_paths = [(d_, e_, node_of(q)) for d_, e_, q in self.latch_paths]
         return design
 
@@ -1784,7 +1224,7 @@ class Elaborator:
             attrs["expr"] = d["expr"]
         if d.get("attrs"):
             attrs["attrs"] = d["attrs"]
-        for k in ("register", "state", "port", "reason", "out_pin", "tri"):
+        for k in ("register", "state", "port", "reason", "out_pin", "tri", "memory"):
             if k in d:
                 attrs[k] = d[k]
         if d["kind"] == "const":
@@ -1802,97 +1242,17 @@ class Elaborator:
         g.add_node(nid, kind="blackbox", name=nid, op="buf", inputs=[], pins=[], delays=[],
                    cell="undriven", instance="", reason="undriven net", path="", line=0,
                    column=1)
+        if any(self.undriven_word(m) for m in self._members.get(self.find(nid), [nid])):
+            return                      # one warning per array (hazlint.elaborate.memory)
         self.note(f"net '{nid}' is read but never driven; it is a free input for analysis",
                   None, "", key=("undriven", nid), severity=Severity.WARNING)
 
 
 # ------------------------------------------------------------------------------------------------
-def _where(loc) -> tuple:
-    if loc is None:
-        return ()
-    return (loc.path, loc.line, loc.col)
-
-
-def _line(loc, line):
-    if loc is None or not line:
-        return loc
-    return ir.Loc(loc.path, line, 1)
-
-
 def _locattrs(loc) -> dict:
     if loc is None:
         return {"path": "", "line": 0, "column": 1}
     return {"path": loc.path, "line": loc.line, "column": loc.col or 1}
-
-
-def _extend(bits: list[str], W: int) -> list[str]:
-    if len(bits) >= W:
-        return bits[:W]
-    return bits + [C0] * (W - len(bits))
-
-
-def _shift(a: list[str], n: int, left: bool) -> list[str]:
-    W = len(a)
-    if n >= W:
-        return [C0] * W
-    if left:
-        return [C0] * n + a[:W - n]
-    return a[n:] + [C0] * n
-
-
-def _fold(op: str, ins: list[str]) -> str | None:
-    """Constant folding for decomposed gates: returns the result signal, or None to build."""
-    if op == "not":
-        x = ins[0]
-        return C1 if x == C0 else C0 if x == C1 else None
-    if op in ("and", "or"):
-        ctrl, ident = (C0, C1) if op == "and" else (C1, C0)
-        if ctrl in ins:
-            return ctrl
-        rest = [x for x in ins if x != ident]
-        if not rest:
-            return ident
-        if len(rest) == 1:
-            return rest[0]
-        if len(rest) != len(ins):
-            return None  # caller builds with all inputs; identities are harmless
-        return None
-    if op in ("xor", "xnor") and all(x in (C0, C1) for x in ins):
-        v = sum(1 for x in ins if x == C1) & 1
-        if op == "xnor":
-            v ^= 1
-        return C1 if v else C0
-    return None
-
-
-def _ids(e) -> set[str]:
-    tag = e[0]
-    if tag == "id":
-        return {e[1]}
-    if tag in ("num", "real", "str"):
-        return set()
-    out: set[str] = set()
-    for x in e[1:]:
-        if isinstance(x, tuple) and x and isinstance(x[0], str):
-            out |= _ids(x)
-        elif isinstance(x, (list, tuple)):
-            for y in x:
-                if isinstance(y, tuple) and y and isinstance(y[0], str):
-                    out |= _ids(y)
-    return out
-
-
-def _walk_items(items):
-    for it in items:
-        yield it
-        if isinstance(it, (ir.GenFor, ir.GenBlock)):
-            yield from _walk_items(it.items)
-        elif isinstance(it, ir.GenIf):
-            yield from _walk_items(it.then_items)
-            yield from _walk_items(it.else_items)
-        elif isinstance(it, ir.GenCase):
-            for _l, _n, sub in it.cases:
-                yield from _walk_items(sub)
 
 
 _SIMPLE = {"and": "and", "or": "or", "xor": "xor"}
@@ -2018,8 +1378,11 @@ def resolve_library(library) -> Library:
 
 
 def elaborate(sources: Sequence[ir.SourceFile], top=None, library=None,
-              default_delay: float | Delay | None = None, **_ignored) -> Design:
-    """Elaborate parsed sources into a :class:`~hazlint.design.Design`."""
+              default_delay: float | Delay | None = None, memory_max_bits: int | None = None,
+              **_ignored) -> Design:
+    """Elaborate parsed sources into a :class:`~hazlint.design.Design`. Arrays of variables
+    with more than ``memory_max_bits`` bits are kept as memory nodes
+    (:mod:`hazlint.elaborate.memory`)."""
     lib_ = resolve_library(library)
     if default_delay is None:
         dd = UNIT_DELAY
@@ -2027,7 +1390,9 @@ def elaborate(sources: Sequence[ir.SourceFile], top=None, library=None,
         dd = default_delay
     else:
         dd = Delay.fixed(float(default_delay))
-    el = Elaborator(sources, lib_, default_delay=dd)
+    el = Elaborator(sources, lib_, default_delay=dd,
+                    memory_max_bits=DEFAULT_MAX_BITS if memory_max_bits is None
+                    else int(memory_max_bits))
     return el.elaborate(top)
 
 
@@ -2035,48 +1400,6 @@ def glob_match(name: str, patterns: Iterable[str]) -> bool:
     return any(fnmatch.fnmatchcase(name, p) for p in patterns)
 
 
-_PREC = {"||": 1, "&&": 2, "|": 3, "^": 4, "~^": 4, "^~": 4, "&": 5, "==": 6, "!=": 6,
-         "===": 6, "!==": 6, "<": 7, "<=": 7, ">": 7, ">=": 7, "<<": 8, ">>": 8, "<<<": 8,
-         ">>>": 8, "+": 9, "-": 9, "*": 10, "/": 10, "%": 10, "**": 11}
-
-
-def _expr_text(e, parent: int = 0) -> str:
-    """An IR expression as Verilog source text (for messages)."""
-    try:
-        tag = e[0]
-        if tag == "id":
-            return e[1]
-        if tag == "num":
-            _, w, v, xz, _s = e
-            return f"{w}'d{v}" if w and not xz else (str(v) if not w else f"{w}'b{v:b}")
-        if tag == "real":
-            return str(e[1])
-        if tag == "str":
-            return f'"{e[1]}"'
-        if tag == "bit":
-            return f"{_expr_text(e[1], 12)}[{_expr_text(e[2])}]"
-        if tag == "part":
-            return f"{_expr_text(e[1], 12)}[{_expr_text(e[2])}:{_expr_text(e[3])}]"
-        if tag == "ipart":
-            return f"{_expr_text(e[1], 12)}[{_expr_text(e[2])}{e[4]}:{_expr_text(e[3])}]"
-        if tag == "concat":
-            return "{" + ", ".join(_expr_text(x) for x in e[1]) + "}"
-        if tag == "repl":
-            return "{" + _expr_text(e[1]) + "{" + ", ".join(_expr_text(x) for x in e[2]) + "}}"
-        if tag == "unop":
-            return f"{e[1]}{_expr_text(e[2], 12)}"
-        if tag == "binop":
-            p = _PREC.get(e[1], 5)
-            s = f"{_expr_text(e[2], p)} {e[1]} {_expr_text(e[3], p + 1)}"
-            return f"({s})" if p < parent else s
-        if tag == "cond":
-            s = f"{_expr_text(e[1], 1)} ? {_expr_text(e[2])} : {_expr_text(e[3])}"
-            return f"({s})" if parent else s
-        if tag == "call":
-            return f"{e[1]}(" + ", ".join(_expr_text(x) for x in e[2]) + ")"
-    except (IndexError, TypeError):
-        pass
-    return str(e)
 
 
 def _sum_delay(a: Delay, b: Delay) -> Delay:

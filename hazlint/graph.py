@@ -23,7 +23,10 @@ driven by ``u`` feeds ``v``. Node ids are strings (hierarchical net names for dr
                ``register`` the register's name; ``active`` 1/0 level (set/reset/enable) or
                ``"posedge"``/``"negedge"`` (clock)
 ``port``       primary input/output port bit name (``"a[3]"``), for kind input and output sinks
-``register``   state nodes: the register name; ``state`` "Q" or "QN"
+``register``   state nodes: the register name; ``state`` "Q" or "QN"; ``init`` the node's
+               power-up value (0/1) when the source gives one. Gates that belong to a
+               register cell (the enable mux of a ``$_DFFE_``, the reset logic of a Liberty
+               flip-flop) carry it too; ``Design.summary`` does not count them as gates
 ``attrs``      Verilog attributes on the construct, as a dict (``(* name = value *)``)
 =============  ============================================================================
 

@@ -107,6 +107,16 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
     """
     tg = context.timing_graph
     order = tg.order
+    compiled = _compiled(context, scope)
+    if compiled is not None:
+        if not compiled.sinks:
+            return
+        if stem_ids is None:
+            reach = compiled.reach
+            stem_ids = [tg.index[n] for n in context.stems if n in tg.index
+                        and reach[tg.index[n]]]
+        yield from compiled.findings(stem_ids, min_skew)
+        return
     sinks, reach = context.scope_reach(scope)
     if not sinks:
         return
@@ -153,6 +163,23 @@ def find_reconvergences(design, context, scope: str = "outputs", min_skew: float
             yield Finding(stem, order[r.gate], r, _bits_to_sinks(bits, sinks), st)
 
 
+def _compiled(context, scope: str):
+    """The compiled kernels' driver for this scope (:mod:`hazlint.analysis.compiled`), or None
+    for the pure path (small graph, numba missing or failing)."""
+    memo = context.__dict__.setdefault("_compiled_stems", {})
+    if scope not in memo:
+        from hazlint.analysis import compiled
+        kern = None
+        if compiled.wanted(len(context.timing_graph.order)):
+            kern = compiled.kernels()
+        if kern is None:
+            memo[scope] = None
+        else:
+            from hazlint.analysis.compiled_stems import CompiledStems
+            memo[scope] = CompiledStems(context, scope, kern)
+    return memo[scope]
+
+
 def _bits_to_sinks(bits: int, sinks: list[str]) -> list[str]:
     out = []
     while bits:
@@ -190,53 +217,93 @@ class Finding:
 
 def check(design, context):
     opts = context.options(ID)
-    g = design.graph
-    sens = context.sensitive_sinks
-    sinks_in_scope, reach = context.scope_reach(opts["scope"])
+    compiled = _compiled(context, opts["scope"])
+    if compiled is not None:
+        sinks_in_scope, reach = compiled.sinks, compiled.reach
+    else:
+        sinks_in_scope, reach = context.scope_reach(opts["scope"])
     if not sinks_in_scope:
         return
     stem_ids, left = plan_stems(context, reach, sinks_in_scope, opts["work_budget"])
     if left:
         yield _incomplete(context, left, len(stem_ids), opts["work_budget"])
+    nodes = design.graph.nodes
+    severity = Severity.parse(SEVERITY)
+    where: dict[str, tuple] = {}      # gate -> (location, instance): gates recur across stems
     for f in find_reconvergences(design, context, opts["scope"], opts["min_skew"], stem_ids):
-        stem, gate, r, sinks = f.stem, f.gate, f.r, f.sinks
-        d = g.nodes[gate]
-        stem_name = context.net_name(stem)
-        sink_names = [context.describe(t) for t in sinks]
-        sens_names = [context.describe(t) for t in sinks if t in sens]
-        reach = (f"reaching glitch-sensitive {name_list(sens_names, 3)}" if sens_names
-                 else f"reaching {name_list(sink_names, 3)}")
-        pins = d.get("pins") or []
-        ins = d.get("inputs") or []
-        slow_pin = pins[r.slow_pin] if r.slow_pin < len(pins) else str(r.slow_pin)
-        fast_pin = pins[r.fast_pin] if r.fast_pin < len(pins) else str(r.fast_pin)
-        slow_net = context.net_name(ins[r.slow_pin]) if r.slow_pin < len(ins) else slow_pin
-        fast_net = context.net_name(ins[r.fast_pin]) if r.fast_pin < len(ins) else fast_pin
-        msg = (f"fanout of {stem_name} reconverges at {d.get('cell') or d.get('op')} "
-               f"{(d.get('instance') or gate).rsplit('.', 1)[-1]} with skew {num(r.skew)} "
-               f"(through {slow_net} at {num(r.slow_arrival)}, through {fast_net} at "
-               f"{num(r.fast_arrival)}), {reach}")
-        fast_ids, fast_hops = f.path(False, context.hop)
-        slow_ids, slow_hops = f.path(True, context.hop)
-        notes = (f"stem {stem_name}" + (f" ({context.where(stem)})"
-                                        if g.nodes[stem].get("path") else ""),
-                 "fast path: " + _path_text(fast_hops),
-                 "slow path: " + _path_text(slow_hops),
-                 f"skew {num(r.skew)}; worst reconvergence of this stem for "
-                 f"{name_list(sink_names, 4)}")
-        yield Diagnostic(
-            rule=ID, kind="unbalanced-reconvergence", severity=Severity.parse(SEVERITY),
-            location=context.location(gate), instance=d.get("instance", "") or "",
-            message=msg,
-            evidence={"stem_node": stem, "reconvergence_node": gate, "sink_nodes": list(sinks),
-                      "skew": r.skew,
-                      "fast_path": fast_ids, "slow_path": slow_ids,
-                      "fast_arrival": r.fast_arrival, "slow_arrival": r.slow_arrival,
-                      "slow_pin": slow_pin, "fast_pin": fast_pin,
-                      "key": stable_key("reconv", stem, gate)},
-            notes=notes, flows=(fast_hops, slow_hops),
-            fix=("balance the branch delays, add the consensus term that holds the output "
-                 "while the branches disagree, or register the signal before the sensitive sink"))
+        gate = f.gate
+        place = where.get(gate)
+        if place is None:
+            place = where[gate] = (context.location(gate),
+                                   nodes[gate].get("instance", "") or "")
+        location, instance = place
+        if compiled is not None:
+            # the compiled path keeps every finding's paths in its arrays: the text and the
+            # evidence are made when a reader first asks (same values as made here)
+            yield Diagnostic.deferred(ID, "unbalanced-reconvergence", severity, location,
+                                      instance, _Fields(context, f))
+        else:
+            yield Diagnostic(rule=ID, kind="unbalanced-reconvergence", severity=severity,
+                             location=location, instance=instance,
+                             **_fields(context, f.stem, gate, f.r, f.sinks, f.path))
+
+
+class _Fields:
+    """The deferred part of one compiled finding's diagnostic."""
+
+    __slots__ = ("context", "f")
+
+    def __init__(self, context, f):
+        self.context, self.f = context, f
+
+    def __call__(self) -> dict:
+        f = self.f
+        facts = f.facts()
+        stem, gate, r, sinks = facts[:4]
+        return _fields(self.context, stem, gate, r, sinks,
+                       lambda slow, make: f.path(slow, make, facts))
+
+
+def _fields(context, stem, gate, r, sinks, path) -> dict:
+    """message, evidence, notes, flows and fix of the finding at ``gate``; ``path(slow, make)``
+    gives (node ids, hops) of the slow/fast path."""
+    g = context.graph
+    sens = context.sensitive_sinks
+    d = g.nodes[gate]
+    stem_name = context.net_name(stem)
+    sink_names = [context.describe(t) for t in sinks]
+    sens_names = [context.describe(t) for t in sinks if t in sens]
+    reach = (f"reaching glitch-sensitive {name_list(sens_names, 3)}" if sens_names
+             else f"reaching {name_list(sink_names, 3)}")
+    pins = d.get("pins") or []
+    ins = d.get("inputs") or []
+    slow_pin = pins[r.slow_pin] if r.slow_pin < len(pins) else str(r.slow_pin)
+    fast_pin = pins[r.fast_pin] if r.fast_pin < len(pins) else str(r.fast_pin)
+    slow_net = context.net_name(ins[r.slow_pin]) if r.slow_pin < len(ins) else slow_pin
+    fast_net = context.net_name(ins[r.fast_pin]) if r.fast_pin < len(ins) else fast_pin
+    msg = (f"fanout of {stem_name} reconverges at {d.get('cell') or d.get('op')} "
+           f"{(d.get('instance') or gate).rsplit('.', 1)[-1]} with skew {num(r.skew)} "
+           f"(through {slow_net} at {num(r.slow_arrival)}, through {fast_net} at "
+           f"{num(r.fast_arrival)}), {reach}")
+    fast_ids, fast_hops = path(False, context.hop)
+    slow_ids, slow_hops = path(True, context.hop)
+    notes = (f"stem {stem_name}" + (f" ({context.where(stem)})"
+                                    if g.nodes[stem].get("path") else ""),
+             "fast path: " + _path_text(fast_hops),
+             "slow path: " + _path_text(slow_hops),
+             f"skew {num(r.skew)}; worst reconvergence of this stem for "
+             f"{name_list(sink_names, 4)}")
+    return dict(
+        message=msg,
+        evidence={"stem_node": stem, "reconvergence_node": gate, "sink_nodes": list(sinks),
+                  "skew": r.skew,
+                  "fast_path": fast_ids, "slow_path": slow_ids,
+                  "fast_arrival": r.fast_arrival, "slow_arrival": r.slow_arrival,
+                  "slow_pin": slow_pin, "fast_pin": fast_pin,
+                  "key": stable_key("reconv", stem, gate)},
+        notes=notes, flows=(fast_hops, slow_hops),
+        fix=("balance the branch delays, add the consensus term that holds the output "
+             "while the branches disagree, or register the signal before the sensitive sink"))
 
 
 def _incomplete(context, left, analysed: int, budget: float) -> Diagnostic:

@@ -21,9 +21,12 @@ from support import iverilog
 ROOT = Path(__file__).resolve().parent.parent
 FIX = ROOT / "fixtures"
 # fixtures that are deliberately malformed or need include paths/defines given by their tests
-# (frontend), and netlists of library cells, simulated against cell models in their own tests
-# (tests/test_liberty.py, tests/test_sdf.py)
-SPECIAL = {"frontend", "sdf", "liberty"}
+# (frontend), netlists of library cells, simulated against cell models in their own tests
+# (tests/test_liberty.py, tests/test_sdf.py), RTL that yosys synthesises before hazlint reads it
+# (tests/test_synth_corpus.py compares those netlists with iverilog's simulation of the RTL),
+# and RTL with memories, whose words cannot be forced in iverilog: simulated clock by clock in
+# tests/test_rtl_iverilog.py
+SPECIAL = {"frontend", "sdf", "liberty", "synth", "rtl"}
 
 
 def designs():

@@ -156,13 +156,17 @@ def test_operators_against_python(tmp_path):
 
 
 def test_unsupported_operator_names_construct(tmp_path):
-    with pytest.raises(HazlintError) as e:
-        load(tmp_path, """
-            module top(input [3:0] a, b, output [3:0] q);
-              assign q = a / b;
-            endmodule
-        """)
-    assert e.value.line == 3 and "a / b" in str(e.value)
+    # a power of two signals has no gate structure here: the module is left out, and the
+    # warning names the construct and its line
+    d = load(tmp_path, """
+        module top(input [3:0] a, b, output [3:0] q);
+          assign q = a ** b;
+        endmodule
+    """)
+    (rec,) = d.not_analysed
+    assert rec["module"] == "top" and rec["line"] == 3 and "a ** b" in rec["reason"]
+    (w,) = [n for n in d.notes if n.kind == "not-analysed"]
+    assert str(w.severity) == "warning" and w.line == 3 and "a ** b" in w.message
 
 
 def test_register_templates(tmp_path):
@@ -205,23 +209,28 @@ def test_register_templates(tmp_path):
         assert nxt == (c + 1) % 4
 
 
-def test_behavioural_module_is_a_black_box_with_one_note(tmp_path):
+def test_module_not_analysed_is_a_black_box_with_one_warning(tmp_path):
+    # a loop whose bound is a signal cannot be unrolled: the module is left out, once
     d = load(tmp_path, """
-        module beh(input [3:0] a, output reg [3:0] y);
+        module beh(input [3:0] a, input [2:0] n, output reg [3:0] y);
           integer i;
           always @(*) begin
-            for (i = 0; i < 4; i = i + 1) y[i] = a[3 - i];
+            y = 0;
+            for (i = 0; i < n; i = i + 1) y[i] = a[3 - i];
           end
         endmodule
-        module top(input [3:0] a, output [3:0] y, output z);
-          beh u1 (.a(a), .y(y));
-          beh u2 (.a(a), .y());
+        module top(input [3:0] a, input [2:0] n, output [3:0] y, output z);
+          beh u1 (.a(a), .n(n), .y(y));
+          beh u2 (.a(a), .n(n), .y());
           and g (z, a[0], a[1]);
         endmodule
     """)
     assert {b.name for b in d.blackboxes} == {"top.u1", "top.u2"}
-    notes = [n for n in d.notes if "behavioural" in n.message]
-    assert len(notes) == 1
+    notes = [n for n in d.notes if n.kind == "not-analysed"]
+    assert len(notes) == 1 and str(notes[0].severity) == "warning"
+    assert "'beh'" in notes[0].message and notes[0].line == 6
+    assert d.not_analysed[0]["instances"] == ["top.u1", "top.u2"]
+    assert d.modules == ["beh", "top"]
     assert d.graph.nodes[d.net_node("y[0]")]["kind"] == "blackbox"
     assert d.evaluate({"a[0]": 1, "a[1]": 1})["z"] == 1
 

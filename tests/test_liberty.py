@@ -392,9 +392,14 @@ def test_yosys_mapped_registers_have_the_right_pins(mapped):
         if role:
             assert src(r.pins[role]) == pin_net and r.active[role] == level, q
         # the cell yosys chose for it is the one whose name says this behaviour
-        m = re.search(rf"(DFF_\w+) {re.escape(r.name)} \(", text)
+        m = re.search(rf"(DFF_\w+) {re.escape(_inst(r))} \(", text)
         assert m and m.group(1) == r.cell
     assert {r.cell for r in design.registers} == {"DFF_PN0", "DFF_PN1", "DFF_N", "DFF_PP0"}
+
+
+def _inst(r) -> str:
+    """The register's cell instance name in the netlist (its register name is its Q net)."""
+    return r.instance.rsplit(".", 1)[-1]
 
 
 @pytest.mark.slow
@@ -421,9 +426,9 @@ def test_yosys_mapped_function_equals_icarus(mapped):
     tb.append("      v = i;")
     # iverilog 11 evaluates a force's right-hand side once, so force again for every vector
     for k, r in enumerate(regs):
-        tb.append(f"      force dut.{r.name}.IQ = v[{len(ins) + k}];")
+        tb.append(f"      force dut.{_inst(r)}.IQ = v[{len(ins) + k}];")
     tb.append("      #1;")
-    pins = [f"dut.{r.name}.{p}" for r in regs for p in _cell_inputs(lib, r.cell)]
+    pins = [f"dut.{_inst(r)}.{p}" for r in regs for p in _cell_inputs(lib, r.cell)]
     fields = outs + pins
     tb.append(f'      $display("%0d {" ".join(["%b"] * len(fields))}", i, '
               f'{", ".join(fields)});')

@@ -197,7 +197,7 @@ def test_ports_params_nets_and_continuous_assigns(tmp_path):
     assert kinds == {"w1": "wire", "w2": "wire", "t": "tri", "wa": "wand", "wo": "wor",
                      "gnd": "supply0", "vdd": "supply1", "i": "integer", "t0": "tri0",
                      "ta": "triand", "mem": "reg", "w3": "wire"}
-    assert nets["mem"].array == (_n(0), _n(15)) and nets["i"].signed
+    assert nets["mem"].array == [(_n(0), _n(15))] and nets["i"].signed
     assigns = [it for it in m.items if isinstance(it, ir.Assign)]
     assert assigns[0].lhs == ("id", "w3")
     assert assigns[2].rhs == ("repl", _n(2), [("part", ("id", "a"), _n(1), _n(0))])
@@ -266,11 +266,15 @@ def test_always_blocks_statements_and_sensitivity(tmp_path):
     (case,) = alw[2].body[1]
     assert case[:3] == ("case", "casez", ("id", "s"))
     assert case[3][0][0] == [("num", 2, 0b11, 0b01, False)]       # 2'b1?: ? is z
-    assert case[3][1][1] == ("block", []) and case[3][2][0] is None
-    assert alw[3].body[:2] == ("other", "for loop")
+    assert case[3][1][1] == ("block", [], None, []) and case[3][2][0] is None
+    assert alw[3].body == ("for", ("assign", "=", ("id", "k"), _n(0), 14),
+                           ("binop", "<", ("id", "k"), _n(2)),
+                           ("assign", "=", ("id", "k"), ("binop", "+", ("id", "k"), _n(1)), 14),
+                           ("assign", "=", ("id", "y"), ("id", "d"), 14), 14)
     assert any(isinstance(it, ir.Initial) for it in m.items)
-    (fn,) = [it for it in m.items if isinstance(it, ir.Unsupported)]
-    assert fn.what == "function f"
+    (fn,) = [it for it in m.items if isinstance(it, ir.Function)]
+    assert (fn.name, [p.name for p in fn.ports], fn.body) == (
+        "f", ["x"], ("assign", "=", ("id", "f"), ("id", "x"), 16))
 
 
 def test_columns_of_instances_assigns_always_and_declarations(tmp_path):

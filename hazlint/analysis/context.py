@@ -193,7 +193,9 @@ class AnalysisContext:
     # ---- timing --------------------------------------------------------------------------------
     @cached_property
     def timing_graph(self) -> TimingGraph:
-        return TimingGraph.build(self.graph)
+        # the design's topological order when it was already computed (the same order)
+        known = vars(self.design).get("topo_order") if hasattr(self.design, "__dict__") else None
+        return TimingGraph.build(self.graph, known)
 
     @cached_property
     def arrival_solver(self) -> ArrivalSolver:

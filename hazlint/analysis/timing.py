@@ -17,76 +17,9 @@ import heapq
 import math
 from dataclasses import dataclass
 
-import networkx as nx
+from .timing_graph import TimingGraph  # noqa: F401  (the graph these solvers read)
 
 INF = math.inf
-
-
-@dataclass
-class TimingGraph:
-    """The gate graph as integer-indexed arrays in topological order (acyclic part only)."""
-
-    order: list[str]                       # node ids; index = topological position
-    index: dict[str, int]
-    # per node: list of (pred index, pin index, min delay, max delay) per input pin
-    fanin: list[list[tuple[int, int, float, float]]]
-    fanout: list[list[int]]                # distinct successor indices
-    reads: list[list[tuple[int, int]]]     # (successor index, pin index) per read of the net
-    cut_edges: list[tuple[str, str]]       # edges dropped to break combinational loops
-    preds: list[list[int]] = None          # distinct predecessor indices
-
-    @classmethod
-    def build(cls, g: nx.DiGraph) -> "TimingGraph":
-        cut: list[tuple[str, str]] = []
-        work = g
-        if not nx.is_directed_acyclic_graph(g):
-            # loops are the loop rule's business; timing ignores the edges inside them
-            comp = {}
-            for k, scc in enumerate(nx.strongly_connected_components(g)):
-                for n in scc:
-                    comp[n] = k
-            cut = sorted((u, v) for u, v in g.edges if comp[u] == comp[v])
-            work = g.copy()
-            work.remove_edges_from(cut)
-        order = list(nx.topological_sort(work))
-        index = {n: i for i, n in enumerate(order)}
-        nodes = g.nodes
-        fanin: list[list[tuple[int, int, float, float]]] = [[] for _ in order]
-        fanout: list[list[int]] = [[] for _ in order]
-        reads: list[list[tuple[int, int]]] = [[] for _ in order]
-        cutset = set(cut)
-        for v in order:
-            d = nodes[v]
-            vi = index[v]
-            ins = d.get("inputs") or []
-            if d["kind"] not in ("gate", "sink") or not ins:
-                continue
-            delays = d.get("delays") or []
-            for pin, u in enumerate(ins):
-                if (u, v) in cutset or u not in index:
-                    continue
-                e = g.edges[u, v]
-                w = e.get("wire")
-                wmin = w.min if w is not None else 0.0
-                wmax = w.max if w is not None else 0.0
-                if d["kind"] == "gate":
-                    dl = delays[pin] if pin < len(delays) else None
-                    dmin = (dl.min if dl is not None else 1.0) + wmin
-                    dmax = (dl.max if dl is not None else 1.0) + wmax
-                else:
-                    dmin, dmax = wmin, wmax
-                ui = index[u]
-                fanin[vi].append((ui, pin, dmin, dmax))
-                reads[ui].append((vi, pin))
-        for ui, rs in enumerate(reads):
-            seen = []
-            for vi, _ in rs:
-                if not seen or seen[-1] != vi:
-                    if vi not in seen:
-                        seen.append(vi)
-            fanout[ui] = sorted(seen)
-        return cls(order, index, fanin, fanout, reads, cut,
-                   [sorted({p for p, _, _, _ in f}) for f in fanin])
 
 
 @dataclass

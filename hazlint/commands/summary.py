@@ -44,6 +44,7 @@ def design_from_args(args):
     return load_design(files, top=args.top or cfg.top,
                        include_dirs=[*cfg.include_dirs, *args.include_dirs],
                        defines=defines, library=library, root=cfg.root,
+                       memory_max_bits=cfg.memory_as_registers_max_bits,
                        frontend=getattr(args, "frontend", None) or cfg.frontend), cfg
 
 
@@ -70,6 +71,15 @@ def run(args) -> int:
     print(f"  latches     {s['latches']}")
     depth = s["logic_depth"]
     print(f"  logic depth {depth if depth is not None else 'n/a (combinational loop)'}")
+    if s["memories"]:
+        print(f"  memories    {len(s['memories'])} (memory nodes)")
+        for m in s["memories"][:20]:
+            print(f"    {m['name']}: {m['words']} x {m['width']} bits, "
+                  f"{m['write_ports']} write / {m['read_ports']} read ports")
+    if s["not_analysed"]:
+        print(f"  not analysed {len(s['not_analysed'])} of {s['modules']} modules")
+        for r in s["not_analysed"][:20]:
+            print(f"    {r['module']}: {r['reason']}")
     if s["blackboxes"]:
         print(f"  black boxes {len(s['blackboxes'])}")
         for b in s["blackboxes"][:20]:

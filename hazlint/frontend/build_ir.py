@@ -12,8 +12,11 @@ import re
 from pyverilog.vparser import ast as va
 
 from ..errors import ParseError
+from . import grammar_tasks as gt
 from . import ir
 from . import parser as hp
+from .build_subprograms import SubprogramBuilder
+from .build_subprograms import direction as _direction
 from .literals import GATE_PRIMITIVES, attr_value, parse_number  # noqa: F401 (used by others)
 from .literals import expr_text as _text
 from .literals import udp_level as _udp_level
@@ -32,7 +35,16 @@ _ALWAYS_KIND = {va.AlwaysFF: "always_ff", va.AlwaysComb: "always_comb",
 _CASE_KIND = {va.CasexStatement: "casex", va.CasezStatement: "casez",
               va.UniqueCaseStatement: "case", va.CaseStatement: "case"}
 
-class Builder:
+_VARIABLE_KINDS = ("reg", "integer", "time")
+
+
+def _target(assign) -> str | None:
+    """The variable a declaration assignment initialises."""
+    lv = getattr(assign.left, "var", None)
+    return getattr(lv, "name", None)
+
+
+class Builder(SubprogramBuilder):
     def __init__(self, path: str, pre, lexer):
         self.path = path
         self.pre = pre
@@ -170,6 +182,9 @@ class Builder:
 
     def _ansi_port(self, mod, io):
         first, second = io.first, io.second
+        if getattr(first, "hz_input_reg", False):
+            self.error(f"invalid port declaration '{_direction(first)} reg'", first.lineno,
+                       first.name)
         pos = getattr(io, "hz_pos", None)
         attr_pos = getattr(io, "hz_attrs_from", None) or pos
         kind = self._net_kind(second) if second is not None else "wire"
@@ -182,7 +197,8 @@ class Builder:
     def _param(self, prm, local, decl):
         pos = getattr(decl, "hz_pos", None)
         return ir.Param(name=prm.name, value=self.expr(prm.value), local=local,
-                        width=self.width(prm.width), loc=self.loc(prm.lineno, pos))
+                        width=self.width(prm.width), loc=self.loc(prm.lineno, pos),
+                        signed=bool(getattr(prm, "signed", False)))
 
     @staticmethod
     def _net_kind(v) -> str:
@@ -226,7 +242,8 @@ class Builder:
                                  kind=_ALWAYS_KIND.get(t, "always"),
                                  loc=self.loc(n.lineno, pos), attrs=self.attrs(pos)))
         elif t is va.Initial:
-            out.append(ir.Initial(loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
+            out.append(ir.Initial(loc=self.loc(n.lineno, getattr(n, "hz_pos", None)),
+                                  body=self.stmt(n.statement)))
         elif t is va.GenerateStatement:
             for x in n.items:
                 self._item(x, out, mod, ansi)
@@ -253,12 +270,10 @@ class Builder:
                 out.append(ir.Unsupported(
                     what=f"defparam {_text(self.expr(target))} = {_text(self.expr(value))}",
                     loc=self.loc(n.lineno, n.hz_pos)))
-        elif t is va.Function:
-            out.append(ir.Unsupported(what=f"function {n.name}",
-                                      loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
-        elif t is va.Task:
-            out.append(ir.Unsupported(what=f"task {n.name}",
-                                      loc=self.loc(n.lineno, getattr(n, "hz_pos", None))))
+        elif t is gt.FunctionDef:
+            out.append(self._function(n))
+        elif t is gt.TaskDef:
+            out.append(self._task(n))
         elif n is None:
             pass
         else:
@@ -268,10 +283,13 @@ class Builder:
     def _decl(self, decl, out, mod):
         dpos = getattr(decl, "hz_pos", None)
         attrs = self.attrs(dpos)
+        variables = set()          # names declared here as variables (reg, integer, ...)
         for v in decl.list:
             t = type(v)
             pos = getattr(v, "hz_pos", dpos)
             if t in (va.Input, va.Output, va.Inout):
+                if getattr(v, "hz_input_reg", False):
+                    self.error(f"invalid declaration '{_direction(v)} reg'", v.lineno, v.name)
                 port = mod.ports.get(v.name)
                 if port is None:
                     if v.name not in mod.port_order:
@@ -296,6 +314,10 @@ class Builder:
                 else:
                     out.append(ir.Net(name=name, kind=kind, width=self.width(v.width),
                                       loc=self.loc(v.lineno, pos), attrs=dict(attrs)))
+            elif t is va.Assign and _target(v) in variables:
+                # ``reg x = v;`` is an initial value (IEEE 1364-2005 6.2.1), not a driver
+                out.append(ir.Initial(loc=self.loc(v.lineno, dpos), body=(
+                    "assign", "=", self.expr(v.left), self.expr(v.right), self._line(v))))
             elif t is va.Assign:
                 out.append(ir.Assign(lhs=self.expr(v.left), rhs=self.expr(v.right),
                                      delay=self.delay(v.ldelay) if isinstance(
@@ -308,6 +330,8 @@ class Builder:
                                           loc=self.loc(v.lineno, pos)))
             elif isinstance(v, va.Variable):
                 kind = self._net_kind(v)
+                if kind in _VARIABLE_KINDS:
+                    variables.add(v.name)
                 width = self.width(v.width)
                 signed = bool(v.signed)
                 if kind == "integer":
@@ -320,18 +344,17 @@ class Builder:
                     if attrs:
                         port.attrs.update(attrs)
                     continue
-                array = None
-                if v.dimensions is not None and v.dimensions.lengths:
-                    ln = v.dimensions.lengths[0]
-                    array = (self.expr(ln.msb), self.expr(ln.lsb))
+                array = self._dims(v)
                 nd = getattr(v, "hz_delay", None)
                 out.append(ir.Net(name=v.name, kind=kind, width=width, signed=signed,
                                   array=array, loc=self.loc(v.lineno, pos), attrs=dict(attrs),
                                   delay=self.delay(nd) if isinstance(nd, hp.DelaySpec)
                                   else None))
-                if getattr(v, "value", None) is not None and kind == "integer":
-                    out.append(ir.Unsupported(what=f"initial value of integer {v.name}",
-                                              loc=self.loc(v.lineno, pos)))
+                value = getattr(v, "value", None)      # integer i = 5;
+                if value is not None:
+                    value = value.var if isinstance(value, va.Rvalue) else value
+                    out.append(ir.Initial(loc=self.loc(v.lineno, pos), body=(
+                        "assign", "=", ("id", v.name), self.expr(value), self._line(v))))
             else:
                 out.append(ir.Unsupported(what=t.__name__, loc=self.loc(v.lineno, pos)))
 
@@ -422,7 +445,26 @@ class Builder:
             return None
         t = type(s)
         if t is va.Block:
-            return ("block", [self.stmt(x) for x in s.statements])
+            stmts, decls = [], []
+            for x in s.statements:
+                if type(x) is va.Decl:
+                    decls.extend(self._local_decls(x))
+                else:
+                    stmts.append(self.stmt(x))
+            return ("block", stmts, s.scope, decls)
+        if t is va.ForStatement:
+            return ("for", self.stmt(s.pre), self.expr(s.cond), self.stmt(s.post),
+                    self.stmt(s.statement), self._line(s))
+        if t is va.WhileStatement:
+            return ("while", self.expr(s.cond), self.stmt(s.statement), self._line(s))
+        if t is gt.RepeatStatement:
+            return ("repeat", self.expr(s.count), self.stmt(s.statement), self._line(s))
+        if t is gt.TaskEnable:
+            name = self._scoped(s.name) if s.name.scope is not None else s.name.name
+            return ("call", name, [self.expr(x) for x in s.args], self._line(s))
+        if t is va.SingleStatement and type(s.statement) is va.SystemCall:
+            c = s.statement
+            return ("call", "$" + c.syscall, [self.expr(x) for x in c.args], self._line(s))
         if t is va.IfStatement:
             return ("if", self.expr(s.cond), self.stmt(s.true_statement),
                     self.stmt(s.false_statement))
@@ -437,11 +479,10 @@ class Builder:
                 cases.append((labels, self.stmt(c.statement)))
             return ("case", _CASE_KIND[t], self.expr(s.comp), cases)
         if t is va.EventStatement and not s.senslist.list:
-            return ("block", [])        # a lone ';'
-        what = {va.ForStatement: "for loop", va.WhileStatement: "while loop",
-                va.ForeverStatement: "forever loop", va.WaitStatement: "wait statement",
+            return ("block", [], None, [])        # a lone ';'
+        what = {va.ForeverStatement: "forever loop", va.WaitStatement: "wait statement",
                 va.EventStatement: "event control", va.ParallelBlock: "fork/join block",
-                va.SingleStatement: "delay, system task or disable statement",
+                va.SingleStatement: "delay or disable statement",
                 va.Decl: "declaration in a block"}.get(t, t.__name__)
         return ("other", what, self._line(s))
 
@@ -531,14 +572,6 @@ class Builder:
             rows.append({"inputs": ins, "state": state, "output": syms[-1][0],
                          "line": self.lmap.lookup(line)[1]})
         return rows
-
-
-def _direction(v) -> str:
-    if isinstance(v, va.Input):
-        return "input"
-    if isinstance(v, va.Output):
-        return "output"
-    return "inout"
 
 
 def build_source(path: str, ast, pre, lexer) -> tuple[list, list, list]:

@@ -4,7 +4,10 @@ A front end is a function ``read_one(path, include_dirs, defines, root, texts) -
 ir.SourceFile`` (module-level, so worker processes can be handed it by name);
 :func:`read_with` runs it over a list of files with the cache, ``jobs`` and ``progress`` the
 callers ask for. ``key_extra`` (JSON-able) goes into every cache key, so two front ends never
-share an entry. Nothing here imports a parser.
+share an entry. With ``tolerant`` a file that cannot be read comes back as a
+:class:`~hazlint.frontend.ir.SourceFile` without modules, its error in ``SourceFile.error`` and
+the module names a text scan finds (the elaborator decides whether the design needs it).
+Nothing here imports a parser.
 """
 from __future__ import annotations
 
@@ -12,6 +15,7 @@ import gc
 import hashlib
 import json
 import os
+import re
 from typing import Callable
 
 from .. import __version__
@@ -26,7 +30,7 @@ def read_with(read_one: Callable, paths: list[str], include_dirs: list[str] = ()
               defines: dict[str, str] = None, root: str | None = None, jobs: int = 1,
               cache=None, texts: dict[str, str] = None,
               progress: Callable[[int, int, str], None] | None = None,
-              key_extra=None) -> list[ir.SourceFile]:
+              key_extra=None, tolerant: bool = False) -> list[ir.SourceFile]:
     """``read_one`` over ``paths`` (see :func:`hazlint.frontend.reader.read_sources` for the
     arguments), results in input order; with ``jobs > 1`` in worker processes."""
     paths = [os.fspath(p) for p in paths]
@@ -68,18 +72,56 @@ def read_with(read_one: Callable, paths: list[str], include_dirs: list[str] = ()
                 done += 1
                 if progress:
                     progress(done, total, paths[i])
-        if errors:
+        if errors and not tolerant:
             raise ParseError(**errors[min(errors)])     # the first failing file in input order
+        for i, err in errors.items():
+            results[i] = unread(paths[i], err, texts)
     else:
         for i in todo:
-            results[i] = read_one(paths[i], include_dirs, defines, root, texts)
+            try:
+                results[i] = read_one(paths[i], include_dirs, defines, root, texts)
+            except HazlintError as exc:
+                if not tolerant:
+                    raise
+                results[i] = unread(paths[i], _error_dict(exc), texts)
             done += 1
             if progress:
                 progress(done, total, paths[i])
     if cache is not None:
         for i in todo:
-            _to_cache(cache, keys[i], results[i], texts)
+            if results[i].error is None:
+                _to_cache(cache, keys[i], results[i], texts)
     return results
+
+
+_DEFINES = re.compile(r"^\s*(?:macromodule|module|primitive)\s+(\\\S+|[A-Za-z_][\w$]*)", re.M)
+_COMMENTS = re.compile(r"//[^\n]*|/\*[\s\S]*?\*/")
+
+
+def scan_definitions(text: str) -> list[str]:
+    """Names of the modules and primitives a Verilog text defines, by a plain text scan (for
+    a file the parser rejected)."""
+    names = []
+    for m in _DEFINES.finditer(_COMMENTS.sub(" ", text)):
+        n = m.group(1)
+        names.append(n[1:] if n.startswith("\\") else n)
+    return names
+
+
+def unread(path: str, err: dict, texts) -> ir.SourceFile:
+    """The IR of a file that could not be read: no modules, the error (its ``path`` is the
+    file or an included file) and what the file defines."""
+    try:
+        names = scan_definitions(read_text(path, texts))
+    except HazlintError:
+        names = []
+    return ir.SourceFile(path=path, error=dict(err, path=err.get("path") or path,
+                                               modules=names))
+
+
+def _error_dict(exc: HazlintError) -> dict:
+    return {"message": exc.message, "path": exc.path, "line": exc.line, "column": exc.column,
+            "construct": exc.construct}
 
 
 # ---------------------------------------------------------------------------------------------
@@ -166,5 +208,4 @@ def _worker(read_one, path, config):
     try:
         return ("ok", ir.to_json(read_one(path, include_dirs, defines, root, texts)))
     except HazlintError as exc:
-        return ("error", {"message": exc.message, "path": exc.path, "line": exc.line,
-                          "column": exc.column, "construct": exc.construct})
+        return ("error", _error_dict(exc))

@@ -64,7 +64,9 @@ class Net:
     kind: str = "wire"                  # wire reg tri wand wor trireg uwire supply0 supply1 integer
     width: Optional[tuple] = None
     signed: bool = False
-    array: Optional[tuple] = None       # (msb, lsb) of a memory array dimension
+    # unpacked dimensions, left to right: [(msb, lsb), ...] (``reg [7:0] ram [0:15]`` has one,
+    # ``wire [3:0] w [0:3][0:3]`` two); None for a plain net or variable
+    array: Optional[list] = None
     loc: Optional[Loc] = None
     attrs: dict = field(default_factory=dict)
     delay: Optional[list] = None        # net delay: [(min, typ, max) expr, ...] rise, fall
@@ -75,8 +77,9 @@ class Param:
     name: str
     value: Expr
     local: bool = False
-    width: Optional[tuple] = None
+    width: Optional[tuple] = None       # declared range (msb, lsb); None: the value's own type
     loc: Optional[Loc] = None
+    signed: bool = False                # declared ``signed`` (with or without a range)
 
 
 @dataclass
@@ -116,12 +119,18 @@ class Instance:
     attrs: dict = field(default_factory=dict)
 
 
-# Statements inside always blocks (tuples, JSON lists when cached):
-#   ("block", [stmt, ...])
+# Statements inside always blocks, functions and tasks (tuples, JSON lists when cached):
+#   ("block", [stmt, ...], name_or_None, [Net | Param, ...])   begin [: name] decls stmts end
 #   ("if", cond_expr, then_stmt_or_None, else_stmt_or_None)
 #   ("assign", "=" | "<=", lhs_expr, rhs_expr, line)
 #   ("case", "case"|"casex"|"casez", expr, [([label_expr, ...] or None for default, stmt), ...])
+#   ("for", init_stmt_or_None, cond_expr_or_None, step_stmt_or_None, body_stmt, line)
+#                                  init and step are ("assign", "=", ...) statements
+#   ("while", cond_expr, body_stmt, line)
+#   ("repeat", count_expr, body_stmt, line)
+#   ("call", name, [arg_expr, ...], line)   task enable; system tasks keep their "$" ($display)
 #   ("other", "description of the construct", line)
+# A block's name and declarations (items 2 and 3) may be left out: ("block", [stmt, ...]).
 Stmt = tuple
 
 
@@ -139,7 +148,11 @@ class Always:
 
 @dataclass
 class Initial:
+    """An ``initial`` block, or the initial value of a variable declaration (``reg x = v;``,
+    read as ``initial x = v;``); the constant assignments in ``body`` are power-up values."""
+
     loc: Optional[Loc] = None
+    body: Optional[Stmt] = None
 
 
 @dataclass
@@ -192,15 +205,50 @@ class SpecifyPath:
 
 
 @dataclass
+class Function:
+    """A function declaration (IEEE 1364-2005 10.4), a module or generate item.
+
+    ``ports`` are its inputs in declaration order (:class:`Port`: ``net_type`` "reg",
+    "integer" or "real"; an ``integer`` has ``width`` (31, 0) and ``signed`` set); ``decls``
+    its local variables (:class:`Net`) and parameters (:class:`Param`); ``body`` one statement.
+    The return value is the variable named after the function: ``width`` None is one bit;
+    ``kind`` "reg" | "integer" (``width`` (31, 0), signed) | "real"."""
+
+    name: str
+    ports: list = field(default_factory=list)
+    decls: list = field(default_factory=list)
+    body: Optional[Stmt] = None
+    width: Optional[tuple] = None
+    signed: bool = False
+    kind: str = "reg"
+    automatic: bool = False
+    loc: Optional[Loc] = None
+
+
+@dataclass
+class Task:
+    """A task declaration (IEEE 1364-2005 10.2): ``ports`` with direction input, output or
+    inout, otherwise as :class:`Function`."""
+
+    name: str
+    ports: list = field(default_factory=list)
+    decls: list = field(default_factory=list)
+    body: Optional[Stmt] = None
+    automatic: bool = False
+    loc: Optional[Loc] = None
+
+
+@dataclass
 class Unsupported:
-    """A construct the reader keeps only as a note (functions, tasks, unusual statements)."""
+    """A construct the reader keeps only as a note (``defparam``, ``real`` variables, ...):
+    a module holding one is not modelled (its instances are black boxes, reported)."""
 
     what: str
     loc: Optional[Loc] = None
 
 
 Item = Union[Net, Param, Assign, Instance, Always, Initial, GenFor, GenIf, GenCase, GenBlock,
-             SpecifyPath, Unsupported]
+             SpecifyPath, Function, Task, Unsupported]
 
 
 @dataclass
@@ -240,14 +288,19 @@ class SourceFile:
     notes: list = field(default_factory=list)          # [(Loc, message)]
     includes: list = field(default_factory=list)       # files pulled in through `include
     digest: str = ""                                   # content hash (cache key material)
+    # set when the file could not be read (``read_sources(tolerant=True)``; it then has no
+    # modules): {"message", "path" (the file, or the included file at fault), "line",
+    # "column", "construct", "modules": [module and primitive names a plain text scan of the
+    # file finds]}; the elaborator decides whether the design needs the file
+    error: Optional[dict] = None
 
 
 # ---------------------------------------------------------------------------------------------
 # JSON round trip (no code execution on load: only these classes can be built)
 
 _CLASSES = {c.__name__: c for c in (Loc, Port, Net, Param, Assign, Instance, Always, Initial,
-                                    GenFor, GenIf, GenCase, GenBlock, SpecifyPath, Unsupported,
-                                    Module, Primitive, SourceFile)}
+                                    GenFor, GenIf, GenCase, GenBlock, SpecifyPath, Function,
+                                    Task, Unsupported, Module, Primitive, SourceFile)}
 
 
 def to_json(obj: Any) -> Any:

@@ -3,7 +3,8 @@
 Additions over :class:`pyverilog.vparser.lexer.VerilogLexer`:
 
 * keywords ``primitive``/``endprimitive``, ``specify``/``endspecify``/``specparam``/``ifnone``,
-  the net types ``wand wor tri0 tri1 triand trior trireg uwire``, drive strengths (``strong0`` ...);
+  ``automatic``, ``repeat``, the net types ``wand wor tri0 tri1 triand trior trireg uwire``,
+  drive strengths (``strong0`` ...);
 * a UDP ``table ... endtable`` body is one ``TABLE`` token holding its raw text (the rows are
   split in :mod:`hazlint.frontend.build_ir`; table symbols do not lex as Verilog tokens);
 * specify timing checks (``$setup(...);`` ...) are one ``TIMINGCHECK`` token, so the parser can
@@ -32,6 +33,7 @@ MAX_NESTING = 1000
 _EXTRA_KEYWORDS = (
     "PRIMITIVE", "ENDPRIMITIVE", "SPECIFY", "ENDSPECIFY", "SPECPARAM", "IFNONE",
     "WAND", "WOR", "TRI0", "TRI1", "TRIAND", "TRIOR", "TRIREG", "UWIRE", "DEFPARAM",
+    "AUTOMATIC", "REPEAT",
 )
 _STRENGTHS = ("strong0", "strong1", "pull0", "pull1", "weak0", "weak1", "highz0", "highz1")
 

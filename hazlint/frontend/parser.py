@@ -15,6 +15,8 @@ Grammar additions and repairs over :class:`pyverilog.vparser.parser.VerilogParse
 * attributes (kept by the lexer, looked up by the position of the construct, ``hz_pos``);
 * list-building actions append to a Python list instead of concatenating tuples (the stock
   form is quadratic in list length); see :func:`_linear_list_actions`;
+* functions and tasks as IEEE 1364-2005 writes them, task enables, ``repeat``, typed arguments,
+  ``integer`` arrays and ``output integer`` ports (:mod:`hazlint.frontend.grammar_tasks`);
 * the stock ``p_declassign_element_delay`` and ``p_integerdecl_signed`` index bugs are fixed.
 
 LALR tables are generated once per grammar signature and kept as JSON in the per-user cache
@@ -41,6 +43,7 @@ from pyverilog.vparser import parser as vparser
 from pyverilog.vparser.parser import VerilogParser
 
 from .. import __version__
+from .grammar_tasks import TaskFunctionGrammar
 from .lexer import HzLexer, LexError
 
 
@@ -243,8 +246,7 @@ _POS_RULES = (
     "p_parameterdecl_signed_width", "p_parameterdecl_integer", "p_localparamdecl",
     "p_localparamdecl_signed", "p_localparamdecl_width", "p_localparamdecl_signed_width",
     "p_localparamdecl_integer", "p_always", "p_always_ff", "p_always_comb", "p_always_latch",
-    "p_initial", "p_function", "p_function_nowidth", "p_function_integer", "p_task",
-    "p_generate_for", "p_generate_if", "p_generate_if_woelse", "p_integerdecl",
+    "p_initial", "p_generate_for", "p_generate_if", "p_generate_if_woelse",
     "p_declassign", "p_declassign_width", "p_decl", "p_decl_width", "p_genvardecl",
     "p_param", "p_param_signed", "p_param_width", "p_param_signed_width", "p_param_integer",
     "p_param_end", "p_param_end_signed", "p_param_end_width", "p_param_end_signed_width",
@@ -255,7 +257,7 @@ _POS_RULES = (
 
 # ---------------------------------------------------------------------------------------------
 
-class HzParser(VerilogParser):
+class HzParser(TaskFunctionGrammar, VerilogParser):
     """The hazlint Verilog grammar. Construct through :func:`get_parser`."""
 
     start = "source_text"
@@ -273,6 +275,11 @@ class HzParser(VerilogParser):
     p_sigtype_reg = p_sigtype_logic = p_sigtype_wire = p_sigtype_signed = None
     p_sigtype_supply0 = p_sigtype_supply1 = None
     p_parameterlist_noname = None
+    # functions and tasks: replaced by the IEEE 1364-2005 forms below
+    p_function_nowidth = p_function_integer = p_function_statement = p_function_calc = None
+    p_funcvardecl = p_funcvardecls = p_funcvardecls_one = None
+    p_task_calc = p_task_statement = p_taskvardecl = None
+    p_taskvardecls = p_taskvardecls_empty = p_taskvardecls_one = None
 
     def __init__(self, tables_module=None, write_tables=True):
         self.lexer = HzLexer()
@@ -468,8 +475,16 @@ class HzParser(VerilogParser):
         p.slice[0].lexpos = p.lexpos(1)
 
     def create_ioport(self, sigtypes, name, width=None, dimensions=None, lineno=0):
+        # ``input reg`` is legal on task and function arguments (IEEE 1364-2005 10.2.1)
+        as_reg = "reg" in sigtypes and ("input" in sigtypes or "inout" in sigtypes)
+        if as_reg:
+            sigtypes = [s for s in sigtypes if s != "reg"]
         try:
             node = VerilogParser.create_ioport(self, sigtypes, name, width, dimensions, lineno)
+            if as_reg:
+                node.second = vast.Reg(name=name, width=width, signed="signed" in sigtypes,
+                                       lineno=lineno)
+                node.first.hz_input_reg = True      # an error on a module port (build_ir)
         except vparser.ParseError:
             raise SyntaxErr("invalid port declaration '%s'" % " ".join(sigtypes), lineno,
                             None, name) from None
@@ -481,8 +496,15 @@ class HzParser(VerilogParser):
         return node
 
     def create_decl(self, sigtypes, name, width=None, dimensions=None, lineno=0):
+        as_reg = "reg" in sigtypes and ("input" in sigtypes or "inout" in sigtypes)
+        if as_reg:
+            sigtypes = [s for s in sigtypes if s != "reg"]
         try:
             decls = VerilogParser.create_decl(self, sigtypes, name, width, dimensions, lineno)
+            if as_reg:
+                decls[0].hz_input_reg = True        # an error on a module port (build_ir)
+                decls.append(vast.Reg(name=name, width=width, signed="signed" in sigtypes,
+                                      dimensions=dimensions, lineno=lineno))
         except vparser.ParseError:
             raise SyntaxErr("invalid declaration '%s'" % " ".join(sigtypes), lineno, None,
                             name) from None
@@ -573,17 +595,6 @@ class HzParser(VerilogParser):
                              p[5], p[1], p[4], lineno=p.lineno(2))
         p[0] = (p[2], assign)
         p.set_lineno(0, p.lineno(2))
-
-    def p_integerdecl_signed(self, p):
-        'integerdecl : INTEGER SIGNED integernamelist SEMICOLON'
-        intlist = [vast.Integer(rname, vast.Width(vast.IntConst('31', lineno=p.lineno(3)),
-                                                  vast.IntConst('0', lineno=p.lineno(3)),
-                                                  lineno=p.lineno(3)),
-                                signed=True, value=rvalue, lineno=p.lineno(3))
-                   for rname, rvalue in p[3]]
-        p[0] = vast.Decl(intlist, lineno=p.lineno(1))
-        p[0].hz_pos = p.lexpos(1)
-        p.set_lineno(0, p.lineno(1))
 
     # ------------------------------------------------------------------ items
     def p_item(self, p):

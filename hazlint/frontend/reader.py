@@ -14,7 +14,8 @@ from typing import Callable
 from ..errors import ParseError
 from . import ir
 from .build_ir import build_source
-from .driver import CACHE_FORMAT, combined_digest, read_with  # noqa: F401 (CACHE_FORMAT: API)
+from .driver import (CACHE_FORMAT, combined_digest, read_with,  # noqa: F401 (re-exported API)
+                     scan_definitions)
 from .parser import SyntaxErr, get_parser
 from .preprocess import Preprocessor
 
@@ -24,17 +25,20 @@ _PARSE_LOCK = threading.RLock()
 def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[str, str] = None,
                  root: str | None = None, jobs: int = 1, cache=None,
                  texts: dict[str, str] = None,
-                 progress: Callable[[int, int, str], None] | None = None) -> list[ir.SourceFile]:
+                 progress: Callable[[int, int, str], None] | None = None,
+                 tolerant: bool = False) -> list[ir.SourceFile]:
     """Read ``paths`` into IR, one :class:`ir.SourceFile` per path, in input order.
 
     ``texts`` overrides file contents by path (unsaved editor buffers, includes too);
     ``cache`` is an object with ``load(key) -> dict | None`` and ``store(key, dict)``;
     ``jobs > 1`` parses in worker processes; ``progress(done, total, path)`` is called once per
     file; ``root`` bounds where includes may resolve (default: the common directory of the
-    inputs). Errors are :class:`~hazlint.errors.ParseError` with the original file:line.
+    inputs). Errors are :class:`~hazlint.errors.ParseError` with the original file:line; with
+    ``tolerant`` a file that cannot be read comes back without modules and with its error in
+    ``SourceFile.error`` (the elaborator decides whether the design needs it).
     """
     return read_with(read_one, paths, include_dirs=include_dirs, defines=defines, root=root,
-                     jobs=jobs, cache=cache, texts=texts, progress=progress)
+                     jobs=jobs, cache=cache, texts=texts, progress=progress, tolerant=tolerant)
 
 
 def read_one(path: str, include_dirs=(), defines=None, root=None, texts=None) -> ir.SourceFile:

@@ -29,17 +29,17 @@ INSTALL_HINT = "pip install 'hazlint[slang]'"
 
 
 def _pyverilog(paths, include_dirs=(), defines=None, root=None, jobs=1, cache=None,
-               texts=None, progress=None) -> list[ir.SourceFile]:
+               texts=None, progress=None, tolerant=False) -> list[ir.SourceFile]:
     from .reader import read_sources as read
     return read(paths, include_dirs=include_dirs, defines=defines, root=root, jobs=jobs,
-                cache=cache, texts=texts, progress=progress)
+                cache=cache, texts=texts, progress=progress, tolerant=tolerant)
 
 
 def _slang(paths, include_dirs=(), defines=None, root=None, jobs=1, cache=None, texts=None,
-           progress=None) -> list[ir.SourceFile]:
+           progress=None, tolerant=False) -> list[ir.SourceFile]:
     from .slang.reader import read_sources as read
     return read(paths, include_dirs=include_dirs, defines=defines, root=root, jobs=jobs,
-                cache=cache, texts=texts, progress=progress)
+                cache=cache, texts=texts, progress=progress, tolerant=tolerant)
 
 
 READERS: dict[str, Callable[..., list]] = {"pyverilog": _pyverilog, "slang": _slang}
@@ -89,7 +89,8 @@ def key_material(paths, frontend: str = DEFAULT):
 
 
 def read_sources(paths, include_dirs=(), defines=None, root=None, jobs: int = 1, cache=None,
-                 texts=None, progress=None, frontend: str = DEFAULT) -> list[ir.SourceFile]:
+                 texts=None, progress=None, frontend: str = DEFAULT,
+                 tolerant: bool = False) -> list[ir.SourceFile]:
     """Read ``paths`` into IR, each file with the front end :func:`reader_for` picks; the
     arguments are those of :func:`hazlint.frontend.reader.read_sources`."""
     check_choice(frontend)
@@ -102,7 +103,8 @@ def read_sources(paths, include_dirs=(), defines=None, root=None, jobs: int = 1,
         groups.setdefault(reader_for(p, frontend), []).append(i)
     if len(groups) == 1:
         (name,) = groups
-        return _read(name, paths, include_dirs, defines, root, jobs, cache, texts, progress)
+        return _read(name, paths, include_dirs, defines, root, jobs, cache, texts, progress,
+                     tolerant)
     results: list = [None] * len(paths)
     done = [0]
 
@@ -112,18 +114,28 @@ def read_sources(paths, include_dirs=(), defines=None, root=None, jobs: int = 1,
 
     for name, idx in groups.items():
         part = _read(name, [paths[i] for i in idx], include_dirs, defines, root, jobs, cache,
-                     texts, counted if progress else None)
+                     texts, counted if progress else None, tolerant)
         for i, sf in zip(idx, part):
             results[i] = sf
     return results
 
 
-def _read(name, paths, include_dirs, defines, root, jobs, cache, texts, progress):
+def _read(name, paths, include_dirs, defines, root, jobs, cache, texts, progress, tolerant):
     try:
-        return READERS[name](paths, include_dirs=include_dirs, defines=defines, root=root,
-                             jobs=jobs, cache=cache, texts=texts, progress=progress)
+        out = READERS[name](paths, include_dirs=include_dirs, defines=defines, root=root,
+                            jobs=jobs, cache=cache, texts=texts, progress=progress,
+                            tolerant=tolerant)
     except ParseError as exc:
-        if name == "pyverilog" and (exc.path or "").lower().endswith(SV_SUFFIXES) \
-                and not slang_available():
-            exc.message += f" (SystemVerilog reads best with the slang front end: {INSTALL_HINT})"
+        exc.message += _sv_hint(name, exc.path)
         raise
+    for sf in out:
+        if sf.error is not None:        # tolerant: the same hint on the recorded error
+            sf.error["message"] = sf.error.get("message", "") + _sv_hint(name, sf.error.get("path"))
+    return out
+
+
+def _sv_hint(name, path) -> str:
+    if name == "pyverilog" and (path or "").lower().endswith(SV_SUFFIXES) \
+            and not slang_available():
+        return f" (SystemVerilog reads best with the slang front end: {INSTALL_HINT})"
+    return ""

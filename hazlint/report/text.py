@@ -63,7 +63,18 @@ def summary_line(result: Any) -> str:
     design = getattr(result, "design", None)
     where = f" in {_plural(len(files), 'file')}" if files else ""
     top = f" (top {design.top})" if design is not None and getattr(design, "top", None) else ""
-    return head + (", " + ", ".join(extra) if extra else "") + where + top
+    return head + (", " + ", ".join(extra) if extra else "") + where + top + coverage_text(design)
+
+
+def coverage_text(design) -> str:
+    """"; 2 of 5 modules not analysed: a, b" when part of the design was left out."""
+    left = getattr(design, "not_analysed", None) or []
+    if not left:
+        return ""
+    total = max(len(getattr(design, "modules", None) or []), len(left))
+    names = [r["module"] for r in left]
+    shown = ", ".join(names[:5]) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+    return f"; {len(left)} of {total} module{'' if total == 1 else 's'} not analysed: {shown}"
 
 
 def write(result: Any, stream, color: bool = False, evidence: bool = True,

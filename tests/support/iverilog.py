@@ -40,3 +40,21 @@ def simulate(sources: dict[str, str], top: str, timeout: float = 300,
         if r.returncode != 0:
             raise AssertionError(f"vvp failed:\n{r.stderr}")
         return r.stdout
+
+
+def run_vectors(sources: dict[str, str], top: str, n_in: int, n_out: int,
+                vectors: list[int], folder: Path) -> list[str]:
+    """Drive input port ``i`` of module ``top`` with each vector in turn (one time unit
+    apart) and return output port ``o`` after each, as binary strings MSB first (x/z kept).
+    The vectors go through a ``$readmemh`` file in ``folder``."""
+    hexfile = Path(folder) / f"{top}_vectors.hex"
+    hexfile.write_text("".join(f"{v:x}\n" for v in vectors))
+    n = len(vectors)
+    tb = (f"module tb; reg [{n_in - 1}:0] i; wire [{n_out - 1}:0] o;\n"
+          f"  reg [{n_in - 1}:0] mem [0:{n - 1}]; integer k;\n  {top} dut(.i(i), .o(o));\n"
+          f"  initial begin $readmemh(\"{hexfile}\", mem);\n"
+          f"    for (k = 0; k < {n}; k = k + 1) begin i = mem[k]; #1 $display(\"%b\", o); end\n"
+          f"  end\nendmodule\n")
+    out = simulate({**sources, "tb_vectors.v": tb}, "tb").split()
+    assert len(out) == n, out[-5:]
+    return out

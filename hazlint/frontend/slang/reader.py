@@ -32,11 +32,11 @@ _MAGNITUDE = {pyslang.TimeScaleMagnitude.One: 1, pyslang.TimeScaleMagnitude.Ten:
 
 
 def read_sources(paths, include_dirs=(), defines=None, root=None, jobs=1, cache=None,
-                 texts=None, progress=None) -> list[ir.SourceFile]:
+                 texts=None, progress=None, tolerant: bool = False) -> list[ir.SourceFile]:
     """The pyslang front end with the arguments of
     :func:`hazlint.frontend.reader.read_sources`."""
     return read_with(read_one, paths, include_dirs=include_dirs, defines=defines, root=root,
-                     jobs=jobs, cache=cache, texts=texts, progress=progress,
+                     jobs=jobs, cache=cache, texts=texts, progress=progress, tolerant=tolerant,
                      key_extra={"name": "slang", "pyslang": pyslang.__version__})
 
 
