@@ -6,7 +6,7 @@ generate constructs stay unexpanded, exactly as the pyverilog front end leaves t
 token a location points at follows that front end (the name of a declared net or instance, the
 keyword of an ``assign``, ``always``, ``parameter`` or ``integer`` declaration), so the two give
 equal IR for the same text. Statements, specify blocks and UDP tables are in
-:mod:`.procedural`.
+:mod:`.procedural`, functions, tasks and their declarations in :mod:`.subprograms`.
 """
 from __future__ import annotations
 
@@ -17,6 +17,7 @@ from ..literals import GATE_PRIMITIVES, attr_value, expr_text
 from . import fastpath
 from .exprs import COMPOUND_STEP, ExprMapper, items, kind_words
 from .procedural import Procedural
+from .subprograms import Subprograms
 
 SK = syntax.SyntaxKind
 TK = parsing.TokenKind
@@ -35,9 +36,12 @@ def _num(v: int):
 
 
 _INTEGER_WIDTH = (_num(31), _num(0))
+# declared kinds whose declaration assignment is an initial value, not a driver (IEEE
+# 1364-2005 6.2.1; the IR's ``kind`` of reg, logic, bit and the SV integer types is "reg")
+_VARIABLE_KINDS = ("reg", "integer")
 
 
-class Builder(Procedural):
+class Builder(Procedural, Subprograms):
     """One source file's syntax tree -> modules and primitives. ``state`` maps a definition's
     name-token location ``(buffer id, offset)`` to its directive state (timescale, celldefine,
     default_nettype) as slang's compilation resolved it."""
@@ -73,6 +77,12 @@ class Builder(Procedural):
             self.error("more than one packed dimension is not supported", dims[1],
                        str(dims[1]).strip())
         return self._range(dims[0])
+
+    def dims(self, dims):
+        """The unpacked dimensions ``[(msb, lsb), ...]``, None without any."""
+        if not dims:
+            return None
+        return [self._range(d) for d in dims]
 
     def _range(self, dim):
         spec = dim.specifier
@@ -125,17 +135,18 @@ class Builder(Procedural):
                         loc=self.at.loc(h.moduleKeyword), attrs=self.attrs(m.attributes))
         if h.parameters is not None:
             for decl in items(h.parameters.declarations):
-                mod.params.extend(self._params(decl, False, decl.keyword))
+                mod.params.extend(self.params(decl, False, decl.keyword))
         ports = h.ports
+        initial_values: list = []
         if ports is not None:
             if ports.kind == SK.AnsiPortList:
-                self._ansi_ports(mod, ports)
+                self._ansi_ports(mod, ports, initial_values)
             elif ports.kind == SK.NonAnsiPortList:
                 for p in items(ports.ports):
                     mod.port_order.append(self._nonansi_port_name(p))
             else:
                 self.error("unsupported port list", ports, kind_words(ports.kind))
-        mod.items = self.items(m.members, mod)
+        mod.items = initial_values + self.items(m.members, mod)
         for name in mod.port_order:
             if name not in mod.ports:
                 self.error(f"port '{name}' of module '{mod.name}' has no direction declaration",
@@ -148,7 +159,7 @@ class Builder(Procedural):
             return p.expr.name.valueText
         self.error("unsupported port expression", p, str(p).strip())
 
-    def _ansi_ports(self, mod, plist):
+    def _ansi_ports(self, mod, plist, initial_values):
         prev = None                     # (direction, net_type, width, signed, attrs)
         for p in items(plist.ports):
             if p.kind != SK.ImplicitAnsiPort:
@@ -157,8 +168,6 @@ class Builder(Procedural):
             name_tok = p.declarator.name
             if p.declarator.dimensions:
                 self.error("unpacked port dimensions are not supported", p, name_tok.valueText)
-            if p.declarator.initializer is not None:
-                self.error("default port values are not supported", p, name_tok.valueText)
             direction, net_type, width, signed = self._port_header(h)
             own_attrs = self.attrs(p.attributes)
             if direction is None:
@@ -176,9 +185,17 @@ class Builder(Procedural):
                 prev = (direction, net_type, width, signed, attrs)
                 loc_tok = h.getFirstToken()             # the direction keyword
             mod.port_order.append(name_tok.valueText)
-            mod.ports[name_tok.valueText] = ir.Port(
+            port = mod.ports[name_tok.valueText] = ir.Port(
                 name=name_tok.valueText, direction=direction, width=width, net_type=net_type,
                 signed=signed, loc=self.at.loc(loc_tok), attrs=dict(attrs))
+            init = p.declarator.initializer
+            if init is not None:
+                # ``output reg q = 1'b0``: an initial value (IEEE 1364-2005 12.3.4)
+                if net_type not in _VARIABLE_KINDS or direction != "output":
+                    self.error(f"port '{port.name}' cannot have an initial value (only an "
+                               "output variable can)", p.declarator, port.name)
+                initial_values.append(self._initial_value(port.name, init, p.declarator,
+                                                          port.loc))
 
     def _port_header(self, h):
         """(direction or None, net type, width, signed) of a port header."""
@@ -186,17 +203,17 @@ class Builder(Procedural):
             direction = _DIRECTIONS.get(h.direction.kind)
             dt = h.dataType
             net_type = "reg" if h.varKeyword.rawText == "var" else "wire"
-            kind, width, signed = self._data_type(dt, h)
+            kind, width, signed = self.data_type(dt, h)
             if kind is not None:
                 net_type = kind
             return direction, net_type, width, signed
         if h.kind == SK.NetPortHeader:
             direction = _DIRECTIONS.get(h.direction.kind)
-            kind, width, signed = self._data_type(h.dataType, h)
+            kind, width, signed = self.data_type(h.dataType, h)
             return direction, h.netType.rawText, width, signed
         self.error("unsupported port header", h, str(h).strip())
 
-    def _data_type(self, dt, where):
+    def data_type(self, dt, where):
         """(net kind or None for implicit, width, signed) of a data type."""
         k = dt.kind
         signed = dt.signing.kind == TK.SignedKeyword if hasattr(dt, "signing") else False
@@ -260,13 +277,27 @@ class Builder(Procedural):
         attrs = self.attrs(n.attributes)
         direction, net_type, width, signed = self._port_header(n.header)
         explicit_type = _has_explicit_type(n.header)
+        keyword = n.getFirstToken() if not n.attributes else n.header.getFirstToken()
         for d in items(n.declarators):
             name = d.name.valueText
-            if d.initializer is not None:
+            init = d.initializer
+            if init is None:
+                self.declare_port(name, direction, width, signed, explicit_type, net_type,
+                                  attrs, self.at.loc(d.name), mod)
+                continue
+            # ``output reg q = 1'b0;``: an initial value (IEEE 1364-2005 12.3.3); ``output
+            # wire w = a;``: a net declaration assignment; at the keyword, as there
+            if direction == "input" or not explicit_type:
                 self.error(f"port '{name}' cannot have an initial value in its "
                            f"{direction} declaration", d, name)
+            loc = self.at.loc(keyword)
             self.declare_port(name, direction, width, signed, explicit_type, net_type, attrs,
-                              self.at.loc(d.name), mod)
+                              loc, mod)
+            if net_type in _VARIABLE_KINDS:
+                out.append(self._initial_value(name, init, d, loc))
+            else:
+                out.append(ir.Assign(lhs=("id", name), rhs=self.expr(init.expr), loc=loc,
+                                     attrs=dict(attrs)))
 
     def declare_port(self, name, direction, width, signed, explicit_type, net_type, attrs,
                      loc, mod) -> None:
@@ -303,7 +334,7 @@ class Builder(Procedural):
     def _net_decl(self, n, out, mod):
         attrs = self.attrs(n.attributes)
         kind = n.netType.rawText
-        dkind, width, signed = self._data_type(n.type, n)
+        dkind, width, signed = self.data_type(n.type, n)
         delay = self.delay(n.delay)
         first = n.getFirstToken() if not n.attributes else n.netType
         for d in items(n.declarators):
@@ -313,11 +344,12 @@ class Builder(Procedural):
         attrs = self.attrs(n.attributes)
         t = n.type
         if t.kind in (SK.RealType, SK.RealTimeType, SK.ShortRealType, SK.TimeType):
+            first = n.getFirstToken() if not n.attributes else t.getFirstToken()
             for d in items(n.declarators):
                 out.append(ir.Unsupported(what=f"{t.getFirstToken().rawText} variable "
-                                               f"{d.name.valueText}", loc=self.at.loc(d.name)))
+                                               f"{d.name.valueText}", loc=self.at.loc(first)))
             return
-        kind, width, signed = self._data_type(t, n)
+        kind, width, signed = self.data_type(t, n)
         first = n.getFirstToken() if not n.attributes else t.getFirstToken()
         for d in items(n.declarators):
             self._declare(d, kind or "reg", width, signed, None, attrs, mod, out, first)
@@ -325,29 +357,36 @@ class Builder(Procedural):
     def _declare(self, d, kind, width, signed, delay, attrs, mod, out, keyword_tok):
         name = d.name.valueText
         init = d.initializer
+        variable = kind in _VARIABLE_KINDS
         if self.update_port(name, kind, width, signed, attrs, mod):
             if init is not None:
-                out.append(ir.Assign(lhs=("id", name), rhs=self.expr(init.expr), delay=delay,
-                                     loc=self.at.loc(keyword_tok), attrs=dict(attrs)))
+                loc = self.at.loc(keyword_tok)
+                out.append(self._initial_value(name, init, d, loc) if variable else ir.Assign(
+                    lhs=("id", name), rhs=self.expr(init.expr), delay=delay, loc=loc,
+                    attrs=dict(attrs)))
             return
-        array = None
-        if d.dimensions:
-            array = self._range(d.dimensions[0])
         # the pyverilog front end puts integer declarations and declarations with an
         # initial value at their keyword, other nets at their name
         at_keyword = kind == "integer" or init is not None
         loc = self.at.loc(keyword_tok if at_keyword else d.name)
-        has_assign = init is not None and kind != "integer"
-        out.append(ir.Net(name=name, kind=kind, width=width, signed=signed, array=array, loc=loc,
-                          attrs=dict(attrs), delay=None if has_assign else delay))
-        if init is not None:
-            if kind == "integer":
-                out.append(ir.Unsupported(what=f"initial value of integer {name}", loc=loc))
-            else:
-                out.append(ir.Assign(lhs=("id", name), rhs=self.expr(init.expr), delay=delay,
-                                     loc=loc, attrs=dict(attrs)))
+        has_assign = init is not None and not variable
+        out.append(ir.Net(name=name, kind=kind, width=width, signed=signed,
+                          array=self.dims(d.dimensions), loc=loc, attrs=dict(attrs),
+                          delay=None if has_assign else delay))
+        if init is None:
+            return
+        if variable:
+            out.append(self._initial_value(name, init, d, loc))
+        else:
+            out.append(ir.Assign(lhs=("id", name), rhs=self.expr(init.expr), delay=delay,
+                                 loc=loc, attrs=dict(attrs)))
 
-    def _params(self, decl, local, keyword_tok):
+    def _initial_value(self, name, init, d, loc) -> ir.Initial:
+        """``reg x = v;``: a power-up value (IEEE 1364-2005 6.2.1), read as ``initial x = v;``."""
+        return ir.Initial(loc=loc, body=("assign", "=", ("id", name), self.expr(init.expr),
+                                         self.at.line(d.name)))
+
+    def params(self, decl, local, keyword_tok):
         if decl.kind == SK.TypeParameterDeclaration:
             self.error("type parameters are not supported", decl, str(decl).strip())
         if keyword_tok is not None and keyword_tok.rawText:
@@ -356,21 +395,19 @@ class Builder(Procedural):
         else:
             loc_tok = None
         t = decl.type
-        _kind, width, _signed = self._data_type(t, decl)
-        if t.kind == SK.IntegerType:
-            width = None
+        _kind, width, signed = self.data_type(t, decl)
         out = []
         for d in items(decl.declarators):
             if d.initializer is None:
                 self.error(f"parameter '{d.name.valueText}' has no value", d, d.name.valueText)
             loc = self.at.loc(loc_tok if loc_tok is not None else d.name)
             out.append(ir.Param(name=d.name.valueText, value=self.expr(d.initializer.expr),
-                                local=local, width=width, loc=loc))
+                                local=local, width=width, loc=loc, signed=signed))
         return out
 
     def _param_stmt(self, n, out, mod):
         p = n.parameter
-        out.extend(self._params(p, False, p.keyword))
+        out.extend(self.params(p, False, p.keyword))
 
     def _assign(self, n, out, mod):
         attrs = self.attrs(n.attributes)
@@ -399,6 +436,9 @@ class Builder(Procedural):
                 name = decl.name.valueText
                 loc_tok = decl.name
                 if decl.dimensions:
+                    if len(decl.dimensions) > 1:
+                        self.error("an instance array has one dimension", decl.dimensions[1],
+                                   str(decl.dimensions[1]).strip())
                     array = self._range(decl.dimensions[0])
             out.append(ir.Instance(cell=cell, name=name, connections=conns, params=list(params),
                                    delay=delay, array=array, loc=self.at.loc(loc_tok),
@@ -458,15 +498,8 @@ class Builder(Procedural):
             out.append(ir.Unsupported(what=f"defparam {expr_text(target)} = {expr_text(value)}",
                                       loc=loc))
 
-    def _function(self, n, out, mod):
-        proto = n.prototype
-        word = "function" if n.kind == SK.FunctionDeclaration else "task"
-        name = proto.name
-        text = name.identifier.valueText if name.kind == SK.IdentifierName else str(name).strip()
-        out.append(ir.Unsupported(what=f"{word} {text}", loc=self.at.loc(proto.keyword)))
-
     def _initial(self, n, out, mod):
-        out.append(ir.Initial(loc=self.at.loc(n.keyword)))
+        out.append(ir.Initial(loc=self.at.loc(n.keyword), body=self.stmt(n.statement)))
 
     def _always(self, n, out):
         sens, star, body = self.sensitivity(n.statement)
@@ -565,8 +598,8 @@ _ITEM = {
     SK.HierarchyInstantiation: Builder._hier_inst,
     SK.PrimitiveInstantiation: Builder._prim_inst,
     SK.DefParam: Builder._defparam,
-    SK.FunctionDeclaration: Builder._function,
-    SK.TaskDeclaration: Builder._function,
+    SK.FunctionDeclaration: Subprograms.subprogram,
+    SK.TaskDeclaration: Subprograms.subprogram,
     SK.InitialBlock: Builder._initial,
     SK.GenerateRegion: Builder._region,
     SK.LoopGenerate: Builder._loop_gen,

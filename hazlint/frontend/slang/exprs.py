@@ -101,7 +101,7 @@ class ExprMapper:
         if k == SK.RealLiteralExpression:
             return ("real", float(n.literal.rawText.replace("_", "")))
         if k == SK.StringLiteralExpression:
-            return ("str", n.literal.valueText)
+            return ("str", n.literal.rawText[1:-1])      # as written, escapes kept
         if k == SK.InvocationExpression:
             return self._call(n, d)
         if k == SK.SystemName:

@@ -15,17 +15,19 @@ from pyslang import parsing, syntax
 from .. import ir
 from ..literals import udp_level
 from .exprs import COMPOUND_STEP, items, kind_words
+from .subprograms import LOCAL_DECLS
 
 SK = syntax.SyntaxKind
 TK = parsing.TokenKind
 
 _CASE = {"case": "case", "casex": "casex", "casez": "casez"}
 _EDGES = {TK.PosEdgeKeyword: "posedge", TK.NegEdgeKeyword: "negedge"}
+_DELAY_OR_DISABLE = "delay or disable statement"
 _OTHER = {
-    SK.ForLoopStatement: "for loop", SK.ForeverStatement: "forever loop",
+    SK.ForeverStatement: "forever loop",
     SK.DoWhileStatement: "do-while loop", SK.ForeachLoopStatement: "foreach loop",
     SK.WaitStatement: "wait statement", SK.ParallelBlockStatement: "fork/join block",
-    SK.DisableStatement: "delay, system task or disable statement",
+    SK.DisableStatement: _DELAY_OR_DISABLE,
 }
 _UDP_SYMBOLS = re.compile(r"\([01xX?bB]{2}\)|[01xX?bBrRfFpPnN*\-]")
 _SPECIFY_SKIPPED = frozenset((SK.SystemTimingCheck, SK.PulseStyleDeclaration,
@@ -73,7 +75,7 @@ class Procedural:
             return None
         k = s.kind
         if k == SK.SequentialBlockStatement:
-            return ("block", [self._block_item(x) for x in s.items])
+            return self._block(s)
         if k == SK.ExpressionStatement:
             return self._expr_stmt(s.expr, s)
         if k == SK.ConditionalStatement:
@@ -82,23 +84,77 @@ class Procedural:
                     self.stmt(ec.clause) if ec is not None else None)
         if k == SK.CaseStatement:
             return self._case(s)
+        if k == SK.ForLoopStatement:
+            return self._for(s)
+        if k == SK.LoopStatement:
+            line = self._line(s)
+            if s.repeatOrWhile.kind == TK.RepeatKeyword:
+                return ("repeat", self.expr(s.expr), self.stmt(s.statement), line)
+            return ("while", self.expr(s.expr), self.stmt(s.statement), line)
         if k == SK.TimingControlStatement:
             if s.timingControl.kind in (SK.DelayControl, SK.Delay3):
+                if s.statement.kind == SK.EmptyStatement:
+                    return ("other", _DELAY_OR_DISABLE, self._line(s))      # "#5;"
                 return self.stmt(s.statement)       # "#d x = y": the delay has no gate
             return ("other", "event control", self._line(s))
         if k == SK.EmptyStatement:
-            return ("block", [])
-        if k == SK.LoopStatement:
-            word = s.repeatOrWhile.rawText
-            return ("other", f"{word} loop", self._line(s))
+            return ("block", [], None, [])
         what = _OTHER.get(k)
         return ("other", what or kind_words(k), self._line(s))
 
-    def _block_item(self, x):
-        if x.kind in (SK.DataDeclaration, SK.ParameterDeclarationStatement,
-                      SK.TypedefDeclaration, SK.LocalVariableDeclaration):
-            return ("other", "declaration in a block", self._line(x))
-        return self.stmt(x)
+    def _block(self, s):
+        """``begin [: name] declarations statements end``."""
+        name = None
+        if s.blockName is not None:
+            name = s.blockName.name.valueText
+        elif s.label is not None:
+            name = s.label.name.valueText           # SV "name: begin"
+        stmts, decls = [], []
+        for x in s.items:
+            if x.kind in LOCAL_DECLS:
+                decls.extend(self.local_decls(x))
+            else:
+                stmts.append(self.stmt(x))
+        return ("block", stmts, name, decls)
+
+    def _for(self, s):
+        """``for (init; cond; step) body``; SystemVerilog loop variables
+        (``for (int i = 0; ...)``) become an unnamed block declaring them around the loop."""
+        line = self._line(s)
+        inits, decls = [], []
+        for x in items(s.initializers):
+            if x.kind == SK.ForVariableDeclaration:
+                d = x.declarator
+                if x.type is None:
+                    self.error("a loop variable needs a type", x, d.name.valueText)
+                kind, width, signed = self.data_type(x.type, x)
+                kind = kind or "reg"
+                decls.append(ir.Net(name=d.name.valueText, kind=kind, width=width,
+                                    signed=signed or kind == "integer",
+                                    loc=self.at.loc(d.name)))
+                if d.initializer is None:
+                    self.error("a loop variable needs an initial value", x, d.name.valueText)
+                inits.append(("assign", "=", ("id", d.name.valueText),
+                              self.expr(d.initializer.expr), self.at.line(d.name)))
+            else:
+                inits.append(self._step(x, s))
+        steps = [self._step(x, s) for x in items(s.steps)]
+        if len(inits) > 1 or len(steps) > 1:
+            self.error("a for loop with several initialisations or steps is not supported", s,
+                       "for")
+        loop = ("for", inits[0] if inits else None, self.expr(s.stopExpr),
+                steps[0] if steps else None, self.stmt(s.statement), line)
+        if decls:
+            return ("block", [loop], None, decls)
+        return loop
+
+    def _step(self, e, s):
+        """A for loop's initialisation or step as an ``("assign", "=", ...)`` statement."""
+        st = self._expr_stmt(e, e)
+        if st[0] != "assign" or st[1] != "=":
+            self.error("a for loop's initialisation and step must be assignments", e,
+                       str(e).strip())
+        return st
 
     def _line(self, node) -> int:
         return self.at.line(node.getFirstToken())
@@ -123,8 +179,12 @@ class Procedural:
                 else "-"
             return ("assign", "=", lhs, ("binop", op, lhs, ("num", None, 1, 0, True)),
                     self._line(s))
-        if k == SK.InvocationExpression:
-            return ("other", "delay, system task or disable statement", self._line(s))
+        if k in (SK.InvocationExpression, SK.SystemName, SK.IdentifierName, SK.ScopedName):
+            # a task enable or system task: ``t;``, ``t(a, b);``, ``$display(...);``
+            call = self.expr(e) if k == SK.InvocationExpression else ("call", (
+                e.systemIdentifier.rawText if k == SK.SystemName
+                else self.x.scoped_name(e)), [])
+            return ("call", call[1], call[2], self._line(s))
         return ("other", kind_words(k), self._line(s))
 
     def _case(self, s):
