@@ -95,6 +95,9 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         self._members: dict[str, list[str]] = {}
         self._n = 0
         self._noted: set[tuple] = set()
+        for sf in self.sources:         # what the readers noted about the text, at its line
+            for loc, message in sf.notes:
+                self.note(message, loc, kind="reader-note")
 
     # ---------------------------------------------------------------- union-find ---------------
     def find(self, a: str) -> str:

@@ -166,33 +166,44 @@ class Builder(SubprogramBuilder):
             for prm in decl.list:
                 mod.params.append(self._param(prm, False, decl))
         ansi = False
+        initial_values: list = []
         for port in m.portlist.ports:
             if isinstance(port, va.Ioport):
                 ansi = True
-                self._ansi_port(mod, port)
+                self._ansi_port(mod, port, initial_values)
             else:
                 mod.port_order.append(port.name)
         self._port_first_decl = {}
-        mod.items = self.items(m.items, mod, ansi)
+        mod.items = initial_values + self.items(m.items, mod, ansi)
         for name in mod.port_order:
             if name not in mod.ports:
                 self.error(f"port '{name}' of module '{m.name}' has no direction declaration",
                            line, name)
         return mod
 
-    def _ansi_port(self, mod, io):
+    def _ansi_port(self, mod, io, initial_values):
         first, second = io.first, io.second
         if getattr(first, "hz_input_reg", False):
             self.error(f"invalid port declaration '{_direction(first)} reg'", first.lineno,
                        first.name)
         pos = getattr(io, "hz_pos", None)
         attr_pos = getattr(io, "hz_attrs_from", None) or pos
-        kind = self._net_kind(second) if second is not None else "wire"
+        kind = getattr(first, "hz_kind", None) or (
+            self._net_kind(second) if second is not None else "wire")
         mod.port_order.append(first.name)
-        mod.ports[first.name] = ir.Port(
+        port = mod.ports[first.name] = ir.Port(
             name=first.name, direction=_direction(first), width=self.width(first.width),
             net_type=kind, signed=bool(first.signed or (second is not None and second.signed)),
             loc=self.loc(first.lineno, pos), attrs=self.attrs(attr_pos))
+        init = getattr(io, "hz_init", None)
+        if init is not None:
+            # ``output reg q = 1'b0``: an initial value, as ``reg q = 1'b0;`` (IEEE 1364-2005
+            # 12.3.4); only a variable port has one
+            if kind not in _VARIABLE_KINDS or port.direction != "output":
+                self.error(f"port '{first.name}' cannot have an initial value (only an output "
+                           "variable can)", first.lineno, first.name)
+            initial_values.append(ir.Initial(loc=port.loc, body=(
+                "assign", "=", ("id", first.name), self.expr(init), self._line(first))))
 
     def _param(self, prm, local, decl):
         pos = getattr(decl, "hz_pos", None)
@@ -302,6 +313,8 @@ class Builder(SubprogramBuilder):
                 port.width = self.width(v.width) or port.width
                 port.signed = port.signed or bool(v.signed)
                 port.loc = self.loc(v.lineno, pos)
+                if getattr(v, "hz_kind", None) == "integer":
+                    port.net_type = "integer"           # output integer n;
                 if attrs:
                     port.attrs.update(attrs)
             elif t is va.Parameter or t is va.Localparam:

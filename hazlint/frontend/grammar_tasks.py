@@ -8,8 +8,10 @@ IEEE 1364-2005 as designers write it, beyond the stock pyverilog grammar:
   parameters, and any statement as the body (:class:`FunctionDef`);
 * tasks (10.2) likewise (:class:`TaskDef`), and task enable statements ``t;`` / ``t(a, b);``
   (:class:`TaskEnable`);
-* ``repeat (n) statement`` (9.6; :class:`RepeatStatement`);
-* ``integer`` arrays (``integer a [0:3];``, 4.9) and ``output integer`` ports (12.3.3);
+* ``repeat (n) statement`` (9.6; :class:`RepeatStatement`); a delay before a system task
+  (``#5 $display(...);``, 9.7.1; the delay is dropped as on assignments);
+* ``integer`` arrays (``integer a [0:3];``, 4.9) and ``output integer`` ports (12.3.3), also
+  with an initial value (``output integer n = 0;``);
   ``real`` declarations keep their names (the stock action names them all "real");
 * several declaration assignments in one net or variable declaration (``wire a = x, b = y;``,
   6.1.2).
@@ -146,6 +148,16 @@ class TaskFunctionGrammar:
         'ioport : sigtypes INTEGER portname'
         p[0] = self._typed_ioport(p)
 
+    def p_ioport_head_integer_init(self, p):
+        'ioport_head : sigtypes INTEGER portname EQUALS expression'
+        p[0] = self._typed_ioport(p)
+        p[0].hz_init = p[5]         # output integer n = 0 (IEEE 1364-2005 12.3.4)
+
+    def p_ioport_integer_init(self, p):
+        'ioport : sigtypes INTEGER portname EQUALS expression'
+        p[0] = self._typed_ioport(p)
+        p[0].hz_init = p[5]
+
     def _typed_ioport(self, p):
         width = vast.Width(vast.IntConst("31", lineno=p.lineno(2)),
                            vast.IntConst("0", lineno=p.lineno(2)), lineno=p.lineno(2))
@@ -165,6 +177,13 @@ class TaskFunctionGrammar:
     def p_single_statement_task_args(self, p):
         'single_statement : delays identifier LPAREN func_args RPAREN SEMICOLON'
         p[0] = TaskEnable(p[2], list(p[4]), p.lineno(2))
+        p.set_lineno(0, p.lineno(2))
+
+    def p_single_statement_systemcall(self, p):
+        'single_statement : delays systemcall SEMICOLON'
+        # replaces the stock rule, which takes no delay: ``#5 $display(...);`` (IEEE 1364-2005
+        # 9.7.1, a delay control before any statement); the delay has no gate meaning
+        p[0] = vast.SingleStatement(p[2], lineno=p.lineno(2))
         p.set_lineno(0, p.lineno(2))
 
     def p_basic_statement_repeat(self, p):
@@ -216,6 +235,27 @@ class TaskFunctionGrammar:
         for name, assign in elements:
             decls.extend(self.create_declassign(p[1], name, assign, width=width,
                                                 lineno=p.lineno(1)))
+        p[0] = vast.Decl(decls, lineno=p.lineno(1))
+        p[0].hz_pos = p.lexpos(1)
+        p.set_lineno(0, p.lineno(1))
+
+    def p_declassign_integer(self, p):
+        """declassign : sigtypes INTEGER declassign_element SEMICOLON
+        | sigtypes INTEGER declassign_list SEMICOLON"""
+        # ``output integer n = 0;`` (IEEE 1364-2005 12.3.3): the port, an integer variable
+        # of that name and its initial value
+        line = p.lineno(2)
+        width = vast.Width(vast.IntConst("31", lineno=line), vast.IntConst("0", lineno=line),
+                           lineno=line)
+        elements = p[3] if isinstance(p[3], list) else [p[3]]
+        decls = []
+        for name, assign in elements:
+            for d in self.create_decl(list(p[1]) + ["signed"], name, width=width,
+                                      lineno=p.lineno(1)):
+                d.hz_kind = "integer"
+                decls.append(d)
+            decls.append(vast.Integer(name, width, signed=True, lineno=p.lineno(1)))
+            decls.append(assign)
         p[0] = vast.Decl(decls, lineno=p.lineno(1))
         p[0].hz_pos = p.lexpos(1)
         p.set_lineno(0, p.lineno(1))
