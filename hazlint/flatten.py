@@ -97,7 +97,7 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         self._noted: set[tuple] = set()
         for sf in self.sources:         # what the readers noted about the text, at its line
             for loc, message in sf.notes:
-                self.note(message, loc, kind="reader-note")
+                self.note(message, loc)
 
     # ---------------------------------------------------------------- union-find ---------------
     def find(self, a: str) -> str:

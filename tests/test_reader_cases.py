@@ -139,7 +139,7 @@ def test_reader_notes_reach_the_report_at_their_line(tmp_path, frontend):
     assert line.startswith("pl.v:3:9: info: 'b' is declared input but is not in the port "
                            "list of 'pl'")
     d = hazlint.load_design([str(tmp_path / "pl.v")], frontend=frontend)
-    assert [n.kind for n in d.notes] == ["reader-note"]
+    assert [(n.rule, n.kind) for n in d.notes] == [("front-end", "design-note")]
 
 
 @pytest.mark.parametrize("frontend", FRONT_ENDS)
