@@ -507,6 +507,22 @@ def test_several_declaration_assignments_read_the_same(tmp_path):
     assert [d.evaluate({"a": x, "b": z})["y"] for x in (0, 1) for z in (0, 1)] == [0, 0, 0, 1]
 
 
+def test_declarations_over_several_lines_read_the_same(tmp_path):
+    # items of a declaration at its keyword, each initial value's statement at its own line
+    p = tmp_path / "ml.v"
+    p.write_text("module ml (input clk, output [3:0] y);\n"
+                 "  integer a = 1,\n          b = 2;\n"
+                 "  reg [3:0] r = 4'd1,\n            s = 4'd2;\n"
+                 "  wire [3:0] w = r,\n             v = s;\n"
+                 "  assign y = a + b + w + v;\n"
+                 "  always @(posedge clk) r <= r + 1;\nendmodule\n")
+    _same_read(p)
+    (sf,) = _read(p, "slang")
+    inits = [(it.loc.line, it.body[4]) for it in sf.modules[0].items
+             if isinstance(it, ir.Initial)]
+    assert inits == [(2, 2), (2, 3), (4, 4), (4, 5)]
+
+
 def test_columns_count_characters_after_non_ascii_text(tmp_path):
     p = tmp_path / "u.v"
     p.write_bytes("module u (input a, output y);\n  /* éé */ not g (y, a);\nendmodule\n"

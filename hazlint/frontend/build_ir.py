@@ -328,14 +328,15 @@ class Builder(SubprogramBuilder):
                     out.append(ir.Net(name=name, kind=kind, width=self.width(v.width),
                                       loc=self.loc(v.lineno, pos), attrs=dict(attrs)))
             elif t is va.Assign and _target(v) in variables:
-                # ``reg x = v;`` is an initial value (IEEE 1364-2005 6.2.1), not a driver
-                out.append(ir.Initial(loc=self.loc(v.lineno, dpos), body=(
+                # ``reg x = v;`` is an initial value (IEEE 1364-2005 6.2.1), not a driver;
+                # at the declaration's keyword, the statement at the name's line
+                out.append(ir.Initial(loc=self.loc(decl.lineno, dpos), body=(
                     "assign", "=", self.expr(v.left), self.expr(v.right), self._line(v))))
             elif t is va.Assign:
                 out.append(ir.Assign(lhs=self.expr(v.left), rhs=self.expr(v.right),
                                      delay=self.delay(v.ldelay) if isinstance(
                                          v.ldelay, hp.DelaySpec) else None,
-                                     loc=self.loc(v.lineno, dpos), attrs=dict(attrs)))
+                                     loc=self.loc(decl.lineno, dpos), attrs=dict(attrs)))
             elif t is va.Genvar:
                 continue
             elif t is va.Real:
@@ -367,7 +368,7 @@ class Builder(SubprogramBuilder):
                 if value is not None:
                     value = value.var if isinstance(value, va.Rvalue) else value
                     out.append(ir.Initial(loc=self.loc(v.lineno, pos), body=(
-                        "assign", "=", ("id", v.name), self.expr(value), self._line(v))))
+                        "assign", "=", ("id", v.name), self.expr(value), self._line(value))))
             else:
                 out.append(ir.Unsupported(what=t.__name__, loc=self.loc(v.lineno, pos)))
 
