@@ -14,7 +14,11 @@ IEEE 1364-2005 as designers write it, beyond the stock pyverilog grammar:
   with an initial value (``output integer n = 0;``);
   ``real`` declarations keep their names (the stock action names them all "real");
 * several declaration assignments in one net or variable declaration (``wire a = x, b = y;``,
-  6.1.2).
+  6.1.2);
+* ANSI output variables with an initial value (``output reg q = 1'b0``, ``output integer n =
+  0``, ``output reg a = 0, b = 1``; 12.3.4: the IR builder refuses it on inputs and nets);
+* ``parameter integer`` keeps its type, 32-bit signed (12.2; the stock actions drop it:
+  :func:`integer_typed` wraps them).
 
 ``input reg`` is accepted here for task and function arguments; on a module port the IR
 builder reports it.
@@ -22,6 +26,24 @@ builder reports it.
 from __future__ import annotations
 
 from pyverilog.vparser import ast as vast
+
+
+def integer_typed(fn):
+    """Wrap a stock ``parameter integer`` action: its parameters are 32-bit signed (IEEE
+    1364-2005 12.2; the stock action drops the type)."""
+    def action(self, p):
+        fn(self, p)
+        for prm in p[0].list:
+            line = prm.lineno
+            prm.width = vast.Width(vast.IntConst("31", lineno=line),
+                                   vast.IntConst("0", lineno=line), lineno=line)
+            prm.signed = True
+    action.__doc__ = fn.__doc__
+    return action
+
+
+INTEGER_PARAM_RULES = ("p_param_integer", "p_param_end_integer", "p_parameterdecl_integer",
+                        "p_localparamdecl_integer")
 
 
 class FunctionDef:
@@ -147,6 +169,33 @@ class TaskFunctionGrammar:
     def p_ioport_integer(self, p):
         'ioport : sigtypes INTEGER portname'
         p[0] = self._typed_ioport(p)
+
+    # ANSI variable ports with an initial value (IEEE 1364-2005 12.3.4:
+    # ``output reg q = 1'b0``, ``output integer n = 0``, ``output reg a = 0, b = 1``)
+    def p_ioport_init(self, p):
+        """ioport : sigtypes portname EQUALS expression
+        | sigtypes width portname EQUALS expression"""
+        p[0] = self._ioport_init(p)
+
+    def p_ioport_head_init(self, p):
+        """ioport_head : sigtypes portname EQUALS expression
+        | sigtypes width portname EQUALS expression"""
+        p[0] = self._ioport_init(p)
+
+    def _ioport_init(self, p):
+        k = 2 if len(p) == 5 else 3
+        node = self.create_ioport(p[1], p[k], width=p[2] if k == 3 else None,
+                                  lineno=p.lineno(k))
+        node.hz_pos = p.lexpos(1)
+        node.hz_init = p[k + 2]
+        p.set_lineno(0, p.lineno(1))
+        return node
+
+    def p_ioport_portname_init(self, p):
+        'ioport : portname EQUALS expression'
+        p[0] = (p[1], p[3])
+        p.set_lineno(0, p.lineno(1))
+        p.slice[0].lexpos = p.lexpos(1)
 
     def p_ioport_head_integer_init(self, p):
         'ioport_head : sigtypes INTEGER portname EQUALS expression'

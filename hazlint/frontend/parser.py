@@ -16,9 +16,9 @@ Grammar additions and repairs over :class:`pyverilog.vparser.parser.VerilogParse
 * list-building actions append to a Python list instead of concatenating tuples (the stock
   form is quadratic in list length); see :func:`_linear_list_actions`;
 * functions and tasks as IEEE 1364-2005 writes them, task enables, ``repeat``, typed arguments,
-  ``integer`` arrays and ``output integer`` ports (:mod:`hazlint.frontend.grammar_tasks`);
-* the stock ``p_declassign_element_delay`` and ``p_integerdecl_signed`` index bugs are fixed;
-  ``parameter integer`` keeps its type (32-bit signed), which the stock actions drop.
+  ``integer`` arrays and ``output integer`` ports, output variables with initial values,
+  ``parameter integer`` typed (:mod:`hazlint.frontend.grammar_tasks`);
+* the stock ``p_declassign_element_delay`` and ``p_integerdecl_signed`` index bugs are fixed.
 
 LALR tables are generated once per grammar signature and kept as JSON in the per-user cache
 directory (``platformdirs.user_cache_dir("hazlint")/parser``), written atomically; nothing is
@@ -44,7 +44,7 @@ from pyverilog.vparser import parser as vparser
 from pyverilog.vparser.parser import VerilogParser
 
 from .. import __version__
-from .grammar_tasks import TaskFunctionGrammar
+from .grammar_tasks import INTEGER_PARAM_RULES, TaskFunctionGrammar, integer_typed
 from .lexer import HzLexer, LexError
 
 
@@ -241,23 +241,6 @@ def _with_pos(fn):
     action.__doc__ = fn.__doc__
     return action
 
-
-def _integer_typed(fn):
-    """Wrap a stock ``parameter integer`` action: its parameters are 32-bit signed (IEEE
-    1364-2005 12.2; the stock action drops the type)."""
-    def action(self, p):
-        fn(self, p)
-        for prm in p[0].list:
-            line = prm.lineno
-            prm.width = vast.Width(vast.IntConst("31", lineno=line),
-                                   vast.IntConst("0", lineno=line), lineno=line)
-            prm.signed = True
-    action.__doc__ = fn.__doc__
-    return action
-
-
-_INTEGER_PARAM_RULES = ("p_param_integer", "p_param_end_integer", "p_parameterdecl_integer",
-                        "p_localparamdecl_integer")
 
 _POS_RULES = (
     "p_parameterdecl", "p_parameterdecl_signed", "p_parameterdecl_width",
@@ -495,33 +478,6 @@ class HzParser(TaskFunctionGrammar, VerilogParser):
     def p_ioport_portname(self, p):
         'ioport : portname'
         p[0] = p[1]
-        p.set_lineno(0, p.lineno(1))
-        p.slice[0].lexpos = p.lexpos(1)
-
-    # ANSI variable ports with an initial value (IEEE 1364-2005 12.3.4:
-    # ``output reg q = 1'b0``, ``output integer n = 0``, ``output reg a = 0, b = 1``)
-    def p_ioport_init(self, p):
-        """ioport : sigtypes portname EQUALS expression
-        | sigtypes width portname EQUALS expression"""
-        p[0] = self._ioport_init(p)
-
-    def p_ioport_head_init(self, p):
-        """ioport_head : sigtypes portname EQUALS expression
-        | sigtypes width portname EQUALS expression"""
-        p[0] = self._ioport_init(p)
-
-    def _ioport_init(self, p):
-        k = 2 if len(p) == 5 else 3
-        node = self.create_ioport(p[1], p[k], width=p[2] if k == 3 else None,
-                                  lineno=p.lineno(k))
-        node.hz_pos = p.lexpos(1)
-        node.hz_init = p[k + 2]
-        p.set_lineno(0, p.lineno(1))
-        return node
-
-    def p_ioport_portname_init(self, p):
-        'ioport : portname EQUALS expression'
-        p[0] = (p[1], p[3])
         p.set_lineno(0, p.lineno(1))
         p.slice[0].lexpos = p.lexpos(1)
 
@@ -1159,8 +1115,8 @@ for _name, _fn in _generated.items():
 for _name in _POS_RULES:
     if _name not in HzParser.__dict__:
         _fn = getattr(VerilogParser, _name)
-        if _name in _INTEGER_PARAM_RULES:
-            _fn = _integer_typed(_fn)
+        if _name in INTEGER_PARAM_RULES:
+            _fn = integer_typed(_fn)
         setattr(HzParser, _name, _with_pos(_fn))
 del _generated
 
