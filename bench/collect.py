@@ -2,9 +2,10 @@
 """Gather the benchmark results into bench/RESULTS.md.
 
 Each bench script writes its own file (RESULTS-load.md, RESULTS-rules.md, RESULTS-hazards.md,
-RESULTS-hazards-giants.md, RESULTS-multichange.md, RESULTS-cache.md, RESULTS-chip.md,
-RESULTS-lsp.md, RESULTS-fuzz.md) so that one can be rerun without the others; this
-script puts them together, in that order, under one title with the goal of each, demoting their headings one level.
+RESULTS-hazards-giants.md, RESULTS-multichange.md, RESULTS-cache.md, RESULTS-frontends.md,
+RESULTS-chip.md, RESULTS-lsp.md, RESULTS-fuzz.md) so that one can be rerun without the others;
+this script puts them together, in that order, under one title with the goal of each, demoting
+their headings one level.
 
     python bench/collect.py
 """
@@ -36,6 +37,9 @@ PARTS = [
     ("RESULTS-cache.md", "bench_cache.py",
      "a warm rerun on unchanged files costs at most 10% of the cold run, for ISCAS c7552 and "
      "EPFL sin.v."),
+    ("RESULTS-frontends.md", "bench_frontends.py",
+     "hazlint's load of EPFL multiplier.v with the slang front end (parse + flatten + graph) "
+     "within 3x pyslang's own parse and elaboration of the same file, measured in the same run."),
     ("RESULTS-chip.md", "bench_chip.py",
      "a netlist of one million gates loads within 60 s and 4 GB peak memory, the default "
      "check takes at most 120 s, a one-module `--changed` run at most 15 s warm."),

@@ -96,9 +96,10 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     abs_texts = {os.path.abspath(k): v for k, v in texts.items()} if texts else None
 
     def load_fresh():
-        from .frontend.reader import read_sources
         from .flatten import elaborate
-        kwargs: dict[str, Any] = {"include_dirs": include_dirs, "defines": defines}
+        from .frontend.registry import read_sources
+        kwargs: dict[str, Any] = {"include_dirs": include_dirs, "defines": defines,
+                                  "frontend": config.frontend}
         params = inspect.signature(read_sources).parameters
         optional = {"root": config.include_root, "jobs": config.jobs}
         for k, v in optional.items():
@@ -292,7 +293,8 @@ def report_key(files: Sequence[str] | None = None, *, config: Config | None = No
     dkey = design_key(plan.paths, texts=None, top=chosen_top, include_dirs=incs, defines=defs,
                       root=config.include_root, cells=config.cells, cells_source=config.path,
                       liberty=config.liberty, sdf=config.sdf, sdf_corner="minmax",
-                      memory_max_bits=config.memory_as_registers_max_bits)
+                      memory_max_bits=config.memory_as_registers_max_bits,
+                      frontend=config.frontend)
     if dkey is None:
         return None
     rkey = result_key(dkey, config, select=plan.select, ignore=plan.ignore, prove=prove,

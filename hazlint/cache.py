@@ -199,7 +199,7 @@ def code_stamp() -> str:
     """
     h = hashlib.sha256(__version__.encode())
     here = Path(__file__).resolve().parent
-    for folder in (here / "frontend",):
+    for folder in (here / "frontend", here / "frontend" / "slang"):
         try:
             entries = sorted(os.scandir(folder), key=lambda e: e.name)
         except OSError:

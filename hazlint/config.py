@@ -30,6 +30,7 @@ Keys (all optional)::
     cache_dir = ".hazlint-cache"
     cache_limit_mb = 2048           # size limit of the cache folder (0: none)
     jobs = 2
+    frontend = "auto"               # auto | pyverilog | slang (auto: .sv files through slang)
     prove = { }                     # options handed to the hazard prover
     memory_as_registers_max_bits = 4096   # larger variable arrays become memory nodes
     time_budget = 60                # seconds for the whole run (0: none); see hazlint.budget
@@ -82,6 +83,7 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "cache_dir": ((str,), "a path"),
     "cache_limit_mb": ((int,), "a size in MB (0: no limit)"),
     "jobs": ((int,), "a number of worker processes"),
+    "frontend": ((str,), "auto, pyverilog or slang"),
     "prove": ((dict,), "a table of hazard-prover options"),
     "memory_as_registers_max_bits": ((int,), "a number of bits (arrays up to it are registers)"),
     "time_budget": ((int, float), "a number of seconds (0: no time limit)"),
@@ -118,6 +120,7 @@ class Config:
     cache_dir: str | None = None
     cache_limit_mb: int | None = None
     jobs: int | None = None
+    frontend: str = "auto"
     prove: dict[str, Any] = field(default_factory=dict)
     memory_as_registers_max_bits: int = 4096
     time_budget: float | None = None  # seconds (None: the default, 0: none)
@@ -346,6 +349,13 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         if table["jobs"] < 1:
             raise err("jobs", "jobs must be at least 1")
         cfg.jobs = table["jobs"]
+    if "frontend" in table:
+        from .frontend.registry import check_choice
+        try:
+            check_choice(table["frontend"])
+        except ConfigError as exc:
+            raise err("frontend", exc.message) from None
+        cfg.frontend = table["frontend"]
     if "memory_as_registers_max_bits" in table:
         v = table["memory_as_registers_max_bits"]
         if isinstance(v, bool) or v < 0:

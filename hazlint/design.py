@@ -190,10 +190,10 @@ def load_design(paths: str | Sequence[str], top: str | Sequence[str] | None = No
     import gc
 
     from .flatten import elaborate
-    from .frontend.reader import read_sources
+    from .frontend.registry import read_sources
     if isinstance(paths, str):
         paths = [paths]
-    reader_keys = ("root", "jobs", "cache", "texts", "progress", "tables")
+    reader_keys = ("root", "jobs", "cache", "texts", "progress", "tables", "frontend")
     # Loading builds millions of small acyclic objects; the cyclic garbage collector would
     # rescan them again and again (it more than halves the load time of a 40k-gate netlist).
     gc_was_enabled = gc.isenabled()

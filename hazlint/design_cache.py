@@ -107,7 +107,8 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
                root: str | None = None, cells: Mapping[str, Any] | None = None,
                cells_source: str | None = None, liberty: Iterable[str] = (),
                sdf: Iterable[str] = (), sdf_corner: str = "minmax",
-               default_delay: Any = None, memory_max_bits: int | None = None) -> str | None:
+               default_delay: Any = None, memory_max_bits: int | None = None,
+               frontend: str = "auto") -> str | None:
     """sha256 over every input of reading, elaborating and annotating a design, or None when
     one of them cannot be read (the uncached load then reports the problem)."""
     from .frontend.preprocess import digest_text, read_text
@@ -138,6 +139,10 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
         "sdf": sdfs, "sdf_corner": sdf_corner,
         "default_delay": default_delay, "memory_max_bits": memory_max_bits,
     }
+    from .frontend.registry import key_material
+    reader = key_material(paths, frontend)
+    if reader is not None:
+        material["front_end"] = reader
     try:
         text = json.dumps(material, sort_keys=True, default=repr)
     except (TypeError, ValueError):
@@ -512,7 +517,8 @@ def load_cached(paths: Sequence[str], config, *, texts=None, top=None, include_d
     key = design_key(paths, texts=texts, top=top, include_dirs=include_dirs, defines=defines,
                      root=root, cells=config.cells, cells_source=config.path,
                      liberty=config.liberty, sdf=config.sdf, sdf_corner="minmax",
-                     memory_max_bits=config.memory_as_registers_max_bits)
+                     memory_max_bits=config.memory_as_registers_max_bits,
+                     frontend=getattr(config, "frontend", "auto"))
     if info is not None:
         info["design_key"] = key
     if key is not None:

@@ -104,6 +104,9 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
         self._max_net_bits = _limits.current().net_bits
         self._net_bits = 0
         self._instances = 0
+        for sf in self.sources:         # what the readers noted about the text, at its line
+            for loc, message in sf.notes:
+                self.note(message, loc)
 
     # ---------------------------------------------------------------- union-find ---------------
     def find(self, a: str) -> str:
@@ -1224,7 +1227,8 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
-        rep = self._rep = {r: min(ms, key=rank) for r, ms in members.items()}
+        rep = self._rep = {r: ms[0] if len(ms) == 1 else min(ms, key=rank)
+                           for r, ms in members.items()}
         # drivers per merged net
         drv_of: dict[str, list[dict]] = {}
         for d in self.drivers:
@@ -1273,16 +1277,20 @@ class Elaborator(GateBuilder, ExpressionElaborator, BehaviourElaborator, MemoryE
             attrs = {k: v for k, v in s.items() if k not in ("id", "input", "loc")}
             g.add_node(s["id"], kind="sink", inputs=[src], pins=["in"],
                        delays=[ZERO_DELAY], **_locattrs(s["loc"]), **attrs)
-        # edges (and undriven-net sources)
-        for n in list(g.nodes):
-            d = g.nodes[n]
-            for i, src in enumerate(d["inputs"]):
+        # edges (and undriven-net sources), gathered first and added in one call: the same
+        # edges in the same order, without networkx's per-edge checks
+        edges: dict[tuple[str, str], list[int]] = {}
+        nodes = g.nodes
+        for n in list(nodes):
+            for i, src in enumerate(nodes[n]["inputs"]):
                 if src not in g:
                     self._undriven(g, src)
-                if g.has_edge(src, n):
-                    g.edges[src, n]["pins"].append(i)
+                pins = edges.get((src, n))
+                if pins is None:
+                    edges[(src, n)] = [i]
                 else:
-                    g.add_edge(src, n, pins=[i])
+                    pins.append(i)
+        g.add_edges_from((u, v, {"pins": pins}) for (u, v), pins in edges.items())
         design = Design(
             graph=g, top=tops[0] if len(tops) == 1 else ",".join(tops),
             inputs=inputs, outputs=outputs, registers=self.registers,

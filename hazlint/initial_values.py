@@ -17,7 +17,7 @@ from __future__ import annotations
 from .diagnostics import Severity
 from .errors import ElaborationError, HazlintError
 from .frontend import ir
-from .frontend.build_ir import parse_number
+from .frontend.literals import parse_number
 
 InitValues = dict      # net bit -> (0 | 1 | None for x, loc, instance)
 

@@ -29,6 +29,9 @@ CASES = [
     #                             part-select writes into a word, synchronous reads
     ("press_cpu", 250),         # a processor core: 9.5 case / casez, 10.4 functions,
     #                             10.2 tasks, memories, async reset
+    ("press_pump", 150),        # 5.1 ^~ (XNOR), 12.3.4 ANSI output variables with initial
+    #                             values, 6.2.1 several initial values in one declaration,
+    #                             9.7.1 a delay before a system task, constant W / 2
 ]
 
 

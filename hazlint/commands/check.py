@@ -51,6 +51,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="record the current findings in FILE and exit 0")
     p.add_argument("-j", "--jobs", type=int, metavar="N",
                    help="parse files in N worker processes (configuration 'jobs')")
+    add_frontend_argument(p)
     p.add_argument("--cache-dir", metavar="DIR",
                    help="parse cache folder (configuration 'cache_dir'; default: per-user "
                         "cache folder, or the HAZLINT_CACHE_DIR environment variable)")
@@ -70,6 +71,14 @@ def add_bound_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--limit", action="append", metavar="NAME=VALUE", dest="limits",
                    help="raise or lower a size limit, e.g. vector_width=4194304 (repeatable; "
                         "configuration 'limits'; see the limits table in the README)")
+
+
+def add_frontend_argument(p) -> None:
+    from ..frontend.registry import CHOICES
+    p.add_argument("--frontend", choices=CHOICES,
+                   help="reader of the Verilog files (configuration 'frontend'; default auto: "
+                        ".sv files through slang when pyslang is installed, others through "
+                        "pyverilog)")
 
 
 def _defines(items):
@@ -123,6 +132,10 @@ def run(args) -> int:
         config.jobs = args.jobs
     if args.cache_dir:
         config.cache_dir = os.path.abspath(args.cache_dir)
+    if args.frontend:
+        from ..frontend.registry import check_choice
+        check_choice(args.frontend)
+        config.frontend = args.frontend
     color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)
     render_opts = {"format": args.format, "color": color, "evidence": not args.brief}
     reports = key = None

@@ -18,6 +18,7 @@ from typing import Any
 
 from ..diagnostics import Severity
 from ..errors import EXIT_CLEAN, EXIT_FINDINGS, HazlintError
+from .check import add_frontend_argument
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -38,6 +39,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="lowest severity that makes the exit code 1 (default: error)")
     from .check import add_bound_arguments
     add_bound_arguments(p)
+    add_frontend_argument(p)
 
 
 def run(args) -> int:
@@ -61,7 +63,7 @@ def _run(args) -> int:
     shown = []          # (title, graph, classification, nets)
     worst = None
     if args.transition:
-        design = _load(files, top)
+        design = _load(files, top, args.frontend or "auto")
         g = design.graph
         for spec in args.transition:
             changes, fixed = parse_transition(design, spec)
@@ -78,7 +80,7 @@ def _run(args) -> int:
                 if c.proven:
                     shown.append((f"{P.net_label(g, t)}: {c.classification}", g, c, nets))
     else:
-        result = _lint(files, top, opts)
+        result = _lint(files, top, opts, args.frontend)
         design = result.design
         g = design.graph
         for d in result.diagnostics:
@@ -106,15 +108,17 @@ def _run(args) -> int:
     return EXIT_FINDINGS if worst >= Severity.parse(args.fail_on) else EXIT_CLEAN
 
 
-def _load(files, top):
+def _load(files, top, frontend):
     from ..design import load_design
-    return load_design(files, top=top)
+    return load_design(files, top=top, frontend=frontend)
 
 
-def _lint(files, top, opts):
+def _lint(files, top, opts, frontend=None):
     from ..api import lint
     from ..config import load_config
     cfg = load_config(os.getcwd())
+    if frontend:
+        cfg.frontend = frontend
     cfg.prove = dict(cfg.prove or {}, **opts)
     return lint(files, config=cfg, top=top)
 

@@ -5,6 +5,7 @@ import json
 import os
 
 from ..errors import HazlintError
+from .check import add_frontend_argument
 
 
 def add_arguments(p) -> None:
@@ -17,6 +18,7 @@ def add_arguments(p) -> None:
     p.add_argument("--library", action="append", default=[],
                    help="Liberty (.lib) file with the cells the netlist uses")
     p.add_argument("--config", help="configuration file (default: found upward from here)")
+    add_frontend_argument(p)
     p.add_argument("--format", choices=("text", "json"), default="text")
     from .check import add_bound_arguments
     add_bound_arguments(p)
@@ -52,7 +54,8 @@ def _load(args, cfg):
     return load_design(files, top=args.top or cfg.top,
                        include_dirs=[*cfg.include_dirs, *args.include_dirs],
                        defines=defines, library=library, root=cfg.include_root,
-                       memory_max_bits=cfg.memory_as_registers_max_bits), cfg
+                       memory_max_bits=cfg.memory_as_registers_max_bits,
+                       frontend=getattr(args, "frontend", None) or cfg.frontend), cfg
 
 
 def run(args) -> int:

@@ -12,18 +12,16 @@ import re
 from pyverilog.vparser import ast as va
 
 from ..errors import ParseError
-from . import ir
 from . import grammar_tasks as gt
+from . import ir
 from . import parser as hp
-from .build_subprograms import SubprogramBuilder, direction as _direction
+from .build_subprograms import SubprogramBuilder
+from .build_subprograms import direction as _direction
+from .literals import GATE_PRIMITIVES, attr_value, parse_number  # noqa: F401 (used by others)
+from .literals import expr_text as _text
+from .literals import udp_level as _udp_level
 
 MAX_EXPR_DEPTH = 500
-
-# built-in gate primitives (IEEE 1364 gate types): a positional #(...) on these is a delay
-GATE_PRIMITIVES = frozenset((
-    "and", "nand", "or", "nor", "xor", "xnor", "buf", "not", "bufif0", "bufif1", "notif0",
-    "notif1", "nmos", "pmos", "rnmos", "rpmos", "cmos", "rcmos", "tran", "rtran", "tranif0",
-    "tranif1", "rtranif0", "rtranif1", "pullup", "pulldown"))
 
 _UNOPS = {va.Uminus: "-", va.Uplus: "+", va.Ulnot: "!", va.Unot: "~", va.Uand: "&",
           va.Unand: "~&", va.Uor: "|", va.Unor: "~|", va.Uxor: "^", va.Uxnor: "~^"}
@@ -37,56 +35,6 @@ _ALWAYS_KIND = {va.AlwaysFF: "always_ff", va.AlwaysComb: "always_comb",
 _CASE_KIND = {va.CasexStatement: "casex", va.CasezStatement: "casez",
               va.UniqueCaseStatement: "case", va.CaseStatement: "case"}
 
-_NUMBER = re.compile(r"(\d*)\s*'([sS]?)([bBoOdDhH])\s*([0-9a-fA-FxXzZ?_]+)$")
-_BITS = {"b": 1, "o": 3, "h": 4}
-
-
-def parse_number(text: str):
-    """Verilog integer literal -> ``("num", width, value, xz, signed)`` (see ir.py)."""
-    t = text.replace("_", "")
-    if t.isdigit():
-        return ("num", None, int(t), 0, True)
-    m = _NUMBER.match(t)
-    if not m:
-        raise ValueError(text)
-    size, signed, base, digits = m.group(1), bool(m.group(2)), m.group(3).lower(), m.group(4)
-    width = int(size) if size else None
-    value = xz = 0
-    if base == "d":
-        low = digits.lower()
-        if low in ("x", "z", "?"):
-            w = width or 32
-            xz = (1 << w) - 1
-            value = 0 if low == "x" else xz
-        else:
-            value = int(digits)
-    else:
-        bits = _BITS[base]
-        full = (1 << bits) - 1
-        for ch in digits.lower():
-            value <<= bits
-            xz <<= bits
-            if ch == "x":
-                xz |= full
-            elif ch in "z?":
-                xz |= full
-                value |= full
-            else:
-                value |= int(ch, 16)
-        nbits = bits * len(digits)
-        first = digits[0].lower()
-        if width is not None and width > nbits and first in "xz?":
-            ext = ((1 << width) - 1) ^ ((1 << nbits) - 1)   # extend with x / z
-            xz |= ext
-            if first != "x":
-                value |= ext
-    if width is not None:
-        mask = (1 << width) - 1
-        value &= mask
-        xz &= mask
-    return ("num", width, value, xz, signed)
-
-
 _VARIABLE_KINDS = ("reg", "integer", "time")
 
 
@@ -94,22 +42,6 @@ def _target(assign) -> str | None:
     """The variable a declaration assignment initialises."""
     lv = getattr(assign.left, "var", None)
     return getattr(lv, "name", None)
-
-
-def attr_value(text):
-    """Attribute value text -> Python value: None (bare flag), int, or str."""
-    if text is None:
-        return None
-    t = text.strip()
-    if len(t) >= 2 and t[0] == '"' and t[-1] == '"':
-        return t[1:-1]
-    try:
-        n = parse_number(t)
-        if n[3] == 0:
-            return n[2]
-    except ValueError:
-        pass
-    return t
 
 
 class Builder(SubprogramBuilder):
@@ -234,33 +166,44 @@ class Builder(SubprogramBuilder):
             for prm in decl.list:
                 mod.params.append(self._param(prm, False, decl))
         ansi = False
+        initial_values: list = []
         for port in m.portlist.ports:
             if isinstance(port, va.Ioport):
                 ansi = True
-                self._ansi_port(mod, port)
+                self._ansi_port(mod, port, initial_values)
             else:
                 mod.port_order.append(port.name)
         self._port_first_decl = {}
-        mod.items = self.items(m.items, mod, ansi)
+        mod.items = initial_values + self.items(m.items, mod, ansi)
         for name in mod.port_order:
             if name not in mod.ports:
                 self.error(f"port '{name}' of module '{m.name}' has no direction declaration",
                            line, name)
         return mod
 
-    def _ansi_port(self, mod, io):
+    def _ansi_port(self, mod, io, initial_values):
         first, second = io.first, io.second
         if getattr(first, "hz_input_reg", False):
             self.error(f"invalid port declaration '{_direction(first)} reg'", first.lineno,
                        first.name)
         pos = getattr(io, "hz_pos", None)
         attr_pos = getattr(io, "hz_attrs_from", None) or pos
-        kind = self._net_kind(second) if second is not None else "wire"
+        kind = getattr(first, "hz_kind", None) or (
+            self._net_kind(second) if second is not None else "wire")
         mod.port_order.append(first.name)
-        mod.ports[first.name] = ir.Port(
+        port = mod.ports[first.name] = ir.Port(
             name=first.name, direction=_direction(first), width=self.width(first.width),
             net_type=kind, signed=bool(first.signed or (second is not None and second.signed)),
             loc=self.loc(first.lineno, pos), attrs=self.attrs(attr_pos))
+        init = getattr(io, "hz_init", None)
+        if init is not None:
+            # ``output reg q = 1'b0``: an initial value, as ``reg q = 1'b0;`` (IEEE 1364-2005
+            # 12.3.4); only a variable port has one
+            if kind not in _VARIABLE_KINDS or port.direction != "output":
+                self.error(f"port '{first.name}' cannot have an initial value (only an output "
+                           "variable can)", first.lineno, first.name)
+            initial_values.append(ir.Initial(loc=port.loc, body=(
+                "assign", "=", ("id", first.name), self.expr(init), self._line(first))))
 
     def _param(self, prm, local, decl):
         pos = getattr(decl, "hz_pos", None)
@@ -370,6 +313,8 @@ class Builder(SubprogramBuilder):
                 port.width = self.width(v.width) or port.width
                 port.signed = port.signed or bool(v.signed)
                 port.loc = self.loc(v.lineno, pos)
+                if getattr(v, "hz_kind", None) == "integer":
+                    port.net_type = "integer"           # output integer n;
                 if attrs:
                     port.attrs.update(attrs)
             elif t is va.Parameter or t is va.Localparam:
@@ -383,14 +328,15 @@ class Builder(SubprogramBuilder):
                     out.append(ir.Net(name=name, kind=kind, width=self.width(v.width),
                                       loc=self.loc(v.lineno, pos), attrs=dict(attrs)))
             elif t is va.Assign and _target(v) in variables:
-                # ``reg x = v;`` is an initial value (IEEE 1364-2005 6.2.1), not a driver
-                out.append(ir.Initial(loc=self.loc(v.lineno, dpos), body=(
+                # ``reg x = v;`` is an initial value (IEEE 1364-2005 6.2.1), not a driver;
+                # at the declaration's keyword, the statement at the name's line
+                out.append(ir.Initial(loc=self.loc(decl.lineno, dpos), body=(
                     "assign", "=", self.expr(v.left), self.expr(v.right), self._line(v))))
             elif t is va.Assign:
                 out.append(ir.Assign(lhs=self.expr(v.left), rhs=self.expr(v.right),
                                      delay=self.delay(v.ldelay) if isinstance(
                                          v.ldelay, hp.DelaySpec) else None,
-                                     loc=self.loc(v.lineno, dpos), attrs=dict(attrs)))
+                                     loc=self.loc(decl.lineno, dpos), attrs=dict(attrs)))
             elif t is va.Genvar:
                 continue
             elif t is va.Real:
@@ -422,7 +368,7 @@ class Builder(SubprogramBuilder):
                 if value is not None:
                     value = value.var if isinstance(value, va.Rvalue) else value
                     out.append(ir.Initial(loc=self.loc(v.lineno, pos), body=(
-                        "assign", "=", ("id", v.name), self.expr(value), self._line(v))))
+                        "assign", "=", ("id", v.name), self.expr(value), self._line(value))))
             else:
                 out.append(ir.Unsupported(what=t.__name__, loc=self.loc(v.lineno, pos)))
 
@@ -640,26 +586,6 @@ class Builder(SubprogramBuilder):
             rows.append({"inputs": ins, "state": state, "output": syms[-1][0],
                          "line": self.lmap.lookup(line)[1]})
         return rows
-
-
-def _udp_level(e):
-    if e is None or e[0] != "num":
-        return None
-    if e[3]:
-        return "x" if e[2] == 0 else None
-    return {0: "0", 1: "1"}.get(e[2])
-
-
-def _text(e) -> str:
-    """Short readable text of an IR expression (for hierarchical names)."""
-    k = e[0]
-    if k == "id":
-        return e[1]
-    if k == "num":
-        return str(e[2])
-    if k == "binop":
-        return f"{_text(e[2])}{e[1]}{_text(e[3])}"
-    return k
 
 
 def build_source(path: str, ast, pre, lexer) -> tuple[list, list, list]:

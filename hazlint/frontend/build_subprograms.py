@@ -45,6 +45,9 @@ class SubprogramBuilder:
         decls: list = []
         for io in n.ports or ():
             first, second = io.first, io.second
+            if getattr(io, "hz_init", None) is not None:
+                self.error(f"argument '{first.name}' cannot have a default value",
+                           first.lineno, first.name)
             kind = getattr(first, "hz_kind", None) or (
                 self._net_kind(second) if second is not None else "reg")
             ports[first.name] = ir.Port(

@@ -8,11 +8,17 @@ IEEE 1364-2005 as designers write it, beyond the stock pyverilog grammar:
   parameters, and any statement as the body (:class:`FunctionDef`);
 * tasks (10.2) likewise (:class:`TaskDef`), and task enable statements ``t;`` / ``t(a, b);``
   (:class:`TaskEnable`);
-* ``repeat (n) statement`` (9.6; :class:`RepeatStatement`);
-* ``integer`` arrays (``integer a [0:3];``, 4.9) and ``output integer`` ports (12.3.3);
+* ``repeat (n) statement`` (9.6; :class:`RepeatStatement`); a delay before a system task
+  (``#5 $display(...);``, 9.7.1; the delay is dropped as on assignments);
+* ``integer`` arrays (``integer a [0:3];``, 4.9) and ``output integer`` ports (12.3.3), also
+  with an initial value (``output integer n = 0;``);
   ``real`` declarations keep their names (the stock action names them all "real");
 * several declaration assignments in one net or variable declaration (``wire a = x, b = y;``,
-  6.1.2).
+  6.1.2);
+* ANSI output variables with an initial value (``output reg q = 1'b0``, ``output integer n =
+  0``, ``output reg a = 0, b = 1``; 12.3.4: the IR builder refuses it on inputs and nets);
+* ``parameter integer`` keeps its type, 32-bit signed (12.2; the stock actions drop it:
+  :func:`integer_typed` wraps them).
 
 ``input reg`` is accepted here for task and function arguments; on a module port the IR
 builder reports it.
@@ -20,6 +26,24 @@ builder reports it.
 from __future__ import annotations
 
 from pyverilog.vparser import ast as vast
+
+
+def integer_typed(fn):
+    """Wrap a stock ``parameter integer`` action: its parameters are 32-bit signed (IEEE
+    1364-2005 12.2; the stock action drops the type)."""
+    def action(self, p):
+        fn(self, p)
+        for prm in p[0].list:
+            line = prm.lineno
+            prm.width = vast.Width(vast.IntConst("31", lineno=line),
+                                   vast.IntConst("0", lineno=line), lineno=line)
+            prm.signed = True
+    action.__doc__ = fn.__doc__
+    return action
+
+
+INTEGER_PARAM_RULES = ("p_param_integer", "p_param_end_integer", "p_parameterdecl_integer",
+                        "p_localparamdecl_integer")
 
 
 class FunctionDef:
@@ -146,6 +170,43 @@ class TaskFunctionGrammar:
         'ioport : sigtypes INTEGER portname'
         p[0] = self._typed_ioport(p)
 
+    # ANSI variable ports with an initial value (IEEE 1364-2005 12.3.4:
+    # ``output reg q = 1'b0``, ``output integer n = 0``, ``output reg a = 0, b = 1``)
+    def p_ioport_init(self, p):
+        """ioport : sigtypes portname EQUALS expression
+        | sigtypes width portname EQUALS expression"""
+        p[0] = self._ioport_init(p)
+
+    def p_ioport_head_init(self, p):
+        """ioport_head : sigtypes portname EQUALS expression
+        | sigtypes width portname EQUALS expression"""
+        p[0] = self._ioport_init(p)
+
+    def _ioport_init(self, p):
+        k = 2 if len(p) == 5 else 3
+        node = self.create_ioport(p[1], p[k], width=p[2] if k == 3 else None,
+                                  lineno=p.lineno(k))
+        node.hz_pos = p.lexpos(1)
+        node.hz_init = p[k + 2]
+        p.set_lineno(0, p.lineno(1))
+        return node
+
+    def p_ioport_portname_init(self, p):
+        'ioport : portname EQUALS expression'
+        p[0] = (p[1], p[3])
+        p.set_lineno(0, p.lineno(1))
+        p.slice[0].lexpos = p.lexpos(1)
+
+    def p_ioport_head_integer_init(self, p):
+        'ioport_head : sigtypes INTEGER portname EQUALS expression'
+        p[0] = self._typed_ioport(p)
+        p[0].hz_init = p[5]         # output integer n = 0 (IEEE 1364-2005 12.3.4)
+
+    def p_ioport_integer_init(self, p):
+        'ioport : sigtypes INTEGER portname EQUALS expression'
+        p[0] = self._typed_ioport(p)
+        p[0].hz_init = p[5]
+
     def _typed_ioport(self, p):
         width = vast.Width(vast.IntConst("31", lineno=p.lineno(2)),
                            vast.IntConst("0", lineno=p.lineno(2)), lineno=p.lineno(2))
@@ -165,6 +226,13 @@ class TaskFunctionGrammar:
     def p_single_statement_task_args(self, p):
         'single_statement : delays identifier LPAREN func_args RPAREN SEMICOLON'
         p[0] = TaskEnable(p[2], list(p[4]), p.lineno(2))
+        p.set_lineno(0, p.lineno(2))
+
+    def p_single_statement_systemcall(self, p):
+        'single_statement : delays systemcall SEMICOLON'
+        # replaces the stock rule, which takes no delay: ``#5 $display(...);`` (IEEE 1364-2005
+        # 9.7.1, a delay control before any statement); the delay has no gate meaning
+        p[0] = vast.SingleStatement(p[2], lineno=p.lineno(2))
         p.set_lineno(0, p.lineno(2))
 
     def p_basic_statement_repeat(self, p):
@@ -216,6 +284,27 @@ class TaskFunctionGrammar:
         for name, assign in elements:
             decls.extend(self.create_declassign(p[1], name, assign, width=width,
                                                 lineno=p.lineno(1)))
+        p[0] = vast.Decl(decls, lineno=p.lineno(1))
+        p[0].hz_pos = p.lexpos(1)
+        p.set_lineno(0, p.lineno(1))
+
+    def p_declassign_integer(self, p):
+        """declassign : sigtypes INTEGER declassign_element SEMICOLON
+        | sigtypes INTEGER declassign_list SEMICOLON"""
+        # ``output integer n = 0;`` (IEEE 1364-2005 12.3.3): the port, an integer variable
+        # of that name and its initial value
+        line = p.lineno(2)
+        width = vast.Width(vast.IntConst("31", lineno=line), vast.IntConst("0", lineno=line),
+                           lineno=line)
+        elements = p[3] if isinstance(p[3], list) else [p[3]]
+        decls = []
+        for name, assign in elements:
+            for d in self.create_decl(list(p[1]) + ["signed"], name, width=width,
+                                      lineno=p.lineno(1)):
+                d.hz_kind = "integer"
+                decls.append(d)
+            decls.append(vast.Integer(name, width, signed=True, lineno=p.lineno(1)))
+            decls.append(assign)
         p[0] = vast.Decl(decls, lineno=p.lineno(1))
         p[0].hz_pos = p.lexpos(1)
         p.set_lineno(0, p.lineno(1))

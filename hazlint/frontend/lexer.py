@@ -9,7 +9,7 @@ Additions over :class:`pyverilog.vparser.lexer.VerilogLexer`:
   split in :mod:`hazlint.frontend.build_ir`; table symbols do not lex as Verilog tokens);
 * specify timing checks (``$setup(...);`` ...) are one ``TIMINGCHECK`` token, so the parser can
   skip them whatever their arguments (``&&&`` conditions, edge lists);
-* module path operators ``=>`` and ``*>``;
+* module path operators ``=>`` and ``*>``; ``^~`` as XNOR (the stock lexer knows only ``~^``);
 * attribute instances ``(* name = value, flag *)`` are taken out of the token stream and kept in
   :attr:`HzLexer.attrs_at`, keyed by the position of the token that follows them, so the IR
   builder can attach them to the construct that starts there;
@@ -67,6 +67,9 @@ class HzLexer(VerilogLexer):
 
     t_PATH_PARALLEL = r"=>"
     t_PATH_FULL = r"\*>"
+    # IEEE 1364-2005 5.1: ``^~`` is the XNOR operator as ``~^`` is (binary and reduction);
+    # the stock rule knows only ``~^`` and reads ``a ^~ b`` as ``a ^ (~b)``
+    t_XNOR = r"~\^|\^~"
 
     # blanks as one regex match per run (ply's t_ignore steps one character per loop turn)
     t_ignore = ""

@@ -16,7 +16,8 @@ Grammar additions and repairs over :class:`pyverilog.vparser.parser.VerilogParse
 * list-building actions append to a Python list instead of concatenating tuples (the stock
   form is quadratic in list length); see :func:`_linear_list_actions`;
 * functions and tasks as IEEE 1364-2005 writes them, task enables, ``repeat``, typed arguments,
-  ``integer`` arrays and ``output integer`` ports (:mod:`hazlint.frontend.grammar_tasks`);
+  ``integer`` arrays and ``output integer`` ports, output variables with initial values,
+  ``parameter integer`` typed (:mod:`hazlint.frontend.grammar_tasks`);
 * the stock ``p_declassign_element_delay`` and ``p_integerdecl_signed`` index bugs are fixed.
 
 LALR tables are generated once per grammar signature and kept as a JSON entry of the hazlint
@@ -44,7 +45,7 @@ from pyverilog.vparser import parser as vparser
 from pyverilog.vparser.parser import VerilogParser
 
 from .. import __version__
-from .grammar_tasks import TaskFunctionGrammar
+from .grammar_tasks import INTEGER_PARAM_RULES, TaskFunctionGrammar, integer_typed
 from .lexer import HzLexer, LexError
 
 
@@ -457,6 +458,9 @@ class HzParser(TaskFunctionGrammar, VerilogParser):
 
     def p_ioports(self, p):
         'ioports : ioports COMMA ioport'
+        init = None
+        if isinstance(p[3], tuple):             # a bare name with an initial value
+            p[3], init = p[3]
         if isinstance(p[3], str):
             # a bare name continues the previous declaration's direction and type
             prev = p[1][-1]
@@ -468,6 +472,9 @@ class HzParser(TaskFunctionGrammar, VerilogParser):
                             lineno=p.lineno(3))
             t.hz_pos = p.lexpos(3)
             t.hz_attrs_from = getattr(prev, "hz_pos", None)
+            if getattr(prev.first, "hz_kind", None):
+                t.first.hz_kind = prev.first.hz_kind
+            t.hz_init = init
             p[1].append(t)
         else:
             p[1].append(p[3])
@@ -1118,7 +1125,10 @@ for _name, _fn in _generated.items():
         setattr(HzParser, _name, _fn)
 for _name in _POS_RULES:
     if _name not in HzParser.__dict__:
-        setattr(HzParser, _name, _with_pos(getattr(VerilogParser, _name)))
+        _fn = getattr(VerilogParser, _name)
+        if _name in INTEGER_PARAM_RULES:
+            _fn = integer_typed(_fn)
+        setattr(HzParser, _name, _with_pos(_fn))
 del _generated
 
 

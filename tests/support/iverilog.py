@@ -18,8 +18,11 @@ def require_iverilog():
         pytest.fail("Icarus Verilog (iverilog, vvp) is required: apt-get install iverilog")
 
 
-def simulate(sources: dict[str, str], top: str, timeout: float = 300) -> str:
-    """Compile ``sources`` (file name -> text) with iverilog and run them; return stdout."""
+def simulate(sources: dict[str, str], top: str, timeout: float = 300,
+             generation: str = "2005") -> str:
+    """Compile ``sources`` (file name -> text) with iverilog and run them; return stdout.
+    ``generation`` is iverilog's language generation (``-g2005``, ``-g2012`` for
+    SystemVerilog)."""
     require_iverilog()
     with tempfile.TemporaryDirectory() as d:
         paths = []
@@ -28,7 +31,7 @@ def simulate(sources: dict[str, str], top: str, timeout: float = 300) -> str:
             p.write_text(text)
             paths.append(str(p))
         out = Path(d) / "sim.vvp"
-        r = subprocess.run([IVERILOG, "-g2005", "-s", top, "-o", str(out), *paths],
+        r = subprocess.run([IVERILOG, f"-g{generation}", "-s", top, "-o", str(out), *paths],
                            capture_output=True, text=True, timeout=timeout)
         if r.returncode != 0:
             raise AssertionError(f"iverilog failed:\n{r.stderr}")

@@ -74,9 +74,10 @@ def testbench(top: str, ins: dict[str, int], outs: dict[str, int], vecs, clocked
     return "\n".join(lines) + "\n"
 
 
-def compare(paths, top: str, steps: int = 120, seed=0, hold=(), **options):
-    """Load ``paths`` with ``top``, drive the same random stimulus into hazlint's clocked
-    simulation and into iverilog, and assert equal outputs wherever iverilog is 0/1.
+def compare(paths, top: str, steps: int = 120, seed=0, hold=(), generation="2005", **options):
+    """Load ``paths`` with ``top`` (``options`` go to ``load_design``, e.g. ``frontend``),
+    drive the same random stimulus into hazlint's clocked simulation and into iverilog
+    (``-g<generation>``), and assert equal outputs wherever iverilog is 0/1.
     Returns the design."""
     paths = [str(p) for p in paths]
     design = hazlint.load_design(paths, top=top, **options)
@@ -88,7 +89,7 @@ def compare(paths, top: str, steps: int = 120, seed=0, hold=(), **options):
     vecs = stimulus(ins, steps, f"{top}:{seed}", hold)
     sources = {f"dut{k}.v": Path(p).read_text() for k, p in enumerate(paths)}
     sources["tb.v"] = testbench(top, ins, outs, vecs, clocked)
-    lines = [ln.split()[1:] for ln in iverilog.simulate(sources, "tb").splitlines()
+    lines = [ln.split()[1:] for ln in iverilog.simulate(sources, "tb", generation=generation).splitlines()
              if ln.startswith("@ ")]
     assert len(lines) == steps
     sim = CycleSim(design)          # registers start at their initial value, else 0
