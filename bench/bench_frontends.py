@@ -46,11 +46,11 @@ HAZLINT = r"""
 import gc, json, resource, sys, time
 t0 = time.perf_counter()
 from hazlint.flatten import elaborate
-from hazlint.frontend.registry import read_sources
+from hazlint.frontends.registry import read_sources
 if sys.argv[2] == "slang":          # the front end's own imports are not load time
-    import hazlint.frontend.slang.reader
+    import hazlint.frontends.slang.reader
 else:
-    import hazlint.frontend.reader
+    import hazlint.frontends.verilog.reader
 t1 = time.perf_counter()
 gc.disable()                        # as hazlint.load_design does while loading
 sources = read_sources([sys.argv[1]], frontend=sys.argv[2])

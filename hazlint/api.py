@@ -97,7 +97,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
 
     def load_fresh():
         from .flatten import elaborate
-        from .frontend.registry import read_sources
+        from .frontends.registry import read_sources
         kwargs: dict[str, Any] = {"include_dirs": include_dirs, "defines": defines,
                                   "frontend": config.frontend}
         params = inspect.signature(read_sources).parameters

@@ -25,7 +25,7 @@ from . import cells_yosys
 from . import limits as _limits
 from .diagnostics import Severity
 from .errors import ElaborationError, number_text
-from .frontend import ir
+from . import ir
 
 # cells that drive nothing a glitch analysis needs
 IGNORED = {

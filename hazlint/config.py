@@ -350,7 +350,7 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
             raise err("jobs", "jobs must be at least 1")
         cfg.jobs = table["jobs"]
     if "frontend" in table:
-        from .frontend.registry import check_choice
+        from .frontends.registry import check_choice
         try:
             check_choice(table["frontend"])
         except ConfigError as exc:

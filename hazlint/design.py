@@ -190,7 +190,7 @@ def load_design(paths: str | Sequence[str], top: str | Sequence[str] | None = No
     import gc
 
     from .flatten import elaborate
-    from .frontend.registry import read_sources
+    from .frontends.registry import read_sources
     if isinstance(paths, str):
         paths = [paths]
     reader_keys = ("root", "jobs", "cache", "texts", "progress", "tables", "frontend")

@@ -111,7 +111,7 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
                frontend: str = "auto") -> str | None:
     """sha256 over every input of reading, elaborating and annotating a design, or None when
     one of them cannot be read (the uncached load then reports the problem)."""
-    from .frontend.preprocess import digest_text, read_text
+    from .frontends.files import digest_text, read_text
     from .errors import HazlintError
     try:
         files = [[os.path.abspath(p), digest_text(read_text(p, texts))] for p in paths]
@@ -139,7 +139,7 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
         "sdf": sdfs, "sdf_corner": sdf_corner,
         "default_delay": default_delay, "memory_max_bits": memory_max_bits,
     }
-    from .frontend.registry import key_material
+    from .frontends.registry import key_material
     reader = key_material(paths, frontend)
     if reader is not None:
         material["front_end"] = reader
@@ -452,7 +452,7 @@ class DesignCache(_Store):
         if data is None:
             return None
         from .errors import HazlintError
-        from .frontend.preprocess import digest_text, read_text
+        from .frontends.files import digest_text, read_text
         deps = data.get("deps")
         if not isinstance(deps, dict):
             self.store_.discard(key)
@@ -481,7 +481,7 @@ class DesignCache(_Store):
         """Write the entry; False when the design cannot be represented exactly or an include
         cannot be read back (nothing is written then)."""
         from .errors import HazlintError
-        from .frontend.preprocess import digest_text, read_text
+        from .frontends.files import digest_text, read_text
         deps = {}
         for p in dict.fromkeys(includes):
             try:

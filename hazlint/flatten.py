@@ -42,7 +42,7 @@ from .elaborate.gates import GateBuilder
 from .elaborate.memory import DEFAULT_MAX_BITS, MemoryElaborator
 from .elaborate.scope import NetInfo, Scope, index_range
 from .errors import ElaborationError, number_text
-from .frontend import ir
+from . import ir
 from .library import UNIT_DELAY, ZERO_DELAY, CellDef, Delay, Library
 
 

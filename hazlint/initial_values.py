@@ -16,8 +16,8 @@ from __future__ import annotations
 
 from .diagnostics import Severity
 from .errors import ElaborationError, HazlintError
-from .frontend import ir
-from .frontend.literals import parse_number
+from . import ir
+from .frontends.literals import parse_number
 
 InitValues = dict      # net bit -> (0 | 1 | None for x, loc, instance)
 

@@ -272,7 +272,7 @@ EXPRS = ["-7 / 2", "7 / -2", "-7 % 2", "7 % -2", "-7 % -2", "2 ** 10", "(-2) ** 
 
 @pytest.mark.skipif(shutil.which("iverilog") is None, reason="Icarus Verilog not installed")
 def test_integer_rules_match_icarus_verilog(tmp_path):
-    from hazlint.frontend.reader import read_sources
+    from hazlint.frontends.verilog.reader import read_sources
     lines = ["module consts;"]
     for i, e in enumerate(EXPRS):
         lines.append(f"  localparam integer P{i} = {e};")

@@ -147,7 +147,7 @@ def _cli(*args):
 
 
 def test_prove_command_on_fixtures(tmp_path):
-    pytest.importorskip("hazlint.frontend.reader")
+    pytest.importorskip("hazlint.frontends.verilog.reader")
     vcd, svg = tmp_path / "w.vcd", tmp_path / "w.svg"
     r = _cli("prove", os.path.join(FIX, "static1_sop.v"), "--vcd", str(vcd), "--svg", str(svg),
              "--fail-on", "warning")

@@ -15,8 +15,8 @@ import pytest
 
 import hazlint
 from hazlint.errors import ElaborationError, ParseError
-from hazlint.frontend import ir
-from hazlint.frontend.reader import read_sources
+from hazlint import ir
+from hazlint.frontends.verilog.reader import read_sources
 from support import rtlcheck
 
 

@@ -31,7 +31,7 @@ import re
 from collections import Counter
 
 from ..errors import ElaborationError
-from ..frontend import ir
+from .. import ir
 from .common import C0, C1, HOLD, BlackBoxModule, at_line, expr_text, where
 from .expressions import MemWrite, bits_value, const_bits
 from .scope import NetInfo, Scope, index_range

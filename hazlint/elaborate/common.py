@@ -2,7 +2,7 @@
 from __future__ import annotations
 
 from ..errors import number_text
-from ..frontend import ir
+from .. import ir
 
 C0 = "1'b0"
 C1 = "1'b1"

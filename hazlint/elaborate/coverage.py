@@ -16,7 +16,7 @@ from __future__ import annotations
 
 from ..diagnostics import Severity
 from ..errors import ParseError
-from ..frontend import ir
+from .. import ir
 from .common import walk_items
 
 class CoverageTracker:

@@ -1,7 +1,7 @@
 """Read Verilog sources into IR: preprocess -> parse -> build IR, per file.
 
 :func:`read_sources` is the entry point the rest of hazlint uses. Each input file becomes one
-:class:`~hazlint.frontend.ir.SourceFile` holding every module and primitive its preprocessed
+:class:`~hazlint.ir.SourceFile` holding every module and primitive its preprocessed
 text defines (including those pulled in through ```include``). The pyverilog AST is dropped as
 soon as a file's IR is built.
 """
@@ -13,13 +13,15 @@ import re
 import threading
 from typing import Callable
 
-from ..errors import ParseError
-from . import ir
+from ...errors import ParseError
+from ... import ir
 from .build_ir import build_source
-from .driver import (CACHE_FORMAT, combined_digest, read_with,  # noqa: F401 (re-exported API)
+from ..driver import (CACHE_FORMAT, combined_digest, read_with,  # noqa: F401 (re-exported API)
                      scan_definitions)
-from .parser import SyntaxErr, get_parser
-from .preprocess import Preprocessor, read_text
+from .ast_nodes import SyntaxErr
+from .grammar import get_parser
+from ..files import read_text
+from .preprocess import Preprocessor
 
 _PARSE_LOCK = threading.RLock()
 
@@ -36,7 +38,7 @@ def read_sources(paths: list[str], include_dirs: list[str] = (), defines: dict[s
     ``jobs > 1`` parses in worker processes; ``progress(done, total, path)`` is called once per
     file; ``root`` bounds where includes may resolve (default, per input file: the repository
     holding it, else its folder; never the working directory); ``tables``: where the parser
-    keeps its tables (see :func:`~hazlint.frontend.parser.get_parser`; False: built in memory,
+    keeps its tables (see :func:`~hazlint.frontends.verilog.grammar.get_parser`; False: built in memory,
     nothing written). Errors are :class:`~hazlint.errors.ParseError` with the original
     file:line; with ``tolerant`` a file that cannot be read comes back without modules and
     with its error in ``SourceFile.error`` (the elaborator decides whether the design needs it).

@@ -16,7 +16,7 @@ It is used only where it cannot disagree with the syntax walk:
 * the statement has nothing but names, constant bit selects and literals (any attribute,
   parameter, delay, strength, expression or comment between tokens falls back).
 
-Everything else goes through :class:`~hazlint.frontend.slang.build.Builder`; the tests hold the
+Everything else goes through :class:`~hazlint.frontends.slang.build.Builder`; the tests hold the
 two paths equal on every fixture and benchmark netlist.
 """
 from __future__ import annotations
@@ -26,7 +26,7 @@ from bisect import bisect_right
 
 from pyslang import syntax
 
-from .. import ir
+from ... import ir
 from ..literals import parse_number
 
 SK = syntax.SyntaxKind

@@ -1,8 +1,8 @@
-"""pyslang expression syntax -> IR expression tuples (see :mod:`hazlint.frontend.ir`).
+"""pyslang expression syntax -> IR expression tuples (see :mod:`hazlint.ir`).
 
 The mapping is by syntax kind and gives the tuples the pyverilog front end gives for the same
 source text: parentheses disappear, ``^~`` is written ``~^``, a ``min:typ:max`` expression keeps
-its typical value, literals go through :func:`hazlint.frontend.literals.parse_number` on their
+its typical value, literals go through :func:`hazlint.frontends.literals.parse_number` on their
 source text. A construct with no IR form (an unbased ``'1``, a cast, a streaming operator ...)
 is a :class:`~hazlint.errors.ParseError` at its ``file:line``.
 """

@@ -1,9 +1,9 @@
 """pyslang syntax -> IR for what is not a plain declaration: always-block sensitivity and
 statements, specify blocks, user-defined primitives.
 
-A mixin of :class:`~hazlint.frontend.slang.build.Builder` (it uses the builder's ``expr``,
+A mixin of :class:`~hazlint.frontends.slang.build.Builder` (it uses the builder's ``expr``,
 ``at`` locator and ``error``). Statements become the tuples listed in
-:mod:`hazlint.frontend.ir`; a statement with no gate meaning is ``("other", what, line)``
+:mod:`hazlint.ir`; a statement with no gate meaning is ``("other", what, line)``
 with the pyverilog front end's wording for the same construct.
 """
 from __future__ import annotations
@@ -12,7 +12,7 @@ import re
 
 from pyslang import parsing, syntax
 
-from .. import ir
+from ... import ir
 from ..literals import udp_level
 from .exprs import COMPOUND_STEP, items, kind_words
 from .subprograms import LOCAL_DECLS

@@ -5,7 +5,7 @@ ir.SourceFile`` (module-level, so worker processes can be handed it by name);
 :func:`read_with` runs it over a list of files with the cache, ``jobs`` and ``progress`` the
 callers ask for. ``key_extra`` (JSON-able) goes into every cache key, so two front ends never
 share an entry. With ``tolerant`` a file that cannot be read comes back as a
-:class:`~hazlint.frontend.ir.SourceFile` without modules, its error in ``SourceFile.error`` and
+:class:`~hazlint.ir.SourceFile` without modules, its error in ``SourceFile.error`` and
 the module names a text scan finds (the elaborator decides whether the design needs it).
 Nothing here imports a parser.
 """
@@ -20,8 +20,8 @@ from typing import Callable
 
 from .. import __version__
 from ..errors import HazlintError, ParseError
-from . import ir
-from .preprocess import digest_text, read_text
+from .. import ir
+from .files import digest_text, read_text
 
 CACHE_FORMAT = 2        # 2: positional IR (ir.to_compact)
 
@@ -31,7 +31,7 @@ def read_with(read_one: Callable, paths: list[str], include_dirs: list[str] = ()
               cache=None, texts: dict[str, str] = None,
               progress: Callable[[int, int, str], None] | None = None,
               key_extra=None, tolerant: bool = False) -> list[ir.SourceFile]:
-    """``read_one`` over ``paths`` (see :func:`hazlint.frontend.reader.read_sources` for the
+    """``read_one`` over ``paths`` (see :func:`hazlint.frontends.verilog.reader.read_sources` for the
     arguments), results in input order; with ``jobs > 1`` in worker processes."""
     paths = [os.fspath(p) for p in paths]
     include_dirs = [os.fspath(d) for d in include_dirs]

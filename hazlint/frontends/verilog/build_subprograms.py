@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from pyverilog.vparser import ast as va
 
-from . import ir
+from ... import ir
 
 
 def direction(v) -> str:

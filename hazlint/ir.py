@@ -372,7 +372,7 @@ _CODEC = None
 def _codec():
     global _CODEC
     if _CODEC is None:
-        from ..cache import Codec
+        from .cache import Codec
         _CODEC = Codec(_CLASSES.values(), interned={Loc: ("path",)})
     return _CODEC
 

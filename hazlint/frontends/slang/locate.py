@@ -14,7 +14,7 @@ import os
 from pyslang import SourceLocation
 
 from ... import errors
-from .. import ir
+from ... import ir
 
 
 _UNKNOWN = object()

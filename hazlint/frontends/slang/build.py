@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from pyslang import parsing, syntax
 
-from .. import ir
+from ... import ir
 from ..literals import GATE_PRIMITIVES, attr_value, expr_text
 from . import fastpath
 from .exprs import COMPOUND_STEP, ExprMapper, items, kind_words

@@ -1,7 +1,7 @@
 """Front ends: which reader turns which file into IR.
 
 :data:`READERS` maps a front-end name to a reader with the signature of
-:func:`hazlint.frontend.reader.read_sources` (files -> ``[ir.SourceFile]``). Both give the same
+:func:`hazlint.frontends.verilog.reader.read_sources` (files -> ``[ir.SourceFile]``). Both give the same
 IR for the same text; what each accepts is listed in DEVELOPERS.md.
 
 * ``pyverilog`` (default): our preprocessor and a pyverilog grammar, Verilog-2005 plus the
@@ -22,7 +22,7 @@ from typing import TYPE_CHECKING, Callable
 from ..errors import ConfigError, ParseError
 
 if TYPE_CHECKING:
-    from . import ir
+    from .. import ir
 
 SV_SUFFIXES = (".sv", ".svh")
 INSTALL_HINT = "pip install 'hazlint[slang]'"
@@ -30,7 +30,7 @@ INSTALL_HINT = "pip install 'hazlint[slang]'"
 
 def _pyverilog(paths, include_dirs=(), defines=None, root=None, jobs=1, cache=None,
                texts=None, progress=None, tolerant=False, tables=None) -> list[ir.SourceFile]:
-    from .reader import read_sources as read
+    from .verilog.reader import read_sources as read
     return read(paths, include_dirs=include_dirs, defines=defines, root=root, jobs=jobs,
                 cache=cache, texts=texts, progress=progress, tolerant=tolerant, tables=tables)
 
@@ -92,7 +92,7 @@ def read_sources(paths, include_dirs=(), defines=None, root=None, jobs: int = 1,
                  texts=None, progress=None, frontend: str = DEFAULT,
                  tolerant: bool = False, tables=None) -> list[ir.SourceFile]:
     """Read ``paths`` into IR, each file with the front end :func:`reader_for` picks; the
-    arguments are those of :func:`hazlint.frontend.reader.read_sources`."""
+    arguments are those of :func:`hazlint.frontends.verilog.reader.read_sources`."""
     check_choice(frontend)
     paths = [os.fspath(p) for p in paths]
     # without a root each reader bounds includes per file (the repository holding it, else

@@ -6,7 +6,7 @@ Additions over :class:`pyverilog.vparser.lexer.VerilogLexer`:
   ``automatic``, ``repeat``, the net types ``wand wor tri0 tri1 triand trior trireg uwire``,
   drive strengths (``strong0`` ...);
 * a UDP ``table ... endtable`` body is one ``TABLE`` token holding its raw text (the rows are
-  split in :mod:`hazlint.frontend.build_ir`; table symbols do not lex as Verilog tokens);
+  split in :mod:`hazlint.frontends.verilog.build_ir`; table symbols do not lex as Verilog tokens);
 * specify timing checks (``$setup(...);`` ...) are one ``TIMINGCHECK`` token, so the parser can
   skip them whatever their arguments (``&&&`` conditions, edge lists);
 * module path operators ``=>`` and ``*>``; ``^~`` as XNOR (the stock lexer knows only ``~^``);

@@ -18,9 +18,9 @@ import pyslang
 from pyslang import ast, parsing, syntax
 
 from ...errors import ParseError
-from .. import ir
+from ... import ir
 from ..driver import combined_digest, read_with
-from ..preprocess import digest_text, read_text, repository_root
+from ..files import digest_text, read_text, repository_root
 from .build import Builder
 from .locate import Locator
 
@@ -34,7 +34,7 @@ _MAGNITUDE = {pyslang.TimeScaleMagnitude.One: 1, pyslang.TimeScaleMagnitude.Ten:
 def read_sources(paths, include_dirs=(), defines=None, root=None, jobs=1, cache=None,
                  texts=None, progress=None, tolerant: bool = False) -> list[ir.SourceFile]:
     """The pyslang front end with the arguments of
-    :func:`hazlint.frontend.reader.read_sources`."""
+    :func:`hazlint.frontends.verilog.reader.read_sources`."""
     return read_with(read_one, paths, include_dirs=include_dirs, defines=defines, root=root,
                      jobs=jobs, cache=cache, texts=texts, progress=progress, tolerant=tolerant,
                      key_extra={"name": "slang", "pyslang": pyslang.__version__})

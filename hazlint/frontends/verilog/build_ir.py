@@ -1,4 +1,4 @@
-"""AST -> IR: turn the parser's output into :mod:`hazlint.frontend.ir` objects.
+"""AST -> IR: turn the parser's output into :mod:`hazlint.ir` objects.
 
 Locations go through the preprocessor's line map to the original ``file:line``; columns come
 from token positions (1 when unknown). Attributes found by the lexer are attached to the
@@ -11,15 +11,15 @@ import re
 
 from pyverilog.vparser import ast as va
 
-from ..errors import ParseError
+from ...errors import ParseError
 from . import grammar_tasks as gt
-from . import ir
-from . import parser as hp
+from ... import ir
+from . import ast_nodes as hp
 from .build_subprograms import SubprogramBuilder
 from .build_subprograms import direction as _direction
-from .literals import GATE_PRIMITIVES, attr_value, parse_number  # noqa: F401 (used by others)
-from .literals import expr_text as _text
-from .literals import udp_level as _udp_level
+from ..literals import GATE_PRIMITIVES, attr_value, parse_number  # noqa: F401 (used by others)
+from ..literals import expr_text as _text
+from ..literals import udp_level as _udp_level
 
 MAX_EXPR_DEPTH = 500
 

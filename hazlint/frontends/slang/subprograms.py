@@ -1,8 +1,8 @@
 """pyslang syntax -> IR for functions, tasks and the declarations inside them and inside
-procedural blocks (a mixin of :class:`~hazlint.frontend.slang.build.Builder`).
+procedural blocks (a mixin of :class:`~hazlint.frontends.slang.build.Builder`).
 
-The IR is the one :mod:`hazlint.frontend.build_subprograms` builds for the same text:
-:class:`~hazlint.frontend.ir.Function` / :class:`~hazlint.frontend.ir.Task` with their
+The IR is the one :mod:`hazlint.frontends.verilog.build_subprograms` builds for the same text:
+:class:`~hazlint.ir.Function` / :class:`~hazlint.ir.Task` with their
 arguments as ``Port`` (``net_type`` "reg", "integer" or "real"), local variables as ``Net``
 and parameters as ``Param``; an argument's location is its direction keyword in an ANSI list
 and its name in an ``input ...;`` declaration, as there. SystemVerilog forms with the same
@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from pyslang import parsing, syntax
 
-from .. import ir
+from ... import ir
 from .exprs import items, kind_words
 
 SK = syntax.SyntaxKind
