@@ -45,7 +45,7 @@ print(json.dumps({"parse": t1 - t0, "elaborate": t2 - t1, "seconds": t2 - t0,
 HAZLINT = r"""
 import gc, json, resource, sys, time
 t0 = time.perf_counter()
-from hazlint.flatten import elaborate
+from hazlint.elaborate import elaborate
 from hazlint.frontends.registry import read_sources
 if sys.argv[2] == "slang":          # the front end's own imports are not load time
     import hazlint.frontends.slang.reader

@@ -96,7 +96,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     abs_texts = {os.path.abspath(k): v for k, v in texts.items()} if texts else None
 
     def load_fresh():
-        from .flatten import elaborate
+        from .elaborate import elaborate
         from .frontends.registry import read_sources
         kwargs: dict[str, Any] = {"include_dirs": include_dirs, "defines": defines,
                                   "frontend": config.frontend}

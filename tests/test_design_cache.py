@@ -13,7 +13,8 @@ import pytest
 
 from hazlint import design_cache as dc
 from hazlint.config import load_config
-from hazlint.design import Design, load_design
+from hazlint.design import Design
+from hazlint.loader import load_design
 
 ROOT = Path(__file__).resolve().parent.parent
 FIX = ROOT / "fixtures"
@@ -155,7 +156,7 @@ class Counting:
     """Counts real elaborations (the real function runs)."""
 
     def __init__(self, monkeypatch):
-        import hazlint.flatten as flatten
+        import hazlint.elaborate as flatten
         self.calls = 0
         real = flatten.elaborate
 

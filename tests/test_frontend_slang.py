@@ -29,7 +29,7 @@ from hazlint.config import load_config
 from hazlint.errors import ConfigError, ParseError
 from hazlint import ir
 from hazlint.frontends import registry
-from hazlint.flatten import elaborate
+from hazlint.elaborate import elaborate
 from hazlint.frontends.slang import reader as slang_reader
 from support import iverilog, randnet, rtlcheck
 from support.bench import netlist

@@ -358,7 +358,7 @@ needs_yosys = pytest.mark.skipif(
 
 @pytest.fixture(scope="module")
 def mapped(tmp_path_factory):
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     tmp = tmp_path_factory.mktemp("yosys")
     net = _yosys_map(tmp)
     lib = read_liberty(YOSYS_LIB)
@@ -473,7 +473,7 @@ def _cell_inputs(lib, cell):
 
 
 def test_load_design_with_a_liberty_path(tmp_path):
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     v = tmp_path / "latch.v"
     v.write_text("module fault_hold(input guard_closed, input maint_key, output hold, output y);\n"
                  "  wire one, g_n;\n"

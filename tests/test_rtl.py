@@ -505,6 +505,6 @@ def test_ir_of_functions_tasks_and_arrays_round_trips(tmp_path):
     back = ir.from_compact(ir.to_compact(sf))
     assert ir.to_json(back) == data
     # the cached form elaborates to the same design
-    from hazlint.flatten import elaborate
+    from hazlint.elaborate import elaborate
     a, b = elaborate([sf]).summary(), elaborate([back]).summary()
     assert a == b and a["registers"] == 0 and a["latches"] == 0

@@ -224,7 +224,7 @@ PRESS_LIB = str(ROOT / "fixtures" / "liberty" / "press_cells.lib")
 
 
 def _press_design():
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     from hazlint.liberty import read_liberty
     lib = read_liberty(PRESS_LIB)
     return load_design(str(FIX / "press_valve.v"), library=lib), lib
@@ -233,7 +233,7 @@ def _press_design():
 @pytest.mark.skipif(not os.path.exists(OSTA_SDF), reason="Debian opensta examples not installed")
 def test_opensta_example_annotates_every_instance():
     from hazlint.config import load_config
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     cfg = load_config(path=str(FIX / "opensta_example1_cells.toml"))
     lib = cfg.library()
     design = load_design(f"{OSTA}/example1.v", library=lib)
@@ -388,7 +388,7 @@ def test_transition_times_equal_icarus_sdf_annotate(corner, tmp_path):
 
 
 def test_multi_output_three_state_and_register_cells():
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     from hazlint.liberty import read_liberty
     lib = read_liberty(PRESS_LIB)
     design = load_design(str(FIX / "press_fault.v"), library=lib)

@@ -109,7 +109,7 @@ def _run(args) -> int:
 
 
 def _load(files, top, frontend):
-    from ..design import load_design
+    from ..loader import load_design
     return load_design(files, top=top, frontend=frontend)
 
 

@@ -130,3 +130,7 @@ def walk_items(items):
         elif isinstance(it, ir.GenCase):
             for _l, _n, sub in it.cases:
                 yield from walk_items(sub)
+
+
+def const_bits(value: int, width: int) -> list[str]:
+    return [C1 if (value >> i) & 1 else C0 for i in range(width)]

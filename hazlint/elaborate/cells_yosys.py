@@ -16,13 +16,13 @@ glitch-sensitive.
 
 The elaborator consults these cells after the user's modules, primitives, UDPs, configured cells
 and Liberty cells, so a user definition of the same name always wins. Word-level cells
-(``$and``, ``$add``, ``$dff`` ...) are bit-blasted by :mod:`hazlint.cells_yosys_words`.
+(``$and``, ``$add``, ``$dff`` ...) are bit-blasted by :mod:`hazlint.elaborate.cells_yosys_words`.
 """
 from __future__ import annotations
 
 import itertools
 
-from .library import CellDef, SequentialSpec, parse_function
+from ..library import CellDef, SequentialSpec, parse_function
 
 # combinational cells: name -> (pins in the model's port order without Y, function of Y in
 # Liberty syntax; "mux:DATA:SELECT" is the select tree DATA[SELECT], select LSB first)

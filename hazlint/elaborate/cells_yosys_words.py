@@ -8,7 +8,7 @@ yosys' own simulation models (Debian: ``/usr/share/yosys/simlib.v``): operands a
 the result width, with sign extension only when every operand of the cell is signed (the
 Verilog rule), then the result is truncated to ``Y_WIDTH``. Registers and latches
 (``$dff``, ``$adffe``, ``$sdff``, ``$dffsr``, ``$dlatch``, ``$sr``, ...) become one
-gate-level cell of :mod:`hazlint.cells_yosys` per bit, named after the net their output drives.
+gate-level cell of :mod:`hazlint.elaborate.cells_yosys` per bit, named after the net their output drives.
 
 Cells hazlint cannot model (division, memories, formal cells, ...) become black boxes with a
 warning that names the cell type; formal properties and timing checks, which drive nothing, are
@@ -22,10 +22,10 @@ import re
 from typing import Callable
 
 from . import cells_yosys
-from . import limits as _limits
-from .diagnostics import Severity
-from .errors import ElaborationError, number_text
-from . import ir
+from .. import limits as _limits
+from ..diagnostics import Severity
+from ..errors import ElaborationError, number_text
+from .. import ir
 
 # cells that drive nothing a glitch analysis needs
 IGNORED = {

@@ -14,10 +14,10 @@ tasks, delays, loops) are simulation-only and are reported once per module as ig
 """
 from __future__ import annotations
 
-from .diagnostics import Severity
-from .errors import ElaborationError, HazlintError
-from . import ir
-from .frontends.literals import parse_number
+from ..diagnostics import Severity
+from ..errors import ElaborationError, HazlintError
+from .. import ir
+from ..frontends.literals import parse_number
 
 InitValues = dict      # net bit -> (0 | 1 | None for x, loc, instance)
 

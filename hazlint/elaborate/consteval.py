@@ -22,8 +22,8 @@ from __future__ import annotations
 import math
 from typing import Callable, Mapping
 
-from . import limits as _limits
-from .errors import ElaborationError, number_text
+from .. import limits as _limits
+from ..errors import ElaborationError, number_text
 
 
 class NotConstant(Exception):
