@@ -13,6 +13,6 @@ def __getattr__(name):  # lazy, so `import hazlint` stays cheap for the CLI and 
         from .loader import load_design
         return load_design
     if name == "Design":
-        from .design import Design
+        from .netlist.design import Design
         return Design
     raise AttributeError(name)

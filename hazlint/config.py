@@ -142,8 +142,8 @@ class Config:
         return f"{self.path}:{line}: " if line else f"{self.path}: "
 
     def library(self):
-        """Cells from ``cells`` and ``liberty`` as a :class:`hazlint.library.Library`."""
-        from .library import Library, cell_from_config
+        """Cells from ``cells`` and ``liberty`` as a :class:`hazlint.netlist.library.Library`."""
+        from .netlist.library import Library, cell_from_config
         lib = Library()
         if self.liberty:
             try:

@@ -2,7 +2,7 @@
 
 The parse cache (:mod:`hazlint.cache`) saves the parsing of each file, but a warm run still
 rebuilt the IR and flattened the hierarchy. This cache stores the finished
-:class:`~hazlint.design.Design` (after SDF back-annotation) as compact JSON, keyed by everything
+:class:`~hazlint.netlist.design.Design` (after SDF back-annotation) as compact JSON, keyed by everything
 elaboration depends on (:func:`design_key`):
 
 * every input file's path and content digest (editor buffers in ``texts`` included); files
@@ -159,9 +159,9 @@ _CODEC: Codec | None = None
 def _codec() -> Codec:
     global _CODEC
     if _CODEC is None:
-        from .design import BlackBox, Register
+        from .netlist.design import BlackBox, Register
         from .diagnostics import Diagnostic, Hop, Location, Related, Severity
-        from .library import Delay
+        from .netlist.library import Delay
         _CODEC = Codec([Delay, Location, Hop, Related, Diagnostic, Severity, Register, BlackBox],
                        shared=[Delay, Location, Hop])
     return _CODEC
@@ -286,10 +286,10 @@ def _derived_edges(g, ids, index, inputs, enc, st, shape_of):
 
 
 def decode_design(doc: Mapping[str, Any]):
-    """Rebuild the :class:`~hazlint.design.Design` of :func:`encode_design`, filling the
+    """Rebuild the :class:`~hazlint.netlist.design.Design` of :func:`encode_design`, filling the
     networkx adjacency dictionaries directly. Raises ``ValueError`` (or a subclass) on an
     entry that does not fit."""
-    from .design import Design
+    from .netlist.design import Design
     if not isinstance(doc, Mapping) or doc.get("format") != DESIGN_FORMAT:
         raise CodecError("not a design entry of this format")
     dec = _codec().decoder(doc)

@@ -6,9 +6,9 @@ line continuations. This module reads it in three steps:
 
 1. :func:`tokenize` - one regular expression over the whole text, with line numbers;
 2. :func:`parse_liberty` - the group/attribute tree (:class:`Group`), no semantics;
-3. :func:`read_liberty` - the semantics hazlint needs, as a :class:`hazlint.library.Library`:
+3. :func:`read_liberty` - the semantics hazlint needs, as a :class:`hazlint.netlist.library.Library`:
    pins and directions, output ``function`` and ``three_state``, ``ff``/``latch`` groups, and one
-   :class:`~hazlint.library.Delay` per timing arc from the NLDM ``cell_rise``/``cell_fall`` tables
+   :class:`~hazlint.netlist.library.Delay` per timing arc from the NLDM ``cell_rise``/``cell_fall`` tables
    at a chosen input slew and output load.
 
 Delays are read from the look-up tables by multilinear interpolation over the table's breakpoints
@@ -29,7 +29,7 @@ from dataclasses import dataclass, field
 from typing import Any, Iterator, Sequence
 
 from .errors import ParseError
-from .library import (CellDef, Delay, FunctionSyntaxError, Library, SequentialSpec, expr_vars,
+from .netlist.library import (CellDef, Delay, FunctionSyntaxError, Library, SequentialSpec, expr_vars,
                       parse_function)
 
 # ---------------------------------------------------------------------------------------------
@@ -455,7 +455,7 @@ class ArcInfo:
 
 
 class LibertyLibrary(Library):
-    """A :class:`~hazlint.library.Library` read from a Liberty file, with what the file said
+    """A :class:`~hazlint.netlist.library.Library` read from a Liberty file, with what the file said
     besides the cells: its name, units, the slew/load the delays were read at, the cells that
     could not be modelled (``skipped``: name -> reason) and every timing group (``timing``)."""
 
@@ -475,7 +475,7 @@ class LibertyLibrary(Library):
 
 def read_liberty(path: str, *, input_slew: float | None = None,
                  output_load: float | None = None, text: str | None = None) -> LibertyLibrary:
-    """Read a Liberty file into a Library of :class:`~hazlint.library.CellDef`.
+    """Read a Liberty file into a Library of :class:`~hazlint.netlist.library.CellDef`.
 
     ``input_slew`` and ``output_load`` are in the library's own time and capacitance units; when
     not given, each table is read at its first breakpoint in that variable. Delays stay in the

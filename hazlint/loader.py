@@ -6,16 +6,16 @@ from __future__ import annotations
 from typing import TYPE_CHECKING, Iterable, Mapping, Sequence
 
 if TYPE_CHECKING:
-    from .design import Design
+    from .netlist.design import Design
 
 
 def load_design(paths: str | Sequence[str], top: str | Sequence[str] | None = None,
                 include_dirs: Iterable[str] = (), defines: Mapping[str, str] | None = None,
                 library=None, **options) -> Design:
-    """Read Verilog sources and elaborate them into a :class:`~hazlint.design.Design`.
+    """Read Verilog sources and elaborate them into a :class:`~hazlint.netlist.design.Design`.
 
-    ``library`` is a :class:`hazlint.library.Library`, a mapping of cell name to configuration
-    table (see :func:`hazlint.library.cell_from_config`), or a path to a Liberty file.
+    ``library`` is a :class:`hazlint.netlist.library.Library`, a mapping of cell name to configuration
+    table (see :func:`hazlint.netlist.library.cell_from_config`), or a path to a Liberty file.
     """
     import gc
 

@@ -1,7 +1,7 @@
 """SDF (IEEE 1497 Standard Delay Format) reading and back-annotation onto the gate graph.
 
 :func:`parse_sdf` reads the file into plain data (:class:`SdfFile`); :func:`annotate` writes its
-delays onto a :class:`~hazlint.design.Design`:
+delays onto a :class:`~hazlint.netlist.design.Design`:
 
 * ``IOPATH in out`` of an instance replaces the ``delays[i]`` of the gate node that instance
   drives on pin ``out``, for every input ``i`` whose pin is ``in``. Several IOPATHs for the same
@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 from typing import Any, Iterable
 
 from .errors import ParseError
-from .library import Delay
+from .netlist.library import Delay
 
 CORNERS = ("min", "typ", "max", "minmax")
 
@@ -580,7 +580,7 @@ class _Index:
         cell = self.library.get(r.cell) if self.library is not None else None
         if cell is None or cell.sequential is None:
             return None
-        from .library import expr_vars
+        from .netlist.library import expr_vars
         s = cell.sequential
         roles = []
         for role, e in (("clock", s.clocked_on), ("data", s.next_state), ("enable", s.enable),
@@ -647,8 +647,8 @@ class _Index:
 def _same_function(d, fn, max_pins: int = 12) -> bool:
     """Whether a gate node computes the Liberty function ``fn`` of its pins (truth tables,
     bit-parallel over all 2^k input combinations)."""
-    from .library import bind_expr, expr_vars
-    from .logic import eval_expr, eval_op
+    from .netlist.library import bind_expr, expr_vars
+    from .netlist.logic import eval_expr, eval_op
     pins = list(d.get("pins") or [])
     if not set(expr_vars(fn)) <= set(pins) or len(pins) > max_pins or len(set(pins)) != len(pins):
         return False
@@ -667,7 +667,7 @@ def annotate(design, sdf_path: str, *, corner: str = "max", library=None,
     """Back-annotate a design with the delays of an SDF file (see the module docstring).
 
     ``corner`` is ``"min"``, ``"typ"``, ``"max"`` or ``"minmax"``. ``library`` (the
-    :class:`~hazlint.library.Library` the design was built with) is needed to tell which pin of
+    :class:`~hazlint.netlist.library.Library` the design was built with) is needed to tell which pin of
     a register cell is its clock, data, set or reset and which output is Q or QN. Values are
     converted to ``time_unit`` seconds, else to the design's ``timescale`` unit when it has one,
     else kept in the SDF's own unit.

@@ -13,7 +13,7 @@ import pytest
 
 from hazlint import design_cache as dc
 from hazlint.config import load_config
-from hazlint.design import Design
+from hazlint.netlist.design import Design
 from hazlint.loader import load_design
 
 ROOT = Path(__file__).resolve().parent.parent

@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 
 from hazlint.errors import ConfigError, ParseError
-from hazlint.library import Delay
+from hazlint.netlist.library import Delay
 from hazlint.sdf import annotate, corner_bounds, delay_of, parse_sdf
 
 ROOT = Path(__file__).resolve().parent.parent

@@ -33,7 +33,7 @@ from dataclasses import replace
 from functools import lru_cache
 from typing import Sequence
 
-from ..logic import eval_expr, op_as_expr
+from ..netlist.logic import eval_expr, op_as_expr
 
 ATOMIC_MAX_INPUTS = 10
 CELL_MODELS = ("atomic", "sum-of-products")
@@ -240,7 +240,7 @@ def decompose_design(design):
     networks (the pessimistic cell model). Node ids of every existing driver stay (the cell's
     output node becomes the OR gate); the new internal nodes are ``<node>$sop.*``."""
     import networkx as nx
-    from ..library import Delay
+    from ..netlist.library import Delay
     g = design.graph
     h = nx.DiGraph()
     h.graph.update(g.graph)

@@ -1,7 +1,7 @@
-"""Elaboration: IR + cell library -> :class:`~hazlint.design.Design` (the gate graph).
+"""Elaboration: IR + cell library -> :class:`~hazlint.netlist.design.Design` (the gate graph).
 
 :func:`elaborate` is the stage's one entry; :func:`resolve_library` turns what a caller may
-give as a library into one :class:`~hazlint.library.Library`. Both import the elaborator only
+give as a library into one :class:`~hazlint.netlist.library.Library`. Both import the elaborator only
 when called, so ``import hazlint.elaborate`` stays cheap.
 
 Modules: :mod:`.elaborator` (the state and the run), :mod:`.hierarchy` (tops, modules,
@@ -23,8 +23,8 @@ from typing import Iterable, Mapping, Sequence
 
 def resolve_library(library):
     """``None``, a Library, a mapping of cell tables, a .lib path, or a list of these, as one
-    :class:`~hazlint.library.Library`."""
-    from ..library import CellDef, Library, cell_from_config
+    :class:`~hazlint.netlist.library.Library`."""
+    from ..netlist.library import CellDef, Library, cell_from_config
     if library is None:
         return Library()
     if isinstance(library, Library):
@@ -47,11 +47,11 @@ def resolve_library(library):
 
 def elaborate(sources: Sequence, top=None, library=None, default_delay=None,
               memory_max_bits: int | None = None, **_ignored):
-    """Elaborate parsed sources (``[ir.SourceFile]``) into a :class:`~hazlint.design.Design`.
-    ``default_delay`` (a number or a :class:`~hazlint.library.Delay`; unit delay when None) is
+    """Elaborate parsed sources (``[ir.SourceFile]``) into a :class:`~hazlint.netlist.design.Design`.
+    ``default_delay`` (a number or a :class:`~hazlint.netlist.library.Delay`; unit delay when None) is
     the delay of a gate its source and library give none. Arrays of variables with more than
     ``memory_max_bits`` bits are kept as memory nodes (:mod:`hazlint.elaborate.memory`)."""
-    from ..library import UNIT_DELAY, Delay
+    from ..netlist.library import UNIT_DELAY, Delay
     from .elaborator import Elaborator
     from .memory import DEFAULT_MAX_BITS
     lib_ = resolve_library(library)

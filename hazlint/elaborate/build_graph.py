@@ -1,14 +1,14 @@
 """The last step of elaboration: driver and sink records -> the gate graph of a
-:class:`~hazlint.design.Design` (see :mod:`hazlint.graph` for the schema). A mixin of
+:class:`~hazlint.netlist.design.Design` (see :mod:`hazlint.netlist.graph` for the schema). A mixin of
 :class:`~hazlint.elaborate.elaborator.Elaborator`."""
 from __future__ import annotations
 
 import networkx as nx
 
 from .. import budget as _budget
-from ..design import Design
+from ..netlist.design import Design
 from ..diagnostics import Severity
-from ..library import ZERO_DELAY
+from ..netlist.library import ZERO_DELAY
 from . import initial_values
 from .common import C0, C1
 from .common import where as _where

@@ -3,7 +3,7 @@
 ``synth`` followed by ``write_verilog -noexpr`` instantiates yosys' own fine-grained cells
 (``$_AND_``, ``$_MUX_``, ``$_DFF_PN0_``, ...). Their behaviour is defined by the simulation
 models Debian's yosys installs as ``/usr/share/yosys/simcells.v``; this module states the same
-behaviour as :class:`~hazlint.library.CellDef` objects (Liberty function syntax, Liberty-style
+behaviour as :class:`~hazlint.netlist.library.CellDef` objects (Liberty function syntax, Liberty-style
 ``ff``/``latch`` groups), generated from one table per cell family and every polarity letter, so
 that ``$_DFFE_PN1P_`` and its 15 siblings come from one line. ``tests/test_cells_yosys.py``
 simulates each cell's simcells.v model in Icarus Verilog against hazlint's model.
@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import itertools
 
-from ..library import CellDef, SequentialSpec, parse_function
+from ..netlist.library import CellDef, SequentialSpec, parse_function
 
 # combinational cells: name -> (pins in the model's port order without Y, function of Y in
 # Liberty syntax; "mux:DATA:SELECT" is the select tree DATA[SELECT], select LSB first)

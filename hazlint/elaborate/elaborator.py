@@ -1,4 +1,4 @@
-"""The elaborator: IR modules -> one bit-level gate graph (see :mod:`hazlint.graph` for the schema).
+"""The elaborator: IR modules -> one bit-level gate graph (see :mod:`hazlint.netlist.graph` for the schema).
 
 Elaboration walks the hierarchy from the top module(s), evaluates parameters and generate
 constructs, bit-blasts vectors, decomposes continuous assigns (and combinational always blocks)
@@ -24,12 +24,12 @@ from __future__ import annotations
 from typing import Sequence
 
 from .. import ir
-from .. import library as lib
+from ..netlist import library as lib
 from .. import limits as _limits
-from ..design import BlackBox, Design, Register
+from ..netlist.design import BlackBox, Design, Register
 from ..diagnostics import Diagnostic, Location, Severity
 from ..errors import ElaborationError
-from ..library import UNIT_DELAY, Delay, Library
+from ..netlist.library import UNIT_DELAY, Delay, Library
 from . import initial_values
 from .behaviour import BehaviourElaborator
 from .build_graph import GraphEmitter

@@ -4,7 +4,7 @@ An initial value is the state a register holds before its first clock edge (IEEE
 6.2.1 reads a variable declaration assignment as an ``initial`` assignment; yosys writes the
 same value as ``reg [7:0] \\storage[6] = 8'h00;`` or, in ``-noexpr`` netlists, as the attribute
 ``(* init = 8'h00 *)`` on the wire a flip-flop cell drives). It is never a second driver: the
-value is kept on the register's state node (``init``) and on :class:`~hazlint.design.Register`
+value is kept on the register's state node (``init``) and on :class:`~hazlint.netlist.design.Register`
 (``init``), where simulation and witnesses can start from it. A variable that nothing else
 drives keeps its initial value for ever, so there it becomes a constant; on a net driven by
 combinational logic it has no effect.

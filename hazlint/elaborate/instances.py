@@ -5,12 +5,12 @@ from __future__ import annotations
 
 from .. import budget as _budget
 from .. import ir
-from .. import library as lib
+from ..netlist import library as lib
 from .. import limits as _limits
-from ..design import BlackBox, Register
+from ..netlist.design import BlackBox, Register
 from ..diagnostics import Severity
 from ..errors import ElaborationError
-from ..library import ZERO_DELAY, CellDef
+from ..netlist.library import ZERO_DELAY, CellDef
 from . import cells_yosys_words as yosys_cells
 from .common import C0, C1
 from .common import BlackBoxModule as _BlackBoxModule

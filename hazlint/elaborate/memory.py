@@ -23,7 +23,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from ..diagnostics import Severity
-from ..graph import ASYNC_ROLES
+from ..netlist.graph import ASYNC_ROLES
 from .common import C0, BlackBoxModule, expr_text
 from .selects import MemWrite
 from .scope import NetInfo, index_range

@@ -7,7 +7,7 @@ from .. import budget as _budget
 from .. import ir
 from .. import limits as _limits
 from ..errors import ElaborationError
-from ..library import ZERO_DELAY, Delay
+from ..netlist.library import ZERO_DELAY, Delay
 from .common import C0, C1
 from .common import expr_text as _expr_text
 from .common import fold as _fold

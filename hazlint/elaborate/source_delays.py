@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from .. import limits as _limits
 from ..errors import ElaborationError
-from ..library import Delay
+from ..netlist.library import Delay
 from .common import where as _where
 from .consteval import NotConstant, const_value
 from .scope import Scope

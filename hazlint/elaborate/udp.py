@@ -7,7 +7,7 @@ import re
 from typing import Any
 
 from .. import ir
-from ..design import Register
+from ..netlist.design import Register
 from ..errors import ElaborationError
 from .common import where as _where
 from .scope import Scope

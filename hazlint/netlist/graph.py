@@ -12,10 +12,10 @@ driven by ``u`` feeds ``v``. Node ids are strings (hierarchical net names for dr
                ``"blackbox"`` output pin of an unknown cell or behavioural module (a source)
                ``"sink"``   a pin that consumes a net: primary output, register/latch pin
 ``name``       the net name (drivers) or a readable pin name (sinks), e.g. ``"q_reg.CK"``
-``op``         gate: see :data:`hazlint.logic.OPS`; ``expr`` holds the tree when op == "expr"
+``op``         gate: see :data:`hazlint.netlist.logic.OPS`; ``expr`` holds the tree when op == "expr"
 ``inputs``     ordered list of predecessor node ids, one per input pin (repeats allowed)
 ``pins``       input pin names, parallel to ``inputs`` (``"A"``, ``"B"``..., or ``"1"``, ``"2"``)
-``delays``     list of :class:`hazlint.library.Delay`, parallel to ``inputs`` (pin-to-output)
+``delays``     list of :class:`hazlint.netlist.library.Delay`, parallel to ``inputs`` (pin-to-output)
 ``cell``       primitive or cell type name; ``instance`` hierarchical instance path
                (``"press_top.u_guard.g3"``); ``path``, ``line``, ``column`` where to edit
 ``role``       sinks: ``"output"`` | ``"clock"`` | ``"data"`` | ``"enable"`` | ``"set"`` |
@@ -31,7 +31,7 @@ driven by ``u`` feeds ``v``. Node ids are strings (hierarchical net names for dr
 =============  ============================================================================
 
 Edge attributes: ``pins`` (list of input-pin indices of ``v`` fed by ``u``) and, when SDF gives
-one, ``wire`` (a :class:`~hazlint.library.Delay` for the interconnect).
+one, ``wire`` (a :class:`~hazlint.netlist.library.Delay` for the interconnect).
 
 Loops are cut at registers: a register's pins are sinks and its outputs are sources, so the graph is
 acyclic unless the design has a real combinational loop. Transparent latches are cut the same way;
@@ -40,42 +40,9 @@ them.
 """
 from __future__ import annotations
 
-from typing import Iterable, Iterator
-
-import networkx as nx
-
 SOURCE_KINDS = frozenset({"input", "const", "state", "blackbox"})
 DRIVER_KINDS = SOURCE_KINDS | {"gate"}
 SINK_ROLES = ("output", "clock", "data", "enable", "set", "reset", "tristate_enable")
 # pins where a glitch does harm (rule scope and hazard analysis); "output" only when the port
 # is declared asynchronous
 ASYNC_ROLES = frozenset({"clock", "enable", "set", "reset", "tristate_enable"})
-
-
-def is_sink(g: nx.DiGraph, n: str) -> bool:
-    return g.nodes[n]["kind"] == "sink"
-
-
-def gates(g: nx.DiGraph) -> Iterator[str]:
-    return (n for n, d in g.nodes(data=True) if d["kind"] == "gate")
-
-
-def sinks(g: nx.DiGraph, roles: Iterable[str] | None = None) -> Iterator[str]:
-    want = None if roles is None else set(roles)
-    return (n for n, d in g.nodes(data=True)
-            if d["kind"] == "sink" and (want is None or d["role"] in want))
-
-
-def fanout_stems(g: nx.DiGraph) -> Iterator[str]:
-    """Drivers whose net is read by two or more pins (a stem of fanout branches)."""
-    for n, d in g.nodes(data=True):
-        if d["kind"] != "sink":
-            reads = sum(len(e.get("pins", (0,))) for _, _, e in g.out_edges(n, data=True))
-            if reads >= 2:
-                yield n
-
-
-def location_of(g: nx.DiGraph, n: str):
-    from .diagnostics import Location
-    d = g.nodes[n]
-    return Location(d.get("path", ""), d.get("line", 0) or 0, d.get("column", 1) or 1)

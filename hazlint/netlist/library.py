@@ -14,7 +14,7 @@ import re
 from dataclasses import dataclass, field
 from typing import Any, Mapping
 
-from .errors import ConfigError
+from ..errors import ConfigError
 
 # ---------------------------------------------------------------------------------------------
 # Expressions over named variables: ("var", name) | ("const", b) | ("not", e) | (and|or|xor, ...)
