@@ -146,7 +146,7 @@ def _table_cache(config: Config):
 def _apply_sdf(design, config: Config, library) -> None:
     if config.sdf:
         try:
-            sdf = importlib.import_module("hazlint.sdf")
+            sdf = importlib.import_module("hazlint.delays.sdf")
         except ModuleNotFoundError:
             sdf = None
         annotate = getattr(sdf, "annotate", None)

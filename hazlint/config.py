@@ -147,9 +147,9 @@ class Config:
         lib = Library()
         if self.liberty:
             try:
-                from .liberty import read_liberty
+                from .delays.liberty import read_liberty
             except ModuleNotFoundError as exc:
-                if exc.name != "hazlint.liberty":
+                if exc.name != "hazlint.delays.liberty":
                     raise
                 raise ConfigError("Liberty files are configured but Liberty reading is not "
                                   "available in this build", path=self.path,

@@ -17,8 +17,8 @@ from pathlib import Path
 import pytest
 
 from hazlint.errors import ParseError
-from hazlint.liberty import (Table, parse_liberty, read_liberty, table_of, tokenize,
-                             verilog_models)
+from hazlint.delays.liberty import read_liberty, table_of, verilog_models
+from hazlint.delays.liberty_syntax import Table, parse_liberty, tokenize
 
 ROOT = Path(__file__).resolve().parent.parent
 PRESS = str(ROOT / "fixtures" / "liberty" / "press_cells.lib")

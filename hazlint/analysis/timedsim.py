@@ -33,6 +33,7 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from ..delays.model import GRAPH_DELAYS, DelayModel
 from ..netlist.library import Delay
 from ..netlist.walks import fanin, ordered_copy
 from .skews import skew_offsets
@@ -97,9 +98,10 @@ def _num(x: float) -> str:
     return str(int(x)) if float(x).is_integer() else f"{x:g}"
 
 
-def pin_delay(d: Mapping[str, Any], pin: int, corner: str) -> tuple[float, float]:
-    delays = d.get("delays") or []
-    dl = delays[pin] if pin < len(delays) and delays[pin] is not None else Delay.unit()
+def pin_delay(d: Mapping[str, Any], pin: int, corner: str,
+              delays: DelayModel = GRAPH_DELAYS) -> tuple[float, float]:
+    """(rise, fall) delay of input ``pin`` of gate ``d`` at ``corner`` ("min" or "max")."""
+    dl = delays.pin(d, pin)
     if corner == "min":
         return dl.rise_min, dl.fall_min
     return dl.rise_max, dl.fall_max
@@ -345,7 +347,7 @@ def _delay_tables(g, asg: "DelayAssignment", prep):
                 gdelay[n] = [pin_delay(d, p, asg.corner) for p in range(len(ins))]
             for p, u in enumerate(ins):
                 e = g.edges[u, n] if g.has_edge(u, n) else {}
-                wd = e.get("wire")
+                wd = GRAPH_DELAYS.wire(e)
                 w = (wd.rise_min if asg.corner == "min" else wd.rise_max) if wd is not None else 0.0
                 readers.setdefault(u, []).append((n, p, float(w)))
         return readers, gdelay

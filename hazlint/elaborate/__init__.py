@@ -30,7 +30,7 @@ def resolve_library(library):
     if isinstance(library, Library):
         return library
     if isinstance(library, (str, bytes)) or hasattr(library, "__fspath__"):
-        from ..liberty import read_liberty
+        from ..delays.liberty import read_liberty
         return read_liberty(str(library))
     if isinstance(library, Mapping):
         out = Library()
