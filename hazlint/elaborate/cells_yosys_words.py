@@ -26,6 +26,8 @@ from .. import limits as _limits
 from ..diagnostics import Severity
 from ..errors import ElaborationError, number_text
 from .. import ir
+from .common import named_connections
+from .common import where as _where
 
 # cells that drive nothing a glitch analysis needs
 IGNORED = {
@@ -127,13 +129,7 @@ class _Word:
                 self.params[name] = el.const(e, scope, inst.loc)
         order = _PORTS.get(inst.cell, ())
         self.conns: dict[str, object] = {}
-        for i, (pname, e) in enumerate(inst.connections):
-            if pname is None:
-                if i >= len(order):
-                    raise ElaborationError(f"instance '{inst.name}' of '{inst.cell}' has more "
-                                           f"connections than the cell has pins",
-                                           *_where(inst.loc), construct=inst.name)
-                pname = order[i]
+        for pname, e in named_connections(inst, order):
             if order and pname not in order:
                 raise ElaborationError(f"yosys cell '{inst.cell}' has no pin '{pname}' (pins: "
                                        f"{', '.join(order)})", *_where(inst.loc),
@@ -577,7 +573,3 @@ def port_order(cell: str) -> tuple[str, ...]:
 def word_cells() -> list[str]:
     """Every word-level cell modelled here."""
     return sorted(_HANDLERS)
-
-
-def _where(loc) -> tuple:
-    return () if loc is None else (loc.path, loc.line, loc.col)

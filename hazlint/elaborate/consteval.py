@@ -230,11 +230,3 @@ _BINOPS: dict[str, Callable] = {
     "^": _bitwise(lambda a, b: a ^ b),
     "~^": _bitwise(lambda a, b: ~(a ^ b)), "^~": _bitwise(lambda a, b: ~(a ^ b)),
 }
-
-
-def try_const(e, params) -> int | None:
-    try:
-        v = const_value(e, params)
-    except NotConstant:
-        return None
-    return v

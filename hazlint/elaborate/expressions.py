@@ -33,10 +33,6 @@ _COMPARE = frozenset(("==", "!=", "===", "!==", "<", "<=", ">", ">="))
 _BITWISE = {"&": "and", "|": "or", "^": "xor", "~^": "xnor", "^~": "xnor"}
 _REDUCE = {"&": ("and", False), "|": ("or", False), "^": ("xor", False),
            "~&": ("and", True), "~|": ("or", True), "~^": ("xor", True), "^~": ("xor", True)}
-CONST_SYSTEM_FUNCTIONS = frozenset((
-    "$clog2", "$ln", "$log10", "$exp", "$sqrt", "$pow", "$floor", "$ceil", "$sin", "$cos",
-    "$tan", "$asin", "$acos", "$atan", "$atan2", "$hypot", "$sinh", "$cosh", "$tanh",
-    "$asinh", "$acosh", "$atanh", "$rtoi", "$itor", "$realtobits", "$bitstoreal"))
 
 
 def bits_value(bits: list[str], signed: bool = False) -> int | None:

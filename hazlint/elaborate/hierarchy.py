@@ -75,7 +75,7 @@ class HierarchyElaborator:
                 self._note_attrs(scope, pname, port.attrs, port.loc)
             if "init" in port.attrs:
                 initial_values.record_attribute(self, scope, port)
-        self.elab_items(scope, m.items, depth, declare_only_params=False)
+        self.elab_items(scope, m.items, depth)
 
     def _note_attrs(self, scope: Scope, name: str, attrs: dict, loc) -> None:
         if any(str(k).startswith("hazlint_") for k in attrs):
@@ -161,7 +161,7 @@ class HierarchyElaborator:
                                    construct=_expr_text(e))
         return int(v)
 
-    def elab_items(self, scope: Scope, items, depth: int, declare_only_params=False) -> None:
+    def elab_items(self, scope: Scope, items, depth: int) -> None:
         # declarations first so that nets may be used before their declaration in the text
         mark = len(self.drivers)
         paths = [it for it in items if isinstance(it, ir.SpecifyPath)]

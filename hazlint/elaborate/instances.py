@@ -12,7 +12,7 @@ from ..diagnostics import Severity
 from ..errors import ElaborationError
 from ..netlist.library import ZERO_DELAY, CellDef
 from . import cells_yosys_words as yosys_cells
-from .common import C0, C1
+from .common import C0, C1, named_connections
 from .common import BlackBoxModule as _BlackBoxModule
 from .common import extend as _extend
 from .common import where as _where
@@ -253,13 +253,7 @@ class InstanceElaborator:
     # ---------------------------------------------------------------- library cells ------------
     def _cell_pins(self, scope, inst, pins: list[str]) -> dict[str, list[str] | None]:
         out: dict[str, list[str] | None] = {}
-        for i, (pname, e) in enumerate(inst.connections):
-            if pname is None:
-                if i >= len(pins):
-                    raise ElaborationError(f"instance '{inst.name}' of '{inst.cell}' has more "
-                                           f"connections than the cell has pins",
-                                           *_where(inst.loc), construct=inst.name)
-                pname = pins[i]
+        for pname, e in named_connections(inst, pins):
             out[pname] = self.conn_bits(scope, e, inst.loc) if e is not None else None
         return out
 

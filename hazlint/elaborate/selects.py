@@ -67,12 +67,7 @@ class SelectElaborator:
         return self.self_bits(e, scope, loc, env)
 
     def _select(self, e, scope, loc, env):
-        if e[0] == "bit":
-            base, idxs = index_chain(e)
-            final = None
-        else:
-            base, idxs = index_chain(e[1])
-            final = e
+        base, idxs, final = split_select(e)
         if base[0] != "id":
             raise self._unsupported("select of an expression", e, loc)
         name = base[1]
@@ -242,12 +237,7 @@ class SelectElaborator:
         if tag not in ("bit", "part", "ipart"):
             raise ElaborationError(f"'{expr_text(e)}' cannot be assigned to", *where(loc),
                                    construct=expr_text(e))
-        if tag == "bit":
-            base, idxs = index_chain(e)
-            final = None
-        else:
-            base, idxs = index_chain(e[1])
-            final = e
+        base, idxs, final = split_select(e)
         if base[0] != "id":
             raise self._unsupported("assignment to a select of an expression", e, loc)
         info = scope.lookup(base[1])
@@ -352,3 +342,18 @@ def index_chain(e):
         e = e[1]
     idxs.reverse()
     return e, idxs
+
+
+def split_select(e):
+    """(base, [bit indices], final part select or None) of a bit or part select ``e``: the
+    chain of ``[i]`` selects under a trailing part select, if any.
+
+    >>> split_select(("part", ("bit", ("id", "mem"), ("num", None, 3, 0, False)), 7, 0))
+    (('id', 'mem'), [('num', None, 3, 0, False)], ('part', ('bit', ('id', 'mem'), ('num', None, 3, 0, False)), 7, 0))
+    """
+    if e[0] == "bit":
+        base, idxs = index_chain(e)
+        return base, idxs, None
+    base, idxs = index_chain(e[1])
+    return base, idxs, e
+

@@ -24,23 +24,13 @@ class SubprogramElaborator:
 
     @staticmethod
     def find_function(scope, name):
-        s = scope
-        while s is not None:
-            fn = s.functions.get(name)
-            if fn is not None:
-                return fn, s
-            s = s.parent
-        return None
+        """(function, the scope declaring it) seen from ``scope``, or None."""
+        return _find_declared(scope, "functions", name)
 
     @staticmethod
     def find_task(scope, name):
-        s = scope
-        while s is not None:
-            t = s.tasks.get(name)
-            if t is not None:
-                return t, s
-            s = s.parent
-        return None
+        """(task, the scope declaring it) seen from ``scope``, or None."""
+        return _find_declared(scope, "tasks", name)
 
     def function_type(self, fn: ir.Function, fscope, loc) -> tuple[int, bool]:
         if fn.kind == "real":
@@ -103,14 +93,7 @@ class SubprogramElaborator:
         ret = self._local_var(cs, name, fn.width, "reg", signed, floc)
         if fn.kind == "integer":
             ret.signed = True
-        for d in fn.decls:
-            if isinstance(d, ir.Net):
-                self._local_var(cs, d.name, d.width, d.kind, d.signed, d.loc or floc, d.array)
-        self._call_depth = getattr(self, "_call_depth", 0) + 1
-        try:
-            self.exec_stmt(fn.body, cs, floc, st)
-        finally:
-            self._call_depth -= 1
+        self._run_body(fn, cs, floc, st)
         out = []
         missing = False
         for b in ret.bits():
@@ -147,15 +130,31 @@ class SubprogramElaborator:
                 for b, v in zip(info.bits(), vals):
                     st.benv[b] = v
                     st.env[b] = v
-        for d in task.decls:
-            if isinstance(d, ir.Net):
-                self._local_var(cs, d.name, d.width, d.kind, d.signed, d.loc or tloc, d.array)
-        self._call_depth = getattr(self, "_call_depth", 0) + 1
-        try:
-            self.exec_stmt(task.body, cs, tloc, st)
-        finally:
-            self._call_depth -= 1
+        self._run_body(task, cs, tloc, st)
         for p, a, info in zip(task.ports, args, infos):
             if p.direction in ("output", "inout"):
                 vals = [self.read_bit(b, st.benv) for b in info.bits()]
                 self._assign(scope, loc, st, a, vals, blocking=True)
+
+    def _run_body(self, sub, cs, loc, st) -> None:
+        """Declare the local variables of the function or task ``sub`` in its call scope
+        ``cs`` and run its body once, counting the call depth (recursion bound)."""
+        for d in sub.decls:
+            if isinstance(d, ir.Net):
+                self._local_var(cs, d.name, d.width, d.kind, d.signed, d.loc or loc, d.array)
+        self._call_depth = getattr(self, "_call_depth", 0) + 1
+        try:
+            self.exec_stmt(sub.body, cs, loc, st)
+        finally:
+            self._call_depth -= 1
+
+
+def _find_declared(scope, table: str, name: str):
+    """The nearest enclosing scope's ``table`` entry ``name`` and that scope, or None."""
+    s = scope
+    while s is not None:
+        item = getattr(s, table).get(name)
+        if item is not None:
+            return item, s
+        s = s.parent
+    return None

@@ -213,10 +213,6 @@ class CellDef:
     source: str = ""           # where the definition came from ("config", a .lib path, ...)
     line: int = 0
 
-    @property
-    def is_sequential(self) -> bool:
-        return self.sequential is not None
-
     def pin_direction(self, pin: str) -> str | None:
         if pin in self.inputs:
             return "input"

@@ -22,10 +22,7 @@ OPS = {
     "bufif0": 2, "bufif1": 2, "notif0": 2, "notif1": 2,   # inputs (data, enable)
     "expr": None,
 }
-INVERTING = {"nand", "nor", "xnor", "not", "notif0", "notif1"}
 THREE_STATE = {"bufif0", "bufif1", "notif0", "notif1"}
-# simple AND/OR-type gates with a controlling value: op -> (controlling input, output when controlled)
-CONTROLLING = {"and": (0, 0), "nand": (0, 1), "or": (1, 1), "nor": (1, 0)}
 
 
 def eval_op(op: str, ins: Sequence[int], mask: int, expr=None) -> int:

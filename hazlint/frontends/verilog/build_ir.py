@@ -17,7 +17,7 @@ from ... import ir
 from . import ast_nodes as hp
 from .build_subprograms import SubprogramBuilder
 from .build_subprograms import direction as _direction
-from ..literals import GATE_PRIMITIVES, attr_value, parse_number  # noqa: F401 (used by others)
+from ..literals import GATE_PRIMITIVES, attr_value, parse_number
 from ..literals import expr_text as _text
 from ..literals import udp_level as _udp_level
 

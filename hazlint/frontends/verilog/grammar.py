@@ -65,7 +65,7 @@ class HzParser(TaskFunctionGrammar, StructureGrammar, VerilogParser):
     p_task_calc = p_task_statement = p_taskvardecl = None
     p_taskvardecls = p_taskvardecls_empty = p_taskvardecls_one = None
 
-    def __init__(self, tables_module=None, write_tables=True, tables=None):
+    def __init__(self, write_tables=True, tables=None):
         self.lexer = HzLexer()
         self.lexer.build()
         self.tokens = self.lexer.tokens

@@ -16,8 +16,7 @@ from typing import Callable
 from ...errors import ParseError
 from ... import ir
 from .build_ir import build_source
-from ..driver import (CACHE_FORMAT, combined_digest, read_with,  # noqa: F401 (re-exported API)
-                     scan_definitions)
+from ..driver import combined_digest, read_with
 from .ast_nodes import SyntaxErr
 from .grammar import get_parser
 from ..files import read_text
