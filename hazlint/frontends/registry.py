@@ -47,6 +47,17 @@ CHOICES = ("auto", *READERS)
 DEFAULT = "auto"
 
 
+def register(name: str, reader: Callable[..., list]) -> None:
+    """Add a front end: ``reader(paths, include_dirs=, defines=, root=, jobs=, cache=, texts=,
+    progress=, tolerant=)`` returns one :class:`~hazlint.ir.SourceFile` per path. It is then
+    chosen by name (configuration key ``frontend``, ``--frontend``); ``auto`` never picks it."""
+    global CHOICES
+    if name == "auto" or not name or not name.replace("-", "_").isidentifier():
+        raise ValueError(f"not a usable front-end name: {name!r}")
+    READERS[name] = reader
+    CHOICES = ("auto", *READERS)
+
+
 def slang_available() -> bool:
     from .slang import available
     return available()
@@ -54,8 +65,9 @@ def slang_available() -> bool:
 
 def check_choice(frontend: str) -> None:
     """A :class:`ConfigError` for an unknown front end or one that is not installed."""
-    if frontend not in CHOICES:
-        raise ConfigError(f"unknown front end '{frontend}' (choose from {', '.join(CHOICES)})",
+    choices = ("auto", *READERS)
+    if frontend not in choices:
+        raise ConfigError(f"unknown front end '{frontend}' (choose from {', '.join(choices)})",
                           construct=frontend)
     if frontend == "slang" and not slang_available():
         raise ConfigError(f"the slang front end needs pyslang: {INSTALL_HINT}",
