@@ -74,7 +74,7 @@ print(json.dumps({"import": t_import, "load": spent[0], "lint": spent_lint[0],
 CHILD_READ = r"""
 import json, sys, time
 from hazlint.cache import ParseCache
-from hazlint.frontend.reader import read_sources
+from hazlint.frontends.verilog.reader import read_sources
 path, cache_dir = sys.argv[1], sys.argv[2]
 cache = ParseCache(cache_dir)
 t1 = time.process_time()

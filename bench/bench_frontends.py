@@ -45,12 +45,12 @@ print(json.dumps({"parse": t1 - t0, "elaborate": t2 - t1, "seconds": t2 - t0,
 HAZLINT = r"""
 import gc, json, resource, sys, time
 t0 = time.perf_counter()
-from hazlint.flatten import elaborate
-from hazlint.frontend.registry import read_sources
+from hazlint.elaborate import elaborate
+from hazlint.frontends.registry import read_sources
 if sys.argv[2] == "slang":          # the front end's own imports are not load time
-    import hazlint.frontend.slang.reader
+    import hazlint.frontends.slang.reader
 else:
-    import hazlint.frontend.reader
+    import hazlint.frontends.verilog.reader
 t1 = time.perf_counter()
 gc.disable()                        # as hazlint.load_design does while loading
 sources = read_sources([sys.argv[1]], frontend=sys.argv[2])

@@ -38,7 +38,7 @@ EPFL = ["adder.v", "arbiter.v", "bar.v", "cavlc.v", "ctrl.v", "dec.v", "div.v", 
 
 CHILD = r"""
 import json, resource, sys, time
-from hazlint.design import load_design
+from hazlint.loader import load_design
 from hazlint.analysis.context import AnalysisContext
 from hazlint.plugins import all_rules
 clock = time.process_time

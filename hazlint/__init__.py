@@ -9,7 +9,10 @@ __all__ = ["load_design", "Design", "HazlintError", "__version__"]
 
 
 def __getattr__(name):  # lazy, so `import hazlint` stays cheap for the CLI and the LSP
-    if name in ("load_design", "Design"):
-        from . import design
-        return getattr(design, name)
+    if name == "load_design":
+        from .loader import load_design
+        return load_design
+    if name == "Design":
+        from .netlist.design import Design
+        return Design
     raise AttributeError(name)

@@ -96,8 +96,8 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     abs_texts = {os.path.abspath(k): v for k, v in texts.items()} if texts else None
 
     def load_fresh():
-        from .flatten import elaborate
-        from .frontend.registry import read_sources
+        from .elaborate import elaborate
+        from .frontends.registry import read_sources
         kwargs: dict[str, Any] = {"include_dirs": include_dirs, "defines": defines,
                                   "frontend": config.frontend}
         params = inspect.signature(read_sources).parameters
@@ -146,7 +146,7 @@ def _table_cache(config: Config):
 def _apply_sdf(design, config: Config, library) -> None:
     if config.sdf:
         try:
-            sdf = importlib.import_module("hazlint.sdf")
+            sdf = importlib.import_module("hazlint.delays.sdf")
         except ModuleNotFoundError:
             sdf = None
         annotate = getattr(sdf, "annotate", None)

@@ -3,7 +3,7 @@
 Why JSON and nothing else: a cache directory can end up somewhere a pull request can write (a CI
 workspace, a shared checkout). Loading an entry must never execute code, so entries are plain JSON
 read with :func:`json.loads`; the IR module rebuilds only its own dataclasses from it
-(:func:`hazlint.frontend.ir.from_json`).
+(:func:`hazlint.ir.from_json`).
 
 Layout: ``<dir>/<namespace>/<key[:2]>/<key>.json``, one file per entry::
 
@@ -199,7 +199,7 @@ def code_stamp() -> str:
     """
     h = hashlib.sha256(__version__.encode())
     here = Path(__file__).resolve().parent
-    for folder in (here / "frontend", here / "frontend" / "slang"):
+    for folder in (here / "frontends", here / "frontends" / "verilog", here / "frontends" / "slang"):
         try:
             entries = sorted(os.scandir(folder), key=lambda e: e.name)
         except OSError:

@@ -142,14 +142,14 @@ class Config:
         return f"{self.path}:{line}: " if line else f"{self.path}: "
 
     def library(self):
-        """Cells from ``cells`` and ``liberty`` as a :class:`hazlint.library.Library`."""
-        from .library import Library, cell_from_config
+        """Cells from ``cells`` and ``liberty`` as a :class:`hazlint.netlist.library.Library`."""
+        from .netlist.library import Library, cell_from_config
         lib = Library()
         if self.liberty:
             try:
-                from .liberty import read_liberty
+                from .delays.liberty import read_liberty
             except ModuleNotFoundError as exc:
-                if exc.name != "hazlint.liberty":
+                if exc.name != "hazlint.delays.liberty":
                     raise
                 raise ConfigError("Liberty files are configured but Liberty reading is not "
                                   "available in this build", path=self.path,
@@ -350,7 +350,7 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
             raise err("jobs", "jobs must be at least 1")
         cfg.jobs = table["jobs"]
     if "frontend" in table:
-        from .frontend.registry import check_choice
+        from .frontends.registry import check_choice
         try:
             check_choice(table["frontend"])
         except ConfigError as exc:

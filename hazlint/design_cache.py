@@ -2,7 +2,7 @@
 
 The parse cache (:mod:`hazlint.cache`) saves the parsing of each file, but a warm run still
 rebuilt the IR and flattened the hierarchy. This cache stores the finished
-:class:`~hazlint.design.Design` (after SDF back-annotation) as compact JSON, keyed by everything
+:class:`~hazlint.netlist.design.Design` (after SDF back-annotation) as compact JSON, keyed by everything
 elaboration depends on (:func:`design_key`):
 
 * every input file's path and content digest (editor buffers in ``texts`` included); files
@@ -111,7 +111,7 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
                frontend: str = "auto") -> str | None:
     """sha256 over every input of reading, elaborating and annotating a design, or None when
     one of them cannot be read (the uncached load then reports the problem)."""
-    from .frontend.preprocess import digest_text, read_text
+    from .frontends.files import digest_text, read_text
     from .errors import HazlintError
     try:
         files = [[os.path.abspath(p), digest_text(read_text(p, texts))] for p in paths]
@@ -139,7 +139,7 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
         "sdf": sdfs, "sdf_corner": sdf_corner,
         "default_delay": default_delay, "memory_max_bits": memory_max_bits,
     }
-    from .frontend.registry import key_material
+    from .frontends.registry import key_material
     reader = key_material(paths, frontend)
     if reader is not None:
         material["front_end"] = reader
@@ -159,9 +159,9 @@ _CODEC: Codec | None = None
 def _codec() -> Codec:
     global _CODEC
     if _CODEC is None:
-        from .design import BlackBox, Register
+        from .netlist.design import BlackBox, Register
         from .diagnostics import Diagnostic, Hop, Location, Related, Severity
-        from .library import Delay
+        from .netlist.library import Delay
         _CODEC = Codec([Delay, Location, Hop, Related, Diagnostic, Severity, Register, BlackBox],
                        shared=[Delay, Location, Hop])
     return _CODEC
@@ -286,10 +286,10 @@ def _derived_edges(g, ids, index, inputs, enc, st, shape_of):
 
 
 def decode_design(doc: Mapping[str, Any]):
-    """Rebuild the :class:`~hazlint.design.Design` of :func:`encode_design`, filling the
+    """Rebuild the :class:`~hazlint.netlist.design.Design` of :func:`encode_design`, filling the
     networkx adjacency dictionaries directly. Raises ``ValueError`` (or a subclass) on an
     entry that does not fit."""
-    from .design import Design
+    from .netlist.design import Design
     if not isinstance(doc, Mapping) or doc.get("format") != DESIGN_FORMAT:
         raise CodecError("not a design entry of this format")
     dec = _codec().decoder(doc)
@@ -452,7 +452,7 @@ class DesignCache(_Store):
         if data is None:
             return None
         from .errors import HazlintError
-        from .frontend.preprocess import digest_text, read_text
+        from .frontends.files import digest_text, read_text
         deps = data.get("deps")
         if not isinstance(deps, dict):
             self.store_.discard(key)
@@ -481,7 +481,7 @@ class DesignCache(_Store):
         """Write the entry; False when the design cannot be represented exactly or an include
         cannot be read back (nothing is written then)."""
         from .errors import HazlintError
-        from .frontend.preprocess import digest_text, read_text
+        from .frontends.files import digest_text, read_text
         deps = {}
         for p in dict.fromkeys(includes):
             try:

@@ -54,6 +54,7 @@ from collections import deque
 
 
 from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.netlist.walks import cyclic_components
 from hazlint.plugins import Option
 
 from ._common import name_list, severity, stable_key
@@ -78,20 +79,6 @@ OPTIONS = (
            "also report loops closed through a single transparent latch"),
     Option("latch_loop_severity", str, "warning", "severity for loops through a latch", _LEVELS),
 )
-
-
-def nontrivial_sccs(g: "nx.DiGraph") -> list[set[str]]:
-    """Strongly connected components that contain a cycle (Tarjan's algorithm via networkx)."""
-    import networkx as nx      # here, not at the top: a cached report loads no networkx
-    out = []
-    for comp in nx.strongly_connected_components(g):
-        if len(comp) > 1:
-            out.append(comp)
-        else:
-            (n,) = comp
-            if g.has_edge(n, n):
-                out.append(comp)
-    return out
 
 
 def shortest_cycle(g: "nx.DiGraph", start: str, within: set[str]) -> list[str]:
@@ -145,7 +132,7 @@ def check(design, context):
     g = design.graph
     opts = context.options(ID)
     reported_nodes: set[str] = set()
-    comps = nontrivial_sccs(g)
+    comps = cyclic_components(g)
     rank = context.source_rank if comps or design.latch_paths else {}
     for comp in sorted(comps, key=lambda c: min(rank[n] for n in c)):
         start = min(comp, key=lambda n: rank[n])
@@ -284,7 +271,7 @@ def _latch_loops(design, context, opts, comb_nodes):
     h = g.copy()
     h.add_edges_from(closing)
     closing_set = set(closing)
-    for comp in sorted(nontrivial_sccs(h), key=lambda c: min(rank.get(n, 0) for n in c)):
+    for comp in sorted(cyclic_components(h), key=lambda c: min(rank.get(n, 0) for n in c)):
         edges = sorted((d, s) for d, s in closing_set if d in comp and s in comp)
         if not edges:
             continue

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import networkx as nx
 
-from hazlint.design import Design, Register
-from hazlint.library import Delay
+from hazlint.netlist.design import Design, Register
+from hazlint.netlist.library import Delay
 
 
 class GraphBuilder:

@@ -22,7 +22,7 @@ from graphbuild import GraphBuilder
 from hazlint.analysis import compiled
 from hazlint.analysis.context import AnalysisContext
 from hazlint.diagnostics import Diagnostic, Location, Severity, sort_diagnostics
-from hazlint.library import Delay
+from hazlint.netlist.library import Delay
 from hazlint.plugins import get_rule
 
 RULE = get_rule("skewed-reconvergence")

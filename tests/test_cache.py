@@ -7,7 +7,7 @@ import os
 import pytest
 
 from hazlint.cache import ParseCache, make_key, open_cache
-from hazlint.frontend import ir
+from hazlint import ir
 
 
 def sample_ir(path):
@@ -307,7 +307,7 @@ def test_compact_ir_round_trip_on_benchmarks_and_fixtures():
     import importlib.resources
 
     from hazlint.errors import HazlintError
-    from hazlint.frontend.reader import read_sources
+    from hazlint.frontends.verilog.reader import read_sources
     sources = []
     for p in _bench_netlists():
         with importlib.resources.as_file(p) as f:
@@ -331,7 +331,7 @@ def test_compact_ir_round_trip_on_benchmarks_and_fixtures():
 
 
 def test_corrupted_compact_entry_is_removed_by_the_reader(tmp_path):
-    from hazlint.frontend.reader import read_sources
+    from hazlint.frontends.verilog.reader import read_sources
     src = tmp_path / "valve.v"
     src.write_text(VALVE)
     c = ParseCache(tmp_path / "c")

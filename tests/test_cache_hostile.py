@@ -311,7 +311,7 @@ def test_parser_tables_follow_the_cache_folder_and_no_cache_writes_nothing(tmp_p
 
 @pytest.mark.slow
 def test_tables_that_pass_the_digest_but_do_not_fit_the_grammar_are_rebuilt(tmp_path):
-    from hazlint.frontend.parser import HzParser
+    from hazlint.frontends.verilog.grammar import HzParser
     cache = ParseCache(tmp_path, namespace="parser", version="t")
     first = HzParser(tables=cache)
     assert first.tables_source == "generated"

@@ -14,8 +14,8 @@ import pytest
 from hazlint.analysis.cellmodel import (atomic_ternary, atomic_transient, decompose_design,
                                         node_expr, primes_of, sop_cover)
 from hazlint.analysis.ternary import IntAlgebra
-from hazlint.design import Design
-from hazlint.logic import eval_expr
+from hazlint.netlist.design import Design
+from hazlint.netlist.logic import eval_expr
 from support.hazref import _gate_changes
 
 CELLS = {

@@ -14,7 +14,7 @@ import random
 import pytest
 
 import hazlint
-from hazlint import cells_yosys
+from hazlint.elaborate import cells_yosys
 from support import iverilog, yosys
 from support.cyclesim import CycleSim
 

@@ -16,7 +16,7 @@ import re
 import pytest
 
 import hazlint
-from hazlint import cells_yosys_words
+from hazlint.elaborate import cells_yosys_words
 from support import iverilog, yosys
 from support.cyclesim import CycleSim
 

@@ -13,7 +13,8 @@ import pytest
 
 from hazlint import design_cache as dc
 from hazlint.config import load_config
-from hazlint.design import Design, load_design
+from hazlint.netlist.design import Design
+from hazlint.loader import load_design
 
 ROOT = Path(__file__).resolve().parent.parent
 FIX = ROOT / "fixtures"
@@ -60,7 +61,7 @@ def _fixture_designs():
         out.append((str(toml), load_design(cfg.files, top=cfg.top, library=cfg.library())))
     for v in sorted(list((FIX / "rules").glob("*.v")) + list((FIX / "hazards").glob("*.v"))):
         out.append((str(v), load_design(str(v))))
-    from hazlint.liberty import read_liberty
+    from hazlint.delays.liberty import read_liberty
     cells = read_liberty(str(FIX / "liberty" / "press_cells.lib"))
     out.append(("press_seq", load_design(str(FIX / "liberty" / "press_seq.v"), library=cells)))
     return out
@@ -82,8 +83,8 @@ def test_rebuilt_design_equals_fresh_on_fixtures(tmp_path):
 
 def test_rebuilt_design_equals_fresh_with_sdf_wires_and_arcs(tmp_path):
     from hazlint.api import load
-    from hazlint.sdf import annotate
-    from hazlint.liberty import read_liberty
+    from hazlint.delays.sdf import annotate
+    from hazlint.delays.liberty import read_liberty
     lib = read_liberty(str(FIX / "liberty" / "press_cells.lib"))
     d = load_design(str(FIX / "sdf" / "press_valve.v"), library=lib)
     annotate(d, str(FIX / "sdf" / "press_valve.sdf"), corner="minmax", library=lib)
@@ -155,7 +156,7 @@ class Counting:
     """Counts real elaborations (the real function runs)."""
 
     def __init__(self, monkeypatch):
-        import hazlint.flatten as flatten
+        import hazlint.elaborate as flatten
         self.calls = 0
         real = flatten.elaborate
 

@@ -27,9 +27,10 @@ import hazlint
 from hazlint.api import lint
 from hazlint.config import load_config
 from hazlint.errors import ConfigError, ParseError
-from hazlint.frontend import ir, registry
-from hazlint.flatten import elaborate
-from hazlint.frontend.slang import reader as slang_reader
+from hazlint import ir
+from hazlint.frontends import registry
+from hazlint.elaborate import elaborate
+from hazlint.frontends.slang import reader as slang_reader
 from support import iverilog, randnet, rtlcheck
 from support.bench import netlist
 

@@ -18,7 +18,7 @@ from pathlib import Path
 import pytest
 
 from hazlint.cli import main
-from hazlint.consteval import const_value
+from hazlint.elaborate.consteval import const_value
 from hazlint.errors import ElaborationError
 
 REPO = Path(__file__).resolve().parents[1]
@@ -74,7 +74,7 @@ def test_located_error(capsys, name, line, words):
 def test_behavioural_top_is_analysed_not_an_internal_error(capsys):
     # found by bench/bench_fuzz.py: a for loop in the top module's clocked block ended in an
     # internal error; it is elaborated now (an 8-bit register with a synchronous clear)
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     path = HOSTILE / "behavioural_top.v"
     code, out, err = run(capsys, str(path))
     assert code == 0 and "Traceback" not in err and "internal error" not in err, err
@@ -273,7 +273,7 @@ EXPRS = ["-7 / 2", "7 / -2", "-7 % 2", "7 % -2", "-7 % -2", "2 ** 10", "(-2) ** 
 
 @pytest.mark.skipif(shutil.which("iverilog") is None, reason="Icarus Verilog not installed")
 def test_integer_rules_match_icarus_verilog(tmp_path):
-    from hazlint.frontend.reader import read_sources
+    from hazlint.frontends.verilog.reader import read_sources
     lines = ["module consts;"]
     for i, e in enumerate(EXPRS):
         lines.append(f"  localparam integer P{i} = {e};")

@@ -136,7 +136,7 @@ def _fixture_circuits(rng):
 
 
 def test_fixtures_match_iverilog(tmp_path):
-    pytest.importorskip("hazlint.frontend.reader")
+    pytest.importorskip("hazlint.frontends.verilog.reader")
     rng = random.Random(5)
     cases = _fixture_circuits(rng)
     assert cases

@@ -17,8 +17,8 @@ from pathlib import Path
 import pytest
 
 from hazlint.errors import ParseError
-from hazlint.liberty import (Table, parse_liberty, read_liberty, table_of, tokenize,
-                             verilog_models)
+from hazlint.delays.liberty import read_liberty, table_of, verilog_models
+from hazlint.delays.liberty_syntax import Table, parse_liberty, tokenize
 
 ROOT = Path(__file__).resolve().parent.parent
 PRESS = str(ROOT / "fixtures" / "liberty" / "press_cells.lib")
@@ -358,7 +358,7 @@ needs_yosys = pytest.mark.skipif(
 
 @pytest.fixture(scope="module")
 def mapped(tmp_path_factory):
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     tmp = tmp_path_factory.mktemp("yosys")
     net = _yosys_map(tmp)
     lib = read_liberty(YOSYS_LIB)
@@ -473,7 +473,7 @@ def _cell_inputs(lib, cell):
 
 
 def test_load_design_with_a_liberty_path(tmp_path):
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     v = tmp_path / "latch.v"
     v.write_text("module fault_hold(input guard_closed, input maint_key, output hold, output y);\n"
                  "  wire one, g_n;\n"

@@ -18,7 +18,7 @@ import pytest
 
 from hazlint.analysis.changes import ChangeModel, Group
 from hazlint.analysis.multichange import QUESTIONS, decide_sink
-from hazlint.library import Delay
+from hazlint.netlist.library import Delay
 from support.hazref import KINDS, Reference, reference_verdict
 
 CELLS = {   # complex cells as expression trees (atomic in the default model)

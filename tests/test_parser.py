@@ -13,9 +13,9 @@ from ply.yacc import YaccProduction, YaccSymbol
 from pyverilog.vparser.parser import VerilogParser
 
 from hazlint.errors import ParseError
-from hazlint.frontend import ir
-from hazlint.frontend import parser as hp
-from hazlint.frontend.reader import read_sources
+from hazlint import ir
+from hazlint.frontends.verilog import grammar as hp
+from hazlint.frontends.verilog.reader import read_sources
 
 FIXTURES = Path(__file__).resolve().parent.parent / "fixtures" / "frontend"
 REPO = Path(__file__).resolve().parent.parent
@@ -374,7 +374,7 @@ def test_forty_thousand_item_module_parses(tmp_path):
 
 
 # ------------------------------------------------------------------------------- table cache
-_PROBE = ("import os, sys; from hazlint.frontend.parser import HzParser; p = HzParser(); "
+_PROBE = ("import os, sys; from hazlint.frontends.verilog.grammar import HzParser; p = HzParser(); "
           "print(p.tables_source); print(p.tables_path); print(sorted(os.listdir('.')))")
 
 

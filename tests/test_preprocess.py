@@ -6,8 +6,8 @@ from pathlib import Path
 import pytest
 
 from hazlint.errors import ParseError
-from hazlint.frontend.preprocess import preprocess
-from hazlint.frontend.reader import read_sources
+from hazlint.frontends.verilog.preprocess import preprocess
+from hazlint.frontends.verilog.reader import read_sources
 
 FIXTURES = Path(__file__).resolve().parent.parent / "fixtures" / "frontend"
 

@@ -14,7 +14,7 @@ from hazlint.analysis.prove import classify, classify_outputs, loop_behaviour, r
 from hazlint.analysis.ternary import HAZARD_KINDS, classify_explicit, cone, free_sources
 from hazlint.analysis.timedsim import (DelayAssignment, build_graph, random_circuit, replay)
 from hazlint.diagnostics import Diagnostic, Location, Severity
-from hazlint.library import Delay
+from hazlint.netlist.library import Delay
 
 FIX = os.path.join(os.path.dirname(__file__), "..", "fixtures", "hazards")
 
@@ -147,7 +147,7 @@ def _cli(*args):
 
 
 def test_prove_command_on_fixtures(tmp_path):
-    pytest.importorskip("hazlint.frontend.reader")
+    pytest.importorskip("hazlint.frontends.verilog.reader")
     vcd, svg = tmp_path / "w.vcd", tmp_path / "w.svg"
     r = _cli("prove", os.path.join(FIX, "static1_sop.v"), "--vcd", str(vcd), "--svg", str(svg),
              "--fail-on", "warning")

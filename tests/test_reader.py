@@ -8,8 +8,8 @@ import pytest
 
 from hazlint.cache import ParseCache
 from hazlint.errors import ParseError
-from hazlint.frontend import ir
-from hazlint.frontend.reader import read_sources
+from hazlint import ir
+from hazlint.frontends.verilog.reader import read_sources
 
 FIXTURES = Path(__file__).resolve().parent.parent / "fixtures" / "frontend"
 ALL = ["delays.v", "udp.v", "specify.v", "press_ports.v", "include_main.v"]

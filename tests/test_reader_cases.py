@@ -16,7 +16,8 @@ import pytest
 
 import hazlint
 from hazlint.errors import ParseError
-from hazlint.frontend import ir, registry
+from hazlint import ir
+from hazlint.frontends import registry
 from support import rtlcheck
 
 FRONT_ENDS = ["pyverilog", "slang"]

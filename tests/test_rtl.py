@@ -15,8 +15,8 @@ import pytest
 
 import hazlint
 from hazlint.errors import ElaborationError, ParseError
-from hazlint.frontend import ir
-from hazlint.frontend.reader import read_sources
+from hazlint import ir
+from hazlint.frontends.verilog.reader import read_sources
 from support import rtlcheck
 
 
@@ -505,6 +505,6 @@ def test_ir_of_functions_tasks_and_arrays_round_trips(tmp_path):
     back = ir.from_compact(ir.to_compact(sf))
     assert ir.to_json(back) == data
     # the cached form elaborates to the same design
-    from hazlint.flatten import elaborate
+    from hazlint.elaborate import elaborate
     a, b = elaborate([sf]).summary(), elaborate([back]).summary()
     assert a == b and a["registers"] == 0 and a["latches"] == 0

@@ -9,7 +9,7 @@ import pytest
 from graphbuild import GraphBuilder
 from hazlint.analysis.context import AnalysisContext
 from hazlint.analysis.timing import ArrivalSolver, TimingGraph
-from hazlint.library import Delay
+from hazlint.netlist.library import Delay
 from hazlint.plugins import get_rule
 
 RULE = get_rule("skewed-reconvergence")

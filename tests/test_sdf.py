@@ -19,8 +19,9 @@ from pathlib import Path
 import pytest
 
 from hazlint.errors import ConfigError, ParseError
-from hazlint.library import Delay
-from hazlint.sdf import annotate, corner_bounds, delay_of, parse_sdf
+from hazlint.netlist.library import Delay
+from hazlint.delays.sdf import annotate
+from hazlint.delays.sdf_syntax import corner_bounds, delay_of, parse_sdf
 
 ROOT = Path(__file__).resolve().parent.parent
 OSTA = "/usr/share/doc/opensta/examples"
@@ -224,8 +225,8 @@ PRESS_LIB = str(ROOT / "fixtures" / "liberty" / "press_cells.lib")
 
 
 def _press_design():
-    from hazlint.design import load_design
-    from hazlint.liberty import read_liberty
+    from hazlint.loader import load_design
+    from hazlint.delays.liberty import read_liberty
     lib = read_liberty(PRESS_LIB)
     return load_design(str(FIX / "press_valve.v"), library=lib), lib
 
@@ -233,7 +234,7 @@ def _press_design():
 @pytest.mark.skipif(not os.path.exists(OSTA_SDF), reason="Debian opensta examples not installed")
 def test_opensta_example_annotates_every_instance():
     from hazlint.config import load_config
-    from hazlint.design import load_design
+    from hazlint.loader import load_design
     cfg = load_config(path=str(FIX / "opensta_example1_cells.toml"))
     lib = cfg.library()
     design = load_design(f"{OSTA}/example1.v", library=lib)
@@ -304,7 +305,7 @@ def _iverilog_netlist(corner: str, tmp: Path) -> Path:
     """The fixture netlist for Icarus Verilog: iverilog 11 ignores INTERCONNECT in SDF
     ("SDF WARNING: INTERCONNECT not supported"), so each interconnect delay of the SDF is written
     into the netlist as a delayed assign in front of the pin it feeds."""
-    from hazlint.sdf import delay_of as dly
+    from hazlint.delays.sdf_syntax import delay_of as dly
     sdf = parse_sdf(str(FIX / "press_valve.sdf"))
     text = (FIX / "press_valve.v").read_text()
     extra = []
@@ -338,7 +339,7 @@ WATCH = ["hands", "guard_n", "n1", "n2", "valve_enable", "mismatch", "alarm_n"]
 @pytest.mark.parametrize("corner", ["min", "max"])
 def test_transition_times_equal_icarus_sdf_annotate(corner, tmp_path):
     from hazlint.analysis.timedsim import DelayAssignment, simulate
-    from hazlint.liberty import verilog_models
+    from hazlint.delays.liberty import verilog_models
     design, lib = _press_design()
     rep = annotate(design, str(FIX / "press_valve.sdf"), corner=corner, library=lib)
     assert rep.complete and len(rep.annotated_instances) == 7
@@ -388,8 +389,8 @@ def test_transition_times_equal_icarus_sdf_annotate(corner, tmp_path):
 
 
 def test_multi_output_three_state_and_register_cells():
-    from hazlint.design import load_design
-    from hazlint.liberty import read_liberty
+    from hazlint.loader import load_design
+    from hazlint.delays.liberty import read_liberty
     lib = read_liberty(PRESS_LIB)
     design = load_design(str(FIX / "press_fault.v"), library=lib)
     text = sdf_text("""

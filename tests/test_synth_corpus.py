@@ -31,7 +31,7 @@ from pathlib import Path
 import pytest
 
 import hazlint
-from hazlint import cells_yosys, cells_yosys_words
+from hazlint.elaborate import cells_yosys, cells_yosys_words
 from hazlint.api import lint
 from hazlint.config import config_from_table
 from support import iverilog, yosys

@@ -9,8 +9,8 @@ from hazlint.analysis.prove import loop_behaviour
 from hazlint.analysis.ternary import (IntAlgebra, classify_explicit, function_hazard, cone,
                                       procedure_a_b, ternary_gate, transient_gate)
 from hazlint.analysis.timedsim import build_graph
-from hazlint.library import Delay
-from hazlint.logic import eval_op
+from hazlint.netlist.library import Delay
+from hazlint.netlist.logic import eval_op
 
 OPS = ("and", "or", "nand", "nor", "xor", "xnor")
 T = {"0": (1, 0), "1": (0, 1), "X": (1, 1)}

@@ -33,7 +33,8 @@ from dataclasses import replace
 from functools import lru_cache
 from typing import Sequence
 
-from ..logic import eval_expr, op_as_expr
+from ..delays.model import GRAPH_DELAYS
+from ..netlist.logic import eval_expr, op_as_expr
 
 ATOMIC_MAX_INPUTS = 10
 CELL_MODELS = ("atomic", "sum-of-products")
@@ -240,7 +241,7 @@ def decompose_design(design):
     networks (the pessimistic cell model). Node ids of every existing driver stay (the cell's
     output node becomes the OR gate); the new internal nodes are ``<node>$sop.*``."""
     import networkx as nx
-    from ..library import Delay
+    from ..netlist.library import Delay
     g = design.graph
     h = nx.DiGraph()
     h.graph.update(g.graph)
@@ -254,11 +255,10 @@ def decompose_design(design):
         cover = sop_cover(expr, len(ins))
         base = {k: v for k, v in d.items() if k not in ("op", "expr", "inputs", "pins",
                                                          "delays")}
-        delays = list(d.get("delays") or [])
         pins = list(d.get("pins") or [str(i) for i in range(len(ins))])
 
         def pin_delay(i):
-            return delays[i] if i < len(delays) and delays[i] is not None else Delay.unit()
+            return GRAPH_DELAYS.pin(d, i)
         if not cover or cover == [(0, 0)]:
             h.add_node(n, **base, op="const1" if cover else "const0", inputs=[], pins=[],
                        delays=[])

@@ -36,7 +36,7 @@ from dataclasses import dataclass, field
 from typing import Any, Iterable, Mapping, Sequence
 
 from ..errors import ConfigError, ElaborationError
-from ..graph import SOURCE_KINDS
+from ..netlist.graph import SOURCE_KINDS
 
 QUIET_ATTRS = ("hazlint_sync", "hazlint_static")
 ASYNC_ATTR = "hazlint_async"

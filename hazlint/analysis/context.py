@@ -13,7 +13,8 @@ from typing import Any, Mapping
 import networkx as nx
 
 from ..diagnostics import Hop, Location
-from ..graph import ASYNC_ROLES, SOURCE_KINDS
+from ..netlist.graph import ASYNC_ROLES, SOURCE_KINDS
+from ..netlist.walks import fanin, fanout_stems
 from .changes import (ASYNC_ATTR, ChangeModel, build_change_model, declared_quiet_inputs,
                       matches as _matches, quiet_nets, truthy_attr as _truthy_attr)
 from .timing import ArrivalSolver, TimingGraph
@@ -146,39 +147,15 @@ class AnalysisContext:
     def stems(self) -> list[str]:
         """Fanout stems (a net read by two or more pins), quiet nets (constants and logic fed
         only by quasi-static inputs) excluded."""
-        g = self.graph
-        out = []
-        for n, d in g.nodes(data=True):
-            if d["kind"] == "sink" or n in self.quiet_nets:
-                continue
-            reads = 0
-            for _, _, e in g.out_edges(n, data=True):
-                reads += len(e.get("pins") or (0,))
-                if reads >= 2:
-                    out.append(n)
-                    break
-        return out
+        return fanout_stems(self.graph, skip=self.quiet_nets)
 
     def fanin_cone(self, node: str) -> tuple[set[str], set[str]]:
         """(gates, sources) of the transitive fan-in of ``node``, stopping at sources."""
-        g = self.graph
-        nodes = g.nodes
-        gates: set[str] = set()
-        sources: set[str] = set()
-        stack = list(g.predecessors(node))
-        seen = set(stack)
-        while stack:
-            u = stack.pop()
-            k = nodes[u]["kind"]
-            if k in SOURCE_KINDS:
-                sources.add(u)
-                continue
-            if k == "gate":
-                gates.add(u)
-            for p in g.predecessors(u):
-                if p not in seen:
-                    seen.add(p)
-                    stack.append(p)
+        nodes = self.graph.nodes
+        cone = fanin(self.graph, [node], include_roots=False,
+                     stop=lambda u: nodes[u]["kind"] in SOURCE_KINDS)
+        gates = {u for u in cone if nodes[u]["kind"] == "gate"}
+        sources = {u for u in cone if nodes[u]["kind"] in SOURCE_KINDS}
         return gates, sources
 
     # ---- timing --------------------------------------------------------------------------------

@@ -19,7 +19,7 @@ from typing import Mapping, Sequence
 
 import networkx as nx
 
-from ..library import Delay
+from ..netlist.library import Delay
 from .ternary import IntAlgebra, bool_gate, classify_explicit, cone, propagate
 
 MAX_CUBES = 64

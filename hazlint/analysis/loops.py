@@ -31,7 +31,7 @@ from typing import Any, Iterable
 
 import networkx as nx
 
-from ..graph import SOURCE_KINDS
+from ..netlist.graph import SOURCE_KINDS
 from .ternary import IntAlgebra, bool_gate, lub_fixpoint, ternary_fixpoint
 
 ELEMENT_WORDS = {"set/reset latch": "a set/reset latch", "C-element": "a C-element",

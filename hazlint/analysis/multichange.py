@@ -38,7 +38,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any, Mapping, Sequence
 
-from ..graph import SOURCE_KINDS
+from ..netlist.graph import SOURCE_KINDS
 from .changes import ChangeModel, SinkModel
 from .changesim import known_minimal, random_transitions
 from .symbolic import BACKEND, Budget, BDDAlgebra, HazardProof, new_manager

@@ -25,7 +25,8 @@ import networkx as nx
 
 from .. import budget
 from ..diagnostics import Diagnostic, Severity
-from ..graph import ASYNC_ROLES, SOURCE_KINDS
+from ..netlist.graph import ASYNC_ROLES, SOURCE_KINDS
+from ..netlist.walks import behind_loops
 from . import fixes as _fixes
 from .symbolic import Budget, HazardProof, bdd_hazards
 from .satcheck import sat_hazards
@@ -624,7 +625,7 @@ def _decide_batch(graph, plans, opts) -> dict[tuple[str, str], dict[str, HazardP
     if not wanted:
         return {}
     targets = sorted({s for s, _ in wanted})
-    looped = _behind_loops(graph)
+    looped = behind_loops(graph)
     targets = [t for t in targets if t not in looped]
     if not targets:
         return {}
@@ -636,21 +637,6 @@ def _decide_batch(graph, plans, opts) -> dict[tuple[str, str], dict[str, HazardP
     except (CyclicCone, Budget, RuntimeError):
         return {}
     return {k: v for k, v in res.items() if all(kind in v for kind in HAZARD_KINDS)}
-
-
-def _behind_loops(graph) -> set[str]:
-    """Nodes that a combinational loop can reach (their fan-in cone is cyclic)."""
-    seeds = [n for comp in nx.strongly_connected_components(graph)
-             if len(comp) > 1 for n in comp]
-    seeds += [n for n in graph if graph.has_edge(n, n)]
-    seen = set(seeds)
-    stack = list(seeds)
-    while stack:
-        for v in graph.successors(stack.pop()):
-            if v not in seen:
-                seen.add(v)
-                stack.append(v)
-    return seen
 
 
 def _cone_of(graph, sink, cones):

@@ -30,9 +30,9 @@ from typing import Any, Callable, Iterable, Mapping, Sequence
 
 import networkx as nx
 
-from ..graph import SOURCE_KINDS
-from ..logic import op_as_expr
-from .order import fanin_postorder
+from ..netlist.graph import SOURCE_KINDS
+from ..netlist.logic import op_as_expr
+from ..netlist.walks import fanin_postorder
 from .cellmodel import atomic_ternary, atomic_transient, is_atomic_candidate, node_expr
 
 # ---------------------------------------------------------------------------------------------
@@ -517,5 +517,5 @@ class SharedPlanes:
 
 
 def has_three_state(graph: nx.DiGraph, order: Iterable[str]) -> bool:
-    from ..logic import THREE_STATE
+    from ..netlist.logic import THREE_STATE
     return any(graph.nodes[n].get("op") in THREE_STATE for n in order)

@@ -1,7 +1,7 @@
 """Event-driven timed simulation of the gate graph, inertial and transport.
 
-Delay model (the gate graph's, :mod:`hazlint.graph`): every gate input pin has a
-:class:`~hazlint.library.Delay` (pin-to-output, split by output rise/fall, each a (min, max)
+Delay model (the gate graph's, :mod:`hazlint.netlist.graph`): every gate input pin has a
+:class:`~hazlint.netlist.library.Delay` (pin-to-output, split by output rise/fall, each a (min, max)
 pair); an edge may carry a ``wire`` delay in front of the pin. The simulator takes one number per
 arc and direction from a *corner* (``"max"``, ``"min"``) or from an explicit
 :class:`DelayAssignment`.
@@ -33,8 +33,9 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
-from ..library import Delay
-from .order import ordered_copy
+from ..delays.model import GRAPH_DELAYS, DelayModel
+from ..netlist.library import Delay
+from ..netlist.walks import fanin, ordered_copy
 from .skews import skew_offsets
 from .ternary import IntAlgebra, bool_gate, ternary_fixpoint
 
@@ -97,9 +98,10 @@ def _num(x: float) -> str:
     return str(int(x)) if float(x).is_integer() else f"{x:g}"
 
 
-def pin_delay(d: Mapping[str, Any], pin: int, corner: str) -> tuple[float, float]:
-    delays = d.get("delays") or []
-    dl = delays[pin] if pin < len(delays) and delays[pin] is not None else Delay.unit()
+def pin_delay(d: Mapping[str, Any], pin: int, corner: str,
+              delays: DelayModel = GRAPH_DELAYS) -> tuple[float, float]:
+    """(rise, fall) delay of input ``pin`` of gate ``d`` at ``corner`` ("min" or "max")."""
+    dl = delays.pin(d, pin)
     if corner == "min":
         return dl.rise_min, dl.fall_min
     return dl.rise_max, dl.fall_max
@@ -345,7 +347,7 @@ def _delay_tables(g, asg: "DelayAssignment", prep):
                 gdelay[n] = [pin_delay(d, p, asg.corner) for p in range(len(ins))]
             for p, u in enumerate(ins):
                 e = g.edges[u, n] if g.has_edge(u, n) else {}
-                wd = e.get("wire")
+                wd = GRAPH_DELAYS.wire(e)
                 w = (wd.rise_min if asg.corner == "min" else wd.rise_max) if wd is not None else 0.0
                 readers.setdefault(u, []).append((n, p, float(w)))
         return readers, gdelay
@@ -437,14 +439,7 @@ def fanin_cone(graph: nx.DiGraph, roots: Iterable[str]) -> nx.DiGraph:
     if sub is not None:
         per.move_to_end(key)
         return sub
-    seen = set(key)
-    stack = sorted(key)
-    pred = graph.pred
-    while stack:
-        for u in pred[stack.pop()]:
-            if u not in seen:
-                seen.add(u)
-                stack.append(u)
+    seen = fanin(graph, sorted(key))
     # (a view, such as a sub-graph, is copied too: iterating a view costs a filter per node)
     sub = graph if len(seen) == len(graph) and not nx.is_frozen(graph) \
         else ordered_copy(graph, seen)
@@ -666,9 +661,9 @@ def _max_delay(graph, gates) -> float:
 
 def build_graph(inputs: Sequence[str], gates: Sequence[tuple], outputs: Sequence[str] = (),
                 path: str = "", async_outputs: Sequence[str] = ()) -> nx.DiGraph:
-    """A gate graph following :mod:`hazlint.graph` from a gate list
+    """A gate graph following :mod:`hazlint.netlist.graph` from a gate list
     ``(name, op, [input nets], delay)`` where ``delay`` is a number, ``(rise, fall)``, or a
-    :class:`~hazlint.library.Delay` (the same for every pin). Outputs become sinks
+    :class:`~hazlint.netlist.library.Delay` (the same for every pin). Outputs become sinks
     ``"<sink>name"`` with role "output"."""
     g = nx.DiGraph()
     for i, n in enumerate(inputs):

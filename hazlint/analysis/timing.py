@@ -2,7 +2,7 @@
 
 For a stem *s* the analysis visits only *s*'s fanout cone, in topological order, and keeps for every
 node the minimum and maximum arrival time of a transition launched at *s* (static min/max timing
-with the design's delay model: each gate input pin has a :class:`hazlint.library.Delay`, each
+with the design's delay model: each gate input pin has a :class:`hazlint.netlist.library.Delay`, each
 edge may carry an SDF ``wire`` delay). It also keeps, per node, which fanout branch of *s* its
 paths start on (one branch, or several), which is what tells a genuine reconvergence of *s*'s
 branches at a gate from paths that split later at another stem. Back-pointers give the fastest and

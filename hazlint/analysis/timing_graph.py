@@ -11,6 +11,8 @@ from functools import cached_property
 
 import networkx as nx
 
+from ..delays.model import GRAPH_DELAYS, DelayModel
+
 
 class TimingGraph:
     """The gate graph as integer-indexed arrays in topological order (acyclic part only).
@@ -61,8 +63,10 @@ class TimingGraph:
         self.pr_ptr, self.pr_src, self.fo_ptr, self.fo_dst = pr_ptr, pr_src, fo_ptr, fo_dst
 
     @classmethod
-    def build(cls, g: nx.DiGraph, order: list[str] | None = None) -> "TimingGraph":
-        """``order``: ``nx.topological_sort(g)`` when the caller has it already (a DAG)."""
+    def build(cls, g: nx.DiGraph, order: list[str] | None = None,
+              delays: DelayModel = GRAPH_DELAYS) -> "TimingGraph":
+        """``order``: ``nx.topological_sort(g)`` when the caller has it already (a DAG);
+        ``delays``: the delay model the pin and wire delays come from."""
         cut: list[tuple[str, str]] = []
         if order is None:
             try:
@@ -88,18 +92,17 @@ class TimingGraph:
             ins = d.get("inputs")
             kind = d["kind"]
             if ins and kind in ("gate", "sink"):
-                delays = d.get("delays") or []
                 for pin, u in enumerate(ins):
                     ui = index.get(u)
                     if ui is None or (cutset and (u, v) in cutset):
                         continue
-                    w = adj[u][v].get("wire")
+                    w = delays.wire(adj[u][v])
                     wmin = w.min if w is not None else 0.0
                     wmax = w.max if w is not None else 0.0
                     if kind == "gate":
-                        dl = delays[pin] if pin < len(delays) else None
-                        dmin = (dl.min if dl is not None else 1.0) + wmin
-                        dmax = (dl.max if dl is not None else 1.0) + wmax
+                        dl = delays.pin(d, pin)
+                        dmin = dl.min + wmin
+                        dmax = dl.max + wmax
                     else:
                         dmin, dmax = wmin, wmax
                     fi_src.append(ui)

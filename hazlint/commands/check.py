@@ -74,7 +74,7 @@ def add_bound_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def add_frontend_argument(p) -> None:
-    from ..frontend.registry import CHOICES
+    from ..frontends.registry import CHOICES
     p.add_argument("--frontend", choices=CHOICES,
                    help="reader of the Verilog files (configuration 'frontend'; default auto: "
                         ".sv files through slang when pyslang is installed, others through "
@@ -133,7 +133,7 @@ def run(args) -> int:
     if args.cache_dir:
         config.cache_dir = os.path.abspath(args.cache_dir)
     if args.frontend:
-        from ..frontend.registry import check_choice
+        from ..frontends.registry import check_choice
         check_choice(args.frontend)
         config.frontend = args.frontend
     color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)

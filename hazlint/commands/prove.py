@@ -109,7 +109,7 @@ def _run(args) -> int:
 
 
 def _load(files, top, frontend):
-    from ..design import load_design
+    from ..loader import load_design
     return load_design(files, top=top, frontend=frontend)
 
 
@@ -137,7 +137,7 @@ def _targets(design, names):
                     raise HazlintError(f"--target: no net or output named '{n}'",
                                        construct=n) from None
         return out
-    from ..graph import ASYNC_ROLES
+    from ..netlist.graph import ASYNC_ROLES
     return [n for n, d in g.nodes(data=True) if d["kind"] == "sink"
             and (d.get("role") == "output" or d.get("role") in ASYNC_ROLES)]
 
@@ -172,7 +172,7 @@ def _node(design, name, item):
         n = design.net_node(name)
     except KeyError:
         raise HazlintError(f"--transition: no input named '{name}'", construct=item) from None
-    from ..graph import SOURCE_KINDS
+    from ..netlist.graph import SOURCE_KINDS
     if design.graph.nodes[n]["kind"] not in SOURCE_KINDS:
         raise HazlintError(f"--transition: '{name}' is not an input or register output",
                            construct=item)

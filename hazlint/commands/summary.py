@@ -37,7 +37,7 @@ def design_from_args(args):
 
 
 def _load(args, cfg):
-    from ..design import load_design
+    from ..loader import load_design
     files = [os.path.abspath(f) for f in args.files] or list(cfg.files)
     if not files:
         raise HazlintError("no input files: name Verilog files or set 'files' in the "
@@ -48,7 +48,7 @@ def _load(args, cfg):
         defines[name] = value or "1"
     library = cfg.library()
     if args.library:
-        from ..flatten import resolve_library
+        from ..elaborate import resolve_library
         for path in args.library:
             library = library.merge(resolve_library(path))
     return load_design(files, top=args.top or cfg.top,

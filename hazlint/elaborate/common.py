@@ -1,8 +1,8 @@
 """Values and small helpers shared by the elaboration modules."""
 from __future__ import annotations
 
-from ..errors import number_text
-from ..frontend import ir
+from ..errors import ElaborationError, number_text
+from .. import ir
 
 C0 = "1'b0"
 C1 = "1'b1"
@@ -130,3 +130,23 @@ def walk_items(items):
         elif isinstance(it, ir.GenCase):
             for _l, _n, sub in it.cases:
                 yield from walk_items(sub)
+
+
+def const_bits(value: int, width: int) -> list[str]:
+    return [C1 if (value >> i) & 1 else C0 for i in range(width)]
+
+
+def named_connections(inst, pins):
+    """``(pin name, expression)`` per connection of the cell instance ``inst``, positional
+    connections named by ``pins`` (the cell's pin order); more positional connections than
+    pins is an error at the instance."""
+    out = []
+    for i, (pname, e) in enumerate(inst.connections):
+        if pname is None:
+            if i >= len(pins):
+                raise ElaborationError(f"instance '{inst.name}' of '{inst.cell}' has more "
+                                       f"connections than the cell has pins",
+                                       *where(inst.loc), construct=inst.name)
+            pname = pins[i]
+        out.append((pname, e))
+    return out

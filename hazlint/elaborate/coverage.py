@@ -5,7 +5,7 @@ read, reported so that a partly analysed design never looks clean.
   signals, ``disable``, event controls inside a block, real arithmetic, ...) is left out: its
   instances become black boxes whose outputs are free inputs for the rest of the design. Each
   such module is one warning (rule ``front-end``, kind ``not-analysed``) naming the construct
-  and where it is, and the design records it (:attr:`hazlint.design.Design.not_analysed`), which
+  and where it is, and the design records it (:attr:`hazlint.netlist.design.Design.not_analysed`), which
   the report's summary line counts ("1 of 5 modules not analysed: ..."). Warnings fail a run
   under the default ``fail_on = "warning"``.
 * A file the parser rejects stops the run (exit 2) when the chosen top module(s) need a module
@@ -16,7 +16,7 @@ from __future__ import annotations
 
 from ..diagnostics import Severity
 from ..errors import ParseError
-from ..frontend import ir
+from .. import ir
 from .common import walk_items
 
 class CoverageTracker:

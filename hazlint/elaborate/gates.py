@@ -1,7 +1,7 @@
 """Gate structures that operators and statements become: reductions, multiplexers, ripple-carry
 adders, array multipliers, restoring dividers, comparators, barrel shifters, word selectors.
 
-A mixin of :class:`hazlint.flatten.Elaborator`: every structure is built from ``self.gate``
+A mixin of :class:`hazlint.elaborate.elaborator.Elaborator`: every structure is built from ``self.gate``
 (a decomposed gate of the default delay, constants folded). Bit lists are LSB first. These
 are the textbook structures a synthesis tool maps such operators to before optimisation
 (ripple-carry addition, shift-and-add multiplication, restoring division: e.g. Hennessy and

@@ -23,9 +23,9 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from ..diagnostics import Severity
-from ..graph import ASYNC_ROLES
+from ..netlist.graph import ASYNC_ROLES
 from .common import C0, BlackBoxModule, expr_text
-from .expressions import MemWrite
+from .selects import MemWrite
 from .scope import NetInfo, index_range
 
 DEFAULT_MAX_BITS = 4096

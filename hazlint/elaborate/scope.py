@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
-from ..frontend import ir
+from .. import ir
 
 
 def index_range(msb: int, lsb: int) -> range:

@@ -13,14 +13,14 @@ transition, each hazard kind by the published definitions, evaluated explicitly:
 * function hazards from the function alone, over the corners of the transition cube.
 
 Nothing here imports the prover's algebra or gate rules: gate functions come from
-:mod:`hazlint.logic` evaluation of single vectors only.
+:mod:`hazlint.netlist.logic` evaluation of single vectors only.
 """
 from __future__ import annotations
 
 import itertools
 from functools import lru_cache
 
-from hazlint.logic import eval_op
+from hazlint.netlist.logic import eval_op
 
 KINDS = ("static-1-hazard", "static-0-hazard", "dynamic-hazard")
 
