@@ -52,7 +52,8 @@ def timed_lint(*a, **k):
     finally:
         spent_lint[0] += time.process_time() - t
 api.lint = timed_lint
-from hazlint.design_cache import DesignCache, ResultCache
+from hazlint.store.design import DesignCache
+from hazlint.store.result import ResultCache
 # CPU time of this process: the machine may be busy with other work, wall time would be noisy
 t1 = time.process_time()
 code = main(["check", *(["--no-prove"] if mode == "no-prove" else []), "--format", fmt,
@@ -73,7 +74,7 @@ print(json.dumps({"import": t_import, "load": spent[0], "lint": spent_lint[0],
 # the compact IR entries
 CHILD_READ = r"""
 import json, sys, time
-from hazlint.cache import ParseCache
+from hazlint.store.parse import ParseCache
 from hazlint.frontends.verilog.reader import read_sources
 path, cache_dir = sys.argv[1], sys.argv[2]
 cache = ParseCache(cache_dir)

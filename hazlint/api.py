@@ -88,7 +88,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     """Read and elaborate the design with the configured library, then apply SDF.
 
     With the cache on, an unchanged design comes from the design cache
-    (:mod:`hazlint.design_cache`) without reading or elaborating anything; ``cache_info``
+    (:mod:`hazlint.store.design`) without reading or elaborating anything; ``cache_info``
     (a dict, optional) receives the ``design_key`` used."""
     # the reader and the flattener (pyverilog and its parser tables) are imported only when
     # the design has to be built: a warm run from the design cache does not need them
@@ -106,7 +106,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
             if k in params and v is not None:
                 kwargs[k] = v
         if "cache" in params and use_cache:
-            from .cache import open_cache
+            from .store.parse import open_cache
             kwargs["cache"] = open_cache(config.cache_dir, limit_mb=config.cache_limit_mb)
         if "tables" in params:
             kwargs["tables"] = _table_cache(config) if use_cache else False
@@ -126,7 +126,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
 
     if not use_cache:
         return load_fresh()[0]
-    from .design_cache import load_cached, open_design_cache
+    from .store.design import load_cached, open_design_cache
     return load_cached(list(files), config, texts=abs_texts, top=chosen_top,
                        include_dirs=include_dirs, defines=defines, root=config.include_root,
                        load_fresh=load_fresh, cache=open_design_cache(config.cache_dir,
@@ -138,7 +138,7 @@ def _table_cache(config: Config):
     """Where the parser keeps its tables: the run's cache folder, or nowhere (False) when
     that folder may not be used."""
     from . import __version__
-    from .cache import open_cache
+    from .store.parse import open_cache
     return open_cache(config.cache_dir, namespace="parser", limit_mb=config.cache_limit_mb,
                       version=f"{__version__}+tables") or False
 
@@ -276,7 +276,7 @@ def report_key(files: Sequence[str] | None = None, *, config: Config | None = No
                rule_options: Mapping[str, Mapping[str, Any]] | None = None,
                render: Mapping[str, Any] | None = None) -> str | None:
     """sha256 over everything a finished report depends on, computed without reading the
-    design: the findings' key (:func:`~hazlint.design_cache.result_key` over the design key),
+    design: the findings' key (:func:`~hazlint.store.result.result_key` over the design key),
     the waiver file's and the baseline's contents, the changed-files filter, the project root
     and the working directory (paths in reports are relative), and ``render`` (format and
     renderer options). Files pulled in through ``include`` are not in the key: the report
@@ -284,8 +284,9 @@ def report_key(files: Sequence[str] | None = None, *, config: Config | None = No
     run then goes the normal way and reports the problem)."""
     import hashlib
     import json
-    from .cache import digest_file
-    from .design_cache import design_key, result_key
+    from .store.files import digest_file
+    from .store.design import design_key
+    from .store.result import result_key
     plan = _plan(files, config=config, cwd=cwd, texts=None, select=select, ignore=ignore,
                  rule_options=rule_options)
     config = plan.config
@@ -374,7 +375,7 @@ def _lint_planned(plan: _Plan, *, texts, changed, prove, top, include_dirs, defi
     # on changed (design key, configuration, rules); waivers and the rest are redone below
     rcache = rkey = None
     if use_cache and cache_info.get("design_key"):
-        from .design_cache import open_result_cache, result_key
+        from .store.result import open_result_cache, result_key
         rcache = open_result_cache(config.cache_dir, limit_mb=config.cache_limit_mb)
         if rcache is not None:
             rkey = result_key(cache_info["design_key"], config, select=sel, ignore=ign,

@@ -107,7 +107,7 @@ def write_baseline(path: str | os.PathLike, diagnostics: Sequence[Diagnostic],
     rows = baseline_entries(diagnostics, root)
     doc = {_MAGIC: FORMAT, "tool": f"hazlint {__version__}", "findings": rows}
     text = json.dumps(doc, indent=1, sort_keys=True) + "\n"
-    from .cache import atomic_write
+    from .store.files import atomic_write
     try:
         atomic_write(Path(path), lambda fh: fh.write(text), private=False)
     except OSError as exc:

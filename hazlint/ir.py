@@ -372,13 +372,13 @@ _CODEC = None
 def _codec():
     global _CODEC
     if _CODEC is None:
-        from .cache import Codec
+        from .store.codec import Codec
         _CODEC = Codec(_CLASSES.values(), interned={Loc: ("path",)})
     return _CODEC
 
 
 def to_compact(obj: Any) -> dict:
-    """A positional JSON encoding of IR (see :class:`hazlint.cache.Codec`): each object is a
+    """A positional JSON encoding of IR (see :class:`hazlint.store.codec.Codec`): each object is a
     list of its field values, field names are written once per entry in a class table, and
     location paths once in a string table. :func:`from_compact` gives back an equal object
     (lists stay lists, tuples tuples)."""

@@ -182,7 +182,7 @@ def test_deferred_diagnostic_reads_as_the_eager_one():
 
 
 def test_deferred_diagnostic_pickles_and_encodes_built():
-    from hazlint.design_cache import open_result_cache  # noqa: F401  (codec of findings)
+    from hazlint.store.result import open_result_cache  # noqa: F401  (codec of findings)
     lazy, eager, _ = _pair()
     assert pickle.loads(pickle.dumps(lazy)) == eager
     lazy2, _, calls = _pair()

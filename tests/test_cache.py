@@ -6,7 +6,8 @@ import os
 
 import pytest
 
-from hazlint.cache import ParseCache, make_key, open_cache
+from hazlint.store.keys import make_key
+from hazlint.store.parse import ParseCache, open_cache
 from hazlint import ir
 
 
@@ -197,7 +198,7 @@ def test_cli_cache_dir_no_cache_jobs_and_corruption(tmp_path):
 from dataclasses import dataclass, field  # noqa: E402
 import enum  # noqa: E402
 
-from hazlint.cache import Codec, CodecError  # noqa: E402
+from hazlint.store.codec import Codec, CodecError  # noqa: E402
 
 
 @dataclass
@@ -351,11 +352,11 @@ def test_corrupted_compact_entry_is_removed_by_the_reader(tmp_path):
 
 def test_size_limit_removes_least_recently_used_entries(tmp_path, monkeypatch):
     import time as _time
-    from hazlint import cache as C
+    from hazlint.store import entries as C, files, parse
     monkeypatch.setattr(C, "PRUNE_INTERVAL", 0.0)
-    c = C.ParseCache(tmp_path, namespace="parse", limit_mb=1)
+    c = parse.ParseCache(tmp_path, namespace="parse", limit_mb=1)
     blob = "x" * 300_000                          # about 0.3 MB per entry
-    keys = [C.digest_bytes(str(i).encode()) for i in range(3)]
+    keys = [files.digest_bytes(str(i).encode()) for i in range(3)]
     for i, k in enumerate(keys):
         c.store(k, {"blob": blob})
         p = c._entry_path(k)
@@ -363,7 +364,7 @@ def test_size_limit_removes_least_recently_used_entries(tmp_path, monkeypatch):
         os.utime(p, (t, t))
     assert c.pruned == 0 and all(c._entry_path(k).exists() for k in keys)   # 0.9 MB: under
     assert c.load(keys[0]) is not None            # a hit: entry 0 is now the most recent
-    new = C.digest_bytes(b"new")
+    new = files.digest_bytes(b"new")
     c.store(new, {"blob": blob})                  # 1.2 MB: over the limit, prune to 0.8 MB
     assert c.pruned == 2
     assert c._entry_path(new).exists() and c._entry_path(keys[0]).exists()
@@ -373,7 +374,7 @@ def test_size_limit_removes_least_recently_used_entries(tmp_path, monkeypatch):
 
 
 def test_cache_limit_from_configuration_and_environment(tmp_path, monkeypatch):
-    from hazlint import cache as C
+    from hazlint.store import entries as C
     from hazlint.config import load_config
     monkeypatch.setenv(C.ENV_LIMIT, "17")
     assert C.cache_limit_mb() == 17 and C.cache_limit_mb(5) == 5

@@ -19,7 +19,7 @@ from pathlib import Path
 
 import pytest
 
-from hazlint.cache import ParseCache
+from hazlint.store.parse import ParseCache
 from hazlint.cli import main
 
 REPO = Path(__file__).resolve().parents[1]
@@ -215,8 +215,9 @@ def _forged_report(key: str, text: str) -> tuple[bytes, bytes]:
     """A report entry and its text as hazlint itself would write them (key, digests and all
     right): what someone who can write into the folder could plant."""
     import hashlib
-    from hazlint.cache import _entry_text
-    from hazlint.design_cache import REPORT_FORMAT, code_stamp
+    from hazlint.store.entries import entry_text as _entry_text
+    from hazlint.store.keys import code_stamp
+    from hazlint.store.report import REPORT_FORMAT
     body = text.encode()
     payload = json.dumps({"format": REPORT_FORMAT, "worst": None, "size": len(body),
                           "digest": hashlib.sha256(body).hexdigest()},

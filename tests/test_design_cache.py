@@ -11,7 +11,9 @@ from pathlib import Path
 
 import pytest
 
-from hazlint import design_cache as dc
+from hazlint.store import design as dc
+from hazlint.store.keys import code_stamp
+from hazlint.store.result import ResultCache
 from hazlint.config import load_config
 from hazlint.netlist.design import Design
 from hazlint.loader import load_design
@@ -269,7 +271,7 @@ def test_entry_from_other_code_is_a_miss(tmp_path):
     dc.DesignCache(tmp_path, version="0.1.0+aaaa").store(key, d)
     assert dc.DesignCache(tmp_path, version="0.1.0+bbbb").load(key) is None
     assert_same_design(d, dc.DesignCache(tmp_path, version="0.1.0+aaaa").load(key))
-    assert dc.code_stamp().startswith("0.1.0+")
+    assert code_stamp().startswith("0.1.0+")
 
 
 def test_corrupted_or_truncated_entries_are_ignored_and_removed(tmp_path):
@@ -419,9 +421,9 @@ def test_result_cache_round_trip_on_a_benchmark(tmp_path):
     from hazlint.api import lint
     res = lint([netlist("c432.v")], cwd=str(tmp_path), prove=False, use_cache=False)
     assert len(res.diagnostics) > 10 and any(d.flows for d in res.diagnostics)
-    c = dc.ResultCache(tmp_path / "cache")
+    c = ResultCache(tmp_path / "cache")
     assert c.store("12" * 32, res.diagnostics)
-    back = dc.ResultCache(tmp_path / "cache").load("12" * 32)
+    back = ResultCache(tmp_path / "cache").load("12" * 32)
     assert back == res.diagnostics
     assert [d.to_json() for d in back] == [d.to_json() for d in res.diagnostics]
 

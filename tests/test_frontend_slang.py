@@ -589,7 +589,7 @@ def test_mixed_files_keep_input_order_and_one_progress_count(tmp_path):
 
 
 def test_parse_cache_keeps_the_front_ends_apart(tmp_path):
-    from hazlint.cache import ParseCache
+    from hazlint.store.parse import ParseCache
     p = tmp_path / "t.v"
     p.write_text("module t (input a, output y);\n  not g (y, a);\nendmodule\n")
     cache = ParseCache(tmp_path / "cache")
@@ -601,7 +601,7 @@ def test_parse_cache_keeps_the_front_ends_apart(tmp_path):
 
 
 def test_design_cache_key_follows_the_front_end(tmp_path):
-    from hazlint.design_cache import design_key
+    from hazlint.store.design import design_key
     v, sv = tmp_path / "t.v", tmp_path / "t.sv"
     for p in (v, sv):
         p.write_text("module t; endmodule\n")

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 
-from hazlint.cache import ParseCache
+from hazlint.store.parse import ParseCache
 from hazlint.errors import ParseError
 from hazlint import ir
 from hazlint.frontends.verilog.reader import read_sources

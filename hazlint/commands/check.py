@@ -143,7 +143,7 @@ def run(args) -> int:
         # a rerun on unchanged inputs prints the finished report of the last such run: no
         # decoding of the design or the findings, no waivers, no rendering
         from ..api import report_key
-        from ..design_cache import open_report_cache
+        from ..store.report import open_report_cache
         key = report_key(files or None, render=render_opts,
                          **_run_options(args, files, config, cwd, changed))
         reports = open_report_cache(config.cache_dir, limit_mb=config.cache_limit_mb) \

@@ -68,7 +68,7 @@ def _table_store(tables):
         return None
     if tables is not None:
         return tables
-    from ...cache import open_cache
+    from ...store.parse import open_cache
     return open_cache(namespace="parser", version=f"{__version__}+tables")
 
 

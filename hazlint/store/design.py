@@ -1,6 +1,6 @@
 """A cache of flattened designs: skip reading *and* elaborating on an unchanged rerun.
 
-The parse cache (:mod:`hazlint.cache`) saves the parsing of each file, but a warm run still
+The parse cache (:mod:`hazlint.store.parse`) saves the parsing of each file, but a warm run still
 rebuilt the IR and flattened the hierarchy. This cache stores the finished
 :class:`~hazlint.netlist.design.Design` (after SDF back-annotation) as compact JSON, keyed by everything
 elaboration depends on (:func:`design_key`):
@@ -14,7 +14,7 @@ elaboration depends on (:func:`design_key`):
 * the hazlint version and a stamp of every source file of ``hazlint`` and ``hazlint_rules``
   (name, size, mtime), the networkx version (the graph is rebuilt through its internals).
 
-Format (``data`` of a :class:`hazlint.cache.ParseCache` entry in namespace ``design``)::
+Format (``data`` of a :class:`hazlint.store.parse.ParseCache` entry in namespace ``design``)::
 
     {"format": 1, "deps": {"<include path>": "<sha256 of its text>"},
      "codec": ..., "classes": [...], "strings": [...], "shared": [...],   # Codec header
@@ -37,16 +37,14 @@ from __future__ import annotations
 import dataclasses
 import gc
 import hashlib
-import importlib.util
 import json
 import os
-from pathlib import Path
 from typing import Any, Iterable, Mapping, Sequence
 
 
-from . import __version__
-from .cache import Codec, CodecError, ParseCache, default_cache_dir
-from .filestore import atomic_write, digest_file, digest_stream, open_private, private_dirs
+from .codec import Codec, CodecError, EncodeState
+from .files import digest_file
+from .namespace import Namespace
 
 DESIGN_FORMAT = 1
 NAMESPACE = "design"
@@ -55,51 +53,6 @@ _NAME = "=name"
 _INPUTS = "#inputs"
 _INTERNED = ("path",)      # node attributes whose text repeats on every node: a string table
 _AT = {k: "@" + k for k in _INTERNED}
-
-
-# ---------------------------------------------------------------------------------------------
-# key
-
-_STAMP: str | None = None
-
-
-def _networkx_version() -> str:
-    # from the installed distribution's metadata: a cached report needs no networkx import
-    from importlib import metadata
-    try:
-        return metadata.version("networkx")
-    except metadata.PackageNotFoundError:
-        import networkx
-        return networkx.__version__
-
-
-def code_stamp() -> str:
-    """hazlint's version plus a stamp (file name, size, mtime) of every ``.py`` file of the
-    ``hazlint`` package and of the built-in rules package: an entry written by other code is a
-    miss, even in a development checkout that keeps its version number."""
-    global _STAMP
-    if _STAMP is None:
-        h = hashlib.sha256(__version__.encode())
-        h.update(_networkx_version().encode())
-        roots = [Path(__file__).resolve().parent]
-        spec = importlib.util.find_spec("hazlint_rules")
-        if spec is not None and spec.submodule_search_locations:
-            roots += [Path(p) for p in spec.submodule_search_locations]
-        for root in roots:
-            h.update(b"\0root\0" + str(root).encode("utf-8", "surrogateescape"))
-            for dirpath, dirnames, filenames in os.walk(root):
-                dirnames[:] = sorted(d for d in dirnames if d != "__pycache__")
-                for name in sorted(filenames):
-                    if name.endswith(".py"):
-                        try:
-                            st = os.stat(os.path.join(dirpath, name))
-                        except OSError:
-                            continue
-                        rel = os.path.relpath(os.path.join(dirpath, name), root)
-                        h.update(f"{rel}\0{st.st_size}\0{st.st_mtime_ns}\0".encode(
-                            "utf-8", "surrogateescape"))
-        _STAMP = f"{__version__}+{h.hexdigest()[:16]}"
-    return _STAMP
 
 
 def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, top=None,
@@ -111,8 +64,8 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
                frontend: str = "auto") -> str | None:
     """sha256 over every input of reading, elaborating and annotating a design, or None when
     one of them cannot be read (the uncached load then reports the problem)."""
-    from .frontends.files import digest_text, read_text
-    from .errors import HazlintError
+    from ..frontends.files import digest_text, read_text
+    from ..errors import HazlintError
     try:
         files = [[os.path.abspath(p), digest_text(read_text(p, texts))] for p in paths]
     except HazlintError:
@@ -139,7 +92,7 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
         "sdf": sdfs, "sdf_corner": sdf_corner,
         "default_delay": default_delay, "memory_max_bits": memory_max_bits,
     }
-    from .frontends.registry import key_material
+    from ..frontends.registry import key_material
     reader = key_material(paths, frontend)
     if reader is not None:
         material["front_end"] = reader
@@ -156,12 +109,12 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
 _CODEC: Codec | None = None
 
 
-def _codec() -> Codec:
+def design_codec() -> Codec:
     global _CODEC
     if _CODEC is None:
-        from .netlist.design import BlackBox, Register
-        from .diagnostics import Diagnostic, Hop, Location, Related, Severity
-        from .netlist.library import Delay
+        from ..netlist.design import BlackBox, Register
+        from ..diagnostics import Diagnostic, Hop, Location, Related, Severity
+        from ..netlist.library import Delay
         _CODEC = Codec([Delay, Location, Hop, Related, Diagnostic, Severity, Register, BlackBox],
                        shared=[Delay, Location, Hop])
     return _CODEC
@@ -176,13 +129,12 @@ def _has_graph_internals(g) -> bool:
 
 def encode_design(design) -> dict:
     """The design as a compact JSON document (see the module docstring). Raises
-    :class:`~hazlint.cache.CodecError` for anything it cannot represent exactly."""
+    :class:`~hazlint.store.codec.CodecError` for anything it cannot represent exactly."""
     g = design.graph
     if not _has_graph_internals(g):
         raise CodecError("the gate graph is not a plain networkx.DiGraph")
-    codec = _codec()
-    from .cache import _EncodeState
-    st = _EncodeState()
+    codec = design_codec()
+    st = EncodeState()
     enc = codec.encode_value
     ids = list(g._node)
     index = {n: i for i, n in enumerate(ids)}
@@ -289,10 +241,10 @@ def decode_design(doc: Mapping[str, Any]):
     """Rebuild the :class:`~hazlint.netlist.design.Design` of :func:`encode_design`, filling the
     networkx adjacency dictionaries directly. Raises ``ValueError`` (or a subclass) on an
     entry that does not fit."""
-    from .netlist.design import Design
+    from ..netlist.design import Design
     if not isinstance(doc, Mapping) or doc.get("format") != DESIGN_FORMAT:
         raise CodecError("not a design entry of this format")
-    dec = _codec().decoder(doc)
+    dec = design_codec().decoder(doc)
     try:
         ids = doc["ids"]
         shapes = doc["shapes"]
@@ -395,35 +347,10 @@ def _explicit_edges(ids, succ, pred, plans, dec, _succ, _pred) -> None:
                 into[u] = _succ[u][n]           # one attribute dict per edge, as networkx keeps
 
 
-# ---------------------------------------------------------------------------------------------
-# the cache
 
-class _Store:
-    """One namespace of the cache folder, stamped with :func:`code_stamp`."""
-
-    NAMESPACE = ""
-
-    def __init__(self, directory: str | os.PathLike | None = None, *, version: str | None = None,
-                 limit_mb: int | None = None):
-        self.store_ = ParseCache(directory, namespace=self.NAMESPACE,
-                                 version=version if version is not None else code_stamp(),
-                                 limit_mb=limit_mb)
-
-    @property
-    def enabled(self) -> bool:
-        return self.store_.enabled
-
-    def _entry(self, key: str) -> dict | None:
-        """The entry's data, or None on a miss; a broken cache never stops a lint run."""
-        try:
-            return self.store_.load(key)
-        except Exception:
-            return None
-
-
-class DesignCache(_Store):
+class DesignCache(Namespace):
     """``load(key, texts) -> Design | None`` and ``store(key, design, includes, texts)`` over a
-    :class:`~hazlint.cache.ParseCache` in namespace ``design``, stamped with :func:`code_stamp`.
+    :class:`~hazlint.store.parse.ParseCache` in namespace ``design``, stamped with :func:`code_stamp`.
     Counters ``hits``/``misses``/``stores``/``dropped`` come from the underlying store."""
 
     NAMESPACE = NAMESPACE
@@ -451,8 +378,8 @@ class DesignCache(_Store):
             return None
         if data is None:
             return None
-        from .errors import HazlintError
-        from .frontends.files import digest_text, read_text
+        from ..errors import HazlintError
+        from ..frontends.files import digest_text, read_text
         deps = data.get("deps")
         if not isinstance(deps, dict):
             self.store_.discard(key)
@@ -480,8 +407,8 @@ class DesignCache(_Store):
               texts: Mapping[str, str] | None = None) -> bool:
         """Write the entry; False when the design cannot be represented exactly or an include
         cannot be read back (nothing is written then)."""
-        from .errors import HazlintError
-        from .frontends.files import digest_text, read_text
+        from ..errors import HazlintError
+        from ..frontends.files import digest_text, read_text
         deps = {}
         for p in dict.fromkeys(includes):
             try:
@@ -530,175 +457,3 @@ def load_cached(paths: Sequence[str], config, *, texts=None, top=None, include_d
         includes = [p for sf in sources for p in getattr(sf, "includes", ())]
         cache.store(key, design, includes)
     return design
-
-
-# ---------------------------------------------------------------------------------------------
-# findings of a run (before waivers, baseline and the changed-files filter)
-
-RESULT_FORMAT = 1
-RESULT_NAMESPACE = "result"
-
-
-def result_key(design_key: str, config, *, select, ignore, prove: bool,
-               options: Mapping[str, Any], rules: Iterable[Any]) -> str | None:
-    """sha256 over what decides the findings of a design: the design key, the whole
-    configuration table plus the resolved rule options, the selection, whether the prover ran
-    (and its options), and which rules ran with a stamp of each rule's module file (rules from
-    other distributions are not covered by :func:`code_stamp`)."""
-    import sys
-    ran = []
-    for r in rules:
-        mod = sys.modules.get(getattr(r.check, "__module__", ""), None)
-        f = getattr(mod, "__file__", None)
-        try:
-            st = os.stat(f) if f else None
-        except OSError:
-            st = None
-        ran.append([r.id, r.origin, str(r.severity), f,
-                    [st.st_size, st.st_mtime_ns] if st else None])
-    material = {
-        "format": RESULT_FORMAT, "design": design_key, "raw": config.raw,
-        "config_path": config.path, "root": config.root, "severity": config.severity,
-        "async_outputs": config.async_outputs, "sync_inputs": config.sync_inputs,
-        "prove_options": config.prove, "select": None if select is None else list(select),
-        "ignore": list(ignore), "prove": bool(prove), "options": options, "rules": ran,
-    }
-    try:
-        text = json.dumps(material, sort_keys=True, default=repr)
-    except (TypeError, ValueError):
-        return None
-    return hashlib.sha256(text.encode("utf-8", "surrogateescape")).hexdigest()
-
-
-class ResultCache(_Store):
-    """Findings (a list of :class:`~hazlint.diagnostics.Diagnostic`) by :func:`result_key`,
-    in namespace ``result``, stamped with :func:`code_stamp`."""
-
-    NAMESPACE = RESULT_NAMESPACE
-
-    def load(self, key: str):
-        data = self._entry(key)
-        if data is None:
-            return None
-        from .diagnostics import Diagnostic
-        try:
-            if data.get("format") != RESULT_FORMAT:
-                raise CodecError("not a result entry of this format")
-            diags = _codec().decode(data)
-            if not isinstance(diags, list) or not all(isinstance(d, Diagnostic) for d in diags):
-                raise CodecError("not a list of findings")
-        except (ValueError, RecursionError, AttributeError):
-            self.store_.discard(key)
-            return None
-        return diags
-
-    def store(self, key: str, diagnostics) -> bool:
-        try:
-            doc = _codec().encode(list(diagnostics))
-        except (CodecError, RecursionError):
-            return False
-        doc["format"] = RESULT_FORMAT
-        before = self.store_.stores
-        self.store_.store(key, doc)
-        return self.store_.stores > before
-
-
-def open_result_cache(directory: str | os.PathLike | None = None, *,
-                      limit_mb: int | None = None) -> ResultCache | None:
-    c = ResultCache(directory, limit_mb=limit_mb)
-    return c if c.enabled else None
-
-
-# ---------------------------------------------------------------------------------------------
-# finished reports of the command line
-
-REPORT_FORMAT = 2
-REPORT_NAMESPACE = "report"
-
-
-class ReportCache(_Store):
-    """The rendered report of a ``check`` run and the worst severity in it, by
-    :func:`hazlint.api.report_key`, in namespace ``report``, stamped with :func:`code_stamp`.
-
-    The report text is a file of its own beside the entry (``<key>.txt``; the entry records
-    its size), written once by the renderer and copied from there, so a report of hundreds of
-    megabytes is never held in memory or escaped into JSON. Files the design pulled in through
-    ``include`` are dependencies of the entry: when one of them changed the entry is a miss. A
-    hit lets a rerun on unchanged inputs print the same bytes without decoding the design or
-    the findings. A report larger than a quarter of the cache's size limit is written, copied
-    out and removed again (it would push everything else out of the cache)."""
-
-    NAMESPACE = REPORT_NAMESPACE
-
-    def _text_path(self, key: str) -> Path:
-        return self.store_._entry_path(key).with_suffix(".txt")
-
-    def load(self, key: str):
-        """``(file, worst)``: the report opened for reading (text, UTF-8) and the highest
-        severity (an int of :class:`~hazlint.diagnostics.Severity`) among its findings, None
-        for none; or None on a miss. The report file must be a regular file of ours with the
-        size and digest the entry recorded; otherwise entry and file are removed."""
-        import io
-        data = self._entry(key)
-        if data is None:
-            return None
-        size, worst, digest = data.get("size"), data.get("worst"), data.get("digest")
-        if (data.get("format") != REPORT_FORMAT or type(size) is not int
-                or not (worst is None or type(worst) is int and 0 <= worst <= 2)
-                or type(digest) is not str):
-            self._drop_both(key)
-            return None
-        path = self._text_path(key)
-        try:
-            raw = open_private(path)
-        except OSError:
-            self._drop_both(key)
-            return None
-        try:
-            if os.fstat(raw.fileno()).st_size != size or digest_stream(raw) != digest:
-                raise OSError("the report file is not the one recorded")
-            raw.seek(0)
-            os.utime(path)
-        except OSError:
-            raw.close()
-            self._drop_both(key)
-            return None
-        return io.TextIOWrapper(raw, encoding="utf-8", newline=""), worst
-
-    def _drop_both(self, key: str) -> None:
-        self.store_.discard(key)
-        try:
-            self._text_path(key).unlink()
-        except OSError:
-            pass
-
-    def store(self, key: str, write, worst: int | None, deps: Iterable[str] = ()):
-        """Run ``write(stream)`` into the report file for ``key`` and record the entry.
-        Returns ``(path, keep)``: where the report is, and False when it is not to be kept
-        (too large: the caller removes it after copying it out); None when nothing could be
-        written (read-only or full disk) and the caller should render directly."""
-        path = self._text_path(key)
-        try:
-            private_dirs(self.store_.directory, path.parent, create=True)
-            atomic_write(path, write)
-            size = path.stat().st_size
-        except OSError:
-            return None
-        limit = self.store_.limit_mb * 1024 * 1024
-        if limit and size > limit // 4:
-            return path, False
-        digest = digest_file(path)
-        if digest is not None:
-            self.store_.store(key, {"format": REPORT_FORMAT, "worst": worst, "size": size,
-                                    "digest": digest}, deps=list(dict.fromkeys(deps)))
-        return path, True
-
-
-def open_report_cache(directory: str | os.PathLike | None = None, *,
-                      limit_mb: int | None = None) -> ReportCache | None:
-    c = ReportCache(directory, limit_mb=limit_mb)
-    return c if c.enabled else None
-
-
-__all__ = ["DesignCache", "ReportCache", "ResultCache", "open_report_cache", "result_key", "open_result_cache", "code_stamp", "decode_design", "design_key", "encode_design",
-           "load_cached", "open_design_cache", "default_cache_dir"]
