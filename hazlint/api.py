@@ -22,6 +22,7 @@ from .config import Config, load_config
 from .diagnostics import Diagnostic, Severity, sort_diagnostics
 from .errors import EXIT_CLEAN, EXIT_FINDINGS, ConfigError, HazlintError
 from .plugins import PSEUDO_RULES, Rule, all_rules, select_rules
+from .paths import relpath
 from .waivers import UNUSED_RULE, apply_waivers, read_waiver_file, scan_sources
 
 if TYPE_CHECKING:       # imported where used: a cached report needs neither it nor networkx
@@ -62,20 +63,6 @@ class LintResult:
 
 # front-end notes that say part of the design was not analysed
 _COVERAGE_KINDS = frozenset(("not-analysed", "file-not-read"))
-
-
-def relpath(path: str, root: str) -> str:
-    """``path`` relative to ``root`` with forward slashes when inside it, else unchanged."""
-    if not path:
-        return path
-    ap = os.path.abspath(path)
-    try:
-        rel = os.path.relpath(ap, os.path.abspath(root))
-    except ValueError:
-        return path.replace(os.sep, "/")
-    if rel == ".." or rel.startswith(".." + os.sep):
-        return ap.replace(os.sep, "/")
-    return rel.replace(os.sep, "/")
 
 
 def _norm(p: str) -> str:

@@ -254,7 +254,7 @@ class AnalysisContext:
         root = getattr(self.config, "root", None)
         if not root or not path:
             return path
-        from ..api import relpath
+        from ..paths import relpath
         return relpath(path, root)
 
     def where(self, n: str) -> str:
