@@ -71,7 +71,7 @@ def test_mux_primes_and_cover():
 
 def test_sum_of_products_model_rewrites_a_mux():
     from hazlint.analysis.multichange import decide_sink
-    from hazlint.analysis.timedsim import build_graph
+    from hazlint.analysis.circuits import build_graph
     g = build_graph(["s", "a", "b"], [("y", "mux", ["s", "a", "b"], 1)], ["y"])
     d = Design(graph=g, top="t", inputs=["s", "a", "b"], outputs=["y"])
     atomic = decide_sink(g, "<sink>y")

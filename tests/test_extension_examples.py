@@ -7,7 +7,8 @@ import networkx as nx
 import pytest
 
 from hazlint import ir
-from hazlint.analysis.timedsim import build_graph, pin_delay
+from hazlint.analysis.circuits import build_graph
+from hazlint.analysis.timedsim import pin_delay
 from hazlint.analysis.timing_graph import TimingGraph
 from hazlint.delays.model import GRAPH_DELAYS
 from hazlint.elaborate import elaborate

@@ -20,7 +20,8 @@ import pytest
 from hazlint.analysis.multichange import decide_sink
 from hazlint.analysis.prove import Classification, options_with_defaults, replay_witness
 from hazlint.analysis.ternary import cone
-from hazlint.analysis.timedsim import pin_delay, random_circuit, replay
+from hazlint.analysis.circuits import random_circuit
+from hazlint.analysis.timedsim import pin_delay, replay
 
 pytestmark = pytest.mark.skipif(shutil.which("iverilog") is None, reason="needs iverilog")
 SETTLE = 1000

@@ -12,7 +12,8 @@ import subprocess
 
 import pytest
 
-from hazlint.analysis.timedsim import (build_graph, graph_to_verilog, random_circuit, simulate)
+from hazlint.analysis.circuits import build_graph, graph_to_verilog, random_circuit
+from hazlint.analysis.timedsim import simulate
 
 pytestmark = pytest.mark.skipif(shutil.which("iverilog") is None, reason="needs iverilog")
 

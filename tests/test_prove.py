@@ -12,7 +12,8 @@ import pytest
 
 from hazlint.analysis.prove import classify, classify_outputs, loop_behaviour, refine
 from hazlint.analysis.ternary import HAZARD_KINDS, classify_explicit, cone, free_sources
-from hazlint.analysis.timedsim import (DelayAssignment, build_graph, random_circuit, replay)
+from hazlint.analysis.circuits import build_graph, random_circuit
+from hazlint.analysis.timedsim import DelayAssignment, replay
 from hazlint.diagnostics import Diagnostic, Location, Severity
 from hazlint.netlist.library import Delay
 

@@ -9,7 +9,7 @@ from hazlint.analysis.satcheck import sat_hazards
 from hazlint.analysis.symbolic import Budget, bdd_hazards
 from hazlint.analysis.ternary import (HAZARD_KINDS, IntAlgebra, classify_explicit, cone,
                                       free_sources, hazard_planes)
-from hazlint.analysis.timedsim import random_circuit
+from hazlint.analysis.circuits import random_circuit
 
 
 def _brute_force(g, order, target, x):

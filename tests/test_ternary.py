@@ -8,7 +8,7 @@ import pytest
 from hazlint.analysis.prove import loop_behaviour
 from hazlint.analysis.ternary import (IntAlgebra, classify_explicit, function_hazard, cone,
                                       procedure_a_b, ternary_gate, transient_gate)
-from hazlint.analysis.timedsim import build_graph
+from hazlint.analysis.circuits import build_graph
 from hazlint.netlist.library import Delay
 from hazlint.netlist.logic import eval_op
 

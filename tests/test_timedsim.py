@@ -1,7 +1,8 @@
 """The event-driven simulator's delay semantics on small hand-checked cases."""
 from __future__ import annotations
 
-from hazlint.analysis.timedsim import DelayAssignment, build_graph, simulate
+from hazlint.analysis.circuits import build_graph
+from hazlint.analysis.timedsim import DelayAssignment, simulate
 
 
 def _buf(rise, fall):
@@ -42,7 +43,7 @@ def test_kept_tables_give_the_same_traces_as_a_fresh_simulation():
     # trial must see exactly what a fresh simulation computes, whatever pin and wire delays
     # the trial assigns and in whatever order the trials come
     import random
-    from hazlint.analysis.timedsim import random_circuit
+    from hazlint.analysis.circuits import random_circuit
     rng = random.Random(11)
     for _ in range(40):
         g = random_circuit(rng, rng.randint(2, 6), rng.randint(3, 14), rng.randint(1, 3))
@@ -74,7 +75,7 @@ def test_delay_search_is_bounded_by_its_event_budget():
     # F = A.B' + B.C (the textbook static-1 case, common practice) with both branches of B
     # equally slow: no glitch at the nominal delays, one under unequal wire delays
     from hazlint.analysis.ternary import cone
-    from hazlint.analysis.timedsim import search_assignment
+    from hazlint.analysis.delaysearch import search_assignment
     g = build_graph(["A", "B", "C"], [("nb", "not", ["B"], 1), ("t1", "and", ["A", "nb"], 1),
                                       ("t2", "and", ["B", "C"], 2), ("F", "or", ["t1", "t2"], 1)],
                     ["F"])

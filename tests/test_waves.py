@@ -4,7 +4,8 @@ from __future__ import annotations
 import io
 import xml.etree.ElementTree as ET
 
-from hazlint.analysis.timedsim import build_graph, replay
+from hazlint.analysis.circuits import build_graph
+from hazlint.analysis.timedsim import replay
 from hazlint.analysis.waves import svg, timing_diagram, vcd_text
 
 

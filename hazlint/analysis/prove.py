@@ -32,7 +32,8 @@ from .symbolic import Budget, HazardProof, bdd_hazards
 from .satcheck import sat_hazards
 from .ternary import (HAZARD_KINDS, CyclicCone, IntAlgebra, cone, free_sources, function_hazard,
                       hazard_planes, propagate, ternary_gate)
-from .timedsim import DelayAssignment, Glitch, replay, search_assignment, simulate
+from .delaysearch import search_assignment
+from .timedsim import DelayAssignment, Glitch, replay, simulate
 from .changes import ChangeModel
 from .loops import classify_loop
 from .changewords import with_change_model

@@ -26,17 +26,14 @@ from __future__ import annotations
 
 import collections
 import heapq
-import random
 import weakref
 from dataclasses import dataclass, field
-from typing import Any, Iterable, Mapping, Sequence
+from typing import Any, Iterable, Mapping
 
 import networkx as nx
 
 from ..delays.model import GRAPH_DELAYS, DelayModel
-from ..netlist.library import Delay
 from ..netlist.walks import fanin, ordered_copy
-from .skews import skew_offsets
 from .ternary import IntAlgebra, bool_gate, ternary_fixpoint
 
 INF = float("inf")
@@ -84,17 +81,18 @@ class DelayAssignment:
         for n, t in sorted(self.offsets.items(), key=lambda x: (x[1], x[0])):
             if t:
                 src = graph.nodes[n] if graph is not None and n in graph else {}
-                out.append(f"{src.get('port') or src.get('name') or n} changes {_num(t)} after "
+                out.append(f"{src.get('port') or src.get('name') or n} changes {delay_number(t)} after "
                            "the first change")
         for (n, p), (r, f) in sorted(self.pins.items()):
-            out.append(f"pin {p} of {nm(n)}: rise {_num(r)}, fall {_num(f)}")
+            out.append(f"pin {p} of {nm(n)}: rise {delay_number(r)}, fall {delay_number(f)}")
         for k, w in sorted(self.wires.items()):
             pin = f" pin {k[2]}" if len(k) > 2 else ""
-            out.append(f"extra delay {_num(w)} on the wire {nm(k[0])} -> {nm(k[1])}{pin}")
+            out.append(f"extra delay {delay_number(w)} on the wire {nm(k[0])} -> {nm(k[1])}{pin}")
         return out
 
 
-def _num(x: float) -> str:
+def delay_number(x: float) -> str:
+    """A delay or time as written in evidence and Verilog: ``3`` for 3.0, else ``%g``."""
     return str(int(x)) if float(x).is_integer() else f"{x:g}"
 
 
@@ -481,261 +479,3 @@ def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Map
            if (before.get(n, 0) & 1) != (v & 1) and n in graph]
     tr = simulate(graph, before, evs, assignment=asg, watch=w, prep=prep, max_events=max_events)
     return glitch_at(tr, target, settle, asg.mode), tr
-
-
-def search_assignment(graph: nx.DiGraph, target: str, before: Mapping[str, int],
-                      after: Mapping[str, int], order: Sequence[str], *, trials: int = 200,
-                      seed: int = 0, want_dynamic: bool = False, event_budget: int = 0
-                      ) -> tuple[DelayAssignment | None, Glitch | None, str]:
-    """Look for delays under which the transition glitches at ``target``.
-
-    Tries, in order: the nominal (max) delays, inertial then transport; the min corner; random
-    mixes of min/max per pin (within the given bounds); then arbitrary extra transport delays on
-    the wires of the changing cone (the "arbitrary delays" model the proof uses). Bounded by
-    ``trials``, and by ``event_budget`` simulation events over all trials (0: no bound): on
-    deep cones one transport trial with random wire delays can cost millions of events, and the
-    count, unlike a clock, gives the same answer on every machine. Returns (assignment,
-    glitch, how) or (None, None, reason).
-    """
-    try:
-        return _search(graph, target, before, after, order, trials, seed, want_dynamic,
-                       event_budget)
-    except _OutOfEvents as stop:
-        return None, None, (f"no glitching delay assignment found: the delay search stopped at "
-                            f"its budget of {event_budget} simulation events (option "
-                            f"search_events) after {stop.args[0]} of {trials} trials")
-
-
-class _OutOfEvents(Exception):
-    pass
-
-
-def _search(graph, target, before, after, order, trials, seed, want_dynamic, event_budget):
-    need = 3 if want_dynamic else 2
-    cone_nodes = set(order)
-    changing = {n for n in after if (before.get(n, 0) & 1) != (after[n] & 1)}
-    # nets that can move: the fan-out of the changing sources inside the cone
-    moving: set[str] = set()
-    stack = list(changing)
-    while stack:
-        n = stack.pop()
-        for s in graph.successors(n):
-            if s in cone_nodes and s not in moving:
-                moving.add(s)
-                stack.append(s)
-    sub = graph.subgraph(cone_nodes)
-    prep: dict = {}         # the cone's steady state and nominal delays, for every trial
-    spent = [0, 0]          # events, trials
-
-    def run(asg):
-        left = event_budget - spent[0] if event_budget else 1_000_000
-        if left <= 0:
-            raise _OutOfEvents(spent[1])
-        try:
-            gl, tr = replay(sub, target, before, after, asg, watch=[target], prep=prep,
-                            max_events=left)
-        except EventBudget:
-            if not event_budget:
-                raise
-            raise _OutOfEvents(spent[1]) from None
-        spent[0] += tr.events
-        spent[1] += 1
-        ok = gl.occurs and len(gl.changes) >= need
-        return gl if ok else None
-
-    tried = 0
-    gates = [n for n in order if n in moving and graph.nodes[n]["kind"] == "gate"]
-    tries = [(DelayAssignment("max", mode="inertial"), "nominal")]
-    if len(changing) >= 2:
-        # sources that change together do so a little apart: the nominal (inertial) delays
-        # with a skew between them, each order of the sources, the skew growing
-        depth = max(1, _depth(graph, order, moving))
-        tries += [(DelayAssignment("max", mode="inertial", offsets=off), "skewed")
-                  for off in skew_offsets(sorted(changing), depth * _max_delay(graph, gates),
-                                          max(1, trials // 3))]
-    tries += [(DelayAssignment("max", mode="transport"), "nominal"),
-              (DelayAssignment("min", mode="inertial"), "min-corner"),
-              (DelayAssignment("min", mode="transport"), "min-corner")]
-    for asg, how in tries:
-        tried += 1
-        gl = run(asg)
-        if gl:
-            return asg, gl, how
-    rng = random.Random(seed)
-    bounded = [(n, p) for n in gates for p in range(len(graph.nodes[n]["inputs"]))
-               if _has_range(graph.nodes[n], p)]
-    budget = max(0, trials - tried)
-    n_bounded = budget // 4 if bounded else 0
-    for _ in range(n_bounded):
-        pins = {}
-        for n, p in bounded:
-            c = "min" if rng.random() < 0.5 else "max"
-            pins[(n, p)] = pin_delay(graph.nodes[n], p, c)
-        asg = DelayAssignment("max", pins=pins, mode="inertial")
-        gl = run(asg)
-        if gl:
-            return asg, gl, "within-bounds"
-    edges = [(u, v, p) for v in gates for p, u in enumerate(graph.nodes[v]["inputs"])
-             if u in moving or u in changing]
-    scale = 2.0 * max(1.0, _depth(graph, order, moving)) * _max_delay(graph, gates)
-    for k in range(budget - n_bounded):
-        wires = {}
-        # alternate dense random skews and sparse big skews on a few wires
-        if k % 2 == 0:
-            for e in edges:
-                wires[e] = float(rng.randint(0, int(scale)))
-        else:
-            for e in rng.sample(edges, min(len(edges), rng.randint(1, 3))):
-                wires[e] = float(rng.randint(1, int(scale) * 2))
-        wires = {e: w for e, w in wires.items() if w > 0}
-        asg = DelayAssignment("max", wires=wires, mode="transport")
-        if len(changing) >= 2 and k % 4 >= 2:
-            # changes of several sources: skewed too, with inertial gates
-            asg = DelayAssignment("max", wires=wires, mode="inertial", offsets={
-                n: float(rng.randint(0, int(scale))) for n in sorted(changing)})
-        gl = run(asg)
-        if gl:
-            try:
-                small = _shrink(asg, run)
-                return small, run(small), "arbitrary"
-            except _OutOfEvents:
-                return asg, gl, "arbitrary"     # found; no budget left to make it smaller
-    return None, None, f"no glitching delay assignment found in {trials} trials"
-
-
-def _shrink(asg: DelayAssignment, run) -> DelayAssignment:
-    """Drop the extra wire delays the glitch does not need, then lower each remaining one to the
-    smallest integer that still glitches (bisection): a short report with the delay difference
-    that matters."""
-    wires = dict(asg.wires)
-
-    def ok(w):
-        return run(DelayAssignment(asg.corner, dict(asg.pins), w, asg.mode,
-                                   dict(asg.offsets))) is not None
-    for e in sorted(wires, key=lambda e: wires[e]):
-        trial = dict(wires)
-        del trial[e]
-        if ok(trial):
-            wires = trial
-    for e in sorted(wires):
-        lo, hi = 0, int(wires[e])          # hi glitches; find the least that does
-        while hi - lo > 1:
-            mid = (lo + hi) // 2
-            if ok({**wires, e: float(mid)}):
-                hi = mid
-            else:
-                lo = mid
-        wires[e] = float(hi)
-    return DelayAssignment(asg.corner, dict(asg.pins), wires, asg.mode, dict(asg.offsets))
-
-
-def _has_range(d, p) -> bool:
-    delays = d.get("delays") or []
-    if p >= len(delays) or delays[p] is None:
-        return False
-    dl = delays[p]
-    return dl.rise_min != dl.rise_max or dl.fall_min != dl.fall_max
-
-
-def _depth(graph, order, moving) -> int:
-    depth: dict[str, int] = {}
-    best = 1
-    for n in order:
-        if n in moving:
-            depth[n] = 1 + max((depth.get(p, 0) for p in graph.predecessors(n)), default=0)
-            best = max(best, depth[n])
-    return best
-
-
-def _max_delay(graph, gates) -> float:
-    m = 1.0
-    for n in gates:
-        for dl in graph.nodes[n].get("delays") or []:
-            if dl is not None:
-                m = max(m, dl.max)
-    return m
-
-
-# ---------------------------------------------------------------------------------------------
-# Small netlists: build a gate graph directly, and write it as Verilog for iverilog
-
-def build_graph(inputs: Sequence[str], gates: Sequence[tuple], outputs: Sequence[str] = (),
-                path: str = "", async_outputs: Sequence[str] = ()) -> nx.DiGraph:
-    """A gate graph following :mod:`hazlint.netlist.graph` from a gate list
-    ``(name, op, [input nets], delay)`` where ``delay`` is a number, ``(rise, fall)``, or a
-    :class:`~hazlint.netlist.library.Delay` (the same for every pin). Outputs become sinks
-    ``"<sink>name"`` with role "output"."""
-    g = nx.DiGraph()
-    for i, n in enumerate(inputs):
-        g.add_node(n, kind="input", name=n, port=n, path=path, line=i + 1, column=1)
-    for k, (name, op, ins, delay) in enumerate(gates):
-        if isinstance(delay, Delay):
-            dl = delay
-        elif isinstance(delay, (tuple, list)):
-            dl = Delay(delay[0], delay[0], delay[1], delay[1])
-        else:
-            dl = Delay.fixed(float(delay))
-        g.add_node(name, kind="gate", name=name, op=op, inputs=list(ins),
-                   pins=[str(p + 1) for p in range(len(ins))], delays=[dl] * len(ins), cell=op,
-                   instance=f"g_{name}", path=path, line=len(inputs) + k + 1, column=1)
-        for p, u in enumerate(ins):
-            if g.has_edge(u, name):
-                g.edges[u, name]["pins"].append(p)
-            else:
-                g.add_edge(u, name, pins=[p])
-    for o in outputs:
-        s = f"<sink>{o}"
-        g.add_node(s, kind="sink", name=o, port=o, role="output", inputs=[o], pins=["D"],
-                   path=path, line=0, column=1, asynchronous=o in async_outputs)
-        g.add_edge(o, s, pins=[0])
-    return g
-
-
-def graph_to_verilog(module: str, graph: nx.DiGraph, corner: str = "max") -> str:
-    """Write a gate graph of primitives (one delay per gate) as a Verilog module with
-    ``#(rise, fall)`` gate delays; nets are renamed ``n<k>`` and ports keep their names."""
-    ins = [n for n, d in graph.nodes(data=True) if d["kind"] == "input"]
-    outs = [(d["name"], d["inputs"][0]) for n, d in graph.nodes(data=True)
-            if d["kind"] == "sink" and d.get("role") == "output"]
-    ident = {n: f"i{k}" for k, n in enumerate(ins)}
-    gl = [n for n in nx.topological_sort(graph) if graph.nodes[n]["kind"] == "gate"]
-    for k, n in enumerate(gl):
-        ident[n] = f"n{k}"
-    ports = [ident[n] for n in ins] + [f"o{k}" for k in range(len(outs))]
-    lines = [f"module {module}({', '.join(ports)});"]
-    lines += [f"  input {ident[n]};" for n in ins]
-    lines += [f"  output o{k};" for k in range(len(outs))]
-    if gl:
-        lines.append(f"  wire {', '.join(ident[n] for n in gl)};")
-    for n in gl:
-        d = graph.nodes[n]
-        r, f = pin_delay(d, 0, corner)
-        lines.append(f"  {d['op']} #({_num(r)}, {_num(f)}) g{ident[n]}({ident[n]}, "
-                     f"{', '.join(ident[i] for i in d['inputs'])});")
-    for k, (_, drv) in enumerate(outs):
-        lines.append(f"  assign o{k} = {ident[drv]};")
-    lines.append("endmodule")
-    return "\n".join(lines) + "\n"
-
-
-def random_circuit(rng: random.Random, n_inputs: int = 4, n_gates: int = 8, n_outputs: int = 2,
-                   max_delay: int = 9, ops: Sequence[str] = ("and", "or", "nand", "nor", "xor",
-                                                            "xnor", "not", "buf"),
-                   prefix: str = "") -> nx.DiGraph:
-    """A random acyclic circuit of primitives with random integer (rise, fall) gate delays, for
-    cross-checks against iverilog and between the analyses. Fan-in prefers recent nets, which
-    gives depth and reconvergent fanout."""
-    nets = [f"{prefix}i{k}" for k in range(n_inputs)]
-    gates = []
-    for k in range(n_gates):
-        op = rng.choice(ops)
-        arity = 1 if op in ("not", "buf") else rng.choice((2, 2, 2, 3))
-        pool = nets[-6:] + nets if len(nets) > 6 else nets
-        ins = [rng.choice(pool) for _ in range(arity)]
-        name = f"{prefix}g{k}"
-        gates.append((name, op, ins, (rng.randint(1, max_delay), rng.randint(1, max_delay))))
-        nets.append(name)
-    gate_names = [g[0] for g in gates]
-    outs = list(dict.fromkeys(gate_names[-1:] + rng.sample(gate_names, min(len(gate_names),
-                                                                            n_outputs - 1))))
-    return build_graph(nets[:n_inputs], gates, outs)
