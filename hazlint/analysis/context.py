@@ -37,9 +37,6 @@ class AnalysisContext:
             self._options[rule_id] = get_rule(rule_id).resolve_options({})
         return self._options[rule_id]
 
-    def set_options(self, rule_id: str, opts: Mapping[str, Any]) -> None:
-        self._options[rule_id] = dict(opts)
-
     # ---- graph facts ---------------------------------------------------------------------------
     @property
     def graph(self) -> nx.DiGraph:

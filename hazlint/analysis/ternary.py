@@ -24,7 +24,6 @@ Eichelberger's procedures A and B for circuits with feedback are :func:`procedur
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
 from functools import reduce
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
@@ -250,21 +249,6 @@ def propagate(graph: nx.DiGraph, order: Sequence[str], values: dict, A, gate_fn:
 # Transitions and hazard classes
 
 HAZARD_KINDS = ("static-1-hazard", "static-0-hazard", "dynamic-hazard")
-
-
-@dataclass
-class Transition:
-    """An input change: ``changes`` maps source node -> (value before, value after); ``fixed``
-    maps other sources to their (steady) values. Unlisted free sources are free."""
-
-    changes: dict[str, tuple[int, int]]
-    fixed: dict[str, int] = field(default_factory=dict)
-
-    def label(self, graph: nx.DiGraph | None = None) -> str:
-        def nm(n):
-            return graph.nodes[n].get("port") or graph.nodes[n].get("name") or n if graph else n
-        return ", ".join(f"{nm(n)} {'rises' if b > a else 'falls' if b < a else 'holds'}"
-                         for n, (a, b) in sorted(self.changes.items()))
 
 
 def lanes_planes(A, values_a: Mapping[str, Any], values_b: Mapping[str, Any], sources):

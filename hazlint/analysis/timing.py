@@ -143,18 +143,6 @@ class ArrivalSolver:
             dom[i] = -1
         self._touched = []
 
-    def cone_of(self, stem: int) -> list[int]:
-        fanout = self.tg.fanout
-        seen = {stem}
-        stack = [stem]
-        while stack:
-            u = stack.pop()
-            for v in fanout[u]:
-                if v not in seen:
-                    seen.add(v)
-                    stack.append(v)
-        return sorted(seen)
-
     def solve(self, stem: int, on_reconvergence=None, complete: bool = False,
               budget: int | None = None) -> StemTiming | None:
         """Fill arrival arrays for ``stem``'s cone. ``on_reconvergence(Reconvergence)`` is called
