@@ -40,7 +40,8 @@ ERRORS = [
     ("const_mod_zero_delay.v", 3, "modulo by zero"),
     ("const_mod_zero_generate.v", 4, "modulo by zero"),
     ("const_pow_fractional.v", 3, "fractional power"),
-    ("real_literal_huge.v", 4, "too large for a double"),
+    ("real_literal_huge.v", 4, "too large for a double"),   # found by bench/bench_fuzz.py
+    ("shift_amount_huge.v", 3, "limit const_bits"),          # found by bench/bench_fuzz.py
     ("delay_div_zero.v", 3, "division by zero"),
     ("width_2pow64.v", 3, "limit vector_width"),
     ("width_32_digits.v", 3, "limit vector_width"),
@@ -54,6 +55,16 @@ ERRORS = [
     ("yosys_lut_width.v", 3, "limit vector_width"),
     ("index_huge.v", 4, "100003-bit number"),           # found by bench/bench_fuzz.py
 ]
+
+
+def test_declaration_on_a_register_left_out_of_the_analysis(capsys):
+    # found by bench/bench_fuzz.py: a one-at-a-time declaration on a register of a module that
+    # is not analysed crashed the change model; the module is a counted, located warning
+    code, out, err = run(capsys, str(HOSTILE / "attribute_left_out.v"))
+    assert code == 1, err
+    assert "Traceback" not in err and "internal error" not in err
+    assert "attribute_left_out.v:12:1: warning: module 'press_phase' is not analysed" in out
+    assert "1 of 1 module not analysed" in out
 
 
 @pytest.mark.parametrize("name, line, words", ERRORS, ids=[e[0] for e in ERRORS])

@@ -304,6 +304,11 @@ def build_change_model(design, config=None) -> ChangeModel:
             if a == ASYNC_ATTR or not truthy_attr(decl["attrs"], a):
                 continue
             nodes = [n for n in decl["nodes"] if n is not None]
+            if nodes and all(n not in g for n in nodes):
+                # the net's logic was left out of the analysis (a warning names what was
+                # left out): the declaration has nothing to act on
+                continue
+            nodes = [n for n in nodes if n in g]
             bad = [n for n in nodes if g.nodes[n]["kind"] not in SOURCE_KINDS]
             if bad or not nodes:
                 raise src_err(f"attribute '{a}' on '{decl['name']}': the net is driven by "

@@ -160,7 +160,7 @@ def _bound(op: str, a, b, max_bits: int) -> None:
         need = max(_bits(a), _bits(b)) + 1
     if need > max_bits:
         raise _limits.LimitExceeded(
-            "const_bits", f"the value of '{op}' in a constant expression (about {need} bits)",
+            "const_bits", f"the size in bits of the value of '{op}' in a constant expression",
             value=need)
 
 
