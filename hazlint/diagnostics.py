@@ -41,7 +41,7 @@ KINDS = (
     "dynamic-hazard",
     "function-hazard",
     "oscillation",
-    "waiver-unused",
+    "unused-acceptance",
     "design-note",
     "analysis-incomplete",      # a rule stopped at its work budget: part of the design unchecked
 )
@@ -182,7 +182,12 @@ class Diagnostic:
 
     def fingerprint_material(self) -> str:
         """What identifies this finding across unrelated edits: rule, kind, instance and the nets
-        of its evidence, never line numbers."""
+        of its evidence, never line numbers. A finding folded from several
+        (:mod:`hazlint.findings.fold`) is identified by its problem alone (the sink or the
+        loop), so another stem or witness for the same problem keeps it."""
+        problem = self.evidence.get("problem") if isinstance(self.evidence, Mapping) else None
+        if problem:
+            return json.dumps(["problem", problem])
         nets = sorted({h.net for flow in self.flows for h in flow})
         key = self.evidence.get("key") if isinstance(self.evidence, Mapping) else None
         return json.dumps([self.rule, self.kind, self.instance, key, nets], sort_keys=True)
@@ -205,7 +210,7 @@ class Diagnostic:
                 [dict(h.to_json(), **({"path": relpath(h.location.path)} if h.location else {}))
                  for h in flow] for flow in self.flows])
         if self.waived is not None:
-            d["waived"] = self.waived
+            d["accepted"] = self.waived
         return d
 
 

@@ -7,7 +7,7 @@ What it finds
     output ports marked asynchronous (configuration ``async_outputs`` or the Verilog attribute
     ``(* hazlint_async *)`` on the port). The evidence lists the cone's sources and every
     reconvergent stem inside it. Inputs declared synchronous or quasi-static (configuration
-    ``sync_inputs``, or ``(* hazlint_sync *)`` / ``(* hazlint_static *)`` on the port) and
+    ``static_inputs``, or ``(* hazlint_static *)`` on the port) and
     constants do not count as sources of glitches.
 
     The hazard prover then decides each such pin over every transition its sources can make
@@ -46,7 +46,7 @@ from hazlint.plugins import Option
 
 from ._common import name_list, stable_key
 
-ID = "async-from-logic"
+ID = "unregistered-async"
 SUMMARY = "asynchronous pin, clock, enable or asynchronous output driven by combinational logic"
 KINDS = ("unregistered-async",)
 SEVERITY = "error"
@@ -106,7 +106,7 @@ def check(design, context):
                f"{name_list(src_names, 4)}); a glitch here acts immediately")
         notes = [f"sources: {name_list(src_names, 12)}"]
         if quiet:
-            notes.append("quiet (synchronous, quasi-static or constant): "
+            notes.append("static (static inputs and constants never change): "
                          + name_list(sorted(context.describe(s) for s in quiet), 8))
         if stems:
             notes.append("reconvergent stems in the cone: " + name_list(stem_names, 8))

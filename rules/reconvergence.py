@@ -33,7 +33,9 @@ How to fix
 
 Options
     ``scope``: which reconvergences to report: ``async`` (those that reach a glitch-sensitive
-    sink), ``outputs`` (those and every primary output, the default), ``all``.
+    sink, the default), ``outputs`` (those and every primary output), ``all`` (every sink,
+    register data pins included). Outside the default scope a pulse is harmless when timing is
+    met; the summary line counts the places left out. Findings at one sink fold into one.
     ``min_skew``: report when the skew reaches this many time units (default 0: any skew).
     ``work_budget``: an upper bound on the arrival-time work of one run, in node visits (each
     stem costs at most the nodes after it in topological order; default 1e9: every EPFL
@@ -52,14 +54,15 @@ from hazlint.plugins import Option
 
 from ._common import name_list, num, stable_key
 
-ID = "skewed-reconvergence"
+ID = "unbalanced-reconvergence"
 SUMMARY = "reconvergent fanout whose branches arrive at different times (static/dynamic hazard risk)"
 KINDS = ("unbalanced-reconvergence", "analysis-incomplete")
 SEVERITY = "warning"
 OPTIONS = (
-    Option("scope", str, "outputs",
-           "report reconvergences reaching: async (glitch-sensitive sinks), outputs (those and "
-           "primary outputs), all", ("async", "outputs", "all")),
+    Option("scope", str, "async",
+           "report reconvergences reaching: async (glitch-sensitive sinks, the default), "
+           "outputs (those and every primary output), all (every sink, register data pins "
+           "included); also --scope on the command line", ("async", "outputs", "all")),
     Option("min_skew", float, 0.0,
            "report when the branch skew reaches this value (0: any positive skew)"),
     Option("work_budget", float, 1e9,
@@ -269,6 +272,12 @@ class _Fields:
     def __init__(self, context, f):
         self.context, self.f = context, f
 
+    def light_evidence(self) -> dict:
+        """The evidence that places the finding (stem, sinks, skew) without its paths or text:
+        what :mod:`hazlint.findings.fold` reads to group findings it does not all show."""
+        stem, _gate, r, sinks = self.f.facts()[:4]
+        return {"stem_node": stem, "sink_nodes": list(sinks), "skew": r.skew}
+
     def __call__(self) -> dict:
         f = self.f
         facts = f.facts()
@@ -339,7 +348,7 @@ def _incomplete(context, left, analysed: int, work_budget: float | None) -> Diag
                                     else "reconv-out-of-time", str(len(left)))},
         notes=(f"stems reaching a glitch-sensitive sink were analysed first; "
                f"not analysed: {name_list(shown, 10)}",),
-        fix=(("raise [rules.skewed-reconvergence] work_budget (0: no limit)"
+        fix=(("raise [rules.unbalanced-reconvergence] work_budget (0: no limit)"
               if work_budget is not None else "raise the time budget (--time-budget, "
               "time_budget; 0: none)")
              + ", narrow scope to 'async', or lint the block's sub-modules one at a time"))

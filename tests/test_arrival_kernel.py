@@ -25,7 +25,7 @@ from hazlint.diagnostics import Diagnostic, Location, Severity, sort_diagnostics
 from hazlint.library import Delay
 from hazlint.plugins import get_rule
 
-RULE = get_rule("skewed-reconvergence")
+RULE = get_rule("unbalanced-reconvergence")
 needs_c = pytest.mark.skipif(compiled.kernels() is None,
                              reason="C kernel not built (no C compiler at install)")
 

@@ -66,7 +66,7 @@ def two_designs(tmp_path, capsys):
     hz.write_text(HAZARD)
     ok.write_text(CLEAN)
     cold = check(capsys, cache, hz)
-    assert cold[0] == 1 and "skewed-reconvergence" in cold[1]
+    assert cold[0] == 1 and "unbalanced-reconvergence" in cold[1]
     mine = {ns: entries(cache, ns) for ns in NAMESPACES}
     assert check(capsys, cache, ok)[0] == 0
     theirs = {ns: entries(cache, ns) - mine[ns] for ns in NAMESPACES}

@@ -160,7 +160,7 @@ def test_vector_logic_ends_within_its_budget_with_inconclusive_findings(tmp_path
         assert (f["kind"] == "analysis-incomplete"
                 or f["evidence"].get("classification") == "inconclusive"), f
     not_run = {f["rule"] for f in findings if f["kind"] == "analysis-incomplete"}
-    if "skewed-reconvergence" not in not_run:
+    if "unbalanced-reconvergence" not in not_run:
         assert len(findings) == 4096              # every reconvergence is listed
 
 

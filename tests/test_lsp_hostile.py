@@ -52,7 +52,7 @@ def test_malformed_frames_are_answered_or_skipped_and_the_stream_goes_on(tmp_pat
         # the stream is intact: the next well-formed messages are served
         _open(c, doc.as_uri(), HAZARD)
         diags = c.diagnostics(doc.as_uri(), 1)
-        assert [d["code"] for d in diags] == ["skewed-reconvergence"]
+        assert [d["code"] for d in diags] == ["unbalanced-reconvergence"]
         # a request right after: answered with its own id
         again = c.request("shutdown", None)
         assert "error" not in again
@@ -82,12 +82,12 @@ def test_a_nul_in_a_uri_touches_only_its_own_document(tmp_path):
         assert len(bad) == 1 and bad[0]["code"] == "input-error"
         assert "does not name a file" in bad[0]["message"]
         _open(c, doc.as_uri(), HAZARD)
-        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["skewed-reconvergence"]
+        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["unbalanced-reconvergence"]
         # an edit of the good document is linted again while the bad one stays open
         c.notify("textDocument/didChange", {"textDocument": {"uri": doc.as_uri(),
                                                              "version": 2},
                                             "contentChanges": [{"text": HAZARD}]})
-        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 2)] == ["skewed-reconvergence"]
+        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 2)] == ["unbalanced-reconvergence"]
         shutdown(c)
     finally:
         c.close()
@@ -104,7 +104,7 @@ def test_a_megabyte_document_gets_its_diagnostics(tmp_path):
     try:
         _open(c, doc.as_uri(), text)
         diags = c.diagnostics(doc.as_uri(), 1)
-        hz = [d for d in diags if d["code"] == "skewed-reconvergence"]
+        hz = [d for d in diags if d["code"] == "unbalanced-reconvergence"]
         assert len(hz) == 1
         assert hz[0]["range"]["start"]["line"] == text.count("\n") - 2   # the or gate
         rel = hz[0]["relatedInformation"]

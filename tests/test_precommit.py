@@ -101,7 +101,7 @@ def test_hook_fails_on_hazard_and_passes_clean(tmp_path, hook_repo):
     bad = git(proj, "commit", "-m", "press valve with a bypass path", check=False, env=env)
     out = bad.stdout + bad.stderr
     assert bad.returncode != 0, out
-    assert HAZARD_AT in out and "skewed-reconvergence" in out, out
+    assert HAZARD_AT in out and "unbalanced-reconvergence" in out, out
     assert git(proj, "rev-list", "--all", check=False, env=env).stdout.strip() == ""
 
     # 2. the corrected valve: the commit passes

@@ -55,10 +55,10 @@ class AnalysisContext:
 
     @cached_property
     def quiet_inputs(self) -> frozenset[str]:
-        """Input nodes declared synchronous or quasi-static (attribute or ``sync_inputs``):
+        """Input nodes declared synchronous or quasi-static (attribute or ``static_inputs``):
         they are not treated as sources of glitches."""
         return declared_quiet_inputs(self.design,
-                                     list(getattr(self.config, "sync_inputs", []) or []))
+                                     list(getattr(self.config, "static_inputs", []) or []))
 
     @cached_property
     def change_model(self) -> ChangeModel:

@@ -40,6 +40,10 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE")
     p.add_argument("--fail-on", choices=("error", "warning", "info", "never"),
                    help="lowest severity that makes the exit code 1")
+    p.add_argument("--scope", choices=("async", "outputs", "all"),
+                   help="where reconvergent fanout is listed: async (glitch-sensitive sinks, "
+                        "the default), outputs (and every primary output), all (and register "
+                        "data pins); configuration [rules.unbalanced-reconvergence] scope")
     p.add_argument("--no-prove", action="store_true",
                    help="skip the hazard prover's refinement of the findings")
     p.add_argument("--changed", action="store_true",
@@ -171,7 +175,17 @@ def _run_options(args, files, config, cwd, changed) -> dict:
                 prove=not args.no_prove, top=args.top,
                 include_dirs=([os.path.abspath(d) for d in args.include_dirs]
                               if args.include_dirs else None),
-                defines=_defines(args.defines), baseline=args.baseline)
+                defines=_defines(args.defines), baseline=args.baseline,
+                rule_options=scope_options(args))
+
+
+def scope_options(args) -> dict | None:
+    """``--scope`` as the reconvergence rule's option."""
+    scope = getattr(args, "scope", None)
+    if not scope:
+        return None
+    from ..findings.names import RECONVERGENCE_RULE
+    return {RECONVERGENCE_RULE: {"scope": scope}}
 
 
 def _exit_code(worst, level) -> int:

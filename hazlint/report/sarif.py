@@ -212,7 +212,7 @@ def result_object(d: Diagnostic, locator: _Locator, rule_index: int | None) -> d
     res["properties"] = props
     if d.waived is not None:
         res["suppressions"] = [{"kind": "inSource", "status": "accepted",
-                                "justification": d.waived or "waived"}]
+                                "justification": d.waived or "accepted"}]
     return res
 
 
@@ -235,7 +235,7 @@ def _sarif_parts(diagnostics: Iterable[Diagnostic], *, root: str | None = None,
     result objects in order: a report of tens of thousands of findings is written one result
     at a time, never held as one document."""
     diags = sort_diagnostics(diagnostics)
-    sup = [d if d.waived is not None else d.with_waiver("waived") for d in waived]
+    sup = [d if d.waived is not None else d.with_waiver("accepted") for d in waived]
     everything = diags + sort_diagnostics(sup)
     rules = dict(rules or {})
     ids = sorted(rules) if all_rules else []
