@@ -12,6 +12,8 @@ import json
 from dataclasses import dataclass, field, replace
 from typing import Any, Iterable, Mapping
 
+from .findings.words import gate_words
+
 
 class Severity(enum.IntEnum):
     """Ordered severities; a run fails on findings at or above ``--fail-on``."""
@@ -85,7 +87,7 @@ class Hop:
 
     def describe(self) -> str:
         where = f" ({self.location.path}:{self.location.line})" if self.location else ""
-        via = f" {self.cell} {self.gate}" if self.gate else ""
+        via = f" {gate_words(self.cell, self.gate)}" if self.gate else ""
         t = f" @{_num(self.arrival)}" if self.arrival is not None else ""
         return f"{self.net}{t} via{via}{where}" if via else f"{self.net}{t}{where}"
 

@@ -50,6 +50,7 @@ import heapq
 from hazlint import budget
 from hazlint.diagnostics import Diagnostic, Severity
 
+from hazlint.findings.words import count, gate_words
 from hazlint.plugins import Option
 
 from ._common import name_list, num, stable_key
@@ -303,8 +304,9 @@ def _fields(context, stem, gate, r, sinks, path) -> dict:
     fast_pin = pins[r.fast_pin] if r.fast_pin < len(pins) else str(r.fast_pin)
     slow_net = context.net_name(ins[r.slow_pin]) if r.slow_pin < len(ins) else slow_pin
     fast_net = context.net_name(ins[r.fast_pin]) if r.fast_pin < len(ins) else fast_pin
-    msg = (f"fanout of {stem_name} reconverges at {d.get('cell') or d.get('op')} "
-           f"{(d.get('instance') or gate).rsplit('.', 1)[-1]} with skew {num(r.skew)} "
+    where = gate_words(d.get("cell") or d.get("op") or "",
+                       (d.get("instance") or gate).rsplit(".", 1)[-1])
+    msg = (f"fanout of {stem_name} reconverges at {where} with skew {num(r.skew)} "
            f"(through {slow_net} at {num(r.slow_arrival)}, through {fast_net} at "
            f"{num(r.fast_arrival)}), {reach}")
     fast_ids, fast_hops = path(False, context.hop)
@@ -360,4 +362,4 @@ def _path_text(hops, keep: int = 4) -> str:
              (hops if len(hops) <= 2 * keep else hops[:keep] + hops[-keep:])]
     if len(hops) > 2 * keep:
         parts.insert(keep, f"... {len(hops) - 2 * keep} more ...")
-    return " -> ".join(parts) + f" ({len(hops) - 1} gates)"
+    return " -> ".join(parts) + f" ({count(len(hops) - 1, 'gate')})"

@@ -13,6 +13,7 @@ from typing import Any, Mapping
 import networkx as nx
 
 from ..diagnostics import Hop, Location
+from ..findings.words import gate_words
 from ..graph import ASYNC_ROLES, SOURCE_KINDS
 from .changes import (ASYNC_ATTR, ChangeModel, build_change_model, declared_quiet_inputs,
                       matches as _matches, quiet_nets, truthy_attr as _truthy_attr)
@@ -289,7 +290,7 @@ class AnalysisContext:
         """Like :meth:`Hop.describe`, with the path relative to the project root."""
         where = (f" ({self.display_path(h.location.path)}:{h.location.line})"
                  if h.location else "")
-        via = f" via {h.cell} {h.gate}" if h.gate else ""
+        via = f" via {gate_words(h.cell, h.gate)}" if h.gate else ""
         t = "" if h.arrival is None else f" @{h.arrival:g}"
         return f"{h.net}{t}{via}{where}"
 

@@ -103,11 +103,16 @@ def coverage_text(design) -> str:
     return f"; {len(left)} of {total} module{'' if total == 1 else 's'} not analysed: {shown}"
 
 
+# the timing diagrams' glyphs in ASCII, as hazlint.analysis.waves draws them with ascii_only
+ASCII = str.maketrans({"\u203e": "-", "\u2191": "r", "\u2193": "f"})
+
+
 def write(result: Any, stream, color: bool = False, evidence: bool = True,
-          caution: bool = True) -> None:
+          caution: bool = True, ascii_only: bool = False) -> None:
     rel = getattr(result, "relpath", None) or (lambda p: p)
     for d in result.diagnostics:
-        stream.write("\n".join(format_diagnostic(d, rel, color, evidence)) + "\n")
+        text = "\n".join(format_diagnostic(d, rel, color, evidence)) + "\n"
+        stream.write(text.translate(ASCII) if ascii_only else text)
     stream.write(summary_line(result) + "\n")
     if caution:
         stream.write(CAUTION + "\n")
