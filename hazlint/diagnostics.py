@@ -12,6 +12,7 @@ import json
 from dataclasses import dataclass, field, replace
 from typing import Any, Iterable, Mapping
 
+from .findings.public import public_evidence
 from .findings.words import gate_words
 
 
@@ -204,7 +205,7 @@ class Diagnostic:
             "column": self.location.column,
             "instance": self.instance,
             "message": self.message,
-            "evidence": _relativise(dict(self.evidence), relpath),
+            "evidence": _relativise(public_evidence(self.evidence), relpath),
             "fix": self.fix,
         }
         if self.flows:

@@ -66,6 +66,13 @@ def test_demo_json_has_one_problem_per_finding(demo):
         assert r["evidence"]["rules"] == ["unbalanced-reconvergence", "unregistered-async"]
         (also,) = r["evidence"]["also"]
         assert also["rule"] == "unregistered-async" and also["path"].endswith(".v")
+    # net names, not the graph's node ids; one witness, by net name
+    assert rows[0]["evidence"]["sink_node"] == "u_fault.fault_q.reset"
+    assert rows[1]["evidence"]["waveform_nets"][-1] == "valve_enable"
+    assert rows[0]["evidence"]["witness"] == {
+        "inputs": {"estop_n": 1, "guard_closed": 1}, "transition": {"maint_key": [1, 0]}}
+    text = json.dumps(rows)
+    assert '"@' not in text and "before_nodes" not in text
 
 
 def _all_ids(tmp_path):

@@ -10,8 +10,9 @@ listed by name with their skew (at most :data:`MAX_STEMS`, then a count of the r
 Every folded finding carries ``evidence["problem"]`` (``hazard:<sink>`` or ``loop:<net>``),
 which is its identity for baselines and SARIF fingerprints: it does not change when another stem
 becomes the worst one or the proof picks another witness, only when the sink (or the loop) does.
-``evidence["also"]`` lists the folded members (rule, kind, place) so an acceptance written for
-any of them still applies.
+``evidence["also"]`` lists the folded members (rule, kind, place): every other rule's report and
+the first :data:`MAX_LISTED` other reports of the leading rule (``also_left_out`` counts the
+rest), so an acceptance written for any of them still applies.
 """
 from __future__ import annotations
 
@@ -24,7 +25,8 @@ HAZARD_KINDS = frozenset(("unbalanced-reconvergence", "unregistered-async", "sta
                           "static-0-hazard", "dynamic-hazard"))
 PROVEN_KINDS = frozenset(("static-1-hazard", "static-0-hazard", "dynamic-hazard"))
 LOOP_KINDS = frozenset(("combinational-loop", "oscillation"))
-MAX_STEMS = 5        # other stems named in a folded finding; the rest are counted
+MAX_STEMS = 5        # other stems named in a folded finding's text; the rest are counted
+MAX_LISTED = 20      # folded members of the leading rule kept in the evidence (JSON, SARIF)
 
 
 def _ev(d: Diagnostic) -> Mapping:
@@ -114,7 +116,13 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str])
     flows = tuple(primary.flows)
     fix = primary.fix
     if others:
-        evidence["also"] = [_also(m) for m in others]
+        # every other rule's report, and the first of the leading rule's other reports (a
+        # plain output of an arithmetic block can gather thousands of stems)
+        same = [m for m in others if m.rule == primary.rule]
+        evidence["also"] = [_also(m) for m in others if m.rule != primary.rule] + \
+            [_also(m) for m in same[:MAX_LISTED]]
+        if len(same) > MAX_LISTED:
+            evidence["also_left_out"] = len(same) - MAX_LISTED
     stems = [m for m in others if _is_reconvergence(m)]
     if stems and not _is_reconvergence(primary):
         # the reconvergence evidence (stem, both paths, skew) of the worst stem
@@ -135,7 +143,8 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str])
         evidence["other_stems"] = [
             {"stem": name(_ev(m)["stem_node"]),
              "skew": _ev(m).get("skew"), "path": m.location.path, "line": m.location.line}
-            for m in stems]
+            for m in stems[:MAX_LISTED]]
+        evidence["other_stem_count"] = len(stems)
         shown = [f"{s['stem']} (skew {_num(s['skew'])})" for s in evidence["other_stems"]
                  [:MAX_STEMS]]
         rest = len(stems) - len(shown)

@@ -26,6 +26,7 @@ from urllib.parse import quote
 
 from .. import __version__
 from ..baseline import fingerprint
+from ..findings.public import public_evidence
 from ..diagnostics import Diagnostic, Hop, Location, Severity, sort_diagnostics
 
 SARIF_VERSION = "2.1.0"
@@ -206,7 +207,7 @@ def result_object(d: Diagnostic, locator: _Locator, rule_index: int | None) -> d
         props["fix"] = d.fix
     if d.notes:
         props["notes"] = list(d.notes)
-    ev = _jsonable(dict(d.evidence)) if d.evidence else None
+    ev = _jsonable(public_evidence(d.evidence)) if d.evidence else None
     if ev:
         props["evidence"] = ev
     res["properties"] = props
