@@ -222,3 +222,21 @@ def test_fingerprints_survive_an_unrelated_edit_in_a_real_history(demo):
     assert [(r, fp) for r, _, fp in after] == [(r, fp) for r, _, fp in before]
     p = hazlint("--no-cache", "--baseline", "base.json", cwd=demo)
     assert p.returncode == 0 and "3 in baseline" in p.stdout
+
+
+def test_old_attribute_spelling_still_holds_an_input_static(tmp_path):
+    # (* hazlint_sync *) is the old spelling of (* hazlint_static *): same verdict, one note
+    src = ("module clr (clk, d, a, k, q);\n  input clk, d, a;\n  (* {attr} *) input k;\n"
+           "  output reg q;\n  wire clr_n = ~(a & k);\n"
+           "  always @(posedge clk or negedge clr_n) if (!clr_n) q <= 0; else q <= d;\n"
+           "endmodule\n")
+    outs = {}
+    for attr in ("hazlint_sync", "hazlint_static"):
+        (tmp_path / f"{attr}.v").write_text(src.replace("{attr}", attr))
+        p = hazlint("--no-cache", "--format", "json", f"{attr}.v", cwd=tmp_path)
+        assert p.returncode in (0, 1), p.stderr
+        outs[attr] = ([r["kind"] for r in json.loads(p.stdout)], p.stderr)
+    # k never changes, so the clear follows a alone through one gate: no finding
+    assert outs["hazlint_static"] == ([], "")
+    assert outs["hazlint_sync"][0] == []
+    assert "'hazlint_sync' is now 'hazlint_static' (hazlint_sync.v:3)" in outs["hazlint_sync"][1]
