@@ -11,7 +11,7 @@ Gaillardon, De Micheli, IWLS 2015). Both are combinational, without registers or
   own sink. The larger netlists run without the prover (``--no-prove``): the batched proofs of
   tens of thousands of reconvergences would dominate the suite, and the grouping is what is
   checked here; they are marked slow, and their arrival-time work is bounded (``work_budget``
-  2e8 node visits; the stems left out are reported as ``analysis-incomplete``).
+  5e7 node visits; the stems left out are reported as ``analysis-incomplete``).
 
 The count of places the default scope does not list is checked on the small netlists against
 a brute-force oracle over networkx ancestors (a stem reconverges toward an output when two of
@@ -37,7 +37,7 @@ EPFL = ["adder.v", "arbiter.v", "bar.v", "cavlc.v", "ctrl.v", "dec.v", "div.v", 
         "int2float.v", "log2.v", "max.v", "memctrl.v", "multiplier.v", "priority_ckt.v",
         "router.v", "sin.v", "sqrt.v", "square.v", "voter.v"]
 BIG = 400_000            # bytes: netlists above are slow tests and run without the prover
-PROVE_MAX = 30_000       # bytes: the wider scope with the prover only up to this size
+PROVE_MAX = 10_000       # bytes: the wider scope with the prover only up to this size
 
 
 def _param(name):
@@ -81,7 +81,7 @@ def test_one_finding_per_problem(name, tmp_path):
     if size > BIG:
         # bounded arrival-time work on the large arithmetic blocks (stems past it are reported
         # as not analysed, an analysis-incomplete warning): the suite's time stays in check
-        opts["work_budget"] = 2e8
+        opts["work_budget"] = 5e7
     wide = lint([path], config=_config(tmp_path, size > BIG), cwd=str(tmp_path),
                 prove=size <= PROVE_MAX,
                 rule_options={"unbalanced-reconvergence": opts}, time_budget=0)
