@@ -87,7 +87,7 @@ def add_frontend_argument(p) -> None:
                         "pyverilog)")
 
 
-def _defines(items):
+def parse_defines(items):
     out = {}
     for item in items or ():
         k, _, v = item.partition("=")
@@ -189,7 +189,7 @@ def _run_options(args, files, config, cwd, changed) -> dict:
                 prove=not args.no_prove, top=args.top,
                 include_dirs=([os.path.abspath(d) for d in args.include_dirs]
                               if args.include_dirs else None),
-                defines=_defines(args.defines), baseline=args.baseline,
+                defines=parse_defines(args.defines), baseline=args.baseline,
                 rule_options=scope_options(args))
 
 

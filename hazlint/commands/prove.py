@@ -123,11 +123,11 @@ def _load(files, top, frontend, config, args):
     """The design as ``check`` loads it: the configuration's include directories, macros,
     cells, Liberty and SDF, with -I and -D over them."""
     from ..api import load
-    from .check import _defines
+    from .check import parse_defines
     config.frontend = frontend
     incs = [os.path.abspath(d) for d in args.include_dirs] if args.include_dirs else None
-    return load(files, config, top=top, include_dirs=incs, defines=_defines(args.defines) or None,
-                use_cache=not args.no_cache)
+    return load(files, config, top=top, include_dirs=incs,
+                defines=parse_defines(args.defines) or None, use_cache=not args.no_cache)
 
 
 def _targets(design, names):
