@@ -46,10 +46,10 @@ t0 = clock()
 design = load_design(sys.argv[1])
 t_load = clock() - t0
 rules = all_rules()
-opts = {x.id: x.resolve_options({"scope": "all"} if x.id == "skewed-reconvergence" else {})
+opts = {x.id: x.resolve_options({"scope": "all"} if x.id == "unbalanced-reconvergence" else {})
         for x in rules}
 out = {"load": t_load, "gates": design.summary()["gates"], "rules": {}}
-for r in sorted(rules, key=lambda r: r.id != "skewed-reconvergence"):
+for r in sorted(rules, key=lambda r: r.id != "unbalanced-reconvergence"):
     ctx = AnalysisContext(design, None, opts)
     t = clock()
     n = sum(1 for _ in r.check(design, ctx))
@@ -97,7 +97,7 @@ def compare(names, kernels, timeout) -> None:
             if "error" in d:
                 cells += [d["error"], ""]
                 continue
-            first = d["rules"]["skewed-reconvergence"][0]
+            first = d["rules"]["unbalanced-reconvergence"][0]
             cells += [f"{d['load']:.2f} / {first:.2f} / {d['all']:.2f} / {d['built']:.2f}",
                       f"{d['all'] / d['load']:.2f}"]
         print(f"| {name} | " + " | ".join(cells) + " |", flush=True)

@@ -22,6 +22,7 @@ from .config import Config, load_config
 from .diagnostics import Diagnostic, Severity, sort_diagnostics
 from .errors import EXIT_CLEAN, EXIT_FINDINGS, ConfigError, HazlintError
 from .plugins import PSEUDO_RULES, Rule, all_rules, select_rules
+from .findings.names import RECONVERGENCE_RULE, rule_id, rule_ids
 from .paths import relpath
 from .waivers import UNUSED_RULE, apply_waivers, read_waiver_file, scan_sources
 
@@ -192,6 +193,22 @@ def refine(design, diagnostics: list[Diagnostic], context, options: Mapping[str,
     return list(prove.refine(design, diagnostics, context, dict(options)))
 
 
+def _unlisted(context, rules, opts) -> dict:
+    """Plain sinks with reconvergent fanout that the reconvergence rule's scope leaves out
+    (:mod:`hazlint.findings.scope`); empty when the rule did not run or lists them."""
+    from .findings.scope import unlisted
+    rid = RECONVERGENCE_RULE
+    if rid not in {r.id for r in rules} or budget.expired():
+        return {}
+    scope = (opts.get(rid) or {}).get("scope")
+    u = unlisted(context)
+    if scope == "outputs":
+        u = type(u)(0, u.data_pins)
+    elif scope != "async":
+        return {}
+    return u.to_json() if u else {}
+
+
 def _touches(d: Diagnostic, changed: set[str]) -> bool:
     if d.location.path and _norm(d.location.path) in changed:
         return True
@@ -233,12 +250,13 @@ def _plan(files, *, config, cwd, texts, select, ignore, rule_options) -> _Plan:
             if os.path.isdir(p):
                 raise HazlintError("is a directory, not a Verilog file", path=p)
             raise HazlintError(f"file not found: {relpath(p, cwd)}", path=p)
-    sel = list(select) if select is not None else config.select
-    ign = list(config.ignore) + list(ignore)
+    sel = rule_ids(select, "--select") if select is not None else config.select
+    ign = list(config.ignore) + rule_ids(ignore, "--ignore")
     rules = select_rules(sel, ign)
     opts = {}
     given = dict(config.rules)
     for k, v in (rule_options or {}).items():
+        k = rule_id(k)
         given[k] = dict(given.get(k, {}), **v)
     known_ids = {r.id for r in all_rules()}
     for rid in given:
@@ -290,7 +308,7 @@ def report_key(files: Sequence[str] | None = None, *, config: Config | None = No
     if rkey is None:
         return None
     digests = {}
-    for tag, p in (("waivers", config.waiver_file), ("baseline", baseline or config.baseline)):
+    for tag, p in (("waivers", config.accept_file), ("baseline", baseline or config.baseline)):
         if p:
             digests[tag] = [os.path.abspath(p), digest_file(p) if os.path.exists(p) else None]
     material = {
@@ -379,6 +397,8 @@ def _lint_planned(plan: _Plan, *, texts, changed, prove, top, include_dirs, defi
         diags = list(diags) + [n for n in (design.notes or []) if isinstance(n, Diagnostic)
                                and n.rule not in ign and (sel is None or n.rule in sel
                                                           or n.kind in _COVERAGE_KINDS)]
+        from .findings.fold import fold
+        diags = fold(diags, context.sensitive_sinks, context.describe)
         if rkey and not texts and not budget.hit():
             rcache.store(rkey, diags)     # findings cut short by the clock are not kept
 
@@ -386,10 +406,10 @@ def _lint_planned(plan: _Plan, *, texts, changed, prove, top, include_dirs, defi
     sources = list(dict.fromkeys(list(getattr(design, "files", []) or []) + paths
                                  + list(getattr(design, "includes", []) or [])))
     waivers = scan_sources(sources, texts)
-    if config.waiver_file:
-        waivers += read_waiver_file(config.waiver_file)
+    if config.accept_file:
+        waivers += read_waiver_file(config.accept_file)
     ran = {r.id for r in rules} | {d.rule for d in diags}
-    kept, waived, problems = apply_waivers(diags, waivers, ran, known_ids)
+    kept, waived, problems = apply_waivers(diags, waivers, ran, known_ids | set(PSEUDO_RULES))
     if UNUSED_RULE not in ign:
         level = config.severity.get(UNUSED_RULE)
         kept += [p.with_severity(Severity.parse(level)) if level else p for p in problems]
@@ -411,6 +431,7 @@ def _lint_planned(plan: _Plan, *, texts, changed, prove, top, include_dirs, defi
     waived = sort_diagnostics(waived)
     counts = {str(s): sum(1 for d in kept if d.severity == s) for s in Severity}
     counts.update(total=len(kept), waived=len(waived), baselined=len(baselined))
+    counts["unlisted"] = _unlisted(context, rules, opts)
     return LintResult(diagnostics=kept, waived=waived, design=design, config=config, root=root,
                       counts=counts, rules={r.id: r for r in rules}, baselined=baselined,
                       files=paths, context=context, incomplete=budget.hit())

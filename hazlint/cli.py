@@ -61,7 +61,10 @@ def main(argv: list[str] | None = None) -> int:
         if not hasattr(args, "_run"):
             parser.print_help()
             return EXIT_INPUT_ERROR
-        return int(args._run(args) or 0)
+        try:
+            return int(args._run(args) or 0)
+        finally:
+            _deprecation_note()
     except HazlintError as exc:
         print(str(exc), file=sys.stderr)
         return exc.exit_code
@@ -86,6 +89,15 @@ def main(argv: list[str] | None = None) -> int:
         print(f"hazlint: internal error: {type(exc).__name__}: {exc} (this is a bug in hazlint; "
               f"rerun with HAZLINT_DEBUG=1 for the details to report)", file=sys.stderr)
         return EXIT_INTERNAL_ERROR
+
+
+def _deprecation_note() -> None:
+    """One line on stderr naming every old spelling this run met (configuration keys, rule
+    ids in options, acceptances and attributes); see :mod:`hazlint.findings.names`."""
+    from .findings.names import take_note
+    note = take_note()
+    if note:
+        print(note, file=sys.stderr)
 
 
 def _first_file(argv) -> str:

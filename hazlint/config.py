@@ -16,16 +16,16 @@ Keys (all optional)::
                      ff = { clocked_on = "CK", next_state = "D" } } }
     liberty = ["lib/cells.lib"]
     sdf = "build/press.sdf"
-    select = ["comb-loop"]          # run only these rules
-    ignore = ["skewed-reconvergence"]
-    severity = { skewed-reconvergence = "error" }
+    select = ["combinational-loop"]          # run only these rules
+    ignore = ["unbalanced-reconvergence"]
+    severity = { unbalanced-reconvergence = "error" }
     fail_on = "warning"             # error | warning | info | never
     async_outputs = ["valve_enable"]   # output ports whose glitches do harm (globs allowed)
-    sync_inputs = ["maint_key"]        # inputs that are synchronous or quasi-static (globs)
+    static_inputs = ["maint_key"]        # inputs that are synchronous or quasi-static (globs)
     one_at_a_time = { wr_ptr = ["u_fifo.wr_gray"] }  # groups changing one member at a time
     one_hot = { state = ["u_ctl.state_q"] }          # groups with at most one member at 1
     cell_model = "atomic"           # or "sum-of-products" (see hazlint.analysis.cellmodel)
-    waiver_file = "hazlint-waivers.toml"
+    accept_file = "hazlint-waivers.toml"
     baseline = "hazlint-baseline.json"
     cache_dir = ".hazlint-cache"
     cache_limit_mb = 2048           # size limit of the cache folder (0: none)
@@ -36,7 +36,7 @@ Keys (all optional)::
     time_budget = 60                # seconds for the whole run (0: none); see hazlint.budget
     limits = { vector_width = 1048576 }   # size limits; see hazlint.limits
 
-    [rules.skewed-reconvergence]    # rule options (see ``hazlint explain RULE``)
+    [rules.unbalanced-reconvergence]    # rule options (see ``hazlint explain RULE``)
     min_skew = 0.5
 """
 from __future__ import annotations
@@ -74,11 +74,11 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "fail_on": ((str,), "error, warning, info or never"),
     "rules": ((dict,), "a table of rule id = option table"),
     "async_outputs": ((list, str), "a list of output port names or globs"),
-    "sync_inputs": ((list, str), "a list of input port names or globs"),
+    "static_inputs": ((list, str), "a list of input port names or globs"),
     "one_at_a_time": ((dict,), "a table of group name = list of signals"),
     "one_hot": ((dict,), "a table of group name = list of signals"),
     "cell_model": ((str,), '"atomic" or "sum-of-products"'),
-    "waiver_file": ((str,), "a path"),
+    "accept_file": ((str,), "a path"),
     "baseline": ((str,), "a path"),
     "cache_dir": ((str,), "a path"),
     "cache_limit_mb": ((int,), "a size in MB (0: no limit)"),
@@ -111,11 +111,11 @@ class Config:
     fail_on: str = "warning"
     rules: dict[str, dict[str, Any]] = field(default_factory=dict)
     async_outputs: list[str] = field(default_factory=list)
-    sync_inputs: list[str] = field(default_factory=list)
+    static_inputs: list[str] = field(default_factory=list)
     one_at_a_time: dict[str, list[str]] = field(default_factory=dict)
     one_hot: dict[str, list[str]] = field(default_factory=dict)
     cell_model: str = "atomic"
-    waiver_file: str | None = None
+    accept_file: str | None = None
     baseline: str | None = None
     cache_dir: str | None = None
     cache_limit_mb: int | None = None
@@ -245,10 +245,45 @@ def _key_lines(text: str, prefix: str) -> dict[str, int]:
     return lines
 
 
+def _new_spellings(table: dict[str, Any], path: str | None, key_lines: dict[str, int]):
+    """The table with old key names and rule ids in their current spelling
+    (:mod:`hazlint.findings.names`; each old one met is remembered for the run's note)."""
+    from .findings.names import KEY_RENAMES, deprecated, rule_id, rule_ids
+    table = dict(table)
+    key_lines = dict(key_lines)
+
+    def where(key):
+        line = key_lines.get(key)
+        return f"{os.path.basename(path)}:{line}" if path and line else (path or "")
+    for old, new in KEY_RENAMES.items():
+        if old in table:
+            if new in table:
+                raise ConfigError(f"configuration keys '{old}' and '{new}' are the same key "
+                                  f"(the old and the new name): keep '{new}'", path=path,
+                                  line=key_lines.get(old), construct=old)
+            deprecated(old, new, where(old))
+            table[new] = table.pop(old)
+            if old in key_lines:
+                key_lines[new] = key_lines[old]
+    for key in ("select", "ignore"):
+        v = table.get(key)
+        if isinstance(v, list):
+            table[key] = rule_ids([x for x in v if isinstance(x, str)], where(key)) \
+                if all(isinstance(x, str) for x in v) else v
+        elif isinstance(v, str):
+            table[key] = rule_id(v, where(key))
+    for key in ("severity", "rules"):
+        v = table.get(key)
+        if isinstance(v, dict):
+            table[key] = {rule_id(k, where(key)): x for k, x in v.items()}
+    return table, key_lines
+
+
 def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
                       prefix: str = "") -> Config:
     root = os.path.dirname(path) if path else os.getcwd()
     key_lines = _key_lines(text, prefix) if text else {}
+    table, key_lines = _new_spellings(table, path, key_lines)
     cfg = Config(path=path, root=root, raw=dict(table), key_lines=key_lines)
     for key, value in table.items():
         if key not in KEYS:
@@ -322,7 +357,7 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
             raise err("rules", f"rules.{rid} must be a table of options")
     cfg.rules = {k: dict(v) for k, v in rules.items()}
     cfg.async_outputs = strs("async_outputs")
-    cfg.sync_inputs = strs("sync_inputs")
+    cfg.static_inputs = strs("static_inputs")
     for key in ("one_at_a_time", "one_hot"):
         groups = {}
         for name, sigs in table.get(key, {}).items():
@@ -338,7 +373,7 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
             raise err("cell_model", f"cell_model must be one of {', '.join(CELL_MODELS)}, "
                       f"got {table['cell_model']!r}")
         cfg.cell_model = table["cell_model"]
-    for key in ("waiver_file", "baseline", "cache_dir"):
+    for key in ("accept_file", "baseline", "cache_dir"):
         if key in table:
             setattr(cfg, key, abspath(table[key]))
     if "cache_limit_mb" in table:

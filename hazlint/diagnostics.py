@@ -12,6 +12,9 @@ import json
 from dataclasses import dataclass, field, replace
 from typing import Any, Iterable, Mapping
 
+from .findings.public import public_evidence
+from .findings.words import gate_words
+
 
 class Severity(enum.IntEnum):
     """Ordered severities; a run fails on findings at or above ``--fail-on``."""
@@ -41,7 +44,7 @@ KINDS = (
     "dynamic-hazard",
     "function-hazard",
     "oscillation",
-    "waiver-unused",
+    "unused-acceptance",
     "design-note",
     "analysis-incomplete",      # a rule stopped at its work budget: part of the design unchecked
 )
@@ -85,7 +88,7 @@ class Hop:
 
     def describe(self) -> str:
         where = f" ({self.location.path}:{self.location.line})" if self.location else ""
-        via = f" {self.cell} {self.gate}" if self.gate else ""
+        via = f" {gate_words(self.cell, self.gate)}" if self.gate else ""
         t = f" @{_num(self.arrival)}" if self.arrival is not None else ""
         return f"{self.net}{t} via{via}{where}" if via else f"{self.net}{t}{where}"
 
@@ -182,7 +185,12 @@ class Diagnostic:
 
     def fingerprint_material(self) -> str:
         """What identifies this finding across unrelated edits: rule, kind, instance and the nets
-        of its evidence, never line numbers."""
+        of its evidence, never line numbers. A finding folded from several
+        (:mod:`hazlint.findings.fold`) is identified by its problem alone (the sink or the
+        loop), so another stem or witness for the same problem keeps it."""
+        problem = self.evidence.get("problem") if isinstance(self.evidence, Mapping) else None
+        if problem:
+            return json.dumps(["problem", problem])
         nets = sorted({h.net for flow in self.flows for h in flow})
         key = self.evidence.get("key") if isinstance(self.evidence, Mapping) else None
         return json.dumps([self.rule, self.kind, self.instance, key, nets], sort_keys=True)
@@ -197,7 +205,7 @@ class Diagnostic:
             "column": self.location.column,
             "instance": self.instance,
             "message": self.message,
-            "evidence": _relativise(dict(self.evidence), relpath),
+            "evidence": _relativise(public_evidence(self.evidence), relpath),
             "fix": self.fix,
         }
         if self.flows:
@@ -205,7 +213,7 @@ class Diagnostic:
                 [dict(h.to_json(), **({"path": relpath(h.location.path)} if h.location else {}))
                  for h in flow] for flow in self.flows])
         if self.waived is not None:
-            d["waived"] = self.waived
+            d["accepted"] = self.waived
         return d
 
 

@@ -2,7 +2,7 @@
 
 A rule is a module (or any object) with these attributes:
 
-``ID``        rule id, lowercase words joined by hyphens (``"comb-loop"``)
+``ID``        rule id, lowercase words joined by hyphens (``"combinational-loop"``)
 ``SUMMARY``   one line
 ``KINDS``     tuple of :data:`hazlint.diagnostics.KINDS` values the rule emits
 ``SEVERITY``  default severity name (``"error"``, ``"warning"``, ``"info"``)
@@ -155,6 +155,8 @@ def get_rule(rule_id: str) -> Rule:
     for r in _discover():
         if r.id == rule_id:
             return r
+    if rule_id in PSEUDO_RULES:
+        return pseudo_rule(rule_id)
     raise HazlintError(f"unknown rule '{rule_id}' (known: "
                        f"{', '.join(r.id for r in _discover())})")
 
@@ -164,10 +166,59 @@ def select_rules(select: Iterable[str] | None = None, ignore: Iterable[str] = ()
     known = {r.id: r for r in _discover()}
     for rid in list(select or ()) + list(ignore):
         if rid not in known and rid not in PSEUDO_RULES:
-            raise ConfigError(f"unknown rule '{rid}' (known: {', '.join(sorted(known))})")
+            raise ConfigError(f"unknown rule '{rid}' (known: "
+                              f"{', '.join(sorted(list(known) + list(PSEUDO_RULES)))})")
     chosen = [r for r in known.values() if select is None or r.id in set(select)]
     return [r for r in chosen if r.id not in set(ignore)]
 
 
-# Rule ids that hazlint itself emits outside the plugins (waiver bookkeeping).
-PSEUDO_RULES = {"unused-waiver": "a waiver comment or waiver-file entry that matched no finding"}
+# Rule ids that hazlint itself emits outside the plugins: acceptance bookkeeping and what the
+# readers and the elaborator note. They can be selected, ignored, given a severity and
+# explained like any rule.
+PSEUDO_RULES = {
+    "unused-acceptance": "an accept comment or accept-file entry that matched no finding",
+    "front-end": "what reading and elaborating the design noted: modules or files left out of "
+                 "the analysis, constructs read in a particular way",
+}
+_PSEUDO_DOCS = {
+    "unused-acceptance": (
+        "warning", ("unused-acceptance",),
+        """An acceptance that no longer matches anything.
+
+What it finds
+    An inline ``// hazlint accept(RULE): reason`` comment, or an ``[[accept]]`` table of the
+    accept file, that matched no finding of the rules that ran; also an accept comment that
+    names no rule or gives no reason (it is then ignored).
+
+Why it matters
+    Stale acceptances pile up and end up hiding a new finding on the same line.
+
+How to fix
+    Remove the acceptance, or correct its rule id or pattern."""),
+    "front-end": (
+        "warning", ("design-note", "not-analysed", "file-not-read"),
+        """What reading and elaborating the design noted.
+
+What it finds
+    A module left out of the analysis because a construct in it cannot be logic (its instances
+    become black boxes; kind ``not-analysed``, a warning at the construct's line), a file that
+    does not parse and that no chosen top needs (kind ``file-not-read``), and notes of the
+    readers about the text (kind ``design-note``, info), such as a port declared but missing
+    from the port list.
+
+Why it matters
+    A design analysed only in part cannot be clean: these warnings keep a partial run from
+    ending in a silent "0 findings", and ``--select`` never drops them.
+
+How to fix
+    Rewrite the construct as logic, or lint the module's parent with the module as a black
+    box on purpose; fix or remove the file that does not parse."""),
+}
+
+
+def pseudo_rule(rule_id: str) -> Rule:
+    """The :class:`Rule` view of a built-in pseudo rule (for ``explain`` and ``rules``)."""
+    sev, kinds, doc = _PSEUDO_DOCS[rule_id]
+    return Rule(id=rule_id, summary=PSEUDO_RULES[rule_id], doc=doc,
+                severity=Severity.parse(sev), kinds=kinds, options=(),
+                check=lambda design, context: iter(()), origin="hazlint (built in)")

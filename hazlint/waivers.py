@@ -2,22 +2,22 @@
 
 Inline, in the Verilog source, on the reported line or on the line above it::
 
-    nand g1 (q, s_n, qb);   // hazlint accept(comb-loop): set/reset storage pair by design
-    // hazlint accept(async-from-logic, skewed-reconvergence): reset released by sync stage
+    nand g1 (q, s_n, qb);   // hazlint accept(combinational-loop): set/reset storage pair by design
+    // hazlint accept(unregistered-async, unbalanced-reconvergence): reset released by sync stage
 
 The reason after the colon is required; a comment without one is itself reported. ``/* ... */``
 works the same way.
 
-In a waiver file (TOML, configuration key ``waiver_file``), one table per accepted finding, with
+In a waiver file (TOML, configuration key ``accept_file``), one table per accepted finding, with
 the rule (or ``"*"``), an instance-path glob and the reason; ``path`` (a glob relative to the
 waiver file) is optional::
 
     [[accept]]
-    rule = "comb-loop"
+    rule = "combinational-loop"
     instance = "press_top.u_latch.*"
     reason = "cross-coupled storage element reviewed"
 
-A waiver that matches no finding of the rules that ran is reported (kind ``waiver-unused``), so
+A waiver that matches no finding of the rules that ran is reported (kind ``unused-acceptance``), so
 stale waivers do not pile up.
 """
 from __future__ import annotations
@@ -36,9 +36,10 @@ else:  # pragma: no cover
 
 from .diagnostics import Diagnostic, Location, Severity
 from .errors import ConfigError
+from .findings.names import rule_id
 
-UNUSED_RULE = "unused-waiver"
-UNUSED_KIND = "waiver-unused"
+UNUSED_RULE = "unused-acceptance"
+UNUSED_KIND = "unused-acceptance"
 _INLINE = re.compile(
     r"(?://|/\*)\s*hazlint\s+accept\s*\(\s*([^)]*?)\s*\)\s*(?::\s*(.*?))?\s*(?:\*/.*)?$")
 _FILE_KEYS = {"rule", "instance", "reason", "path"}
@@ -56,18 +57,34 @@ class Waiver:
     problems: list[str] = field(default_factory=list)
 
     def matches(self, d: Diagnostic, norm) -> bool:
-        if "*" not in self.rules and d.rule not in self.rules:
+        """Whether this acceptance covers ``d``, or one of the findings folded into it
+        (:mod:`hazlint.findings.fold`: an acceptance written for any rule's report of a
+        problem accepts the problem)."""
+        return any(self._matches_one(rule, path, line, inst, norm)
+                   for rule, path, line, inst in _members(d))
+
+    def _matches_one(self, rule, path, line, instance, norm) -> bool:
+        if "*" not in self.rules and rule not in self.rules:
             return False
         if self.origin == "inline":
-            return (norm(d.location.path) == norm(self.location.path)
-                    and d.location.line in (self.location.line, self.location.line + 1))
-        if self.instance is not None and not fnmatch.fnmatchcase(d.instance, self.instance):
+            return (norm(path) == norm(self.location.path)
+                    and line in (self.location.line, self.location.line + 1))
+        if self.instance is not None and not fnmatch.fnmatchcase(instance, self.instance):
             return False
         if self.path_glob is not None:
-            p = norm(d.location.path)
-            if not fnmatch.fnmatchcase(p, self.path_glob):
+            if not fnmatch.fnmatchcase(norm(path), self.path_glob):
                 return False
         return True
+
+
+def _members(d: Diagnostic):
+    """(rule, path, line, instance) of ``d`` and of each finding folded into it."""
+    yield d.rule, d.location.path, d.location.line, d.instance
+    ev = d.evidence if isinstance(d.evidence, Mapping) else {}
+    for m in ev.get("also") or ():
+        if isinstance(m, Mapping):
+            yield (m.get("rule", ""), m.get("path", ""), m.get("line", 0),
+                   m.get("instance", ""))
 
 
 def _norm(path: str) -> str:
@@ -85,7 +102,8 @@ def scan_text(path: str, text: str) -> list[Waiver]:
         m = _INLINE.search(line)
         if not m:
             continue
-        rules = tuple(r.strip() for r in m.group(1).split(",") if r.strip())
+        rules = tuple(rule_id(r.strip(), f"{os.path.basename(path)}:{i}")
+                      for r in m.group(1).split(",") if r.strip())
         reason = (m.group(2) or "").strip()
         w = Waiver(rules=rules, reason=reason, location=Location(path, i, m.start() + 1),
                    origin="inline")
@@ -156,6 +174,7 @@ def read_waiver_file(path: str) -> list[Waiver]:
         if not rules or not all(isinstance(r, str) for r in rules):
             raise ConfigError("[[accept]] needs 'rule' (a rule id, a list of them, or \"*\")",
                               path=path, line=line)
+        rules = tuple(rule_id(r, f"{os.path.basename(path)}:{line}") for r in rules)
         reason = e.get("reason")
         if not isinstance(reason, str) or not reason.strip():
             raise ConfigError("[[accept]] needs a non-empty 'reason'", path=path, line=line)
@@ -204,23 +223,23 @@ def apply_waivers(diagnostics: Sequence[Diagnostic], waivers: Sequence[Waiver],
     for w in waivers:
         names = ", ".join(w.rules) or "?"
         if w.problems:
-            msg = f"waiver for {names} {' and '.join(w.problems)}; it is ignored"
+            msg = f"acceptance of {names} {' and '.join(w.problems)}; it is ignored"
         elif w.used:
             continue
         else:
             unknown = [r for r in w.rules if r != "*" and r not in known]
             if unknown:
-                msg = f"waiver names unknown rule '{unknown[0]}'"
+                msg = f"acceptance names unknown rule '{unknown[0]}'"
             elif "*" not in w.rules and not (set(w.rules) & run):
                 continue          # its rules were not run this time: no verdict
             else:
                 what = (f"instance '{w.instance}'" if w.instance else
                         f"path '{w.path_glob}'" if w.path_glob else "this line or the next")
-                msg = f"waiver for {names} matches no finding ({what})"
+                msg = f"acceptance of {names} matches no finding ({what})"
         problems.append(Diagnostic(
             rule=UNUSED_RULE, kind=UNUSED_KIND, severity=Severity.WARNING, location=w.location,
             instance="", message=msg,
             evidence={"rules": list(w.rules), "origin": w.origin, "reason": w.reason,
                       "key": f"waiver:{w.origin}:{','.join(w.rules)}:{w.instance or ''}"},
-            fix="remove the waiver, or correct its rule id or pattern"))
+            fix="remove the acceptance, or correct its rule id or pattern"))
     return kept, waived, problems

@@ -7,7 +7,7 @@ What it finds
     output ports marked asynchronous (configuration ``async_outputs`` or the Verilog attribute
     ``(* hazlint_async *)`` on the port). The evidence lists the cone's sources and every
     reconvergent stem inside it. Inputs declared synchronous or quasi-static (configuration
-    ``sync_inputs``, or ``(* hazlint_sync *)`` / ``(* hazlint_static *)`` on the port) and
+    ``static_inputs``, or ``(* hazlint_static *)`` on the port) and
     constants do not count as sources of glitches.
 
     The hazard prover then decides each such pin over every transition its sources can make
@@ -42,11 +42,12 @@ How to fix
 from __future__ import annotations
 
 from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.findings.words import count
 from hazlint.plugins import Option
 
 from ._common import name_list, stable_key
 
-ID = "async-from-logic"
+ID = "unregistered-async"
 SUMMARY = "asynchronous pin, clock, enable or asynchronous output driven by combinational logic"
 KINDS = ("unregistered-async",)
 SEVERITY = "error"
@@ -99,14 +100,14 @@ def check(design, context):
                   else f"output {d.get('port') or context.describe(sink)}")
         src_names = sorted((context.describe(s) for s in toggling))
         stem_names = sorted(context.describe(s) for s in stems)
-        reason = (f"{len(gates)} gate(s) combine {len(toggling)} source(s)"
+        reason = (f"{count(len(gates), 'gate')} combine {count(len(toggling), 'source')}"
                   if len(toggling) > 1 else
-                  f"{len(gates)} gate(s) with reconvergent fanout of {src_names[0]}")
+                  f"{count(len(gates), 'gate')} with reconvergent fanout of {src_names[0]}")
         msg = (f"{target} is driven by combinational logic ({reason}: "
                f"{name_list(src_names, 4)}); a glitch here acts immediately")
         notes = [f"sources: {name_list(src_names, 12)}"]
         if quiet:
-            notes.append("quiet (synchronous, quasi-static or constant): "
+            notes.append("static (static inputs and constants never change): "
                          + name_list(sorted(context.describe(s) for s in quiet), 8))
         if stems:
             notes.append("reconvergent stems in the cone: " + name_list(stem_names, 8))
@@ -127,8 +128,23 @@ def check(design, context):
                       "cone_gates": len(gates),
                       "key": stable_key("async", sink)},
             notes=tuple(notes), flows=flows,
-            fix=("drive this pin from a register output (for a reset: assert asynchronously, "
-                 "release through a reset synchroniser); for a clock use a clock-gating cell"))
+            fix=_FIXES.get(role, _FIXES["reset"]))
+
+
+# the usual remedy per pin (common practice in synchronous design)
+_FIXES = {
+    "reset": "drive the reset from a register: assert it asynchronously if needed, release it "
+             "through a reset synchroniser",
+    "set": "drive the set from a register: assert it asynchronously if needed, release it "
+           "through a synchroniser",
+    "clock": "gate the clock with a clock-gating cell (a latch-held enable), not with logic, "
+             "or use the register's enable instead",
+    "enable": "drive the latch enable from a register, or use a flip-flop instead of the latch",
+    "tristate_enable": "drive the three-state enable from a register, so it changes once per "
+                       "clock edge",
+    "output": "register the output (a flip-flop in front of the port), so it changes once per "
+              "clock edge",
+}
 
 
 def _paths_to_sink(g, sink, sources, gates, rank, limit):

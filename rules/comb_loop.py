@@ -59,7 +59,7 @@ from hazlint.plugins import Option
 
 from ._common import name_list, severity, stable_key
 
-ID = "comb-loop"
+ID = "combinational-loop"
 SUMMARY = "feedback through combinational logic (a loop not broken by a register)"
 KINDS = ("combinational-loop", "oscillation")
 SEVERITY = "error"

@@ -33,7 +33,9 @@ How to fix
 
 Options
     ``scope``: which reconvergences to report: ``async`` (those that reach a glitch-sensitive
-    sink), ``outputs`` (those and every primary output, the default), ``all``.
+    sink, the default), ``outputs`` (those and every primary output), ``all`` (every sink,
+    register data pins included). Outside the default scope a pulse is harmless when timing is
+    met; the summary line counts the places left out. Findings at one sink fold into one.
     ``min_skew``: report when the skew reaches this many time units (default 0: any skew).
     ``work_budget``: an upper bound on the arrival-time work of one run, in node visits (each
     stem costs at most the nodes after it in topological order; default 1e9: every EPFL
@@ -48,18 +50,20 @@ import heapq
 from hazlint import budget
 from hazlint.diagnostics import Diagnostic, Severity
 
+from hazlint.findings.words import count, gate_words
 from hazlint.plugins import Option
 
 from ._common import name_list, num, stable_key
 
-ID = "skewed-reconvergence"
+ID = "unbalanced-reconvergence"
 SUMMARY = "reconvergent fanout whose branches arrive at different times (static/dynamic hazard risk)"
 KINDS = ("unbalanced-reconvergence", "analysis-incomplete")
 SEVERITY = "warning"
 OPTIONS = (
-    Option("scope", str, "outputs",
-           "report reconvergences reaching: async (glitch-sensitive sinks), outputs (those and "
-           "primary outputs), all", ("async", "outputs", "all")),
+    Option("scope", str, "async",
+           "report reconvergences reaching: async (glitch-sensitive sinks, the default), "
+           "outputs (those and every primary output), all (every sink, register data pins "
+           "included); also --scope on the command line", ("async", "outputs", "all")),
     Option("min_skew", float, 0.0,
            "report when the branch skew reaches this value (0: any positive skew)"),
     Option("work_budget", float, 1e9,
@@ -269,6 +273,12 @@ class _Fields:
     def __init__(self, context, f):
         self.context, self.f = context, f
 
+    def light_evidence(self) -> dict:
+        """The evidence that places the finding (stem, sinks, skew) without its paths or text:
+        what :mod:`hazlint.findings.fold` reads to group findings it does not all show."""
+        stem, _gate, r, sinks = self.f.facts()[:4]
+        return {"stem_node": stem, "sink_nodes": list(sinks), "skew": r.skew}
+
     def __call__(self) -> dict:
         f = self.f
         facts = f.facts()
@@ -294,8 +304,9 @@ def _fields(context, stem, gate, r, sinks, path) -> dict:
     fast_pin = pins[r.fast_pin] if r.fast_pin < len(pins) else str(r.fast_pin)
     slow_net = context.net_name(ins[r.slow_pin]) if r.slow_pin < len(ins) else slow_pin
     fast_net = context.net_name(ins[r.fast_pin]) if r.fast_pin < len(ins) else fast_pin
-    msg = (f"fanout of {stem_name} reconverges at {d.get('cell') or d.get('op')} "
-           f"{(d.get('instance') or gate).rsplit('.', 1)[-1]} with skew {num(r.skew)} "
+    where = gate_words(d.get("cell") or d.get("op") or "",
+                       (d.get("instance") or gate).rsplit(".", 1)[-1])
+    msg = (f"fanout of {stem_name} reconverges at {where} with skew {num(r.skew)} "
            f"(through {slow_net} at {num(r.slow_arrival)}, through {fast_net} at "
            f"{num(r.fast_arrival)}), {reach}")
     fast_ids, fast_hops = path(False, context.hop)
@@ -339,7 +350,7 @@ def _incomplete(context, left, analysed: int, work_budget: float | None) -> Diag
                                     else "reconv-out-of-time", str(len(left)))},
         notes=(f"stems reaching a glitch-sensitive sink were analysed first; "
                f"not analysed: {name_list(shown, 10)}",),
-        fix=(("raise [rules.skewed-reconvergence] work_budget (0: no limit)"
+        fix=(("raise [rules.unbalanced-reconvergence] work_budget (0: no limit)"
               if work_budget is not None else "raise the time budget (--time-budget, "
               "time_budget; 0: none)")
              + ", narrow scope to 'async', or lint the block's sub-modules one at a time"))
@@ -351,4 +362,4 @@ def _path_text(hops, keep: int = 4) -> str:
              (hops if len(hops) <= 2 * keep else hops[:keep] + hops[-keep:])]
     if len(hops) > 2 * keep:
         parts.insert(keep, f"... {len(hops) - 2 * keep} more ...")
-    return " -> ".join(parts) + f" ({len(hops) - 1} gates)"
+    return " -> ".join(parts) + f" ({count(len(hops) - 1, 'gate')})"

@@ -20,18 +20,18 @@ def diag(instance="press_top.g3", line=10, nets=("a", "b"), rule="reconvergent-h
 
 def test_round_trip_and_matching(tmp_path):
     f = tmp_path / "hazlint-baseline.json"
-    old = [diag(), diag("press_top.g7", 30), diag(rule="comb-loop", nets=("l1", "l2"))]
+    old = [diag(), diag("press_top.g7", 30), diag(rule="combinational-loop", nets=("l1", "l2"))]
     assert write_baseline(f, old, root=str(tmp_path)) == 3
     doc = json.loads(f.read_text())
     assert len(doc["findings"]) == 3 and "line" in doc["findings"][0]
     b = load_baseline(f)
     # same findings after an unrelated edit moved every line: all known
-    moved = [diag(line=14), diag("press_top.g7", 35), diag(rule="comb-loop", nets=("l1", "l2"),
+    moved = [diag(line=14), diag("press_top.g7", 35), diag(rule="combinational-loop", nets=("l1", "l2"),
                                                           line=2)]
     new, known = b.split(moved)
     assert new == [] and len(known) == 3
     # one new finding, one fixed
-    now = [diag(line=14), diag("press_top.g9", 50), diag(rule="comb-loop", nets=("l1", "l2"))]
+    now = [diag(line=14), diag("press_top.g9", 50), diag(rule="combinational-loop", nets=("l1", "l2"))]
     new, known = b.split(now)
     assert [d.instance for d in new] == ["press_top.g9"]
     assert [e["instance"] for e in b.fixed(now)] == ["press_top.g7"]
@@ -96,7 +96,9 @@ def cli(cwd, *args):
     import os
     import subprocess
     import sys
-    return subprocess.run([sys.executable, "-m", "hazlint.cli", "check", "--no-prove", *args],
+    # (the valve drives a plain output: listed at the wider scope)
+    return subprocess.run([sys.executable, "-m", "hazlint.cli", "check", "--no-prove",
+                           "--scope", "outputs", *args],
                           cwd=cwd, capture_output=True, text=True,
                           env=dict(os.environ, HAZLINT_CACHE_DIR=str(cwd / ".c")))
 
@@ -118,7 +120,7 @@ def test_cli_baseline_survives_edits_and_catches_new_findings(tmp_path):
     v.write_text("// press valve, reviewed 2024\n\n" + VALVE.replace("endmodule", LOOP_GATES))
     r = cli(tmp_path, "--baseline", "base.json", "--format", "json", "valve.v")
     assert r.returncode == 1, r.stderr
-    assert {f["rule"] for f in json.loads(r.stdout)} == {"comb-loop"}
+    assert {f["rule"] for f in json.loads(r.stdout)} == {"combinational-loop"}
     # a broken baseline file is an input error, exit 2, no traceback
     (tmp_path / "bad.json").write_text("{")
     r = cli(tmp_path, "--baseline", "bad.json", "valve.v")

@@ -26,7 +26,9 @@ REPO = Path(__file__).resolve().parents[1]
 NAMESPACES = ("parse", "design", "result", "report")
 
 HAZARD = """\
-module press_valve(input guard_closed, input two_hand, input maint_key, output valve_enable);
+module press_valve(guard_closed, two_hand, maint_key, valve_enable);
+  input guard_closed, two_hand, maint_key;
+  (* hazlint_async *) output valve_enable;     // a glitch here does harm: listed by default
   wire n_guard, run, bypass;
   not g_inv (n_guard, guard_closed);
   and g_run (run, two_hand, guard_closed);
@@ -66,7 +68,7 @@ def two_designs(tmp_path, capsys):
     hz.write_text(HAZARD)
     ok.write_text(CLEAN)
     cold = check(capsys, cache, hz)
-    assert cold[0] == 1 and "skewed-reconvergence" in cold[1]
+    assert cold[0] == 1 and "unbalanced-reconvergence" in cold[1]
     mine = {ns: entries(cache, ns) for ns in NAMESPACES}
     assert check(capsys, cache, ok)[0] == 0
     theirs = {ns: entries(cache, ns) - mine[ns] for ns in NAMESPACES}
@@ -95,10 +97,10 @@ def test_a_report_entry_edited_to_no_findings_is_dropped(capsys, two_designs):
     cache, hz, cold, pairs = two_designs
     entry = pairs["report"][0]
     text = entry.read_text()
-    assert '"worst":1' in text
-    entry.write_text(text.replace('"worst":1', '"worst":null'))
+    assert '"worst":2' in text          # an error: the output is declared asynchronous
+    entry.write_text(text.replace('"worst":2', '"worst":null'))
     assert check(capsys, cache, hz) == cold
-    assert '"worst":1' in entry.read_text()
+    assert '"worst":2' in entry.read_text()
 
 
 def test_random_bytes_in_a_kept_report_are_dropped(capsys, two_designs):

@@ -11,7 +11,7 @@ def test_pyproject_table_found_upward_and_paths_relative_to_it(tmp_path):
     (tmp_path / "pyproject.toml").write_text(
         '[project]\nname = "x"\n\n[tool.hazlint]\nfiles = ["rtl/*.v"]\ntop = "press_top"\n'
         'include_dirs = ["inc"]\nasync_outputs = ["valve_enable"]\nfail_on = "error"\n'
-        '[tool.hazlint.rules.skewed-reconvergence]\nmin_skew = 2\n')
+        '[tool.hazlint.rules.unbalanced-reconvergence]\nmin_skew = 2\n')
     (tmp_path / "rtl").mkdir()
     (tmp_path / "rtl" / "a.v").write_text("module a; endmodule\n")
     sub = tmp_path / "rtl" / "deep"
@@ -20,15 +20,15 @@ def test_pyproject_table_found_upward_and_paths_relative_to_it(tmp_path):
     assert cfg.path == str(tmp_path / "pyproject.toml") and cfg.root == str(tmp_path)
     assert cfg.files == [str(tmp_path / "rtl" / "a.v")]
     assert cfg.top == ["press_top"] and cfg.include_dirs == [str(tmp_path / "inc")]
-    assert cfg.rules == {"skewed-reconvergence": {"min_skew": 2}} and cfg.fail_on == "error"
+    assert cfg.rules == {"unbalanced-reconvergence": {"min_skew": 2}} and cfg.fail_on == "error"
 
 
 def test_hazlint_toml_wins_and_pyproject_without_table_is_skipped(tmp_path):
     (tmp_path / "pyproject.toml").write_text('[project]\nname = "x"\n')
     assert find_config(tmp_path) is None
-    (tmp_path / "hazlint.toml").write_text('sync_inputs = ["maint_key"]\n')
+    (tmp_path / "hazlint.toml").write_text('static_inputs = ["maint_key"]\n')
     cfg = load_config(cwd=tmp_path)
-    assert cfg.sync_inputs == ["maint_key"] and cfg.path.endswith("hazlint.toml")
+    assert cfg.static_inputs == ["maint_key"] and cfg.path.endswith("hazlint.toml")
 
 
 def test_no_config_gives_defaults_rooted_at_cwd(tmp_path):
@@ -51,7 +51,7 @@ def test_unknown_key_names_key_and_line(tmp_path):
 
 @pytest.mark.parametrize("text, word", [
     ('fail_on = "sometimes"\n', "fail_on"),
-    ('severity = { comb-loop = "fatal" }\n', "severity"),
+    ('severity = { combinational-loop = "fatal" }\n', "severity"),
     ('jobs = "two"\n', "jobs"),
     ('files = ["nothing/*.v"]\n', "match nothing"),
     ('top = [\n', "invalid TOML"),

@@ -1,8 +1,9 @@
 """Same input, same bytes: the reports do not depend on the string hash seed.
 
 ISCAS-85 c7552 (Brglez & Fujiwara 1985; the netlist shipped in the PyPI package
-circuitgraph==0.2.1, read in place) has hundreds of proven hazards whose delay searches, pulse
-times and waveforms used to follow Python's hash order of node names. Two processes with
+circuitgraph==0.2.1, read in place) has hundreds of proven hazards (at the wider scope, folded
+into one finding per output bit) whose delay searches, pulse times and waveforms used to follow
+Python's hash order of node names. Two processes with
 different ``PYTHONHASHSEED`` values lint it once each (no cache, no time budget) and write the
 text, JSON and SARIF reports; all three must be equal byte for byte.
 """
@@ -23,7 +24,8 @@ import sys
 from hazlint.api import lint
 from hazlint.report import json as rjson, sarif, text
 src, out = sys.argv[1], sys.argv[2]
-result = lint([src], use_cache=False, time_budget=0)
+result = lint([src], use_cache=False, time_budget=0,
+              rule_options={"unbalanced-reconvergence": {"scope": "outputs"}})
 for name, write in (("text", lambda s: text.write(result, s, color=False)),
                     ("json", lambda s: rjson.write(result, s)),
                     ("sarif", lambda s: sarif.write(result, s))):
@@ -45,7 +47,7 @@ def test_c7552_reports_do_not_depend_on_the_hash_seed(tmp_path):
     for fmt in ("text", "json", "sarif"):
         a = Path(f"{outs[0]}.{fmt}").read_bytes()
         b = Path(f"{outs[1]}.{fmt}").read_bytes()
-        assert len(a) > 100_000, fmt            # hundreds of findings with their evidence
+        assert len(a) > 20_000, fmt             # a finding per output bit with its evidence
         assert a == b, fmt
 
 

@@ -8,6 +8,9 @@ from __future__ import annotations
 import pytest
 from support.lsp_client import start, shutdown
 
+# the designs drive plain outputs: listed at the wider scope
+WIDE = '[rules.unbalanced-reconvergence]\nscope = "outputs"\n'
+
 HAZARD = """\
 module press_valve(input guard_closed, input two_hand, input maint_key, output valve_enable);
   wire n_guard, run, bypass;
@@ -45,7 +48,7 @@ def test_open_change_fix_shutdown(tmp_path):
     rtl = tmp_path / "rtl"
     rtl.mkdir()
     # a project configuration the CLI would use: the LSP must discover it from the document
-    (tmp_path / "hazlint.toml").write_text('files = ["rtl/*.v"]\ntop = "press_valve"\n')
+    (tmp_path / "hazlint.toml").write_text('files = ["rtl/*.v"]\ntop = "press_valve"\n' + WIDE)
     doc = rtl / "press_valve.v"
     doc.write_text(HAZARD)
     uri = doc.as_uri()
@@ -55,7 +58,7 @@ def test_open_change_fix_shutdown(tmp_path):
             "uri": uri, "languageId": "verilog", "version": 1, "text": HAZARD}})
         diags = c.diagnostics(uri, 1)
         assert diags, "expected the reconvergent-fanout finding"
-        hz = [d for d in diags if d["code"] == "skewed-reconvergence"]
+        hz = [d for d in diags if d["code"] == "unbalanced-reconvergence"]
         assert len(hz) == 1
         assert hz[0]["range"]["start"]["line"] == HAZARD_LINE - 1      # LSP lines are 0-based
         assert hz[0]["source"] == "hazlint"
@@ -78,7 +81,7 @@ def test_open_change_fix_shutdown(tmp_path):
         c.notify("textDocument/didChange", {"textDocument": {"uri": uri, "version": 4},
                                             "contentChanges": [{"text": LOOP}]})
         diags = c.diagnostics(uri, 4)
-        loops = [d for d in diags if d["code"] == "comb-loop"]
+        loops = [d for d in diags if d["code"] == "combinational-loop"]
         assert loops and loops[0]["range"]["start"]["line"] == LOOP_LINE - 1
 
         # saved with the fixed text: the diagnostics go away again
@@ -108,7 +111,7 @@ def test_syntax_error_is_a_diagnostic_not_a_crash(tmp_path):
         # a sub-project with its own configuration: the server applies it like the CLI would
         sub = tmp_path / "sub"
         sub.mkdir()
-        (sub / "hazlint.toml").write_text('ignore = ["skewed-reconvergence"]\n')
+        (sub / "hazlint.toml").write_text('ignore = ["unbalanced-reconvergence"]\n')
         other = sub / "valve.v"
         other.write_text(HAZARD)
         c.notify("textDocument/didOpen", {"textDocument": {
@@ -122,26 +125,26 @@ def test_syntax_error_is_a_diagnostic_not_a_crash(tmp_path):
 @pytest.mark.slow
 def test_saving_the_configuration_relints_open_documents(tmp_path):
     cfg = tmp_path / "hazlint.toml"
-    cfg.write_text('files = ["press_valve.v"]\n')
+    cfg.write_text('files = ["press_valve.v"]\n' + WIDE)
     doc = tmp_path / "press_valve.v"
     doc.write_text(HAZARD)
     c = start(tmp_path, tmp_path.as_uri())
     try:
         c.notify("textDocument/didOpen", {"textDocument": {
             "uri": doc.as_uri(), "languageId": "verilog", "version": 1, "text": HAZARD}})
-        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["skewed-reconvergence"]
+        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["unbalanced-reconvergence"]
         # the user turns the rule off in the configuration file and saves it in the editor
-        text = 'files = ["press_valve.v"]\nignore = ["skewed-reconvergence"]\n'
+        text = 'files = ["press_valve.v"]\nignore = ["unbalanced-reconvergence"]\n' + WIDE
         cfg.write_text(text)
         c.notify("textDocument/didOpen", {"textDocument": {
             "uri": cfg.as_uri(), "languageId": "toml", "version": 1, "text": text}})
         c.notify("textDocument/didSave", {"textDocument": {"uri": cfg.as_uri()}})
         assert c.diagnostics(doc.as_uri(), 1) == []
         # and turns it back on outside the editor: a watched-file notification
-        cfg.write_text('files = ["press_valve.v"]\n')
+        cfg.write_text('files = ["press_valve.v"]\n' + WIDE)
         c.notify("workspace/didChangeWatchedFiles",
                  {"changes": [{"uri": cfg.as_uri(), "type": 2}]})
-        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["skewed-reconvergence"]
+        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["unbalanced-reconvergence"]
         shutdown(c)
     finally:
         c.close()

@@ -12,6 +12,9 @@ import json
 import pytest
 from support.lsp_client import megabyte_netlist, shutdown, start
 
+# the designs drive plain outputs: listed at the wider scope
+WIDE = '[rules.unbalanced-reconvergence]\nscope = "outputs"\n'
+
 HAZARD = """\
 module press_valve(input guard_closed, input two_hand, input maint_key, output valve_enable);
   wire n_guard, run, bypass;
@@ -32,6 +35,7 @@ def _open(c, uri, text, version=1):
 def test_malformed_frames_are_answered_or_skipped_and_the_stream_goes_on(tmp_path):
     doc = tmp_path / "press_valve.v"
     doc.write_text(HAZARD)
+    (tmp_path / "hazlint.toml").write_text(WIDE)
     c = start(tmp_path, tmp_path.as_uri())
     try:
         # a request whose Content-Length is not a number: answered with an error
@@ -52,7 +56,7 @@ def test_malformed_frames_are_answered_or_skipped_and_the_stream_goes_on(tmp_pat
         # the stream is intact: the next well-formed messages are served
         _open(c, doc.as_uri(), HAZARD)
         diags = c.diagnostics(doc.as_uri(), 1)
-        assert [d["code"] for d in diags] == ["skewed-reconvergence"]
+        assert [d["code"] for d in diags] == ["unbalanced-reconvergence"]
         # a request right after: answered with its own id
         again = c.request("shutdown", None)
         assert "error" not in again
@@ -74,6 +78,7 @@ def test_malformed_frames_are_answered_or_skipped_and_the_stream_goes_on(tmp_pat
 def test_a_nul_in_a_uri_touches_only_its_own_document(tmp_path):
     doc = tmp_path / "press_valve.v"
     doc.write_text(HAZARD)
+    (tmp_path / "hazlint.toml").write_text(WIDE)
     bad_uri = tmp_path.as_uri() + "/bad%00name.v"
     c = start(tmp_path, tmp_path.as_uri())
     try:
@@ -82,12 +87,12 @@ def test_a_nul_in_a_uri_touches_only_its_own_document(tmp_path):
         assert len(bad) == 1 and bad[0]["code"] == "input-error"
         assert "does not name a file" in bad[0]["message"]
         _open(c, doc.as_uri(), HAZARD)
-        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["skewed-reconvergence"]
+        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 1)] == ["unbalanced-reconvergence"]
         # an edit of the good document is linted again while the bad one stays open
         c.notify("textDocument/didChange", {"textDocument": {"uri": doc.as_uri(),
                                                              "version": 2},
                                             "contentChanges": [{"text": HAZARD}]})
-        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 2)] == ["skewed-reconvergence"]
+        assert [d["code"] for d in c.diagnostics(doc.as_uri(), 2)] == ["unbalanced-reconvergence"]
         shutdown(c)
     finally:
         c.close()
@@ -100,11 +105,12 @@ def test_a_megabyte_document_gets_its_diagnostics(tmp_path):
     assert len(text.encode()) > 1_000_000
     doc = tmp_path / "press_chain.v"
     doc.write_text(text)
+    (tmp_path / "hazlint.toml").write_text(WIDE)
     c = start(tmp_path, tmp_path.as_uri())
     try:
         _open(c, doc.as_uri(), text)
         diags = c.diagnostics(doc.as_uri(), 1)
-        hz = [d for d in diags if d["code"] == "skewed-reconvergence"]
+        hz = [d for d in diags if d["code"] == "unbalanced-reconvergence"]
         assert len(hz) == 1
         assert hz[0]["range"]["start"]["line"] == text.count("\n") - 2   # the or gate
         rel = hz[0]["relatedInformation"]

@@ -85,7 +85,9 @@ def test_hook_fails_on_hazard_and_passes_clean(tmp_path, hook_repo):
     (proj / ".pre-commit-config.yaml").write_text(
         f"repos:\n  - repo: {repo}\n    rev: {sha}\n    hooks:\n      - id: hazlint\n")
     # the design, as the project configures it: the hook loads it whatever files are staged
-    (proj / "hazlint.toml").write_text('files = ["rtl/*.v"]\ntop = "press_top"\n')
+    # (the valve drives a plain output: listed at the wider scope)
+    (proj / "hazlint.toml").write_text('files = ["rtl/*.v"]\ntop = "press_top"\n\n'
+                                       '[rules.unbalanced-reconvergence]\nscope = "outputs"\n')
     (proj / "rtl" / "press_top.v").write_text(TOP)
     (proj / "rtl" / "valve.v").write_text(VALVE_HAZARD)
     pc = [sys.executable, "-m", "pre_commit"]
@@ -101,7 +103,7 @@ def test_hook_fails_on_hazard_and_passes_clean(tmp_path, hook_repo):
     bad = git(proj, "commit", "-m", "press valve with a bypass path", check=False, env=env)
     out = bad.stdout + bad.stderr
     assert bad.returncode != 0, out
-    assert HAZARD_AT in out and "skewed-reconvergence" in out, out
+    assert HAZARD_AT in out and "unbalanced-reconvergence" in out, out
     assert git(proj, "rev-list", "--all", check=False, env=env).stdout.strip() == ""
 
     # 2. the corrected valve: the commit passes

@@ -386,7 +386,7 @@ def test_left_out_module_is_a_failing_warning_counted_in_the_summary(tmp_path):
     summary = [ln for ln in lines if ln.startswith("hazlint: ")][0]
     assert summary.endswith("; 1 of 2 modules not analysed: leaf")
     # a rule selection does not hide it
-    p = cli("check", "--no-prove", "--select", "comb-loop", "top.v", cwd=tmp_path)
+    p = cli("check", "--no-prove", "--select", "combinational-loop", "top.v", cwd=tmp_path)
     assert p.returncode == 1 and "not analysed" in p.stdout
     # a lower failing level keeps the summary honest
     (tmp_path / "hazlint.toml").write_text('fail_on = "error"\n')

@@ -6,7 +6,7 @@ from hazlint.analysis.context import AnalysisContext
 from hazlint.config import Config
 from hazlint.plugins import get_rule
 
-RULE = get_rule("async-from-logic")
+RULE = get_rule("unregistered-async")
 
 
 def run(design, config=None):
@@ -37,7 +37,7 @@ def test_reset_from_logic_is_reported_at_the_register():
     assert f.evidence["sink_node"] == "<sink>fault.reset"
     assert f.evidence["source_nodes"] == ["estop_n", "maint_key"]
     # declaring the maintenance key quasi-static leaves one toggling source without reconvergence
-    assert run(b.design(), Config(sync_inputs=["maint_key"])) == []
+    assert run(b.design(), Config(static_inputs=["maint_key"])) == []
 
 
 def test_clock_gated_by_logic_and_by_a_static_enable():

@@ -11,11 +11,11 @@ from hazlint.analysis.context import AnalysisContext
 from hazlint.diagnostics import Severity
 from hazlint.plugins import get_rule
 
-RULE = get_rule("comb-loop")
+RULE = get_rule("combinational-loop")
 
 
 def run(design, **opts):
-    ctx = AnalysisContext(design, None, {"comb-loop": RULE.resolve_options(opts)})
+    ctx = AnalysisContext(design, None, {"combinational-loop": RULE.resolve_options(opts)})
     return list(RULE.check(design, ctx))
 
 

@@ -12,10 +12,13 @@ from hazlint.analysis.timing import ArrivalSolver, TimingGraph
 from hazlint.netlist.library import Delay
 from hazlint.plugins import get_rule
 
-RULE = get_rule("skewed-reconvergence")
+RULE = get_rule("unbalanced-reconvergence")
 
 
 def run(design, config=None, **opts):
+    # these tests look at the arrival-time machinery on plain outputs: the wider scope (the
+    # default scope, glitch-sensitive sinks only, is checked in test_scope_option)
+    opts.setdefault("scope", "outputs")
     ctx = AnalysisContext(design, config, {RULE.id: RULE.resolve_options(opts)})
     return list(RULE.check(design, ctx))
 
@@ -64,6 +67,9 @@ def test_rise_fall_spread_is_skew_under_the_delay_model():
 
 
 def test_scope_option():
+    assert RULE.resolve_options({})["scope"] == "async"     # the default: where glitches harm
+    ctx = AnalysisContext(mux(), None, {RULE.id: RULE.resolve_options({})})
+    assert list(RULE.check(mux(), ctx)) == []
     assert run(mux(register_only=True)) == []          # only a data pin downstream
     assert len(run(mux(register_only=True), scope="all")) == 1
     assert run(mux(), scope="async") == []              # a plain output is not asynchronous
@@ -224,7 +230,7 @@ def test_rule_gives_the_same_findings_with_either_solver():
     out = []
     # scalar only; batch only (every scalar sweep over budget at once); scalar then batch
     for threshold, budget in ((10**9, 0), (0, 0), (0, 6)):
-        ctx = AnalysisContext(design, None, {RULE.id: RULE.resolve_options({})})
+        ctx = AnalysisContext(design, None, {RULE.id: RULE.resolve_options({"scope": "outputs"})})
         ctx.BATCH_MIN_NODES = threshold
         ctx.SCALAR_BUDGET_MIN, ctx.SCALAR_BUDGET_DIVISOR = budget, 10**9
         out.append(sorted((d.evidence["stem_node"], d.evidence["reconvergence_node"],

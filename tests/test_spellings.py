@@ -76,7 +76,7 @@ def verdicts(path: Path, liberty: str | None = None):
             by_pin[sink] = (q.split(".")[-1], role, reg.active.get(role, reg.clock_edge))
     out = set()
     for d in r.diagnostics:
-        assert d.rule == "async-from-logic", d
+        assert d.rule == "unregistered-async", d
         q, role, active = by_pin[d.evidence["sink_node"]]
         kind = d.kind
         if active in (0, 1):

@@ -355,7 +355,7 @@ def test_same_findings_in_every_spelling(name):
         # logic in every spelling (fixtures/synth/press_clkrst.v says so)
         rules_only = findings_of(name, "noexpr", False)
         q = rules_only.design.net_node("fault")
-        assert ("async-from-logic", "ERROR", ("reset", q)) in finding_keys(rules_only)
+        assert ("unregistered-async", "ERROR", ("reset", q)) in finding_keys(rules_only)
 
 
 def _cone_sources(design, node) -> set:
@@ -394,6 +394,6 @@ def test_amaranth_asynchronous_designs_are_clean(name):
             assert len(clocks) == 1, (spelling, target, clocks)
         quiet = lint([str(synthesised(name)["work"] / f"{spelling}.v")],
                      config=_config(name, spelling), top=DESIGNS[name].top, use_cache=False,
-                     rule_options={"skewed-reconvergence": {"scope": "async"}})
+                     rule_options={"unbalanced-reconvergence": {"scope": "async"}})
         assert not [f for f in quiet.diagnostics if f.severity.name in ("ERROR", "WARNING")], \
             spelling

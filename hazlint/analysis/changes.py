@@ -11,7 +11,7 @@ allows, and says which:
   proofs assume, the order in which the sources change does not bound what arrives at a gate, so
   every set of changing sources is a transition to check;
 * a source declared **quasi-static** never changes while the circuit works (configuration
-  ``sync_inputs``, attributes ``(* hazlint_static *)`` / ``(* hazlint_sync *)`` on an input port
+  ``static_inputs``, attribute ``(* hazlint_static *)`` (old spelling ``hazlint_sync``) on an input port
   or a register): it holds some value, which the proofs leave free. A net whose fan-in cone
   holds only quasi-static sources and constants is *quiet*: no finding starts there;
 * a declared **one-at-a-time** group (a gray-coded pointer, a unit-distance counter) changes at
@@ -36,9 +36,10 @@ from dataclasses import dataclass, field
 from typing import Any, Iterable, Mapping, Sequence
 
 from ..errors import ConfigError, ElaborationError
+from ..findings.names import ATTRIBUTE_RENAMES, deprecated
 from ..netlist.graph import SOURCE_KINDS
 
-QUIET_ATTRS = ("hazlint_sync", "hazlint_static")
+QUIET_ATTRS = ("hazlint_static", "hazlint_sync")     # hazlint_sync: the old spelling
 ASYNC_ATTR = "hazlint_async"
 GROUP_ATTRS = {"hazlint_one_at_a_time": "one-at-a-time", "hazlint_one_hot": "one-hot"}
 GROUP_KEYS = {"one_at_a_time": "one-at-a-time", "one_hot": "one-hot"}
@@ -142,7 +143,7 @@ class SinkModel:
                 out.append(f"at most one of {names} is 1 (one-hot group {gr.name}"
                            f"{', ' + gr.where if gr.where else ''})")
         if self.quiet:
-            out.append("held (quasi-static): " + ", ".join(sorted(label(n) for n in self.quiet)))
+            out.append("held (static inputs): " + ", ".join(sorted(label(n) for n in self.quiet)))
         return out
 
     def proven_text(self, label, bound: int | None = None) -> str:
@@ -151,7 +152,7 @@ class SinkModel:
         n = len(self.sources)
         top = self.max_changes if bound is None else min(bound, self.max_changes)
         if n == 0:
-            return "no source of the cone can change (all quasi-static or constant)"
+            return "no source of the cone can change (all static inputs or constants)"
         if n == 1:
             text = f"changes of its only source {label(self.sources[0])}"
         elif n == 2:
@@ -220,7 +221,7 @@ def source_labels(design) -> dict[str, str]:
 
 
 def declared_quiet_inputs(design, patterns: Sequence[str]) -> frozenset[str]:
-    """Input nodes declared quasi-static by attribute or by the ``sync_inputs`` globs."""
+    """Input nodes declared quasi-static by attribute or by the ``static_inputs`` globs."""
     g = design.graph
     out = set()
     for port, n in design.input_node.items():
@@ -261,7 +262,7 @@ def build_change_model(design, config=None) -> ChangeModel:
     for names that match nothing and for misplaced or unknown ``hazlint_*`` attributes."""
     g = design.graph
     names = _named_sources(design)
-    sync = list(getattr(config, "sync_inputs", []) or [])
+    sync = list(getattr(config, "static_inputs", []) or [])
     cfg_path = getattr(config, "path", None)
     root = getattr(config, "root", None)
 
@@ -279,7 +280,7 @@ def build_change_model(design, config=None) -> ChangeModel:
         return make
     for p in sync:
         if not any(matches(port, [p]) for port in design.input_node):
-            raise cfg_err("sync_inputs")(f"'{p}' names no input port of the design")
+            raise cfg_err("static_inputs")(f"'{p}' names no input port of the design")
     quiet = set(declared_quiet_inputs(design, sync))
     groups: list[Group] = []
     by_attr: dict[tuple[str, str], list[str]] = {}
@@ -314,6 +315,8 @@ def build_change_model(design, config=None) -> ChangeModel:
                 raise src_err(f"attribute '{a}' on '{decl['name']}': the net is driven by "
                               "logic; declare it on the input ports or registers that drive it")
             if a in QUIET_ATTRS:
+                if a in ATTRIBUTE_RENAMES:
+                    deprecated(a, ATTRIBUTE_RENAMES[a], where)
                 quiet.update(nodes)
                 continue
             gname = v if isinstance(v, str) and v not in ("1",) else decl["name"]

@@ -54,7 +54,7 @@ def _fix(diag, v: SinkVerdict, label) -> str | None:
     text = (f"{together} changing together glitch this pin whatever the logic (a function "
             "hazard): drive the pin from a register, or make the sources change one at a time; "
             "if the circuit guarantees that, declare it (configuration one_at_a_time or "
-            "sync_inputs, or the attributes hazlint_one_at_a_time / hazlint_static)")
+            "static_inputs, or the attributes hazlint_one_at_a_time / hazlint_static)")
     best = v.best()
     if best is not None and best[1] != "function" and diag.fix:
         return f"{diag.fix}; this removes the logic hazard only: {text}"

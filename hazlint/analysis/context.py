@@ -13,6 +13,7 @@ from typing import Any, Mapping
 import networkx as nx
 
 from ..diagnostics import Hop, Location
+from ..findings.words import gate_words
 from ..netlist.graph import ASYNC_ROLES, SOURCE_KINDS
 from ..netlist.walks import fanin, fanout_stems
 from .changes import (ASYNC_ATTR, ChangeModel, build_change_model, declared_quiet_inputs,
@@ -53,10 +54,10 @@ class AnalysisContext:
 
     @cached_property
     def quiet_inputs(self) -> frozenset[str]:
-        """Input nodes declared synchronous or quasi-static (attribute or ``sync_inputs``):
+        """Input nodes declared synchronous or quasi-static (attribute or ``static_inputs``):
         they are not treated as sources of glitches."""
         return declared_quiet_inputs(self.design,
-                                     list(getattr(self.config, "sync_inputs", []) or []))
+                                     list(getattr(self.config, "static_inputs", []) or []))
 
     @cached_property
     def change_model(self) -> ChangeModel:
@@ -263,7 +264,7 @@ class AnalysisContext:
         """Like :meth:`Hop.describe`, with the path relative to the project root."""
         where = (f" ({self.display_path(h.location.path)}:{h.location.line})"
                  if h.location else "")
-        via = f" via {h.cell} {h.gate}" if h.gate else ""
+        via = f" via {gate_words(h.cell, h.gate)}" if h.gate else ""
         t = "" if h.arrival is None else f" @{h.arrival:g}"
         return f"{h.net}{t}{via}{where}"
 

@@ -19,6 +19,7 @@ from typing import Mapping, Sequence
 
 import networkx as nx
 
+from ..findings.words import gate_words
 from ..netlist.library import Delay
 from .ternary import IntAlgebra, bool_gate, classify_explicit, cone, propagate
 
@@ -217,15 +218,16 @@ def _consensus_at(graph, target, kind, before, after, va, vb, node) -> dict | No
         gate = _gate_name(graph, node)
         cell = graph.nodes[node].get("cell") or graph.nodes[node].get("op")
         where = _where(graph, node).replace(" (", ", ").rstrip(")")
+        what = gate_words(cell or "", gate) + (f" ({where.lstrip(', ')})" if where else "")
         if positive:
-            desc = (f"add the consensus term {text} to the sum of products that gate "
-                    f"{gate} ({cell}{where}) computes: OR a gate for the term into its "
-                    f"output (it holds the output at 1 during the change)")
+            desc = (f"add the consensus term {text} to the sum of products of {what}: OR a "
+                    f"gate for the term into its output (it holds the output at 1 during the "
+                    f"change)")
         else:
             clause = _clause_text(term, graph)
-            desc = (f"add the consensus clause ({clause}) to the product of sums that "
-                    f"gate {gate} ({cell}{where}) computes: AND a gate for the clause "
-                    f"into its output (it holds the output at 0 during the change)")
+            desc = (f"add the consensus clause ({clause}) to the product of sums of {what}: "
+                    f"AND a gate for the clause into its output (it holds the output at 0 "
+                    f"during the change)")
         return {"node": node, "term": sorted([n, p] for n, p in term), "text": desc,
                 "verified": True}
     return None

@@ -744,6 +744,7 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed:
     sens = _sensitive(graph, context, c.target)
     sink_role = graph.nodes[c.target].get("role")
     evidence = dict(d.evidence)
+    evidence.setdefault("sink_node", c.target)      # the sink the verdict is about
     evidence["classification"] = c.classification
     evidence["proof"] = {k: p.to_json() for k, p in c.proofs.items()}
     notes = list(d.notes)

@@ -40,6 +40,10 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE")
     p.add_argument("--fail-on", choices=("error", "warning", "info", "never"),
                    help="lowest severity that makes the exit code 1")
+    p.add_argument("--scope", choices=("async", "outputs", "all"),
+                   help="where reconvergent fanout is listed: async (glitch-sensitive sinks, "
+                        "the default), outputs (and every primary output), all (and register "
+                        "data pins); configuration [rules.unbalanced-reconvergence] scope")
     p.add_argument("--no-prove", action="store_true",
                    help="skip the hazard prover's refinement of the findings")
     p.add_argument("--changed", action="store_true",
@@ -59,6 +63,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--color", choices=("auto", "always", "never"), default="auto",
                    help="colour the text output (auto: only on a terminal, not with NO_COLOR)")
     p.add_argument("--brief", action="store_true", help="text: no evidence lines")
+    p.add_argument("--ascii", action="store_true",
+                   help="text: ASCII only (timing diagrams drawn with - _ / \\ r f)")
     add_bound_arguments(p)
 
 
@@ -81,7 +87,7 @@ def add_frontend_argument(p) -> None:
                         "pyverilog)")
 
 
-def _defines(items):
+def parse_defines(items):
     out = {}
     for item in items or ():
         k, _, v = item.partition("=")
@@ -108,12 +114,13 @@ def use_color(choice: str, stream) -> bool:
     return hasattr(stream, "isatty") and stream.isatty() and not os.environ.get("NO_COLOR")
 
 
-def run(args) -> int:
-    from ..api import lint
+def prepare(args):
+    """(config, files, changed, cwd) of a run from the arguments ``check`` and ``prove``
+    share; None for ``changed`` when not ``--changed``, and None for the whole tuple when
+    ``--changed`` has nothing to do."""
     from ..config import load_config
     cwd = os.getcwd()
     config = load_config(cwd, args.config)
-    renderer = _renderer(args.format)       # a missing format fails before the slow work
     from ..limits import DEFAULT as LIMITS, parse_assignments
     LIMITS.with_values(parse_assignments(args.limits), where="--limit: ")
     if args.time_budget is not None and not args.time_budget >= 0:
@@ -125,7 +132,7 @@ def run(args) -> int:
         changed = files
         files = [] if config.files else files
         if not config.files and not changed:
-            return EXIT_CLEAN        # nothing staged and no design configured
+            return None              # nothing staged and no design configured
     if args.jobs is not None:
         if args.jobs < 1:
             raise HazlintError(f"--jobs must be at least 1, got {args.jobs}")
@@ -136,8 +143,19 @@ def run(args) -> int:
         from ..frontends.registry import check_choice
         check_choice(args.frontend)
         config.frontend = args.frontend
+    return config, files, changed, cwd
+
+
+def run(args) -> int:
+    from ..api import lint
+    renderer = _renderer(args.format)       # a missing format fails before the slow work
+    prepared = prepare(args)
+    if prepared is None:
+        return EXIT_CLEAN
+    config, files, changed, cwd = prepared
     color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)
-    render_opts = {"format": args.format, "color": color, "evidence": not args.brief}
+    render_opts = {"format": args.format, "color": color, "evidence": not args.brief,
+                   "ascii": bool(args.ascii)}
     reports = key = None
     if not args.no_cache and not args.write_baseline:
         # a rerun on unchanged inputs prints the finished report of the last such run: no
@@ -171,7 +189,17 @@ def _run_options(args, files, config, cwd, changed) -> dict:
                 prove=not args.no_prove, top=args.top,
                 include_dirs=([os.path.abspath(d) for d in args.include_dirs]
                               if args.include_dirs else None),
-                defines=_defines(args.defines), baseline=args.baseline)
+                defines=parse_defines(args.defines), baseline=args.baseline,
+                rule_options=scope_options(args))
+
+
+def scope_options(args) -> dict | None:
+    """``--scope`` as the reconvergence rule's option."""
+    scope = getattr(args, "scope", None)
+    if not scope:
+        return None
+    from ..findings.names import RECONVERGENCE_RULE
+    return {RECONVERGENCE_RULE: {"scope": scope}}
 
 
 def _exit_code(worst, level) -> int:
@@ -218,7 +246,8 @@ def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
         return EXIT_CLEAN
     if args.format == "text":
         def write(stream):
-            renderer.write(result, stream, color=color, evidence=not args.brief)
+            renderer.write(result, stream, color=color, evidence=not args.brief,
+                           ascii_only=bool(getattr(args, "ascii", False)))
     else:
         def write(stream):
             renderer.write(result, stream)

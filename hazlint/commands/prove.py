@@ -1,9 +1,8 @@
-"""``hazlint prove FILES``: classify the hazards and show each witness as a timing diagram.
+"""``hazlint prove FILES``: ``check`` with more detail.
 
-Without ``--transition`` it lints the design and prints, for every reconvergence and
-asynchronous-sink finding, its classification (static-1, static-0, dynamic hazard, hazard-free
-with ``--show-proven-absent``, or inconclusive), the witness, the timed-simulation result and a
-terminal timing diagram. ``--transition`` checks a change given by the user instead, e.g.
+Without ``--transition`` it is ``check`` (the same configuration discovery, options, findings,
+headlines, severities and formats) with proven-absent findings on request
+(``--show-proven-absent``) and the witnesses written as waveform files (``--vcd``, ``--svg``). ``--transition`` checks a change given by the user instead, e.g.
 ``--transition "two_hand_left+,two_hand_right+,guard_closed=1"`` (``+`` rises, ``-`` falls,
 ``=v`` holds), at every output and glitch-sensitive sink (or ``--target``), and tells a function
 hazard from a logic hazard. ``--vcd``/``--svg`` write the waveforms of the first proven hazard
@@ -22,8 +21,10 @@ from .check import add_frontend_argument
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
-    p.add_argument("files", nargs="+", metavar="FILE", help="Verilog files")
-    p.add_argument("--top", action="append", metavar="MODULE", help="top module")
+    # everything `check` takes (configuration discovery, --config, -I, -D, --format, --select,
+    # --scope, --fail-on, --ascii, ...), then what only `prove` does
+    from .check import add_arguments as check_arguments
+    check_arguments(p)
     p.add_argument("--transition", action="append", metavar="SPEC",
                    help="input change to check: comma-separated NAME+ (rises), NAME- (falls), "
                         "NAME=0|1 (held); repeatable")
@@ -34,93 +35,99 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--svg", metavar="OUT", help="write the witness waveforms as an SVG image")
     p.add_argument("--show-proven-absent", action="store_true",
                    help="also list findings proven hazard-free")
-    p.add_argument("--ascii", action="store_true", help="ASCII-only timing diagrams")
-    p.add_argument("--fail-on", choices=("error", "warning", "never"), default="error",
-                   help="lowest severity that makes the exit code 1 (default: error)")
-    from .check import add_bound_arguments
-    add_bound_arguments(p)
-    add_frontend_argument(p)
 
 
 def run(args) -> int:
+    if args.no_prove:
+        raise HazlintError("prove: --no-prove leaves nothing to prove (use check)")
+    if not args.transition:
+        return _run_lint(args)
     from ..budget import bounded
     from ..config import load_config
     from ..limits import parse_assignments
-    with bounded(load_config(os.getcwd()), args.time_budget, parse_assignments(args.limits)):
-        return _run(args)
+    config = load_config(os.getcwd(), args.config)
+    with bounded(config, args.time_budget, parse_assignments(args.limits)):
+        return _run(args, config)
 
 
-def _run(args) -> int:
+def _run_lint(args) -> int:
+    """``check`` with the prover's options (``--show-proven-absent``) and the waveform files:
+    the same findings, headlines, severities and formats."""
+    from . import check
+    from ..api import lint
+    renderer = check._renderer(args.format)
+    prepared = check.prepare(args)
+    if prepared is None:
+        return EXIT_CLEAN
+    config, files, changed, cwd = prepared
+    if args.show_proven_absent:
+        config.prove = dict(config.prove or {}, show_proven_absent=True)
+    result = check._lint(lint, args, files, config, cwd, changed, None)
+    color = args.format == "text" and not args.output and check.use_color(args.color,
+                                                                             sys.stdout)
+    code = check._report(args, result, renderer, color)
     from ..analysis import prove as P
-    files = [os.path.abspath(f) for f in args.files]
+    g = result.design.graph
+    k = 0
+    for d in result.diagnostics:
+        ev = d.evidence if isinstance(d.evidence, dict) else {}
+        c = classification_from_evidence(g, ev) if ev.get("classification") else None
+        if c is not None and c.proven:
+            _write_waves(args, k, d.message, g, c, ev.get("waveform_nets") or
+                         P.waveform_nets(g, c, ev))
+            k += 1
+    return code
+
+
+def _run(args, config) -> int:
+    from ..analysis import prove as P
+    files = [os.path.abspath(f) for f in args.files] or list(config.files)
+    if not files:
+        raise HazlintError("no Verilog files given and none configured (configuration key "
+                           "'files')")
     for f in files:
         if not os.path.isfile(f):
             raise HazlintError("is a directory, not a Verilog file" if os.path.isdir(f)
                                else f"file not found: {f}", path=f)
-    top = args.top[0] if args.top and len(args.top) == 1 else args.top
+    top = args.top or config.top
+    top = top[0] if top and len(top) == 1 else top
     opts: dict[str, Any] = {"show_proven_absent": args.show_proven_absent}
     out = sys.stdout
     shown = []          # (title, graph, classification, nets)
     worst = None
-    if args.transition:
-        design = _load(files, top, args.frontend or "auto")
-        g = design.graph
-        for spec in args.transition:
-            changes, fixed = parse_transition(design, spec)
-            targets = _targets(design, args.target)
-            for t in targets:
-                c = P.classify(g, t, changes, fixed, options=opts)
-                if c.classification == "hazard-free" and not args.show_proven_absent:
-                    out.write(f"{P.net_label(g, t)}: hazard-free for {spec} ({c.reason})\n")
-                    continue
-                sev = _severity_of(g, c, None)
-                worst = sev if worst is None or sev > worst else worst
-                nets = P.waveform_nets(g, c, None) + _moving_nets(g, c)
-                _print(out, g, c, f"{P.net_label(g, t)} for {spec}", nets, args.ascii, sev)
-                if c.proven:
-                    shown.append((f"{P.net_label(g, t)}: {c.classification}", g, c, nets))
-    else:
-        result = _lint(files, top, opts, args.frontend)
-        design = result.design
-        g = design.graph
-        for d in result.diagnostics:
-            ev = d.evidence if isinstance(d.evidence, dict) else {}
-            cls = ev.get("classification")
-            if cls is None and d.kind not in ("oscillation",):
+    design = _load(files, top, args.frontend or config.frontend, config, args)
+    g = design.graph
+    for spec in args.transition:
+        changes, fixed = parse_transition(design, spec)
+        targets = _targets(design, args.target)
+        for t in targets:
+            c = P.classify(g, t, changes, fixed, options=opts)
+            if c.classification == "hazard-free" and not args.show_proven_absent:
+                out.write(f"{P.net_label(g, t)}: hazard-free for {spec} ({c.reason})\n")
                 continue
-            worst = d.severity if worst is None or d.severity > worst else worst
-            out.write(f"{result.relpath(d.path)}:{d.line}:{d.column}: {d.severity}: "
-                      f"[{d.kind}] {d.message}\n")
-            for line in d.notes:
-                out.write(f"    {line}\n")
-            if d.fix:
-                out.write(f"    fix: {d.fix}\n")
-            c = classification_from_evidence(g, ev)
-            if c is not None:
-                shown.append((d.message, g, c, ev.get("waveform_nets") or
-                              P.waveform_nets(g, c, ev)))
-        if not result.diagnostics:
-            out.write("no findings\n")
+            sev = _severity_of(g, c, None)
+            worst = sev if worst is None or sev > worst else worst
+            nets = P.waveform_nets(g, c, None) + _moving_nets(g, c)
+            _print(out, g, c, f"{P.net_label(g, t)} for {spec}", nets, args.ascii, sev)
+            if c.proven:
+                shown.append((f"{P.net_label(g, t)}: {c.classification}", g, c, nets))
     for k, (title, g, c, nets) in enumerate(shown):
         _write_waves(args, k, title, g, c, nets)
-    if worst is None or args.fail_on == "never":
+    level = args.fail_on or config.fail_on
+    if worst is None or level == "never":
         return EXIT_CLEAN
-    return EXIT_FINDINGS if worst >= Severity.parse(args.fail_on) else EXIT_CLEAN
+    return EXIT_FINDINGS if worst >= Severity.parse(level) else EXIT_CLEAN
 
 
-def _load(files, top, frontend):
-    from ..loader import load_design
-    return load_design(files, top=top, frontend=frontend)
-
-
-def _lint(files, top, opts, frontend=None):
-    from ..api import lint
-    from ..config import load_config
-    cfg = load_config(os.getcwd())
-    if frontend:
-        cfg.frontend = frontend
-    cfg.prove = dict(cfg.prove or {}, **opts)
-    return lint(files, config=cfg, top=top)
+def _load(files, top, frontend, config, args):
+    """The design as ``check`` loads it: the configuration's include directories, macros,
+    cells, Liberty and SDF, with -I and -D over them."""
+    from ..api import load
+    from .check import parse_defines
+    config.frontend = frontend
+    incs = [os.path.abspath(d) for d in args.include_dirs] if args.include_dirs else None
+    return load(files, config, top=top, include_dirs=incs,
+                defines=parse_defines(args.defines) or None, use_cache=not args.no_cache)
 
 
 def _targets(design, names):

@@ -9,9 +9,11 @@ def add_arguments(p) -> None:
 
 
 def run(args) -> int:
-    from ..plugins import PSEUDO_RULES, all_rules
+    from ..plugins import PSEUDO_RULES, all_rules, pseudo_rule
     rules = all_rules()
     if args.format == "json":
+        # every id a report can print, the built-in pseudo rules included
+        rules = sorted(rules + [pseudo_rule(r) for r in PSEUDO_RULES], key=lambda r: r.id)
         rows = [{"id": r.id, "summary": r.summary, "severity": str(r.severity),
                  "kinds": list(r.kinds), "origin": r.origin,
                  "options": [{"name": o.name, "type": o.type_name, "default": o.default,

@@ -1,6 +1,7 @@
 """``hazlint summary``: what the design is made of (ports, gates by type, registers, depth)."""
 from __future__ import annotations
 
+import argparse
 import json
 import os
 
@@ -15,8 +16,11 @@ def add_arguments(p) -> None:
                    help="directory searched by `include")
     p.add_argument("-D", "--define", action="append", default=[], dest="defines",
                    metavar="NAME[=VALUE]", help="define a macro")
-    p.add_argument("--library", action="append", default=[],
-                   help="Liberty (.lib) file with the cells the netlist uses")
+    p.add_argument("--liberty", action="append", default=[], dest="liberty",
+                   help="Liberty (.lib) file with the cells the netlist uses (configuration "
+                        "'liberty'; repeatable)")
+    p.add_argument("--library", action="append", default=[], dest="old_library",
+                   help=argparse.SUPPRESS)       # the old spelling of --liberty
     p.add_argument("--config", help="configuration file (default: found upward from here)")
     add_frontend_argument(p)
     p.add_argument("--format", choices=("text", "json"), default="text")
@@ -47,9 +51,14 @@ def _load(args, cfg):
         name, _, value = d.partition("=")
         defines[name] = value or "1"
     library = cfg.library()
-    if args.library:
+    paths = list(getattr(args, "liberty", None) or [])
+    if getattr(args, "old_library", None):
+        from ..findings.names import deprecated
+        deprecated("--library", "--liberty", "summary")
+        paths += args.old_library
+    if paths:
         from ..elaborate import resolve_library
-        for path in args.library:
+        for path in paths:
             library = library.merge(resolve_library(path))
     return load_design(files, top=args.top or cfg.top,
                        include_dirs=[*cfg.include_dirs, *args.include_dirs],

@@ -5,8 +5,9 @@
 The runner reads ``::<level> <properties>::<text>`` from a step's output and shows ``text`` on the
 pull-request diff at ``file:line``. Levels are ``error``, ``warning`` and ``notice``. Property
 values escape ``%``, CR, LF, ``:`` and ``,``; the text escapes ``%``, CR and LF (the runner's
-escaping rules, from memory of its documentation), so the evidence lines can follow the message
-on the same physical line as ``%0A``-separated lines. Paths are relative to the source root,
+escaping rules, from memory of its documentation), so the fix can follow the message on the
+same physical line as a ``%0A``-separated line; the evidence stays in the text, JSON and SARIF
+reports. Paths are relative to the source root,
 because the runner resolves them against the repository checkout.
 """
 from __future__ import annotations
@@ -43,7 +44,9 @@ def annotation_line(d: Diagnostic, root: str | None = None) -> str:
             props.append(f"col={int(d.location.column)}")
     title = f"hazlint {d.rule}" + (f" ({d.instance})" if d.instance else "")
     props.append(f"title={escape_property(title)}")
-    body = [d.message, *d.notes]
+    # the headline and the fix: the evidence (paths, waveform) is for the full report, a
+    # pull-request annotation must stay readable beside the diff
+    body = [d.message]
     if d.fix:
         body.append(f"fix: {d.fix}")
     level = _LEVEL.get(d.severity, "warning")

@@ -26,6 +26,7 @@ from urllib.parse import quote
 
 from .. import __version__
 from ..baseline import fingerprint
+from ..findings.public import public_evidence
 from ..diagnostics import Diagnostic, Hop, Location, Severity, sort_diagnostics
 
 SARIF_VERSION = "2.1.0"
@@ -206,13 +207,13 @@ def result_object(d: Diagnostic, locator: _Locator, rule_index: int | None) -> d
         props["fix"] = d.fix
     if d.notes:
         props["notes"] = list(d.notes)
-    ev = _jsonable(dict(d.evidence)) if d.evidence else None
+    ev = _jsonable(public_evidence(d.evidence)) if d.evidence else None
     if ev:
         props["evidence"] = ev
     res["properties"] = props
     if d.waived is not None:
         res["suppressions"] = [{"kind": "inSource", "status": "accepted",
-                                "justification": d.waived or "waived"}]
+                                "justification": d.waived or "accepted"}]
     return res
 
 
@@ -235,7 +236,7 @@ def _sarif_parts(diagnostics: Iterable[Diagnostic], *, root: str | None = None,
     result objects in order: a report of tens of thousands of findings is written one result
     at a time, never held as one document."""
     diags = sort_diagnostics(diagnostics)
-    sup = [d if d.waived is not None else d.with_waiver("waived") for d in waived]
+    sup = [d if d.waived is not None else d.with_waiver("accepted") for d in waived]
     everything = diags + sort_diagnostics(sup)
     rules = dict(rules or {})
     ids = sorted(rules) if all_rules else []

@@ -18,14 +18,38 @@ def _plural(n: int, word: str) -> str:
     return f"{n} {word}{'' if n == 1 else 's'}"
 
 
+# longest line of text evidence; the full data stays in the JSON and SARIF reports
+MAX_LINE = 240
+
+
+def cap(text: str, width: int = MAX_LINE) -> list[str]:
+    """``text`` as lines a terminal shows: a long list ("a=1, b=0, ...") cut after the last item
+    that fits, with the number left out; long prose wrapped."""
+    if len(text) <= width:
+        return [text]
+    if text.count(", ") >= 10:
+        cut = text.rfind(", ", 0, width - 40)
+        if cut > width // 2:
+            rest = text[cut + 2:].count(", ") + 1
+            return [text[:cut] + f", ... ({rest} more; --format json has all)"]
+    import textwrap
+    return textwrap.wrap(text, 110, subsequent_indent="  ", break_on_hyphens=False)
+
+
+def _headline(message: str) -> str:
+    """The headline stays one line (problem matchers read one line per finding)."""
+    lines = cap(message)
+    return lines[0] if len(lines) == 1 else message[:MAX_LINE - 40] + " ..."
+
+
 def format_diagnostic(d, relpath, color: bool = False, evidence: bool = True) -> list[str]:
     sev = str(d.severity)
     where = f"{relpath(d.location.path)}:{d.location.line}:{d.location.column}"
     if color:
-        head = (f"{_BOLD}{where}{_RESET}: {_COLOURS.get(sev, '')}{sev}{_RESET}: {d.message} "
+        head = (f"{_BOLD}{where}{_RESET}: {_COLOURS.get(sev, '')}{sev}{_RESET}: {_headline(d.message)} "
                 f"{_DIM}[{d.rule}]{_RESET}")
     else:
-        head = f"{where}: {sev}: {d.message} [{d.rule}]"
+        head = f"{where}: {sev}: {_headline(d.message)} [{d.rule}]"
     lines = [head]
     if not evidence:
         return lines
@@ -38,8 +62,8 @@ def format_diagnostic(d, relpath, color: bool = False, evidence: bool = True) ->
     if d.fix:
         body.append(f"fix: {d.fix}")
     if d.waived is not None:
-        body.append(f"waived: {d.waived}")
-    for b in body:
+        body.append(f"accepted: {d.waived}")
+    for b in (line for text in body for line in cap(text)):
         # evidence lines carry their own file:line in parentheses, never at the line start, so
         # problem matchers do not mistake them for findings
         lines.append(("    " + b) if not color else f"    {_DIM}{b}{_RESET}")
@@ -56,14 +80,16 @@ def summary_line(result: Any) -> str:
     head = f"hazlint: {_plural(total, 'finding')}" + (f" ({', '.join(parts)})" if parts else "")
     extra = []
     if c.get("waived"):
-        extra.append(f"{c['waived']} waived")
+        extra.append(f"{c['waived']} accepted")
     if c.get("baselined"):
         extra.append(f"{c['baselined']} in baseline")
     files = getattr(result, "files", None) or []
     design = getattr(result, "design", None)
     where = f" in {_plural(len(files), 'file')}" if files else ""
     top = f" (top {design.top})" if design is not None and getattr(design, "top", None) else ""
-    return head + (", " + ", ".join(extra) if extra else "") + where + top + coverage_text(design)
+    from ..findings.scope import summary_text
+    return (head + (", " + ", ".join(extra) if extra else "") + where + top
+            + coverage_text(design) + summary_text(c.get("unlisted")))
 
 
 def coverage_text(design) -> str:
@@ -77,11 +103,16 @@ def coverage_text(design) -> str:
     return f"; {len(left)} of {total} module{'' if total == 1 else 's'} not analysed: {shown}"
 
 
+# the timing diagrams' glyphs in ASCII, as hazlint.analysis.waves draws them with ascii_only
+ASCII = str.maketrans({"\u203e": "-", "\u2191": "r", "\u2193": "f"})
+
+
 def write(result: Any, stream, color: bool = False, evidence: bool = True,
-          caution: bool = True) -> None:
+          caution: bool = True, ascii_only: bool = False) -> None:
     rel = getattr(result, "relpath", None) or (lambda p: p)
     for d in result.diagnostics:
-        stream.write("\n".join(format_diagnostic(d, rel, color, evidence)) + "\n")
+        text = "\n".join(format_diagnostic(d, rel, color, evidence)) + "\n"
+        stream.write(text.translate(ASCII) if ascii_only else text)
     stream.write(summary_line(result) + "\n")
     if caution:
         stream.write(CAUTION + "\n")

@@ -37,7 +37,7 @@ def result_key(design_key: str, config, *, select, ignore, prove: bool,
     material = {
         "format": RESULT_FORMAT, "design": design_key, "raw": config.raw,
         "config_path": config.path, "root": config.root, "severity": config.severity,
-        "async_outputs": config.async_outputs, "sync_inputs": config.sync_inputs,
+        "async_outputs": config.async_outputs, "static_inputs": config.static_inputs,
         "prove_options": config.prove, "select": None if select is None else list(select),
         "ignore": list(ignore), "prove": bool(prove), "options": options, "rules": ran,
     }

@@ -1,0 +1,162 @@
+"""One finding per problem.
+
+The rules describe one hazard several times: the reconvergence rule once per fanout stem whose
+branches meet on the way to a sink, the glitch-sensitive-pin rule once per pin; a loop can come
+with its oscillation. :func:`fold` groups the findings by the problem they describe (a hazard at
+one sink; one loop) and gives one finding per group: the headline, witness, waveform and fix of
+the most telling member, the evidence of the other rules folded in as notes, and the other stems
+listed by name with their skew (at most :data:`MAX_STEMS`, then a count of the rest).
+
+Every folded finding carries ``evidence["problem"]`` (``hazard:<sink>`` or ``loop:<net>``),
+which is its identity for baselines and SARIF fingerprints: it does not change when another stem
+becomes the worst one or the proof picks another witness, only when the sink (or the loop) does.
+``evidence["also"]`` lists the folded members (rule, kind, place): every other rule's report and
+the first :data:`MAX_LISTED` other reports of the leading rule (``also_left_out`` counts the
+rest), so an acceptance written for any of them still applies.
+"""
+from __future__ import annotations
+
+from dataclasses import replace
+from typing import Callable, Iterable, Mapping, Sequence
+
+from ..diagnostics import Diagnostic, sort_diagnostics
+
+HAZARD_KINDS = frozenset(("unbalanced-reconvergence", "unregistered-async", "static-1-hazard",
+                          "static-0-hazard", "dynamic-hazard"))
+PROVEN_KINDS = frozenset(("static-1-hazard", "static-0-hazard", "dynamic-hazard"))
+LOOP_KINDS = frozenset(("combinational-loop", "oscillation"))
+MAX_STEMS = 5        # other stems named in a folded finding's text; the rest are counted
+MAX_LISTED = 20      # folded members of the leading rule kept in the evidence (JSON, SARIF)
+
+
+def _ev(d: Diagnostic) -> Mapping:
+    """The evidence that places a finding. A deferred finding whose builder offers
+    ``light_evidence()`` is not built for it (tens of thousands of findings of one netlist
+    fold into a few; only those shown are built)."""
+    build = d.__dict__.get("_build")
+    light = getattr(build, "light_evidence", None)
+    if light is not None:
+        return light()
+    return d.evidence if isinstance(d.evidence, Mapping) else {}
+
+
+def problem_of(d: Diagnostic, sensitive: Iterable[str] = (),
+               name: Callable[[str], str] = str) -> str | None:
+    """The problem a finding describes: ``hazard:<sink node>``, ``loop:<first net of the
+    loop>``, or None for findings that are problems of their own."""
+    ev = _ev(d)
+    if d.kind in HAZARD_KINDS:
+        sink = ev.get("sink_node")
+        if not sink:
+            sinks = list(ev.get("sink_nodes") or ())
+            if not sinks:
+                return None
+            sens = set(sensitive)
+            sink = next((s for s in sinks if s in sens), sinks[0])
+        return f"hazard:{name(sink)}"
+    if d.kind in LOOP_KINDS and ev.get("scc"):
+        return f"loop:{name(min(ev['scc']))}"
+    return None
+
+
+def _is_reconvergence(d: Diagnostic) -> bool:
+    return "stem_node" in _ev(d)
+
+
+def _rank(d: Diagnostic) -> tuple:
+    """Order of members: a proven hazard first, then the more severe, then a reconvergence
+    (its place is the gate to edit and it shows both paths), then the larger skew."""
+    skew = _ev(d).get("skew")
+    skew = float(skew) if isinstance(skew, (int, float)) else 0.0
+    loc = d.location
+    return (d.kind not in PROVEN_KINDS, -int(d.severity), not _is_reconvergence(d), -skew,
+            loc.path, loc.line, loc.column, d.rule, d.instance)
+
+
+def fold(diagnostics: Sequence[Diagnostic], sensitive: Iterable[str] = (),
+         name: Callable[[str], str] = str) -> list[Diagnostic]:
+    """One finding per problem (see the module docstring); findings that describe no shared
+    problem pass through. ``sensitive`` are the glitch-sensitive sink nodes (a reconvergence
+    reaching several sinks belongs to the first sensitive one), ``name`` turns a node id into
+    the net name a designer reads."""
+    sensitive = frozenset(sensitive)
+    groups: dict[str, list[Diagnostic]] = {}
+    out: list[Diagnostic] = []
+    for d in diagnostics:
+        key = problem_of(d, sensitive, name)
+        if key is None:
+            out.append(d)
+        else:
+            groups.setdefault(key, []).append(d)
+    for key, members in groups.items():
+        out.append(_fold_group(key, sorted(members, key=_rank), name))
+    return sort_diagnostics(out)
+
+
+def _also(d: Diagnostic) -> dict:
+    return {"rule": d.rule, "kind": d.kind, "path": d.location.path, "line": d.location.line,
+            "column": d.location.column, "instance": d.instance}
+
+
+def _before(notes: Sequence[str], stop: tuple[str, ...]) -> list[str]:
+    out = []
+    for n in notes:
+        if n.startswith(stop):
+            break
+        out.append(n)
+    return out
+
+
+def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str]) -> Diagnostic:
+    primary, others = members[0], members[1:]
+    evidence = dict(primary.evidence) if isinstance(primary.evidence, Mapping) else {}
+    evidence["problem"] = key
+    evidence["rules"] = sorted({m.rule for m in members})
+    notes = list(primary.notes)
+    flows = tuple(primary.flows)
+    fix = primary.fix
+    if others:
+        # every other rule's report, and the first of the leading rule's other reports (a
+        # plain output of an arithmetic block can gather thousands of stems)
+        same = [m for m in others if m.rule == primary.rule]
+        evidence["also"] = [_also(m) for m in others if m.rule != primary.rule] + \
+            [_also(m) for m in same[:MAX_LISTED]]
+        if len(same) > MAX_LISTED:
+            evidence["also_left_out"] = len(same) - MAX_LISTED
+    stems = [m for m in others if _is_reconvergence(m)]
+    if stems and not _is_reconvergence(primary):
+        # the reconvergence evidence (stem, both paths, skew) of the worst stem
+        first = stems.pop(0)
+        notes.append(f"reconvergent fanout ({first.rule}):")
+        notes += ["  " + n for n in _before(first.notes, ("proof:", "witness:",
+                                                            "hazard proof", "timed "))]
+        flows = flows + tuple(first.flows)
+    for m in others:
+        if _is_reconvergence(m) or m.rule == primary.rule and m.kind == primary.kind:
+            continue
+        notes.append(f"also found by {m.rule} ({m.kind}):")
+        notes += ["  " + n for n in _before(m.notes, ("witness:", "timed simulation:"))]
+        tail = m.fix.partition("; this removes the logic hazard only: ")[2]
+        if tail and tail not in fix:
+            fix = f"{fix}; this removes the logic hazard only: {tail}"
+    if stems:
+        evidence["other_stems"] = [
+            {"stem": name(_ev(m)["stem_node"]),
+             "skew": _ev(m).get("skew"), "path": m.location.path, "line": m.location.line}
+            for m in stems[:MAX_LISTED]]
+        evidence["other_stem_count"] = len(stems)
+        shown = [f"{s['stem']} (skew {_num(s['skew'])})" for s in evidence["other_stems"]
+                 [:MAX_STEMS]]
+        rest = len(stems) - len(shown)
+        word = "stem" if len(stems) == 1 else "stems"
+        notes.append(f"other {word} reconverging toward the same sink: " + ", ".join(shown)
+                     + (f" and {rest} more" if rest else ""))
+    severity = max(m.severity for m in members)
+    return replace(primary, severity=severity, evidence=evidence, notes=tuple(notes),
+                   flows=flows, fix=fix)
+
+
+def _num(x) -> str:
+    if not isinstance(x, (int, float)):
+        return "?"
+    return str(int(x)) if float(x).is_integer() else f"{x:g}"
