@@ -14,6 +14,7 @@ import random
 import re
 import subprocess
 import sys
+import threading
 from pathlib import Path
 
 import networkx as nx
@@ -121,9 +122,11 @@ def test_connected_groups_are_the_connected_components():
             sorted(i for i, _ in keyed)
 
 
-def test_classify_outputs_in_a_pool_equals_one_process(monkeypatch):
+@pytest.mark.parametrize("threaded", [False, True])
+def test_classify_outputs_in_a_pool_equals_one_process(monkeypatch, threaded):
     """Small chunks give many simulation items: each must see the random vectors the one
-    process pass gives its chunk, and each SAT item the same shared encoding."""
+    process pass gives its chunk, and each SAT item the same shared encoding. With another
+    thread running, the pool starts through a fork server and gets the design pickled."""
     from hazlint.analysis.prove import classify_outputs
     from hazlint.api import load
     from hazlint.config import Config
@@ -131,9 +134,16 @@ def test_classify_outputs_in_a_pool_equals_one_process(monkeypatch):
     monkeypatch.setattr(workers, "MIN_NODES", 0)
     monkeypatch.delenv("HAZLINT_PARALLEL_MIN_NODES", raising=False)
     ref = classify_outputs(g, options={"seed": 4}, chunk=8, vectors=64)
-    with workers.configured(jobs=2), workers.Session({"graph": g}, len(g)) as ses:
-        got = classify_outputs(g, options={"seed": 4}, chunk=8, vectors=64, session=ses)
-        assert ses.remote_items > 0
+    stop = threading.Event()
+    other = threading.Thread(target=stop.wait, daemon=True)
+    if threaded:
+        other.start()
+    try:
+        with workers.configured(jobs=2), workers.Session({"graph": g}, len(g)) as ses:
+            got = classify_outputs(g, options={"seed": 4}, chunk=8, vectors=64, session=ses)
+            assert ses.remote_items > 0
+    finally:
+        stop.set()
     assert len(ref) > 100
     assert got == ref
 

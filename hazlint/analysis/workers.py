@@ -156,14 +156,21 @@ class Session:
         return self._map_pool(func, items, common)
 
     def _map_pool(self, func, items, common) -> list:
+        from concurrent.futures import BrokenExecutor
+        n = min(planned_workers(self.size), 64)
         if self._pool is None:
-            self._pool = _start_pool(min(planned_workers(self.size), 64), self.shared)
+            self._pool = _start_pool(n, self.shared)
         left = budget.left()
-        futs = [self._pool.submit(_pool_item, func, common, it, left) for it in items]
-        out = [_settle(f.result()) for f in futs]
+        try:
+            futs = [self._pool.submit(_pool_item, func, common, it, left) for it in items]
+            out = [_settle(f.result()) for f in futs]
+        except BrokenExecutor:
+            raise HazlintError("a prover worker process ended abruptly (out of memory?); "
+                               "run with fewer worker processes (-j, configuration 'jobs')"
+                               ) from None
         self.remote_items += len(items)
         log.debug("%s: %d items in %d worker processes", getattr(func, "__name__", func),
-                  len(items), self._pool._max_workers)
+                  len(items), n)
         return out
 
     def _map_cluster(self, func, items, common) -> list:
@@ -241,9 +248,9 @@ def _settle(packed):
     return res
 
 
-def _install(blob: bytes) -> None:
+def _install(payload, pickled: bool) -> None:
     global _WORKER_SHARED
-    _WORKER_SHARED = pickle.loads(blob)
+    _WORKER_SHARED = pickle.loads(payload) if pickled else payload
     _WORKER_LOCAL.clear()
 
 
@@ -263,16 +270,17 @@ def _forget(token: str) -> None:
 def _start_pool(n: int, shared):
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
-    blob = pickle.dumps(shared, protocol=pickle.HIGHEST_PROTOCOL)
-    # fork is the cheapest start, but forking a process that runs other threads (the
-    # language server, a Dask client) can copy a held lock: then a fork server starts them
-    method = "fork" if threading.active_count() == 1 and \
-        "fork" in multiprocessing.get_all_start_methods() else "forkserver"
-    if method not in multiprocessing.get_all_start_methods():
-        method = "spawn"
+    # fork is the cheapest start (the design is inherited, not copied), but forking a
+    # process that runs other threads (the language server, a Dask client) can copy a held
+    # lock: then a fork server starts them and each gets the design pickled, once
+    methods = multiprocessing.get_all_start_methods()
+    method = "fork" if threading.active_count() == 1 and "fork" in methods else \
+        "forkserver" if "forkserver" in methods else "spawn"
     ctx = multiprocessing.get_context(method)
+    payload = shared if method == "fork" else \
+        pickle.dumps(shared, protocol=pickle.HIGHEST_PROTOCOL)
     return ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=_install,
-                               initargs=(blob,))
+                               initargs=(payload, method != "fork"))
 
 
 # ---------------------------------------------------------------------------------------------
