@@ -145,6 +145,11 @@ def bench(gates: int, work: Path, timeout: float, cores=None, load_step=True,
           *check_args]
     out["cold"] = run(hz, cwd=str(folder), timeout=timeout)
     print(f"  check cold: {out['cold']}", flush=True)
+    if "wall" not in out["cold"]:
+        # a cold check that did not finish left no cache: warm and --changed would repeat it
+        out["warm"] = out["changed"] = {"error": "not run: the cold check did not finish",
+                                        "load_avg": ""}
+        return out
     out["warm"] = run(hz, cwd=str(folder), timeout=timeout)
     print(f"  check warm: {out['warm']}", flush=True)
     out["summary"] = _summary(folder / "report.txt")
