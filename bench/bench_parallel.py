@@ -107,7 +107,7 @@ def write(rows: list[tuple[str, str, dict]], path: Path, note: str) -> None:
     lines = ["# The prover's share on one process, a local pool and a Dask cluster", "",
              f"Recorded {time.strftime('%Y-%m-%d %H:%M')} UTC on {platform.machine()}, "
              f"{os.cpu_count()} cores, Python {platform.python_version()}, by "
-             "`python bench/bench_parallel.py` (EPFL netlists of circuitgraph 0.2.1; rules "
+             "`python bench/bench_parallel.py` (netlists of circuitgraph 0.2.1; rules "
              "with default options, then `prove.refine` with default options and no time "
              "budget, timed alone; one fresh process per row).", ""]
     if note:
