@@ -64,6 +64,9 @@ def _eval(e, params, where, max_bits: int, call=None):
             raise NotConstant("x/z bits")
         return value
     if tag == "real":
+        if not math.isfinite(e[1]):
+            # a literal beyond the range of a double (1e400): no value to compute with
+            raise _Refused("a real literal too large for a double-precision number")
         return e[1]
     if tag == "id":
         name = e[1]

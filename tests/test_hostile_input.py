@@ -40,6 +40,7 @@ ERRORS = [
     ("const_mod_zero_delay.v", 3, "modulo by zero"),
     ("const_mod_zero_generate.v", 4, "modulo by zero"),
     ("const_pow_fractional.v", 3, "fractional power"),
+    ("real_literal_huge.v", 4, "too large for a double"),
     ("delay_div_zero.v", 3, "division by zero"),
     ("width_2pow64.v", 3, "limit vector_width"),
     ("width_32_digits.v", 3, "limit vector_width"),

@@ -33,6 +33,7 @@ class Locator:
         self._file = sm.getFileName
         self._line = sm.getLineNumber
         self._col = sm.getColumnNumber
+        self._odd: set = set()          # buffers with a `line directive slang cannot place
 
     def _real(self, loc):
         return self._expanded(loc) if self._is_macro(loc) else loc
@@ -46,8 +47,13 @@ class Locator:
             # the name at the buffer's start is the file's own; a different one here comes
             # from a `line directive
             own = self._file(SourceLocation(loc.buffer, 0))
-            if name != own:
+            if name != own and os.path.basename(name):
                 p = name
+            elif name != own:
+                # `line 0 "" 0 and the like: the physical file and line (see _line_of)
+                self._odd.add(buf)
+                p = self.main_path if buf == self.main_id else os.path.abspath(
+                    os.fspath(self.sm.getFullPath(loc.buffer)) or own)
             elif buf == self.main_id:
                 p = self.main_path
             else:
@@ -55,10 +61,20 @@ class Locator:
             self._names[key] = p
         return p
 
+    def _line_of(self, loc) -> int:
+        """The line of ``loc``: the ```line`` directive's numbering where it gives one a
+        location can have (a file name and a line from 1), else the physical line."""
+        n = self._line(loc)
+        if n >= 1 and (loc.buffer.id not in self._odd
+                       or os.path.basename(self._file(loc))):
+            return n
+        text = self.sm.getSourceText(loc.buffer) or ""
+        return text.count("\n", 0, loc.offset) + 1
+
     def loc(self, tok) -> ir.Loc:
         """Where ``tok`` (a token) is in the original file."""
         loc = self._real(tok.location)
-        return ir.Loc(self.path(loc), self._line(loc), self.column(loc))
+        return ir.Loc(self.path(loc), self._line_of(loc), self.column(loc))
 
     def column(self, loc) -> int:
         """1-based column in characters (slang counts bytes: they differ after non-ASCII
@@ -80,15 +96,18 @@ class Locator:
     def loc_line_only(self, tok) -> ir.Loc:
         """``file:line`` of ``tok`` with column 1 (where the pyverilog front end has no column)."""
         loc = self._real(tok.location)
-        return ir.Loc(self.path(loc), self._line(loc), 1)
+        return ir.Loc(self.path(loc), self._line_of(loc), 1)
 
     def line(self, tok) -> int:
-        return self._line(self._real(tok.location))
+        loc = self._real(tok.location)
+        self.path(loc)
+        return self._line_of(loc)
 
     def where(self, loc) -> tuple[str, int, int]:
         """(path, line, column) of a slang ``SourceLocation``."""
         loc = self._real(loc)
-        return self.path(loc), self._line(loc), self.column(loc)
+        p = self.path(loc)
+        return p, self._line_of(loc), self.column(loc)
 
     def error(self, message: str, what, construct=None):
         """Raise a :class:`ParseError` at ``what`` (a token or a syntax node)."""

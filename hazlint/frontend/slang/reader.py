@@ -17,10 +17,11 @@ import os
 import pyslang
 from pyslang import ast, parsing, syntax
 
-from ...errors import ParseError
+from ...errors import HazlintError, ParseError
+from ...limits import LimitExceeded
 from .. import ir
 from ..driver import combined_digest, read_with
-from ..preprocess import digest_text, read_text, repository_root
+from ..preprocess import Preprocessor, digest_text, read_text, repository_root
 from .build import Builder
 from .locate import Locator
 
@@ -63,6 +64,8 @@ def _read_one(path, include_dirs, defines, root, texts, fast) -> ir.SourceFile:
     for p, t in texts.items():
         if p != apath:
             sm.assignText(p, t)
+    if "`" in text:
+        _within_limits(path, text, include_dirs, defines, root, texts)
     options = _options(defines)
     try:
         if apath in texts:
@@ -87,6 +90,22 @@ def _read_one(path, include_dirs, defines, root, texts, fast) -> ir.SourceFile:
         digests.setdefault(p, digest_text(read_text(p, texts)))
     return ir.SourceFile(path=path, modules=modules, primitives=prims, notes=b.notes,
                          includes=includes, digest=combined_digest(digests, path))
+
+
+def _within_limits(path, text, include_dirs, defines, root, texts) -> None:
+    """slang expands macros and includes without a bound (a `define whose expansion quadruples
+    at each level filled 24 GB; an include fan-out ran for minutes). A file that uses compiler
+    directives is first run through hazlint's own preprocessor, which counts macro expansion
+    and includes against the documented limits (``macro_expansion``, ``include_fanout``) and
+    raises a located :class:`~hazlint.limits.LimitExceeded`. Only the limits are taken from
+    it: any other complaint it has is left to slang, which reads SystemVerilog directives the
+    Verilog preprocessor does not know."""
+    try:
+        Preprocessor(include_dirs, defines, root, texts).run(path, text)
+    except LimitExceeded:
+        raise
+    except HazlintError:
+        pass
 
 
 def _encodable(text: str) -> str:
