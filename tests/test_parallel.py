@@ -155,3 +155,18 @@ def test_scheduler_configuration_key(tmp_path):
     (tmp_path / "hazlint.toml").write_text('scheduler = "  "\n')
     with pytest.raises(ConfigError, match="scheduler"):
         load_config(str(tmp_path))
+
+
+def test_an_item_handed_out_after_the_budget_ran_out_is_out_of_time():
+    # a worker gets (the run's budget, seconds left); nothing left must not mean "no budget"
+    seen = {}
+
+    def item(shared, common, it, local):
+        from hazlint import budget
+        seen["expired"], seen["reason"] = budget.expired(), budget.reason()
+        return it
+
+    assert workers._run_budgeted(item, None, None, 7, {}, (15.0, 0.0))[:2] == (7, True)
+    assert seen["expired"] and "time budget (15 s" in seen["reason"]
+    assert workers._run_budgeted(item, None, None, 8, {}, (0.0, 0.0))[:2] == (8, False)
+    assert not seen["expired"]

@@ -72,7 +72,9 @@ def classify_batch(g: nx.DiGraph, targets: Sequence[str] | None, opts: Mapping[s
     for n in chg:
         chg_mask |= 1 << index[n]
     chunks = [chg[c0:c0 + chunk] for c0 in range(0, len(chg), chunk)]
-    items = _runs(list(enumerate(chunks)), session)
+    # one run of chunks per worker: a run skips the random draws of the chunks before it,
+    # so more runs would draw the same numbers more often
+    items = _runs(list(enumerate(chunks)), session, per_worker=1)
     found: dict[tuple[str, str], dict[str, HazardProof]] = {}
     parts = _map(session, _simulate, items, p, {"graph": g}, local)
     for part in parts:
@@ -114,13 +116,13 @@ def _map(session, func, items, p: _Pass, shared, local) -> list:
     return session.map(func, items, p)
 
 
-def _runs(seq: list, session) -> list[list]:
-    """``seq`` cut into consecutive runs: one run in a single process, else a few per worker
-    (the results do not depend on the cut)."""
+def _runs(seq: list, session, per_worker: int = 4) -> list[list]:
+    """``seq`` cut into consecutive runs: one run in a single process, else ``per_worker``
+    runs per worker (the results do not depend on the cut)."""
     if not seq:
         return []
     from .workers import items_for
-    size = -(-len(seq) // items_for(session, len(seq)))
+    size = -(-len(seq) // items_for(session, len(seq), per_worker))
     return [seq[i:i + size] for i in range(0, len(seq), size)]
 
 
@@ -153,7 +155,7 @@ def _skip_draws(rng: random.Random, draws: int, width: int) -> None:
         # large pieces
         words = draws * (width // 32)
         step = 1 << 20
-        while words > 0:
+        while words > 0 and not budget.expired():
             rng.getrandbits(32 * min(words, step))
             words -= step
         return

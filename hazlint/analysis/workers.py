@@ -160,7 +160,7 @@ class Session:
         n = min(planned_workers(self.size), 64)
         if self._pool is None:
             self._pool = _start_pool(n, self.shared)
-        left = budget.left()
+        left = _time_left()
         try:
             futs = [self._pool.submit(_pool_item, func, common, it, left) for it in items]
             out = [_settle(f.result()) for f in futs]
@@ -178,7 +178,7 @@ class Session:
         if self._shared_future is None:
             self._shared_future = client.scatter(self.shared, broadcast=True, hash=False)
         [common_f] = client.scatter([common], broadcast=True, hash=False)
-        left = budget.left()
+        left = _time_left()
         futs = client.map(_cluster_item, items, fn=func, shared=self._shared_future,
                           common=common_f, token=self.token, left=left, pure=False)
         try:
@@ -189,6 +189,15 @@ class Session:
         log.debug("%s: %d items on the cluster at %s", getattr(func, "__name__", func),
                   len(items), self.settings.scheduler)
         return out
+
+    def workers(self) -> int:
+        """How many workers this session's items are spread over (1: this process)."""
+        if self.settings.scheduler is None:
+            return planned_workers(self.size)
+        try:
+            return max(1, len(self._connect().scheduler_info()["workers"]))
+        except (OSError, KeyError, TimeoutError):
+            return 1
 
     def _connect(self):
         if self._client is None:
@@ -226,10 +235,21 @@ def _run_here(func, shared, common, item, local):
     return func(shared, common, item, local)
 
 
-def _run_budgeted(func, shared, common, item, local, left: float):
+def _time_left() -> tuple[float, float]:
+    """(the run's time budget in seconds, seconds left of it); (0, 0) for no budget."""
+    d = budget.current()
+    if d is None or not d.seconds:
+        return 0.0, 0.0
+    return d.seconds, d.left()
+
+
+def _run_budgeted(func, shared, common, item, local, left: tuple[float, float]):
     """The item under the time left when it was handed out; (result, budget hit)."""
     from .. import __version__
-    with budget.using(left if left != float("inf") else 0) as d:
+    total, rest = left
+    # a budget already used up is a deadline now, not "no budget" (which is 0 seconds)
+    with budget.using(max(rest, 1e-9) if total else 0) as d:
+        d.seconds = total           # the reason names the run's budget, not what was left
         res = func(shared, common, item, local)
         return res, d.hit, __version__
 
@@ -329,11 +349,10 @@ def pack(groups: list[list[int]], n: int) -> list[list[int]]:
     return out
 
 
-def items_for(session: "Session | None", count: int) -> int:
+def items_for(session: "Session | None", count: int, per_worker: int = 4) -> int:
     """How many items to cut ``count`` pieces of work into for ``session``: one in a
-    single process, else a few per worker for balance."""
+    single process, else ``per_worker`` per worker (a few, for balance)."""
     if session is None:
         return 1
-    s = session.settings
-    w = 8 if s.scheduler else planned_workers(session.size)
-    return 1 if w <= 1 else min(count, w * 4)
+    w = session.workers()
+    return 1 if w <= 1 else max(1, min(count, w * per_worker))
