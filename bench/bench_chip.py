@@ -75,6 +75,7 @@ print(json.dumps({"load": t_load, "rules": t_rules, "built": clock() - t,
 def run(cmd: list[str], cwd: str | None = None, env=None, timeout: float = 3600) -> dict:
     """Run ``cmd``; wall and CPU seconds and peak RSS (MB) of that process, its last stdout
     line parsed as JSON when it is JSON, the exit code."""
+    load_before = load_average()
     t0 = time.perf_counter()
     with tempfile.TemporaryFile("w+") as out, tempfile.TemporaryFile("w+") as err:
         p = subprocess.Popen(cmd, cwd=cwd, env=env, stdout=out, stderr=err, text=True)
@@ -86,14 +87,14 @@ def run(cmd: list[str], cwd: str | None = None, env=None, timeout: float = 3600)
             if time.perf_counter() > deadline:
                 p.kill()
                 pid, status, ru = os.wait4(p.pid, 0)
-                return {"error": f"timeout after {timeout:.0f}s"}
+                return {"error": f"timeout after {timeout:.0f}s", "load_avg": load_before}
             time.sleep(0.05)
         p.returncode = os.waitstatus_to_exitcode(status)
         out.seek(0)
         err.seek(0)
         text, etext = out.read(), err.read()
     r = {"wall": time.perf_counter() - t0, "cpu": ru.ru_utime + ru.ru_stime,
-         "peak_mb": ru.ru_maxrss / 1024, "code": p.returncode}
+         "peak_mb": ru.ru_maxrss / 1024, "code": p.returncode, "load_avg": load_before}
     lines = text.strip().splitlines()
     if lines:
         try:
@@ -105,7 +106,18 @@ def run(cmd: list[str], cwd: str | None = None, env=None, timeout: float = 3600)
     return r
 
 
-def bench(gates: int, work: Path, timeout: float, cores=None, load_step=True) -> dict:
+def load_average() -> str:
+    """The 1, 5 and 15 minute load averages (as ``uptime`` prints them) when a step starts:
+    the machine may be shared, and a step's wall time means little when the load exceeds
+    the cores."""
+    try:
+        return " ".join(Path("/proc/loadavg").read_text().split()[:3])
+    except OSError:
+        return "?"
+
+
+def bench(gates: int, work: Path, timeout: float, cores=None, load_step=True,
+          check_args=(), memory_mb: int = 0, steps=("rules", "check")) -> dict:
     folder = work / f"chip-{gates}"
     info = chipgen.generate(folder, gates, cores)
     files = info["files"]
@@ -113,15 +125,31 @@ def bench(gates: int, work: Path, timeout: float, cores=None, load_step=True) ->
         "files = [" + ", ".join(json.dumps(f) for f in files) + "]\n"
         f'top = "{info["top"]}"\ncache_dir = "cache"\n')
     py = sys.executable
-    out = {"tiles": info["tiles"], "cores": info["cores"]}
+    if memory_mb:
+        # a cap on each step's address space: on a shared machine a step that needs more
+        # fails with MemoryError instead of calling the kernel's out-of-memory killer
+        py = ["/bin/sh", "-c", f'ulimit -v {memory_mb * 1024}; exec "$0" "$@"', py]
+    else:
+        py = [py]
+    out = {"tiles": info["tiles"], "cores": info["cores"], "check_args": list(check_args)}
     if load_step:
-        out["load"] = run([py, "-c", LOAD, json.dumps(files), info["top"]], timeout=timeout)
+        out["load"] = run([*py, "-c", LOAD, json.dumps(files), info["top"]], timeout=timeout)
         print(f"  load: {out['load']}", flush=True)
-    out["rules"] = run([py, "-c", RULES, json.dumps(files), info["top"]], timeout=timeout)
-    print(f"  rules: {out['rules']}", flush=True)
-    hz = [py, "-m", "hazlint", "check", "--brief", "-o", str(folder / "report.txt")]
+    if "rules" in steps:
+        out["rules"] = run([*py, "-c", RULES, json.dumps(files), info["top"]],
+                           timeout=timeout)
+        print(f"  rules: {out['rules']}", flush=True)
+    if "check" not in steps:
+        return out
+    hz = [*py, "-m", "hazlint", "check", "--brief", "-o", str(folder / "report.txt"),
+          *check_args]
     out["cold"] = run(hz, cwd=str(folder), timeout=timeout)
     print(f"  check cold: {out['cold']}", flush=True)
+    if "wall" not in out["cold"]:
+        # a cold check that did not finish left no cache: warm and --changed would repeat it
+        out["warm"] = out["changed"] = {"error": "not run: the cold check did not finish",
+                                        "load_avg": ""}
+        return out
     out["warm"] = run(hz, cwd=str(folder), timeout=timeout)
     print(f"  check warm: {out['warm']}", flush=True)
     out["summary"] = _summary(folder / "report.txt")
@@ -158,29 +186,36 @@ def write(results: list[tuple[int, dict]], path: Path, note: str) -> None:
              "step times its own load and rules in CPU seconds.", ""]
     if note:
         lines += [note, ""]
-    lines += ["| gates | tiles | nodes | step | wall s (CPU s) | peak MB | result |",
-              "|---:|---:|---:|---|---:|---:|---|"]
+    lines += ["| gates | tiles | nodes | step | wall s (CPU s) | peak MB | load avg | result |",
+              "|---:|---:|---:|---|---:|---:|---|---|"]
     for gates, r in results:
         load = r.get("load", {})
-        nodes = load.get("nodes") or r["rules"].get("nodes", "")
-        real = load.get("gates") or r["rules"].get("gates", gates)
+        rules = r.get("rules", {})
+        nodes = load.get("nodes") or rules.get("nodes", "")
+        real = load.get("gates") or rules.get("gates", gates)
         steps = [("load", load, f"{load.get('registers', '')} registers")] if load else []
-        steps += [("rules (default options)", r["rules"],
-                  f"CPU: load {r['rules'].get('load', 0):.1f} s, rules {r['rules'].get('rules', 0):.1f} s, "
-                  f"findings built "
-                  f"{r['rules'].get('built', 0):.1f} s, {r['rules'].get('findings', '')} "
-                  "findings" if "rules" in r["rules"] else r["rules"].get("error", "")),
-                 ("check, cold", r["cold"], r.get("summary", "")),
-                 ("check, warm", r["warm"], r.get("summary", "")),
-                 (f"check --changed {r.get('changed_file', '')}, warm", r["changed"],
-                  r.get("changed_summary", ""))]
+        if rules:
+            steps.append(("rules (default options)", rules,
+                          f"CPU: load {rules.get('load', 0):.1f} s, rules "
+                          f"{rules.get('rules', 0):.1f} s, findings built "
+                          f"{rules.get('built', 0):.1f} s, {rules.get('findings', '')} "
+                          "findings" if "rules" in rules else rules.get("error", "")))
+        if "cold" in r:
+            args = "".join(f" {x}" for x in r.get("check_args", []))
+            steps += [(f"check{args}, cold", r["cold"], r.get("summary", "")),
+                      (f"check{args}, warm", r["warm"], r.get("summary", "")),
+                      (f"check{args} --changed {r.get('changed_file', '')}, warm",
+                       r["changed"], r.get("changed_summary", ""))]
         for k, (name, s, res) in enumerate(steps):
             head = f"| {real} | {r['tiles']} | {nodes} |" if k == 0 else "| | | |"
             if "wall" not in s:
-                lines.append(f"{head} {name} | {s.get('error', '')} | | |")
+                lines.append(f"{head} {name} | {s.get('error', '')} | | "
+                             f"{s.get('load_avg', '')} | |")
                 continue
+            if s.get("error"):
+                res = f"exit {s.get('code')}: {s['error']}"
             lines.append(f"{head} {name} | {s['wall']:.1f} ({s['cpu']:.1f}) | "
-                         f"{s['peak_mb']:.0f} | {res} |")
+                         f"{s['peak_mb']:.0f} | {s.get('load_avg', '')} | {res} |")
     path.write_text("\n".join(lines) + "\n")
 
 
@@ -195,6 +230,12 @@ def main() -> None:
                     help="skip the load-only step (the rules step times the load too)")
     ap.add_argument("--cores", help="comma-separated EPFL files for the tiles (quick checks)")
     ap.add_argument("--out", default=str(HERE / "RESULTS-chip.md"))
+    ap.add_argument("--check-args", default="",
+                    help="extra arguments of the check steps, e.g. '-j 2 --time-budget 0'")
+    ap.add_argument("--memory-mb", type=int, default=0,
+                    help="cap each step's address space at this many MB (0: none)")
+    ap.add_argument("--steps", default="load,rules,check",
+                    help="which steps to run: load, rules, check (cold, warm, --changed)")
     a = ap.parse_args()
     tmp = None
     if a.work:
@@ -208,7 +249,9 @@ def main() -> None:
             print(f"chip of about {g} gates in {work}", flush=True)
             results.append((g, bench(g, work, a.timeout,
                                      a.cores.split(",") if a.cores else None,
-                                     not a.no_load_step)))
+                                     not a.no_load_step and "load" in a.steps,
+                                     a.check_args.split(), a.memory_mb,
+                                     a.steps.split(","))))
             if not a.print:         # after each size: a long run keeps what it measured
                 write(results, Path(a.out), a.note)
                 print(f"wrote {a.out}", flush=True)

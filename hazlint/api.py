@@ -352,8 +352,10 @@ def lint(files: Sequence[str] | None = None, *, config: Config | None = None,
     configuration's) bound the run (:mod:`hazlint.budget`, :mod:`hazlint.limits`)."""
     plan = _plan(files, config=config, cwd=cwd, texts=texts, select=select, ignore=ignore,
                  rule_options=rule_options)
+    from .analysis.workers import configured
     from .budget import bounded
-    with bounded(plan.config, time_budget, limits):
+    with bounded(plan.config, time_budget, limits), \
+            configured(plan.config.jobs, plan.config.scheduler):
         return _lint_planned(plan, texts=texts, changed=changed, prove=prove, top=top,
                              include_dirs=include_dirs, defines=defines, baseline=baseline,
                              use_cache=use_cache, progress=progress)

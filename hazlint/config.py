@@ -29,7 +29,8 @@ Keys (all optional)::
     baseline = "hazlint-baseline.json"
     cache_dir = ".hazlint-cache"
     cache_limit_mb = 2048           # size limit of the cache folder (0: none)
-    jobs = 2
+    jobs = 2                        # worker processes (default: every core for the prover)
+    scheduler = "tcp://10.0.0.5:8786"   # prover work on a Dask cluster (extra 'cluster')
     frontend = "auto"               # auto | pyverilog | slang (auto: .sv files through slang)
     prove = { }                     # options handed to the hazard prover
     memory_as_registers_max_bits = 4096   # larger variable arrays become memory nodes
@@ -83,6 +84,7 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "cache_dir": ((str,), "a path"),
     "cache_limit_mb": ((int,), "a size in MB (0: no limit)"),
     "jobs": ((int,), "a number of worker processes"),
+    "scheduler": ((str,), "a Dask scheduler address, e.g. tcp://host:8786"),
     "frontend": ((str,), "auto, pyverilog or slang"),
     "prove": ((dict,), "a table of hazard-prover options"),
     "memory_as_registers_max_bits": ((int,), "a number of bits (arrays up to it are registers)"),
@@ -120,6 +122,7 @@ class Config:
     cache_dir: str | None = None
     cache_limit_mb: int | None = None
     jobs: int | None = None
+    scheduler: str | None = None
     frontend: str = "auto"
     prove: dict[str, Any] = field(default_factory=dict)
     memory_as_registers_max_bits: int = 4096
@@ -384,6 +387,10 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         if table["jobs"] < 1:
             raise err("jobs", "jobs must be at least 1")
         cfg.jobs = table["jobs"]
+    if "scheduler" in table:
+        if not table["scheduler"].strip():
+            raise err("scheduler", "scheduler must be an address such as tcp://host:8786")
+        cfg.scheduler = table["scheduler"].strip()
     if "frontend" in table:
         from .frontends.registry import check_choice
         try:

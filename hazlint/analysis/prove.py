@@ -28,10 +28,12 @@ from ..diagnostics import Diagnostic, Severity
 from ..netlist.graph import ASYNC_ROLES, SOURCE_KINDS
 from ..netlist.walks import behind_loops
 from . import fixes as _fixes
+from . import workers
+from .batch import classify_batch, prove_symbolic  # noqa: F401 - prove_symbolic: public name
 from .symbolic import Budget, HazardProof, bdd_hazards
 from .satcheck import sat_hazards
 from .ternary import (HAZARD_KINDS, CyclicCone, IntAlgebra, cone, free_sources, function_hazard,
-                      hazard_planes, propagate, ternary_gate)
+                      hazard_planes)
 from .delaysearch import search_assignment
 from .timedsim import DelayAssignment, Glitch, replay, simulate
 from .changes import ChangeModel
@@ -557,31 +559,130 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     graph = design.graph if hasattr(design, "graph") else design
     memo: dict[str, list[str]] = {}
     plans = [_plan(graph, d, context, opts, memo) for d in diagnostics]
-    known = _decide_batch(graph, plans, opts)
-    limit = int(opts["max_findings"])
-    rank = sorted((i for i, p in enumerate(plans) if p is not None),
-                  key=lambda i: plans[i][0])
-    full = set(rank[:limit]) if limit >= 0 else set(rank)
+    view = _ContextView.of(graph, context)
+    with workers.Session({"graph": graph, "context": view}, graph.number_of_nodes()) as ses:
+        known = _decide_batch(graph, plans, opts, ses)
+        limit = int(opts["max_findings"])
+        rank = sorted((i for i, p in enumerate(plans) if p is not None),
+                      key=lambda i: plans[i][0])
+        full = set(rank[:limit]) if limit >= 0 else set(rank)
+        done = _refine_split(ses, graph, diagnostics, plans, known, full, opts, limit)
     out: list[Diagnostic] = []
-    memo = _RunMemo()
     for i, d in enumerate(diagnostics):
+        out.extend(done.get(i, (d,)))
+    return out
+
+
+def _refine_split(ses, graph, diagnostics, plans, known, full, opts, limit) -> dict:
+    """The refinement as work items (:mod:`hazlint.analysis.workers`), in two rounds.
+
+    1. Per sink, the single-change verdicts of the reconvergence findings that name it, in
+       finding order: everything one run shares between findings (verdicts, replays, cones)
+       is kept per sink, so a sink's item computes what the one-process loop computes.
+    2. Per finding, the verdict over its sinks and the finding it becomes; findings at one
+       sink driver's glitch-sensitive sinks share that driver's verdict and go together.
+    """
+    per_sink: dict[str, list] = {}
+    for i, d in enumerate(diagnostics):
+        if plans[i] is not None and d.kind != "unregistered-async":
+            for s, srcs in plans[i][1]:
+                per_sink.setdefault(s, []).append((i, tuple(srcs), i in full, d.kind))
+    cut = workers.pack([[k] for k in range(len(per_sink))],
+                       workers.items_for(ses, len(per_sink)))
+    sinks = list(per_sink)
+    items = [[(sinks[k], per_sink[sinks[k]],
+               {(sinks[k], x): known[(sinks[k], x)] for _, srcs, _, _ in per_sink[sinks[k]]
+                for x in srcs if (sinks[k], x) in known}) for k in it] for it in cut]
+    verdicts: dict = {}
+    for part in ses.map(_sink_verdicts, items, (opts, limit)):
+        verdicts.update(part)
+    keyed = []
+    for i, d in enumerate(diagnostics):
+        if plans[i] is None and d.kind != "combinational-loop":
+            continue
+        keys = []
+        if d.kind == "unregistered-async" and plans[i] is not None:
+            sink = plans[i][1][0][0]
+            keys.append((graph.nodes[sink].get("inputs") or [sink])[0])
+        keyed.append((i, keys))
+    groups = workers.connected_groups(keyed)
+    items = [[(i, diagnostics[i], plans[i], i in full,
+               [verdicts[(i, s)] for s, _ in plans[i][1]]
+               if plans[i] is not None and diagnostics[i].kind != "unregistered-async"
+               else None) for i in it]
+             for it in workers.pack(groups, workers.items_for(ses, len(groups)))]
+    done: dict = {}
+    for part in ses.map(_refine_item, items, (opts, limit)):
+        done.update(part)
+    return done
+
+
+def _sink_verdicts(shared, common, item, local) -> dict:
+    """Round 1 of :func:`_refine_split`: {(finding index, sink): Classification, or the
+    text of the error that stopped it, or None past the time budget}."""
+    graph = shared["graph"]
+    opts, limit = common
+    out: dict = {}
+    for s, reqs, known in item:
+        memo = _RunMemo()
+        for i, srcs, full, kind in reqs:
+            if budget.expired():
+                out[(i, s)] = None
+                continue
+            try:
+                out[(i, s)] = _sink_verdict(graph, s, srcs, full, kind, opts, memo, known,
+                                            limit)
+            except (Budget, RuntimeError, KeyError) as exc:
+                out[(i, s)] = str(exc)
+    return out
+
+
+def _refine_item(shared, common, item, local) -> list:
+    """Round 2 of :func:`_refine_split`: [(finding index, [findings])]."""
+    graph, context = shared["graph"], shared["context"]
+    opts, limit = common
+    memo = _RunMemo()
+    out = []
+    for i, d, plan, full, results in item:
         ev = d.evidence if isinstance(d.evidence, Mapping) else {}
         try:
-            if plans[i] is not None and budget.expired():
-                out.append(_out_of_time(d))
-            elif plans[i] is not None:
-                out.extend(_refine_planned(graph, d, ev, plans[i][1], context, opts, memo,
-                                           known, i in full, limit))
-            elif d.kind == "combinational-loop" and ev.get("scc"):
-                out.append(d)
-                osc = _refine_loop(graph, d, ev)
-                if osc is not None:
-                    out.append(osc)
+            if plan is not None and (budget.expired() or
+                                     (results is not None and None in results)):
+                got = [_out_of_time(d)]
+            elif results is not None and any(isinstance(r, str) for r in results):
+                raise RuntimeError(next(r for r in results if isinstance(r, str)))
+            elif plan is not None and d.kind == "unregistered-async":
+                got = _refine_sink(graph, d, ev, context, opts, memo, full, limit)
+            elif plan is not None:
+                got = _finish_planned(graph, d, ev, results, context, opts, memo, full, limit)
             else:
-                out.append(d)
+                osc = _refine_loop(graph, d, ev) if ev.get("scc") else None
+                got = [d] if osc is None else [d, osc]
         except (Budget, RuntimeError, KeyError) as exc:
-            out.append(replace(d, notes=tuple(d.notes) + (f"prover: inconclusive ({exc})",)))
+            got = [replace(d, notes=tuple(d.notes) + (f"prover: inconclusive ({exc})",))]
+        out.append((i, got))
     return out
+
+
+@dataclass
+class _ContextView:
+    """What the refinement of a finding reads of the run's context, small enough to ship to
+    a worker: the glitch-sensitive sinks, the change model, the cell model."""
+    change_model: Any = None
+    config: Any = None
+
+    @classmethod
+    def of(cls, graph, context) -> "_ContextView | None":
+        if context is None:
+            return None
+        from types import SimpleNamespace
+        v = cls(change_model=getattr(context, "change_model", None),
+                config=SimpleNamespace(cell_model=_cell_model(context)))
+        try:
+            v.sensitive_sinks = frozenset(context.sensitive_sinks)
+        except Exception:  # noqa: BLE001 - a context without the analysis: roles decide
+            pass
+        return v
 
 
 def _out_of_time(d: Diagnostic) -> Diagnostic:
@@ -619,7 +720,7 @@ def _plan(graph, d: Diagnostic, context, opts, memo=None):
     return None
 
 
-def _decide_batch(graph, plans, opts) -> dict[tuple[str, str], dict[str, HazardProof]]:
+def _decide_batch(graph, plans, opts, session=None) -> dict[tuple[str, str], dict[str, HazardProof]]:
     """Every (sink, source) single change the plans need, decided in one batched pass. Sinks
     whose fan-in cone holds a combinational loop are left out (proven one by one)."""
     wanted = {(s, x) for p in plans if p is not None for s, xs in p[1] for x in xs}
@@ -634,7 +735,8 @@ def _decide_batch(graph, plans, opts) -> dict[tuple[str, str], dict[str, HazardP
     wanted = {(s, x) for s, x in wanted if s in keep}
     try:
         res = classify_outputs(graph, targets, opts, changing={x for _, x in wanted},
-                               wanted=wanted, vectors=max(1, int(opts["sim_vectors"])))
+                               wanted=wanted, vectors=max(1, int(opts["sim_vectors"])),
+                               session=session)
     except (CyclicCone, Budget, RuntimeError):
         return {}
     return {k: v for k, v in res.items() if all(kind in v for kind in HAZARD_KINDS)}
@@ -668,30 +770,30 @@ class _RunMemo:
     sinks: dict = field(default_factory=dict)
 
 
-def _refine_planned(graph, d, ev, work, context, opts, memo: _RunMemo, known, full, limit):
-    if d.kind == "unregistered-async":
-        return _refine_sink(graph, d, ev, context, opts, memo, full, limit)
-    results = []
+def _sink_verdict(graph, s, srcs, full, kind, opts, memo: _RunMemo, known, limit):
+    """The verdict of one reconvergence finding's changing sources at sink ``s``."""
     cache = memo.verdicts
-    for s, srcs in work:
-        key = (s, tuple(srcs), full)
-        if not full and (s, tuple(srcs), True) in cache:
-            key = (s, tuple(srcs), True)
-        if key not in cache:
-            if not full and not all((s, x) in known for x in srcs):
-                c = Classification(s, "inconclusive", {}, reason=(
-                    f"not proven: beyond the prover's limit of {limit} findings per run "
-                    "(option max_findings)"))
-            else:
-                got = _cone_of(graph, s, memo.cones)
-                order, free = got if got is not None else (None, None)
-                c = combine(classify_sources(graph, s, srcs, opts, order=order, known=known,
-                                             replay_glitch=full, free=free,
-                                             memo=memo.per_source)) or Classification(
-                    s, "inconclusive", {}, reason="no changing input found for the stem"
-                    if d.kind == "unbalanced-reconvergence" else "no changing source")
-            cache[key] = c
-        results.append(cache[key])
+    key = (s, srcs, full)
+    if not full and (s, srcs, True) in cache:
+        key = (s, srcs, True)
+    if key not in cache:
+        if not full and not all((s, x) in known for x in srcs):
+            c = Classification(s, "inconclusive", {}, reason=(
+                f"not proven: beyond the prover's limit of {limit} findings per run "
+                "(option max_findings)"))
+        else:
+            got = _cone_of(graph, s, memo.cones)
+            order, free = got if got is not None else (None, None)
+            c = combine(classify_sources(graph, s, list(srcs), opts, order=order, known=known,
+                                         replay_glitch=full, free=free,
+                                         memo=memo.per_source)) or Classification(
+                s, "inconclusive", {}, reason="no changing input found for the stem"
+                if kind == "unbalanced-reconvergence" else "no changing source")
+        cache[key] = c
+    return cache[key]
+
+
+def _finish_planned(graph, d, ev, results, context, opts, memo: _RunMemo, full, limit):
     c = combine(results)
     if c is None:
         return [d]
@@ -825,351 +927,15 @@ def _refine_loop(graph, d: Diagnostic, ev) -> Diagnostic | None:
 def classify_outputs(graph: nx.DiGraph, targets: Sequence[str] | None = None,
                      options: Mapping[str, Any] | None = None, rounds: int = 3,
                      vectors: int = 256, changing: Iterable[str] | None = None,
-                     wanted: set[tuple[str, str]] | None = None, chunk: int = 64
+                     wanted: set[tuple[str, str]] | None = None, chunk: int = 64, session=None
                      ) -> dict[tuple[str, str], dict[str, HazardProof]]:
     """For every target (default: every sink) and every free source in its cone (or only the
     ``changing`` ones; only the (target, source) pairs in ``wanted`` when given), decide each
-    hazard kind for a single change of that source.
-
-    One explicit ternary/transient pass covers many (source, vector) pairs at once: lane block
-    *i* holds ``vectors`` random side-input vectors with source *i* changing (``chunk`` sources
-    per pass, so the bit-vectors stay a bounded size). What the random vectors do not show is
-    settled per pair by the structural path count, then BDD, then SAT, else reported
-    inconclusive.
+    hazard kind for a single change of that source (:mod:`hazlint.analysis.batch`: random
+    bit-parallel ternary simulation, structural path count, shared BDD or SAT, else
+    inconclusive). ``session`` spreads the work over worker processes or a cluster
+    (:mod:`hazlint.analysis.workers`); the result does not depend on it.
     """
-    opts = options_with_defaults(options)
-    g = graph
-    if targets is None:
-        targets = [n for n, d in g.nodes(data=True) if d["kind"] == "sink"]
-    order = cone(g, targets)
-    srcs = free_sources(g, order)
-    index = {n: i for i, n in enumerate(srcs)}
-    if changing is None:
-        chg = list(srcs)
-    else:
-        want_src = set(changing)
-        chg = [n for n in srcs if n in want_src]
-    chg_mask = 0
-    for n in chg:
-        chg_mask |= 1 << index[n]
-    rng = random.Random(opts["seed"])
-    block = (1 << vectors) - 1
-    found: dict[tuple[str, str], dict[str, HazardProof]] = {}
-    # support of each target, by bit sets over sources (DP over the topological order)
-    sup: dict[str, int] = {}
-    for n in order:
-        d = g.nodes[n]
-        if n in index:
-            sup[n] = 1 << index[n]
-        else:
-            v = 0
-            for i in d.get("inputs") or ():
-                v |= sup.get(i, 0)
-            sup[n] = v
-    chunk = max(1, int(chunk))
-    for c0 in range(0, len(chg), chunk):
-        if budget.expired():
-            break               # the pairs left open are proven one by one, or reported
-        part = chg[c0:c0 + chunk]
-        lane_of = {n: k for k, n in enumerate(part)}
-        part_mask = 0
-        for n in part:
-            part_mask |= 1 << index[n]
-        width = len(part) * vectors
-        A = IntAlgebra(width)
-        for _ in range(rounds):
-            if budget.expired():
-                break
-            va, vb = {}, {}
-            for n in srcs:
-                r = rng.getrandbits(width)
-                if n in lane_of:
-                    own = block << (lane_of[n] * vectors)
-                    va[n] = r & ~own & A.mask
-                    vb[n] = r | own
-                else:
-                    va[n] = vb[n] = r
-            ta, tb, tx, tr = _planes_inputs(A, va, vb, srcs)
-            ra = propagate(g, order, ta, A, ternary_gate)
-            rb = propagate(g, order, tb, A, ternary_gate)
-            rx = propagate(g, order, tx, A, ternary_gate)
-            rt = propagate(g, order, tr, A, _transient)
-            for t in targets:
-                s = sup[t] & part_mask
-                if not s:
-                    continue
-                a0, a1 = ra[t]
-                b0, b1 = rb[t]
-                x0, x1 = rx[t]
-                h = rt[t][2]
-                one_a, zero_a = a1 & ~a0, a0 & ~a1
-                one_b, zero_b = b1 & ~b0, b0 & ~b1
-                xm = x0 & x1
-                planes = {"static-1-hazard": one_a & one_b & xm,
-                          "static-0-hazard": zero_a & zero_b & xm,
-                          "dynamic-hazard": ((one_a & zero_b) | (zero_a & one_b)) & h}
-                while s:
-                    i = (s & -s).bit_length() - 1
-                    s &= s - 1
-                    x = srcs[i]
-                    if wanted is not None and (t, x) not in wanted:
-                        continue
-                    base = lane_of[x] * vectors
-                    res = found.setdefault((t, x), {})
-                    for k, lanes in planes.items():
-                        if k in res:
-                            continue
-                        lanes = (lanes >> base) & block
-                        if lanes:
-                            lane = (lanes & -lanes).bit_length() - 1 + base
-                            wit = {n: (va[n] >> lane) & 1 for n in srcs if n != x and
-                                   sup[t] >> index[n] & 1}
-                            res[k] = HazardProof(
-                                k, "present", witness=wit, method="simulation",
-                                reason=f"found by ternary simulation of {vectors} vectors")
-    # what the random vectors left open: structural proof, then shared BDD / SAT per source
-    open_pairs: dict[str, list[str]] = {}
-    counts: dict[str, dict[str, int]] = {}
-    pos = {n: i for i, n in enumerate(order)}
-    for t in targets:
-        if budget.expired():
-            break               # pairs left undecided are proven one by one, or reported
-        s = sup[t] & chg_mask
-        while s:
-            i = (s & -s).bit_length() - 1
-            s &= s - 1
-            x = srcs[i]
-            if wanted is not None and (t, x) not in wanted:
-                continue
-            res = found.setdefault((t, x), {})
-            rest = [k for k in HAZARD_KINDS if k not in res]
-            if not rest:
-                continue
-            if x not in counts:
-                counts[x] = _path_counts(g, order, x, pos=pos)
-            if counts[x].get(t, 0) <= 1:
-                for k in rest:
-                    res[k] = HazardProof(k, "absent", method="structural",
-                                         reason="a single path from the changing input")
-                continue
-            open_pairs.setdefault(x, []).append(t)
-    if open_pairs and not budget.expired():
-        _prove_open(g, order, targets, srcs, open_pairs, found, opts)
-    return found
-
-
-def _path_counts(g, order, source, cap=2, pos=None) -> dict[str, int]:
-    """Paths (pin-wise) from ``source`` to every node, capped (DP over the topological order of
-    ``source``'s fan-out only; with ``pos``, each node's position in ``order``, the fan-out is
-    sorted instead of ``order`` scanned: many sources with small fan-outs cost their size)."""
-    cnt = {source: 1}
-    stack, fo = [source], {source}
-    while stack:
-        n = stack.pop()
-        for s in g.successors(n):
-            if s not in fo:
-                fo.add(s)
-                stack.append(s)
-    walk = order if pos is None else sorted((n for n in fo if n in pos), key=pos.__getitem__)
-    for n in walk:
-        if n == source or n not in fo:
-            continue
-        c = sum(cnt.get(i, 0) for i in g.nodes[n].get("inputs") or ())
-        if c:
-            cnt[n] = min(c, cap)
-    return cnt
-
-
-def _var_order(g, order, targets, srcs) -> list[str]:
-    """Sources in depth-first fan-in order from the targets (a common BDD ordering
-    heuristic: inputs that meet early in the logic get neighbouring levels)."""
-    seen, out = set(), []
-    src_set = set(srcs)
-    for t in targets:
-        stack = [(t, iter(g.nodes[t].get("inputs") or ()))]
-        seen.add(t)
-        while stack:
-            n, it = stack[-1]
-            nxt = next(it, None)
-            if nxt is None:
-                stack.pop()
-                if n in src_set:
-                    out.append(n)
-                continue
-            if nxt not in seen:
-                seen.add(nxt)
-                stack.append((nxt, iter(g.nodes[nxt].get("inputs") or ())))
-    return out + [n for n in srcs if n not in set(out)]
-
-
-def _prove_open(g, order, targets, srcs, open_pairs, found, opts):
-    from .satcheck import CNFAlgebra, SOLVER
-    from .symbolic import BACKEND, BDDAlgebra
-    from .ternary import SharedPlanes, has_three_state
-    if has_three_state(g, order):
-        for x, ts in open_pairs.items():
-            for t in ts:
-                rest = [k for k in HAZARD_KINDS if k not in found[(t, x)]]
-                found[(t, x)].update(prove_symbolic(g, cone(g, [t]), t, {x: (0, 1)}, rest, opts))
-        return
-    todo = dict(open_pairs)
-    budget_time = float(opts.get("bdd_circuit_time", 10.0))
-    try:
-        if opts.get("engine", "sat") == "sat":
-            raise Budget("SAT engine chosen")
-        A = BDDAlgebra(node_budget=int(opts["node_budget"]) * 10,
-                       deadline=time.perf_counter() + budget_time)
-        names = {n: f"v{k}" for k, n in enumerate(_var_order(g, order, targets, srcs))}
-        sv = {n: A.var(names[n]) for n in names}
-        sp = SharedPlanes(g, order, A, sv)
-        back = {v: n for n, v in names.items()}
-        for x in list(todo):
-            planes = sp.planes(x, todo[x])
-            for t in todo[x]:
-                res = found[(t, x)]
-                for k in [k for k in HAZARD_KINDS if k not in res]:
-                    u = planes[t][k]
-                    if u == A.false:
-                        res[k] = HazardProof(k, "absent", method="bdd",
-                                             reason=f"BDD ({BACKEND})")
-                    else:
-                        pick = A.bdd.pick(u) or {}
-                        wit = {back[v]: int(bool(b)) for v, b in pick.items() if v in back}
-                        wit.pop(x, None)
-                        res[k] = HazardProof(k, "present", witness=wit, method="bdd")
-            del todo[x]
-        return
-    except Budget as exc:
-        bdd_reason = exc.reason
-    # SAT: one incremental solver for the whole design
-    from pysat.solvers import Solver
-    C = CNFAlgebra()
-    sv = {n: C.new() for n in srcs}
-    sp = SharedPlanes(g, order, C, sv)
-    cb = int(opts["conflict_budget"])
-    # each source's planes are thrown away after its solver: restore the shared encoding
-    base = (C.nvars, len(C.clauses), dict(C._memo), dict(C.defs))
-    batch_time = float(opts["batch_time"])
-    deadline = time.perf_counter() + batch_time if batch_time > 0 else float("inf")
-    deadline = min(deadline, time.perf_counter() + budget.left())
-    late = (f"{bdd_reason}; the batched proof's time budget ({batch_time:g} s, option "
-            "batch_time) was used up")
-
-    def give_up(x, ts):
-        why = f"{bdd_reason}; {budget.reason()}" if budget.expired() else late
-        for t in ts:
-            for k in [k for k in HAZARD_KINDS if k not in found[(t, x)]]:
-                found[(t, x)][k] = HazardProof(k, "inconclusive", method="sat", reason=why)
-
-    for x, ts in todo.items():
-        if time.perf_counter() > deadline:
-            give_up(x, ts)
-            continue
-        C.nvars, C._memo, C.defs = base[0], dict(base[2]), dict(base[3])
-        del C.clauses[base[1]:]
-        try:
-            planes = sp.planes(x, ts)
-        except Budget as exc:
-            for t in ts:
-                for k in [k for k in HAZARD_KINDS if k not in found[(t, x)]]:
-                    found[(t, x)][k] = HazardProof(k, "inconclusive", method="sat",
-                                                   reason=f"{bdd_reason}; {exc.reason}")
-            continue
-        roots = [lit for t in ts for lit in planes[t].values()]
-        statics = {}
-        for t in ts:
-            # one query for "any static hazard" first: most open pairs are hazard-free
-            p1, p0 = planes[t]["static-1-hazard"], planes[t]["static-0-hazard"]
-            statics[t] = C.or_(p1, p0)
-            roots.append(statics[t])
-        # cone of influence: only the clauses these queries depend on, renumbered densely
-        # (solvers size their arrays by the largest variable)
-        cls = C.cone_clauses(roots)
-        ren: dict[int, int] = {}
-        for c in cls:
-            for l in c:
-                if abs(l) not in ren:
-                    ren[abs(l)] = len(ren) + 1
-        dense = [[ren[l] if l > 0 else -ren[-l] for l in c] for c in cls]
-        src_dense = {n: ren[v] for n, v in sv.items() if v in ren}
-        with Solver(name=SOLVER, bootstrap_with=dense) as solver:
-            def ask(lit):
-                if lit == -1:
-                    return False, None
-                if lit == 1:
-                    return True, {n: 0 for n in sv if n != x}
-                solver.conf_budget(cb)
-                r = solver.solve_limited(assumptions=[ren[lit] if lit > 0 else -ren[-lit]])
-                if r:
-                    model = solver.get_model()      # literal of variable v at index v - 1
-                    m = len(model)
-                    last_model[:] = model
-                    return True, {n: int(v <= m and model[v - 1] > 0)
-                                  for n, v in src_dense.items() if n != x}
-                return r, None
-
-            def holds(lit):
-                if lit in (1, -1):
-                    return lit == 1
-                v = ren.get(abs(lit))
-                if v is None or v > len(last_model):
-                    return False
-                return (last_model[v - 1] > 0) == (lit > 0)
-            last_model: list[int] = []
-            for t in ts:
-                if time.perf_counter() > deadline:
-                    give_up(x, [t])
-                    continue
-                res = found[(t, x)]
-                rest = [k for k in HAZARD_KINDS if k not in res]
-                if "static-1-hazard" in rest and "static-0-hazard" in rest:
-                    r, wit = ask(statics[t])
-                    if r is False:
-                        for k in ("static-1-hazard", "static-0-hazard"):
-                            res[k] = HazardProof(k, "absent", method="sat",
-                                                 reason=f"{bdd_reason}; unsatisfiable")
-                    elif r:
-                        # the model shows one of the two kinds: no second query for it
-                        for k in ("static-1-hazard", "static-0-hazard"):
-                            if holds(planes[t][k]):
-                                res[k] = HazardProof(k, "present", witness=wit, method="sat")
-                                break
-                for k in [k for k in HAZARD_KINDS if k not in res]:
-                    r, wit = ask(planes[t][k])
-                    if r is None:
-                        res[k] = HazardProof(k, "inconclusive", method="sat",
-                                             reason=f"{bdd_reason}; SAT conflict budget ({cb}) "
-                                                    "exceeded")
-                    elif r:
-                        res[k] = HazardProof(k, "present", witness=wit, method="sat")
-                    else:
-                        res[k] = HazardProof(k, "absent", method="sat",
-                                             reason=f"{bdd_reason}; unsatisfiable")
-
-
-def _planes_inputs(A, va, vb, srcs):
-    from .ternary import lanes_planes
-    return lanes_planes(A, va, vb, srcs)
-
-
-def _transient(A, op, ins, expr=None):
-    from .ternary import transient_gate
-    return transient_gate(A, op, ins, expr)
-
-
-def prove_symbolic(graph, order, target, changes, kinds, opts) -> dict[str, HazardProof]:
-    """BDD within the node budget, then SAT within the conflict budget, else inconclusive."""
-    t0 = time.perf_counter()
-    try:
-        return bdd_hazards(graph, order, target, changes, None, kinds,
-                           node_budget=int(opts["node_budget"]),
-                           time_budget=float(opts["check_time"]) / 2)
-    except Budget as exc:
-        bdd_reason = exc.reason
-    left = float(opts["check_time"]) - (time.perf_counter() - t0)
-    res = sat_hazards(graph, order, target, changes, None, kinds,
-                      conflict_budget=int(opts["conflict_budget"]), time_budget=max(0.05, left))
-    for p in res.values():
-        if p.status == "inconclusive":
-            p.reason = f"{bdd_reason}; {p.reason}"
-    return res
+    return classify_batch(graph, targets, options_with_defaults(options), rounds=rounds,
+                          vectors=vectors, changing=changing, wanted=wanted, chunk=chunk,
+                          session=session)

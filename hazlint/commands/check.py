@@ -54,7 +54,12 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--write-baseline", metavar="FILE",
                    help="record the current findings in FILE and exit 0")
     p.add_argument("-j", "--jobs", type=int, metavar="N",
-                   help="parse files in N worker processes (configuration 'jobs')")
+                   help="worker processes for the hazard prover and the reader "
+                        "(configuration 'jobs'; default: every core for the prover, one "
+                        "process for the reader; 1: no worker processes)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run the prover's work on a Dask cluster, e.g. tcp://host:8786 "
+                        "(configuration 'scheduler'; needs the 'cluster' extra)")
     add_frontend_argument(p)
     p.add_argument("--cache-dir", metavar="DIR",
                    help="parse cache folder (configuration 'cache_dir'; default: per-user "
@@ -137,6 +142,8 @@ def prepare(args):
         if args.jobs < 1:
             raise HazlintError(f"--jobs must be at least 1, got {args.jobs}")
         config.jobs = args.jobs
+    if getattr(args, "scheduler", None):
+        config.scheduler = args.scheduler
     if args.cache_dir:
         config.cache_dir = os.path.abspath(args.cache_dir)
     if args.frontend:
