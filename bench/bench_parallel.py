@@ -39,7 +39,7 @@ import importlib.resources as ir
 from hazlint import budget
 from hazlint.analysis import workers
 from hazlint.analysis.context import AnalysisContext
-from hazlint.analysis.prove import refine
+from hazlint.analysis.refine import refine
 from hazlint.api import load, run_rules
 from hazlint.config import Config
 from hazlint.plugins import all_rules

@@ -187,9 +187,9 @@ def _not_run(design, rule: Rule) -> Diagnostic:
 
 def refine(design, diagnostics: list[Diagnostic], context, options: Mapping[str, Any]):
     """Hand the findings to the hazard prover when it is part of this build."""
-    if importlib.util.find_spec("hazlint.analysis.prove") is None:
+    if importlib.util.find_spec("hazlint.analysis.refine") is None:
         return diagnostics
-    prove = importlib.import_module("hazlint.analysis.prove")
+    prove = importlib.import_module("hazlint.analysis.refine")
     return list(prove.refine(design, diagnostics, context, dict(options)))
 
 

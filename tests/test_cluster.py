@@ -30,7 +30,9 @@ REPO = Path(__file__).resolve().parents[1]
 
 
 def _report(**config) -> str:
-    r = lint([netlist("c432.v")], config=Config(**config), use_cache=False, time_budget=0)
+    # c432's outputs are plain outputs: listed at the wider scope
+    r = lint([netlist("c432.v")], config=Config(**config), use_cache=False, time_budget=0,
+             rule_options={"unbalanced-reconvergence": {"scope": "outputs"}})
     s = io.StringIO()
     rjson.write(r, s)
     return s.getvalue()

@@ -10,7 +10,8 @@ import sys
 
 import pytest
 
-from hazlint.analysis.prove import classify, classify_outputs, loop_behaviour, refine
+from hazlint.analysis.prove import classify, classify_outputs, loop_behaviour
+from hazlint.analysis.refine import refine
 from hazlint.analysis.ternary import HAZARD_KINDS, classify_explicit, cone, free_sources
 from hazlint.analysis.circuits import build_graph, random_circuit
 from hazlint.analysis.timedsim import DelayAssignment, replay
@@ -206,6 +207,7 @@ def test_refine_batch_and_finding_limit_on_iscas_c432(monkeypatch):
     import importlib.resources
     from hazlint import api
     from hazlint.analysis import prove as P
+    from hazlint.analysis import refine as R
     path = str(importlib.resources.files("circuitgraph") / "netlists" / "c432.v")
     # the reconvergence rule's own findings at the outputs (what refine receives; grouping
     # them per problem comes after the prover)
@@ -228,7 +230,7 @@ def test_refine_batch_and_finding_limit_on_iscas_c432(monkeypatch):
     # the batched verdict equals the one-by-one proof (no batch, no known proofs)
     opts = P.options_with_defaults({})
     for d, o in list(zip(diags, out))[:12]:
-        plan = P._plan(res.design.graph, d, res.context, opts)
+        plan = R._plan(res.design.graph, d, res.context, opts)
         per_sink = [P.combine(P.classify_sources(res.design.graph, s, xs, opts,
                                                  replay_glitch=False)) for s, xs in plan[1]]
         one = P.combine([c for c in per_sink if c is not None])

@@ -1,6 +1,6 @@
 """A sink verdict over the change model as evidence and words: the model, the cell model, the
 hazards found, and a fix that fits a function hazard (findings of
-:func:`hazlint.analysis.prove.refine` at glitch-sensitive sinks)."""
+:func:`hazlint.analysis.refine.refine` at glitch-sensitive sinks)."""
 from __future__ import annotations
 
 from dataclasses import replace

@@ -182,7 +182,7 @@ def run(args) -> int:
     from ..progress import terminal_progress
     progress = terminal_progress()
     try:
-        result = _lint(lint, args, files, config, cwd, changed, progress)
+        result = lint_request(lint, args, files, config, cwd, changed, progress)
     finally:
         if progress is not None:
             progress.close()
@@ -236,7 +236,9 @@ def _emit(args, write) -> None:
         sys.stdout.flush()
 
 
-def _lint(lint, args, files, config, cwd, changed, progress):
+def lint_request(lint, args, files, config, cwd, changed, progress):
+    """Call ``lint`` with everything the command line asked for (``check`` and ``prove``
+    share it)."""
     from ..limits import parse_assignments
     return lint(files or None, use_cache=not args.no_cache, progress=progress,
                 time_budget=args.time_budget, limits=parse_assignments(args.limits),

@@ -62,7 +62,7 @@ def _run_lint(args) -> int:
     config, files, changed, cwd = prepared
     if args.show_proven_absent:
         config.prove = dict(config.prove or {}, show_proven_absent=True)
-    result = check._lint(lint, args, files, config, cwd, changed, None)
+    result = check.lint_request(lint, args, files, config, cwd, changed, None)
     color = args.format == "text" and not args.output and check.use_color(args.color,
                                                                              sys.stdout)
     code = check._report(args, result, renderer, color)
@@ -226,9 +226,9 @@ def _moving_nets(g, c, limit=6):
 
 
 def _severity_of(g, c, context):
-    from ..analysis.prove import _sensitive
+    from ..analysis.refine import is_sensitive_sink
     if c.proven:
-        return Severity.ERROR if _sensitive(g, context, c.target) else Severity.WARNING
+        return Severity.ERROR if is_sensitive_sink(g, context, c.target) else Severity.WARNING
     if c.classification == "inconclusive":
         return Severity.WARNING
     return Severity.INFO

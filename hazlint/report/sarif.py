@@ -133,7 +133,9 @@ class _Locator:
         return {ROOT_ID: {"uri": uri if uri.endswith("/") else uri + "/"}}
 
 
-def _hop_message(h: Hop) -> str:
+def hop_message(h: Hop) -> str:
+    """The words of one evidence hop (net, gate and delay) as SARIF and the language server
+    show them."""
     text = h.net
     if h.gate:
         text += f" driven by {h.cell} {h.gate}" if h.cell else f" driven by {h.gate}"
@@ -183,7 +185,7 @@ def result_object(d: Diagnostic, locator: _Locator, rule_index: int | None) -> d
     for i, flow in enumerate(d.flows):
         tfl = []
         for h in flow:
-            loc: dict[str, Any] = {"message": {"text": _hop_message(h)}}
+            loc: dict[str, Any] = {"message": {"text": hop_message(h)}}
             if h.location is not None and h.location.path:
                 loc["physicalLocation"] = locator.physical(h.location)
             if h.instance:
