@@ -129,15 +129,7 @@ class AnalysisContext:
             rank = self.source_rank
             sinks = sorted((n for n in self.scope_sinks(scope) if n in tg.index),
                            key=lambda n: rank[n])
-            reach = [0] * len(tg.order)
-            for k, n in enumerate(sinks):
-                reach[tg.index[n]] = 1 << k
-            fanout = tg.fanout
-            for i in range(len(tg.order) - 1, -1, -1):
-                m = reach[i]
-                for w in fanout[i]:
-                    m |= reach[w]
-                reach[i] = m
+            reach = tg.reach_bits(sinks)
             cached = self._reach_cache[scope] = (sinks, reach)
         return cached
 

@@ -132,6 +132,31 @@ class TimingGraph:
         p, s = self.pr_ptr, self.pr_src
         return [list(s[p[v]:p[v + 1]]) for v in range(len(self.order))]
 
+    def reach_bits(self, sinks) -> list[int]:
+        """For every node (by index), the set of ``sinks`` (node names, each in the graph) it
+        reaches, as a bit set: bit k stands for ``sinks[k]``. One pass of dynamic programming
+        in reverse topological order (a node reaches what its successors reach), no path
+        enumeration.
+
+        >>> from hazlint.analysis.circuits import build_graph
+        >>> g = build_graph(["a", "b"], [("y", "and", ["a", "b"], 1), ("z", "not", ["b"], 1)],
+        ...                 ["y", "z"])
+        >>> tg = TimingGraph.build(g)
+        >>> bits = tg.reach_bits(["<sink>y", "<sink>z"])
+        >>> [bits[tg.index[n]] for n in ("a", "b", "y", "z")]
+        [1, 3, 1, 2]
+        """
+        reach = [0] * len(self.order)
+        for k, n in enumerate(sinks):
+            reach[self.index[n]] |= 1 << k
+        fanout = self.fanout
+        for i in range(len(self.order) - 1, -1, -1):
+            m = reach[i]
+            for w in fanout[i]:
+                m |= reach[w]
+            reach[i] = m
+        return reach
+
     @cached_property
     def reads(self) -> list[list[tuple[int, int]]]:
         """(successor index, pin index) per read of each node's net."""

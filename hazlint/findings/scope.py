@@ -43,15 +43,7 @@ def unlisted(context) -> Unlisted:
     if not plain:
         return Unlisted()
     plain.sort(key=lambda n: tg.index[n])
-    reach = [0] * len(tg.order)
-    for k, n in enumerate(plain):
-        reach[tg.index[n]] = 1 << k
-    fanout = tg.fanout
-    for i in range(len(tg.order) - 1, -1, -1):
-        m = reach[i]
-        for w in fanout[i]:
-            m |= reach[w]
-        reach[i] = m
+    reach = tg.reach_bits(plain)
     found = 0
     index = tg.index
     for stem in context.stems:
