@@ -179,6 +179,10 @@ def test_prove_command_on_fixtures(tmp_path):
              "two_hand_left+,two_hand_right-,guard_closed=1,maint_key=0",
              "--target", "valve_enable")
     assert "function hazard" in r.stdout, r.stdout
+    # the sink and the net driving it are one wire: one row of the waveform
+    rows = [line for line in r.stdout.splitlines()
+            if line.split()[:1] == ["valve_enable"] and ("\u2191" in line or "\u2193" in line)]
+    assert len(rows) == 1, r.stdout
     r = _cli("prove", os.path.join(FIX, "press_valve.v"), "--transition", "nosuch+")
     assert r.returncode == 2 and "nosuch" in r.stderr and "Traceback" not in r.stderr
 

@@ -508,7 +508,7 @@ def fix_for(graph, c: Classification, evidence: Mapping[str, Any] | None, sink_r
             return f["text"] + " (checked: the hazard is gone with it)"
     if c.function_hazard:
         return ("function hazard: no logic implementation is glitch-free for this input change; "
-                "make the inputs change one at a time or register the result. "
+                "make the inputs change one at a time, or "
                 + _fixes.fallback_fix(graph, c.target, None, (), sink_role))
     skew = ev.get("skew")
     if skew is None and c.glitch is not None:

@@ -240,6 +240,9 @@ def _print(out, g, c, title, nets, ascii_only, sev):
     if c.target in nets:
         nets.remove(c.target)
         nets.append(c.target)
+    # a sink and the net that drives it are one wire with one name: drawn once, as the sink
+    shown_as = P.net_label(g, c.target)
+    nets = [n for n in nets if n == c.target or P.net_label(g, n) != shown_as]
     label = c.classification
     if c.proven and c.function_hazard:
         label += " (function hazard: no implementation avoids it)"
