@@ -29,6 +29,7 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from .. import budget
+from ..netlist.walks import sources_in_pin_order
 from .satcheck import sat_hazards
 from .symbolic import Budget, HazardProof, bdd_hazards
 from .ternary import (HAZARD_KINDS, IntAlgebra, cone, free_sources, propagate, ternary_gate)
@@ -261,23 +262,7 @@ def _path_counts(g, order, source, cap=2, pos=None) -> dict[str, int]:
 def _var_order(g, order, targets, srcs) -> list[str]:
     """Sources in depth-first fan-in order from the targets (a common BDD ordering
     heuristic: inputs that meet early in the logic get neighbouring levels)."""
-    seen, out = set(), []
-    src_set = set(srcs)
-    for t in targets:
-        stack = [(t, iter(g.nodes[t].get("inputs") or ()))]
-        seen.add(t)
-        while stack:
-            n, it = stack[-1]
-            nxt = next(it, None)
-            if nxt is None:
-                stack.pop()
-                if n in src_set:
-                    out.append(n)
-                continue
-            if nxt not in seen:
-                seen.add(nxt)
-                stack.append((nxt, iter(g.nodes[nxt].get("inputs") or ())))
-    return out + [n for n in srcs if n not in set(out)]
+    return sources_in_pin_order(g, targets, srcs)
 
 
 def _prove_open(g, order, targets, srcs, open_pairs, found, p: _Pass, session, local):

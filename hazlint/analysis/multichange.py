@@ -39,6 +39,7 @@ from dataclasses import dataclass, field
 from typing import Any, Mapping, Sequence
 
 from ..netlist.graph import SOURCE_KINDS
+from ..netlist.walks import sources_in_pin_order
 from .changes import ChangeModel, SinkModel
 from .changesim import known_minimal, random_transitions
 from .symbolic import BACKEND, Budget, BDDAlgebra, HazardProof, new_manager
@@ -287,21 +288,7 @@ def _paths(graph, order, source, target, cap=2) -> int:
 def _source_order(graph, target, sources) -> list[str]:
     """Sources in depth-first fan-in order from the target (neighbouring BDD levels for inputs
     that meet early in the logic)."""
-    want = set(sources)
-    seen, out = {target}, []
-    stack = [(target, iter(graph.nodes[target].get("inputs") or ()))]
-    while stack:
-        n, it = stack[-1]
-        nxt = next(it, None)
-        if nxt is None:
-            stack.pop()
-            if n in want:
-                out.append(n)
-            continue
-        if nxt not in seen:
-            seen.add(nxt)
-            stack.append((nxt, iter(graph.nodes[nxt].get("inputs") or ())))
-    return out + [n for n in sources if n not in set(out)]
+    return sources_in_pin_order(graph, [target], sources)
 
 
 def _conditions(A, graph, order, target, srcs, sm: SinkModel, va, vb, z, y):

@@ -174,3 +174,39 @@ def fanout_stems(graph: nx.DiGraph, skip: Iterable[str] = ()) -> list[str]:
                 out.append(n)
                 break
     return out
+
+
+def sources_in_pin_order(graph: "nx.DiGraph", roots: Iterable[str], sources) -> list[str]:
+    """``sources`` in depth-first post-order of the fan-in from ``roots``, following each
+    node's ``inputs`` in pin order (a common BDD variable-ordering heuristic: inputs that meet
+    early in the logic get neighbouring levels); sources outside the cone last, in their order.
+
+    >>> import networkx
+    >>> g = networkx.DiGraph()
+    >>> g.add_node("y", inputs=["g", "c"]); g.add_node("g", inputs=["b", "a"])
+    >>> for n in "abc": g.add_node(n)
+    >>> sources_in_pin_order(g, ["y"], ["a", "b", "c", "d"])
+    ['b', 'a', 'c', 'd']
+    """
+    want = set(sources)
+    seen: set = set()
+    out: list[str] = []
+    nodes = graph.nodes
+    for t in roots:
+        if t in seen:
+            continue
+        seen.add(t)
+        stack = [(t, iter(nodes[t].get("inputs") or ()))]
+        while stack:
+            n, it = stack[-1]
+            nxt = next(it, None)
+            if nxt is None:
+                stack.pop()
+                if n in want:
+                    out.append(n)
+                continue
+            if nxt not in seen:
+                seen.add(nxt)
+                stack.append((nxt, iter(nodes[nxt].get("inputs") or ())))
+    placed = set(out)
+    return out + [n for n in sources if n not in placed]
