@@ -42,6 +42,7 @@ How to fix
 from __future__ import annotations
 
 from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.findings.requests import HazardAtSink
 from hazlint.findings.words import count
 from hazlint.plugins import Option
 
@@ -169,3 +170,12 @@ def _paths_to_sink(g, sink, sources, gates, rank, limit):
             path.append(toward[path[-1]])
         out.append(path)
     return out
+
+
+def prove(diagnostic, evidence):
+    """The proof hook: the pin's finding is decided over every change the change model allows
+    at that pin."""
+    sink = evidence.get("sink_node")
+    if not sink:
+        return None
+    return HazardAtSink(sink=sink, quiet=tuple(evidence.get("quiet_nodes") or ()))

@@ -54,6 +54,7 @@ from collections import deque
 
 
 from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.findings.requests import LoopBehaviour
 from hazlint.netlist.walks import cyclic_components
 from hazlint.plugins import Option
 
@@ -303,3 +304,14 @@ def _latch_loops(design, context, opts, comb_nodes):
             notes=tuple(notes), flows=(hops,),
             fix=("make sure the latch can never be transparent while its output changes its "
                  "input (use a flip-flop, or a second latch on the opposite phase)"))
+
+
+def prove(diagnostic, evidence):
+    """The proof hook: whether the loop can oscillate. The rule classifies most loops itself
+    (``loop`` in the evidence); an oscillation finding is its own verdict."""
+    scc = evidence.get("scc")
+    if not scc:
+        return None
+    return LoopBehaviour(scc=tuple(scc), cycle=tuple(evidence.get("cycle") or ()),
+                         key=str(evidence.get("key", "")),
+                         decided=bool(evidence.get("loop")) or diagnostic.kind == "oscillation")

@@ -50,6 +50,7 @@ import heapq
 from hazlint import budget
 from hazlint.diagnostics import Diagnostic, Severity
 
+from hazlint.findings.requests import HazardFromStem
 from hazlint.findings.words import count, gate_words
 from hazlint.plugins import Option
 
@@ -363,3 +364,16 @@ def _path_text(hops, keep: int = 4) -> str:
     if len(hops) > 2 * keep:
         parts.insert(keep, f"... {len(hops) - 2 * keep} more ...")
     return " -> ".join(parts) + f" ({count(len(hops) - 1, 'gate')})"
+
+
+def prove(diagnostic, evidence):
+    """The proof hook: a reconvergence is proven or refuted by single changes of the sources
+    behind its stem, decided at the sinks it reaches (the budget report proves nothing)."""
+    if "stem_node" not in evidence:
+        return None
+    return HazardFromStem(stem=evidence["stem_node"],
+                          sinks=tuple(evidence.get("sink_nodes") or ()),
+                          skew=evidence.get("skew"),
+                          gate=evidence.get("reconvergence_node"),
+                          fast_path=tuple(evidence.get("fast_path") or ()),
+                          slow_path=tuple(evidence.get("slow_path") or ()))
