@@ -54,6 +54,7 @@ from collections import deque
 
 
 from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.findings.evidence import LoopEvidence
 from hazlint.findings.requests import LoopBehaviour
 from hazlint.netlist.walks import cyclic_components
 from hazlint.plugins import Option
@@ -148,10 +149,10 @@ def check(design, context):
         yield Diagnostic(
             rule=ID, kind=kind, severity=sev, location=context.location(start),
             instance=g.nodes[start].get("instance", "") or "", message=msg + extra,
-            evidence={"cycle": list(cycle), "scc": sorted(comp),
-                      "storage_element": c.element, "behaviour": c.behaviour,
-                      "loop": c.to_json(context.net_name), "through_latch": [],
-                      "key": stable_key("loop", *sorted(comp))},
+            evidence=LoopEvidence(cycle=list(cycle), scc=sorted(comp),
+                                  storage_element=c.element, behaviour=c.behaviour,
+                                  loop=c.to_json(context.net_name), through_latch=[],
+                                  key=stable_key("loop", *sorted(comp))),
             notes=tuple(notes + more), flows=(hops,), fix=fix)
     if opts["latch_loops"]:
         yield from _latch_loops(design, context, opts, reported_nodes)
@@ -298,9 +299,9 @@ def _latch_loops(design, context, opts, comb_nodes):
             instance=g.nodes[anchor].get("instance", "") or "",
             message=(f"loop through transparent latch {latch_name}: its output reaches its own "
                      f"data input ({name_list(names, 5)})"),
-            evidence={"cycle": list(cycle), "scc": sorted(comp), "storage_element": None,
-                      "through_latch": sorted({e[1] for e in edges}),
-                      "key": stable_key("latch-loop", *sorted(comp))},
+            evidence=LoopEvidence(cycle=list(cycle), scc=sorted(comp), storage_element=None,
+                                  through_latch=sorted({e[1] for e in edges}),
+                                  key=stable_key("latch-loop", *sorted(comp))),
             notes=tuple(notes), flows=(hops,),
             fix=("make sure the latch can never be transparent while its output changes its "
                  "input (use a flip-flop, or a second latch on the opposite phase)"))

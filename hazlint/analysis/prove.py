@@ -402,6 +402,32 @@ def witness_json(graph, c: Classification) -> dict[str, Any]:
             "after_nodes": dict(sorted(c.after.items()))}
 
 
+def classification_of(graph, verdict, sink: str | None = None) -> Classification | None:
+    """The replayable case of a proven finding's verdict
+    (:class:`hazlint.findings.evidence.Verdict`, made by :func:`witness_json` and the glitch
+    replay): its witness, delay assignment and glitch; None without a witness or a sink in
+    ``graph``. ``sink`` is the sink the verdict is about (the finding's evidence names it)."""
+    w = verdict.witness
+    if not w or "before_nodes" not in w:
+        return None
+    before, after = dict(w["before_nodes"]), dict(w["after_nodes"])
+    changes = {n: (before[n], after[n]) for n in before if before[n] != after.get(n)}
+    target = sink or verdict.sink_node
+    if target is None and verdict.waveform_nets:
+        target = verdict.waveform_nets[-1]
+    if target is None or target not in graph:
+        return None
+    c = Classification(target, verdict.classification, changes, before, after)
+    gl = verdict.glitch or {}
+    if gl.get("delays"):
+        c.assignment = DelayAssignment.from_json(gl["delays"])
+    if gl.get("occurs"):
+        c.glitch = Glitch(True, [tuple(x) for x in gl.get("changes", [])], gl.get("time"),
+                          gl.get("width"), gl.get("mode", "inertial"))
+        c.how = gl.get("how", "")
+    return c
+
+
 def witness_text(graph, c: Classification) -> str:
     moves = ", ".join(f"{net_label(graph, n)} {'rises' if b > a else 'falls'}"
                       for n, (a, b) in sorted(c.changes.items()) if a != b)

@@ -11,6 +11,7 @@ from typing import Any, Mapping, Sequence
 
 from .. import budget, plugins
 from ..diagnostics import Diagnostic, Severity
+from ..findings.evidence import OscillationEvidence, Verdict, with_verdict
 from ..findings.requests import (HazardAtSink, HazardFromStem, LoopBehaviour, ProofRequest,
                                  request_of)
 from ..netlist.graph import ASYNC_ROLES
@@ -102,8 +103,8 @@ def _not_proven(d: Diagnostic) -> Diagnostic:
     """A finding of a rule that says nothing on how to prove it: kept as the rule made it,
     its evidence saying that no proof was attempted."""
     why = f"rule '{d.rule}' declares no proof hook"
-    evidence = dict(d.evidence) if isinstance(d.evidence, Mapping) else {}
-    evidence.update(classification="not-proven", not_proven_reason=why)
+    evidence = with_verdict(d.evidence, Verdict(classification="not-proven",
+                                                not_proven_reason=why))
     return replace(d, evidence=evidence, notes=tuple(d.notes) + (f"not proven: {why}",))
 
 
@@ -220,8 +221,8 @@ class _ContextView:
 def _out_of_time(d: Diagnostic) -> Diagnostic:
     """A finding the prover had no time left for: inconclusive, with the budget as reason."""
     why = budget.reason()
-    evidence = dict(d.evidence) if isinstance(d.evidence, Mapping) else {}
-    evidence.update(classification="inconclusive", inconclusive_reason=why)
+    evidence = with_verdict(d.evidence, Verdict(classification="inconclusive",
+                                                inconclusive_reason=why))
     return replace(d, severity=Severity.WARNING, evidence=evidence,
                    notes=tuple(d.notes) + (f"hazard proof inconclusive: {why}",))
 
@@ -378,30 +379,30 @@ def _apply(graph, d: Diagnostic, c: Classification, req: ProofRequest, context, 
            limit: int | None = None, fix_memo: dict | None = None) -> Diagnostic | None:
     sens = is_sensitive_sink(graph, context, c.target)
     sink_role = graph.nodes[c.target].get("role")
-    evidence = dict(d.evidence)
-    evidence.setdefault("sink_node", c.target)      # the sink the verdict is about
-    evidence["classification"] = c.classification
-    evidence["proof"] = {k: p.to_json() for k, p in c.proofs.items()}
+    # the sink the verdict is about, and the proof of every hazard kind
+    verdict = dict(sink_node=c.target, classification=c.classification,
+                   proof={k: p.to_json() for k, p in c.proofs.items()})
     notes = list(d.notes)
     if c.classification == "hazard-free":
         if not opts["show_proven_absent"]:
             return None
         notes.append(f"proven hazard-free under arbitrary delays ({c.reason})")
-        return replace(d, severity=Severity.INFO, evidence=evidence, notes=tuple(notes),
-                       message=d.message + "; proven hazard-free")
+        return replace(d, severity=Severity.INFO, evidence=with_verdict(
+            d.evidence, Verdict(**verdict)), notes=tuple(notes),
+            message=d.message + "; proven hazard-free")
     if c.classification == "inconclusive":
         notes.append(f"hazard proof inconclusive: {c.reason}")
-        evidence["inconclusive_reason"] = c.reason
         return replace(d, severity=max(Severity.WARNING, min(d.severity, Severity.WARNING)),
-                       evidence=evidence, notes=tuple(notes))
+                       evidence=with_verdict(d.evidence, Verdict(
+                           **verdict, inconclusive_reason=c.reason)), notes=tuple(notes))
     kind = c.classification
-    evidence["witness"] = witness_json(graph, c)
-    evidence["function_hazard"] = bool(c.function_hazard)
+    verdict["witness"] = witness_json(graph, c)
+    verdict["function_hazard"] = bool(c.function_hazard)
     glitch = c.glitch.to_json() if c.glitch else {"occurs": False}
     glitch["how"] = c.how
     if c.assignment is not None:
         glitch["delays"] = c.assignment.to_json()
-    evidence["glitch"] = glitch
+    verdict["glitch"] = glitch
     tname = net_label(graph, c.target)
     label = {"static-1-hazard": "static-1 hazard", "static-0-hazard": "static-0 hazard",
              "dynamic-hazard": "dynamic hazard"}[kind]
@@ -413,7 +414,7 @@ def _apply(graph, d: Diagnostic, c: Classification, req: ProofRequest, context, 
     others = [k2 for k2 in c.present_kinds if k2 != kind]
     if others:
         notes.append("also possible for other transitions: " + ", ".join(others))
-    evidence["present_kinds"] = c.present_kinds
+    verdict["present_kinds"] = c.present_kinds
     notes.append(f"witness: {witness_text(graph, c)}")
     if gt:
         notes.append(f"timed simulation: {gt}")
@@ -424,11 +425,12 @@ def _apply(graph, d: Diagnostic, c: Classification, req: ProofRequest, context, 
         notes += ["  " + x for x in c.assignment.describe(graph)[1:]]
     if opts["waveforms"] and c.before:
         nets = waveform_nets(graph, c, req)
-        evidence["waveform_nets"] = nets
+        verdict["waveform_nets"] = nets
         notes += diagram_lines(graph, c, nets)
     sev = Severity.ERROR if sens else Severity.WARNING
     fix = fix_for(graph, c, req, sink_role, fix_memo) if replayed else d.fix
-    return replace(d, kind=kind, severity=sev, message=msg, evidence=evidence,
+    return replace(d, kind=kind, severity=sev, message=msg,
+                   evidence=with_verdict(d.evidence, Verdict(**verdict)),
                    notes=tuple(notes), fix=fix)
 
 
@@ -441,10 +443,10 @@ def _refine_loop(graph, d: Diagnostic, req) -> Diagnostic | None:
     if v.behaviour != "oscillation":
         return None
     ins = ", ".join(f"{net_label(graph, n)}={x}" for n, x in sorted(v.inputs.items()))
-    evidence = {"scc": list(comp), "cycle": list(req.cycle), "inputs":
-                {net_label(graph, n): x for n, x in v.inputs.items()},
-                "behaviour": v.behaviour, "reason": v.reason,
-                "key": f"osc:{req.key}"}
+    evidence = OscillationEvidence(
+        scc=list(comp), cycle=list(req.cycle),
+        inputs={net_label(graph, n): x for n, x in v.inputs.items()},
+        behaviour=v.behaviour, reason=v.reason, key=f"osc:{req.key}")
     return replace(d, kind="oscillation", severity=Severity.ERROR,
                    message=f"loop oscillates when {ins}: it has no stable state",
                    evidence=evidence, notes=tuple(d.notes) + (

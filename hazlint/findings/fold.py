@@ -21,6 +21,7 @@ from typing import Callable, Iterable, Mapping, Sequence
 
 from .. import plugins
 from ..diagnostics import PROVEN_HAZARD_KINDS, Diagnostic, sort_diagnostics
+from .evidence import Folded, with_folded
 from .requests import request_of
 
 # the kinds of the built-in rules' hazard and loop findings (for reports and tests that count
@@ -121,9 +122,7 @@ def _before(notes: Sequence[str], stop: tuple[str, ...]) -> list[str]:
 def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str],
                 memo: dict) -> Diagnostic:
     primary, others = members[0], members[1:]
-    evidence = dict(primary.evidence) if isinstance(primary.evidence, Mapping) else {}
-    evidence["problem"] = key
-    evidence["rules"] = sorted({m.rule for m in members})
+    folded = dict(problem=key, rules=sorted({m.rule for m in members}))
     notes = list(primary.notes)
     flows = tuple(primary.flows)
     fix = primary.fix
@@ -131,10 +130,10 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str],
         # every other rule's report, and the first of the leading rule's other reports (a
         # plain output of an arithmetic block can gather thousands of stems)
         same = [m for m in others if m.rule == primary.rule]
-        evidence["also"] = [_also(m) for m in others if m.rule != primary.rule] + \
+        folded["also"] = [_also(m) for m in others if m.rule != primary.rule] + \
             [_also(m) for m in same[:MAX_LISTED]]
         if len(same) > MAX_LISTED:
-            evidence["also_left_out"] = len(same) - MAX_LISTED
+            folded["also_left_out"] = len(same) - MAX_LISTED
     stems = [m for m in others if _is_reconvergence(m, memo)]
     if stems and not _is_reconvergence(primary, memo):
         # the reconvergence evidence (stem, both paths, skew) of the worst stem
@@ -152,18 +151,20 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str],
         if tail and tail not in fix:
             fix = f"{fix}; this removes the logic hazard only: {tail}"
     if stems:
-        evidence["other_stems"] = [
+        folded["other_stems"] = [
             {"stem": name(_stem(m, memo)),
              "skew": _request(m, memo).skew, "path": m.location.path, "line": m.location.line}
             for m in stems[:MAX_LISTED]]
-        evidence["other_stem_count"] = len(stems)
-        shown = [f"{s['stem']} (skew {_num(s['skew'])})" for s in evidence["other_stems"]
+        folded["other_stem_count"] = len(stems)
+        shown = [f"{s['stem']} (skew {_num(s['skew'])})" for s in folded["other_stems"]
                  [:MAX_STEMS]]
         rest = len(stems) - len(shown)
         word = "stem" if len(stems) == 1 else "stems"
         notes.append(f"other {word} reconverging toward the same sink: " + ", ".join(shown)
                      + (f" and {rest} more" if rest else ""))
     severity = max(m.severity for m in members)
+    evidence = with_folded(primary.evidence if isinstance(primary.evidence, Mapping) else {},
+                           Folded(**folded))
     return replace(primary, severity=severity, evidence=evidence, notes=tuple(notes),
                    flows=flows, fix=fix)
 
