@@ -95,7 +95,8 @@ def _request(d: Diagnostic):
     (or no rule owns it: hazlint's own notes), :data:`_NO_HOOK` when its rule has no hook."""
     rule = plugins.rule_for(d)
     if rule is not None and rule.prove is None:
-        return _NO_HOOK
+        # its own kinds are claims left unproven; another (a rule that did not run) is a note
+        return _NO_HOOK if d.kind in rule.kinds else None
     return request_of(rule, d, d.evidence if isinstance(d.evidence, Mapping) else {})
 
 
@@ -103,9 +104,8 @@ def _not_proven(d: Diagnostic) -> Diagnostic:
     """A finding of a rule that says nothing on how to prove it: kept as the rule made it,
     its evidence saying that no proof was attempted."""
     why = f"rule '{d.rule}' declares no proof hook"
-    evidence = with_verdict(d.evidence, Verdict(classification="not-proven",
-                                                not_proven_reason=why))
-    return replace(d, evidence=evidence, notes=tuple(d.notes) + (f"not proven: {why}",))
+    v = Verdict(classification="not-proven", not_proven_reason=why)
+    return replace(d, evidence=with_verdict(d.evidence, v), notes=tuple(d.notes) + (v.note(),))
 
 
 def _refine_split(ses, graph, diagnostics, reqs, plans, known, full, opts, limit) -> dict:
@@ -221,10 +221,9 @@ class _ContextView:
 def _out_of_time(d: Diagnostic) -> Diagnostic:
     """A finding the prover had no time left for: inconclusive, with the budget as reason."""
     why = budget.reason()
-    evidence = with_verdict(d.evidence, Verdict(classification="inconclusive",
-                                                inconclusive_reason=why))
-    return replace(d, severity=Severity.WARNING, evidence=evidence,
-                   notes=tuple(d.notes) + (f"hazard proof inconclusive: {why}",))
+    v = Verdict(classification="inconclusive", inconclusive_reason=why)
+    return replace(d, severity=Severity.WARNING, evidence=with_verdict(d.evidence, v),
+                   notes=tuple(d.notes) + (v.note(),))
 
 
 def _plan(graph, d: Diagnostic, context, opts, memo=None, req="hook"):
@@ -391,10 +390,10 @@ def _apply(graph, d: Diagnostic, c: Classification, req: ProofRequest, context, 
             d.evidence, Verdict(**verdict)), notes=tuple(notes),
             message=d.message + "; proven hazard-free")
     if c.classification == "inconclusive":
-        notes.append(f"hazard proof inconclusive: {c.reason}")
+        v = Verdict(**verdict, inconclusive_reason=c.reason)
+        notes.append(v.note())
         return replace(d, severity=max(Severity.WARNING, min(d.severity, Severity.WARNING)),
-                       evidence=with_verdict(d.evidence, Verdict(
-                           **verdict, inconclusive_reason=c.reason)), notes=tuple(notes))
+                       evidence=with_verdict(d.evidence, v), notes=tuple(notes))
     kind = c.classification
     verdict["witness"] = witness_json(graph, c)
     verdict["function_hazard"] = bool(c.function_hazard)
@@ -403,12 +402,6 @@ def _apply(graph, d: Diagnostic, c: Classification, req: ProofRequest, context, 
     if c.assignment is not None:
         glitch["delays"] = c.assignment.to_json()
     verdict["glitch"] = glitch
-    tname = net_label(graph, c.target)
-    label = {"static-1-hazard": "static-1 hazard", "static-0-hazard": "static-0 hazard",
-             "dynamic-hazard": "dynamic hazard"}[kind]
-    msg = f"{label} at {tname}: {witness_text(graph, c)}"
-    if c.function_hazard:
-        msg += " (function hazard)"
     gt = glitch_text(c)
     notes.append(f"proof: {c.reason}")
     others = [k2 for k2 in c.present_kinds if k2 != kind]
@@ -429,8 +422,9 @@ def _apply(graph, d: Diagnostic, c: Classification, req: ProofRequest, context, 
         notes += diagram_lines(graph, c, nets)
     sev = Severity.ERROR if sens else Severity.WARNING
     fix = fix_for(graph, c, req, sink_role, fix_memo) if replayed else d.fix
-    return replace(d, kind=kind, severity=sev, message=msg,
-                   evidence=with_verdict(d.evidence, Verdict(**verdict)),
+    v = Verdict(**verdict)
+    return replace(d, kind=kind, severity=sev, evidence=with_verdict(d.evidence, v),
+                   message=v.headline(net_label(graph, c.target), witness_text(graph, c)),
                    notes=tuple(notes), fix=fix)
 
 

@@ -111,9 +111,33 @@ class Verdict(_Typed):
         "present_kinds", "waveform_nets", "change_model", "cell_model", "sink_hazards",
         "not_proven_reason"))
 
+    # the words of a verdict: a proven hazard's headline, the line of one left unproven
+    KIND_WORDS: ClassVar[dict] = {"static-1-hazard": "static-1 hazard",
+                                  "static-0-hazard": "static-0 hazard",
+                                  "dynamic-hazard": "dynamic hazard"}
+
     @property
     def proven(self) -> bool:
         return self.witness is not None
+
+    def headline(self, sink: str, witness: str) -> str:
+        """The message of a proven hazard at ``sink`` (its net name) with the ``witness``
+        in words.
+
+            >>> Verdict(classification="static-1-hazard", witness={}, function_hazard=True
+            ...         ).headline("rst_n", "a falls with b=1")
+            'static-1 hazard at rst_n: a falls with b=1 (function hazard)'
+        """
+        text = f"{self.KIND_WORDS[self.classification]} at {sink}: {witness}"
+        return text + " (function hazard)" if self.function_hazard else text
+
+    def note(self) -> str | None:
+        """The evidence line of a finding the prover did not prove: why not."""
+        if self.not_proven_reason is not None:
+            return f"not proven: {self.not_proven_reason}"
+        if self.inconclusive_reason is not None:
+            return f"hazard proof inconclusive: {self.inconclusive_reason}"
+        return None
 
 
 @dataclass(frozen=True, eq=False, repr=False)
