@@ -16,8 +16,7 @@ import sys
 from typing import Any
 
 from ..diagnostics import Severity
-from ..errors import EXIT_CLEAN, EXIT_FINDINGS, HazlintError
-from .check import add_frontend_argument
+from ..errors import EXIT_CLEAN, HazlintError
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -40,32 +39,28 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 def run(args) -> int:
     if args.no_prove:
         raise HazlintError("prove: --no-prove leaves nothing to prove (use check)")
+    from .check import request_from_args
+    extra = {"prove_options": {"show_proven_absent": True}} if args.show_proven_absent else {}
+    request = request_from_args(args, **extra)
+    if request is None:
+        return EXIT_CLEAN
     if not args.transition:
-        return _run_lint(args)
-    from ..budget import bounded
-    from ..config import load_config
-    from ..limits import parse_assignments
-    config = load_config(os.getcwd(), args.config)
-    with bounded(config, args.time_budget, parse_assignments(args.limits)):
-        return _run(args, config)
+        return _run_lint(args, request)
+    from .. import pipeline
+    with pipeline.bounds(request):
+        return _run(args, request)
 
 
-def _run_lint(args) -> int:
+def _run_lint(args, request) -> int:
     """``check`` with the prover's options (``--show-proven-absent``) and the waveform files:
     the same findings, headlines, severities and formats."""
     from . import check
-    from ..api import lint
+    from .. import pipeline
     renderer = check._renderer(args.format)
-    prepared = check.prepare(args)
-    if prepared is None:
-        return EXIT_CLEAN
-    config, files, changed, cwd = prepared
-    if args.show_proven_absent:
-        config.prove = dict(config.prove or {}, show_proven_absent=True)
-    result = check.lint_request(lint, args, files, config, cwd, changed, None)
+    result = pipeline.lint(request)
     color = args.format == "text" and not args.output and check.use_color(args.color,
                                                                              sys.stdout)
-    code = check._report(args, result, renderer, color)
+    code = check.report(args, result, renderer, color)
     from ..analysis import prove as P
     g = result.design.graph
     k = 0
@@ -79,23 +74,17 @@ def _run_lint(args) -> int:
     return code
 
 
-def _run(args, config) -> int:
+def _run(args, request) -> int:
+    """The changes given by ``--transition`` at the targets, on the design as ``check`` loads
+    it (configuration, -I, -D, cells, Liberty, SDF), with the run's change-model declarations
+    and glitch-sensitive outputs (the analysis context of a lint run)."""
+    from .. import pipeline
     from ..analysis import prove as P
-    files = [os.path.abspath(f) for f in args.files] or list(config.files)
-    if not files:
-        raise HazlintError("no Verilog files given and none configured (configuration key "
-                           "'files')")
-    for f in files:
-        if not os.path.isfile(f):
-            raise HazlintError("is a directory, not a Verilog file" if os.path.isdir(f)
-                               else f"file not found: {f}", path=f)
-    top = args.top or config.top
-    top = top[0] if top and len(top) == 1 else top
-    opts: dict[str, Any] = {"show_proven_absent": args.show_proven_absent}
+    opts: dict[str, Any] = dict(request.prove_options)
     out = sys.stdout
     shown = []          # (title, graph, classification, nets)
     worst = None
-    design = _load(files, top, args.frontend or config.frontend, config, args)
+    design, context = pipeline.context_for(request, pipeline.load(request))
     g = design.graph
     for spec in args.transition:
         changes, fixed = parse_transition(design, spec)
@@ -105,7 +94,7 @@ def _run(args, config) -> int:
             if c.classification == "hazard-free" and not args.show_proven_absent:
                 out.write(f"{P.net_label(g, t)}: hazard-free for {spec} ({c.reason})\n")
                 continue
-            sev = _severity_of(g, c, None)
+            sev = _severity_of(g, c, context)
             worst = sev if worst is None or sev > worst else worst
             nets = P.waveform_nets(g, c, None) + _moving_nets(g, c)
             _print(out, g, c, f"{P.net_label(g, t)} for {spec}", nets, args.ascii, sev)
@@ -113,21 +102,7 @@ def _run(args, config) -> int:
                 shown.append((f"{P.net_label(g, t)}: {c.classification}", g, c, nets))
     for k, (title, g, c, nets) in enumerate(shown):
         _write_waves(args, k, title, g, c, nets)
-    level = args.fail_on or config.fail_on
-    if worst is None or level == "never":
-        return EXIT_CLEAN
-    return EXIT_FINDINGS if worst >= Severity.parse(level) else EXIT_CLEAN
-
-
-def _load(files, top, frontend, config, args):
-    """The design as ``check`` loads it: the configuration's include directories, macros,
-    cells, Liberty and SDF, with -I and -D over them."""
-    from ..api import load
-    from .check import parse_defines
-    config.frontend = frontend
-    incs = [os.path.abspath(d) for d in args.include_dirs] if args.include_dirs else None
-    return load(files, config, top=top, include_dirs=incs,
-                defines=parse_defines(args.defines) or None, use_cache=not args.no_cache)
+    return pipeline.exit_code(worst, args.fail_on or request.config.fail_on)
 
 
 def _targets(design, names):
