@@ -58,7 +58,7 @@ else:  # pragma: no cover
 
 from .diagnostics import Severity
 from .errors import ConfigError
-from .options import DELAYS, FAIL_LEVELS, PROVE, RUN
+from .options import DELAYS, PROVE, RUN
 
 CONFIG_NAMES = ("hazlint.toml", "pyproject.toml")
 

@@ -15,7 +15,7 @@ default, documentation, allowed values, lower bound) and checked one way.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any, Iterable, Mapping
+from typing import Any, Mapping
 
 from .errors import ConfigError
 
@@ -105,11 +105,6 @@ class OptionTable:
     def resolve(self, given: Mapping[str, Any] | None, where: str = "") -> dict[str, Any]:
         """The defaults overlaid with the checked ``given`` options."""
         return dict(self.defaults(), **self.check(given, where))
-
-
-def documented(options: Iterable[Option]) -> list[str]:
-    """One line per option (``name (type, default X): help``) for documentation."""
-    return [f"{o.name} ({o.type_name}, default {o.default!r}): {o.help}" for o in options]
 
 
 # ---------------------------------------------------------------------------------------------

@@ -151,7 +151,7 @@ def resolve(files: Sequence[str] | None = None, *, config: Config | None = None,
     ign = list(config.ignore) + rule_ids(ignore, "--ignore")
     rules = select_rules(sel, ign)
     options, known_ids = _rule_options(config, rule_options)
-    prove_opts = dict(config.prove, **PROVE.check(prove_options, "--prove: "))
+    prove_opts = dict(config.prove, **PROVE.check(prove_options))
     if frontend is not None:
         from .frontends.registry import check_choice
         check_choice(frontend)
