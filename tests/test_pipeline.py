@@ -186,3 +186,16 @@ def test_sdf_corners_match_the_sdf_reader():
     from hazlint.delays.sdf_syntax import CORNERS
     from hazlint.options import SDF_CORNER, SDF_CORNERS
     assert SDF_CORNERS == CORNERS and SDF_CORNER in CORNERS
+
+
+def test_prove_transition_names_changes_outside_the_change_model(tmp_path):
+    # static_inputs and one_at_a_time of the configuration are the run's change model; a
+    # transition the model excludes is still checked, with a note naming the declaration
+    _project(tmp_path, 'static_inputs = ["c"]\none_at_a_time = { ab = ["a", "b"] }\n')
+    args = ["prove", "--no-cache", "--transition", "a-,b+,c-", "--target", "y"]
+    code, out, err = _cli(args, tmp_path)
+    assert "note: c is declared static (it never changes in the change model)" in out, out + err
+    assert "note: a, b change together, but group 'ab'" in out
+    code, out, _ = _cli(["prove", "--no-cache", "--transition", "a-,b=1,c=1", "--target",
+                         "y"], tmp_path)
+    assert "note:" not in out and "static-1-hazard" in out

@@ -2,10 +2,14 @@
 
 Without ``--transition`` it is ``check`` (the same configuration discovery, options, findings,
 headlines, severities and formats) with proven-absent findings on request
-(``--show-proven-absent``) and the witnesses written as waveform files (``--vcd``, ``--svg``). ``--transition`` checks a change given by the user instead, e.g.
+(``--show-proven-absent``) and the witnesses written as waveform files (``--vcd``, ``--svg``).
+``--transition`` checks a change given by the user instead, e.g.
 ``--transition "two_hand_left+,two_hand_right+,guard_closed=1"`` (``+`` rises, ``-`` falls,
 ``=v`` holds), at every output and glitch-sensitive sink (or ``--target``), and tells a function
-hazard from a logic hazard. ``--vcd``/``--svg`` write the waveforms of the first proven hazard
+hazard from a logic hazard. Both load the design through the same run request as ``check``
+(configuration, -I, -D, cells, Liberty, SDF, cell model); with ``--transition`` the configured
+glitch-sensitive outputs decide the severity and a change the configured change model excludes
+(a static input, a one-at-a-time group changing together) is checked with a note. ``--vcd``/``--svg`` write the waveforms of the first proven hazard
 (further ones get ``-2``, ``-3``... before the extension).
 """
 from __future__ import annotations
@@ -88,6 +92,8 @@ def _run(args, request) -> int:
     g = design.graph
     for spec in args.transition:
         changes, fixed = parse_transition(design, spec)
+        for note in outside_model(g, context.change_model, changes):
+            out.write(f"note: {note}; checked as given\n")
         targets = _targets(design, args.target)
         for t in targets:
             c = P.classify(g, t, changes, fixed, options=opts)
@@ -103,6 +109,22 @@ def _run(args, request) -> int:
     for k, (title, g, c, nets) in enumerate(shown):
         _write_waves(args, k, title, g, c, nets)
     return pipeline.exit_code(worst, args.fail_on or request.config.fail_on)
+
+
+def outside_model(g, model, changes) -> list[str]:
+    """What in the transition ``changes`` the run's change model excludes: a source declared
+    static (``static_inputs``, ``hazlint_static``), two or more members of a one-at-a-time
+    group changing together."""
+    from ..analysis.prove import net_label
+    notes = [f"{net_label(g, n)} is declared static (it never changes in the change model)"
+             for n in changes if n in model.quiet]
+    for gr in model.groups:
+        moving = [m for m in gr.members if m in changes]
+        if gr.kind == "one-at-a-time" and len(moving) > 1:
+            where = f" ({gr.where})" if gr.where else ""
+            notes.append(f"{', '.join(net_label(g, m) for m in moving)} change together, but "
+                         f"group '{gr.name}'{where} changes one member at a time")
+    return notes
 
 
 def _targets(design, names):
