@@ -10,7 +10,7 @@ run's caches (parse tables, designs, findings, finished reports).
                     changed-files filter
       -> report     (hazlint.report.*; a finished report is kept by :class:`ReportSlot`)
 
-    >>> from hazlint.request import resolve
+    >>> from hazlint.pipeline import lint, resolve
     >>> result = lint(resolve(["fixtures/demo/press_top.v"]))   # doctest: +SKIP
     >>> [(d.rule, d.line) for d in result.diagnostics]        # doctest: +SKIP
 
@@ -32,8 +32,11 @@ from .errors import EXIT_CLEAN, EXIT_FINDINGS, ConfigError, HazlintError
 from .findings.names import RECONVERGENCE_RULE
 from .paths import relpath
 from .plugins import PSEUDO_RULES, Rule
-from .request import RunRequest, norm
+from .request import RunRequest, norm, resolve
 from .waivers import UNUSED_RULE, apply_waivers, read_waiver_file, scan_sources
+
+__all__ = ["LintResult", "ReportSlot", "RunRequest", "bounds", "exit_code", "lint", "load",
+           "report_key", "resolve", "run_rules"]
 
 if TYPE_CHECKING:       # imported where used: a cached report needs neither it nor networkx
     from .analysis.context import AnalysisContext
