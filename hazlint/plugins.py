@@ -8,7 +8,7 @@ A rule is a module (or any object) with these attributes:
               or :class:`~hazlint.diagnostics.Kind` values that declare a new kind with its
               default severity and description
 ``SEVERITY``  default severity name (``"error"``, ``"warning"``, ``"info"``)
-``OPTIONS``   tuple of :class:`Option`
+``OPTIONS``   tuple of :class:`~hazlint.options.Option`
 ``check(design, context)``  generator of :class:`~hazlint.diagnostics.Diagnostic`
 ``prove(diagnostic, evidence)``  optional proof hook: the
               :class:`~hazlint.findings.requests.ProofRequest` that says how a finding of this
@@ -31,47 +31,10 @@ from typing import Any, Callable, Iterable, Mapping
 
 from .diagnostics import BUILTIN_KINDS, KINDS, Kind, Severity
 from .errors import ConfigError, HazlintError
+from .options import Option
 
 ENTRY_POINT_GROUP = "hazlint.rules"
 _ID_RE = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
-
-
-@dataclass(frozen=True)
-class Option:
-    """A typed rule option. ``type`` is one of bool, int, float, str, list (of str)."""
-
-    name: str
-    type: type
-    default: Any
-    help: str
-    choices: tuple = ()
-
-    def coerce(self, value: Any, where: str = "") -> Any:
-        t = self.type
-        ok = False
-        if t is bool:
-            ok = isinstance(value, bool)
-        elif t is int:
-            ok = isinstance(value, int) and not isinstance(value, bool)
-        elif t is float:
-            ok = isinstance(value, (int, float)) and not isinstance(value, bool)
-            value = float(value) if ok else value
-        elif t is str:
-            ok = isinstance(value, str)
-        elif t is list:
-            ok = isinstance(value, list) and all(isinstance(v, str) for v in value)
-        if not ok:
-            raise ConfigError(f"{where}option '{self.name}' must be of type {self.type_name}, "
-                              f"got {value!r}")
-        if self.choices and value not in self.choices:
-            raise ConfigError(f"{where}option '{self.name}' must be one of "
-                              f"{', '.join(map(str, self.choices))}; got {value!r}")
-        return value
-
-    @property
-    def type_name(self) -> str:
-        return {bool: "bool", int: "int", float: "float", str: "string",
-                list: "list of strings"}[self.type]
 
 
 @dataclass(frozen=True)

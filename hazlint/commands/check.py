@@ -10,7 +10,8 @@ import importlib
 import os
 import sys
 
-from ..errors import EXIT_CLEAN, EXIT_FINDINGS, HazlintError
+from ..errors import EXIT_CLEAN, HazlintError
+from ..findings.names import RECONVERGENCE_RULE
 
 FORMATS = ("text", "json", "sarif", "annotations")
 
@@ -119,101 +120,78 @@ def use_color(choice: str, stream) -> bool:
     return hasattr(stream, "isatty") and stream.isatty() and not os.environ.get("NO_COLOR")
 
 
-def prepare(args):
-    """(config, files, changed, cwd) of a run from the arguments ``check`` and ``prove``
-    share; None for ``changed`` when not ``--changed``, and None for the whole tuple when
-    ``--changed`` has nothing to do."""
+def request_from_args(args, **extra):
+    """The :class:`~hazlint.request.RunRequest` of the arguments ``check``, ``prove`` and
+    ``summary`` share (configuration discovery, ``--config``, files, -I, -D, ``--top``,
+    selection, ``--scope``, caches, workers, bounds), with ``extra`` keywords of
+    :func:`hazlint.request.resolve` over them; None when ``--changed`` has nothing to do."""
     from ..config import load_config
-    cwd = os.getcwd()
-    config = load_config(cwd, args.config)
     from ..limits import DEFAULT as LIMITS, parse_assignments
-    LIMITS.with_values(parse_assignments(args.limits), where="--limit: ")
-    if args.time_budget is not None and not args.time_budget >= 0:
+    from ..request import resolve
+    cwd = os.getcwd()
+    config = load_config(cwd, getattr(args, "config", None))
+    limits = parse_assignments(getattr(args, "limits", None))
+    LIMITS.with_values(limits, where="--limit: ")
+    time_budget = getattr(args, "time_budget", None)
+    if time_budget is not None and not time_budget >= 0:
         raise HazlintError(f"--time-budget must be a number of seconds, 0 or more (0: none), "
-                           f"got {args.time_budget}")
+                           f"got {time_budget}")
     files = list(args.files)
     changed = None
-    if args.changed:
+    if getattr(args, "changed", False):
         changed = files
         files = [] if config.files else files
         if not config.files and not changed:
             return None              # nothing staged and no design configured
-    if args.jobs is not None:
-        if args.jobs < 1:
-            raise HazlintError(f"--jobs must be at least 1, got {args.jobs}")
-        config.jobs = args.jobs
-    if getattr(args, "scheduler", None):
-        config.scheduler = args.scheduler
-    if args.cache_dir:
-        config.cache_dir = os.path.abspath(args.cache_dir)
-    if args.frontend:
-        from ..frontends.registry import check_choice
-        check_choice(args.frontend)
-        config.frontend = args.frontend
-    return config, files, changed, cwd
+    jobs = getattr(args, "jobs", None)
+    if jobs is not None and jobs < 1:
+        raise HazlintError(f"--jobs must be at least 1, got {jobs}")
+    scope = getattr(args, "scope", None)
+    options = dict(
+        config=config, cwd=cwd, changed=changed,
+        select=_csv(getattr(args, "select", None)) or None,
+        ignore=_csv(getattr(args, "ignore", None)), prove=not getattr(args, "no_prove", False),
+        top=args.top, include_dirs=([os.path.abspath(d) for d in args.include_dirs]
+                                    if args.include_dirs else None),
+        defines=parse_defines(args.defines), baseline=getattr(args, "baseline", None),
+        rule_options={RECONVERGENCE_RULE: {"scope": scope}} if scope else None,
+        use_cache=not getattr(args, "no_cache", False),
+        cache_dir=getattr(args, "cache_dir", None), jobs=jobs,
+        scheduler=getattr(args, "scheduler", None) or None,
+        frontend=getattr(args, "frontend", None) or None, time_budget=time_budget,
+        limits=limits)
+    options.update(extra)
+    return resolve(files or None, **options)
 
 
 def run(args) -> int:
-    from ..api import lint
+    from .. import pipeline
     renderer = _renderer(args.format)       # a missing format fails before the slow work
-    prepared = prepare(args)
-    if prepared is None:
+    request = request_from_args(args)
+    if request is None:
         return EXIT_CLEAN
-    config, files, changed, cwd = prepared
     color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)
     render_opts = {"format": args.format, "color": color, "evidence": not args.brief,
                    "ascii": bool(args.ascii)}
-    reports = key = None
-    if not args.no_cache and not args.write_baseline:
+    slot = None
+    if request.use_cache and not args.write_baseline:
         # a rerun on unchanged inputs prints the finished report of the last such run: no
         # decoding of the design or the findings, no waivers, no rendering
-        from ..api import report_key
-        from ..store.report import open_report_cache
-        key = report_key(files or None, render=render_opts,
-                         **_run_options(args, files, config, cwd, changed))
-        reports = open_report_cache(config.cache_dir, limit_mb=config.cache_limit_mb) \
-            if key else None
-        hit = reports.load(key) if reports is not None else None
+        slot = pipeline.ReportSlot(request, render_opts)
+        hit = slot.load()
         if hit is not None:
             src, worst = hit
             with src:
                 _emit(args, _copy_from(src))
-            return _exit_code(worst, args.fail_on or config.fail_on)
+            return pipeline.exit_code(worst, args.fail_on or request.config.fail_on)
     from ..progress import terminal_progress
     progress = terminal_progress()
     try:
-        result = lint_request(lint, args, files, config, cwd, changed, progress)
+        result = pipeline.lint(request, progress=progress)
     finally:
         if progress is not None:
             progress.close()
-    return _report(args, result, renderer, color, reports, key)
-
-
-def _run_options(args, files, config, cwd, changed) -> dict:
-    """What decides a run, as keyword arguments of ``api.lint`` and ``api.report_key``."""
-    return dict(config=config, cwd=cwd, changed=changed,
-                select=_csv(args.select) or None, ignore=_csv(args.ignore),
-                prove=not args.no_prove, top=args.top,
-                include_dirs=([os.path.abspath(d) for d in args.include_dirs]
-                              if args.include_dirs else None),
-                defines=parse_defines(args.defines), baseline=args.baseline,
-                rule_options=scope_options(args))
-
-
-def scope_options(args) -> dict | None:
-    """``--scope`` as the reconvergence rule's option."""
-    scope = getattr(args, "scope", None)
-    if not scope:
-        return None
-    from ..findings.names import RECONVERGENCE_RULE
-    return {RECONVERGENCE_RULE: {"scope": scope}}
-
-
-def _exit_code(worst, level) -> int:
-    from ..diagnostics import Severity
-    if level == "never" or worst is None:
-        return EXIT_CLEAN
-    return EXIT_FINDINGS if worst >= Severity.parse(level) else EXIT_CLEAN
+    return report(args, result, renderer, color, slot)
 
 
 def _copy_from(src):
@@ -236,16 +214,10 @@ def _emit(args, write) -> None:
         sys.stdout.flush()
 
 
-def lint_request(lint, args, files, config, cwd, changed, progress):
-    """Call ``lint`` with everything the command line asked for (``check`` and ``prove``
-    share it)."""
-    from ..limits import parse_assignments
-    return lint(files or None, use_cache=not args.no_cache, progress=progress,
-                time_budget=args.time_budget, limits=parse_assignments(args.limits),
-                **_run_options(args, files, config, cwd, changed))
-
-
-def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
+def report(args, result, renderer, color=False, slot=None) -> int:
+    """Write the report of ``result`` as the arguments ask (or the baseline file), through
+    the report cache when ``slot`` (a :class:`hazlint.pipeline.ReportSlot`) is given; the exit
+    code."""
     if args.write_baseline:
         from ..baseline import write_baseline
         # everything found now, including what an existing baseline already accounted for
@@ -260,13 +232,8 @@ def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
     else:
         def write(stream):
             renderer.write(result, stream)
-    kept = None
-    if reports is not None and key and not result.incomplete:
-        # the report is written once, into the cache, and copied from there
-        # (the input files' contents are in the key; what they include is checked on a hit)
-        worst = max((int(d.severity) for d in result.diagnostics), default=None)
-        includes = [os.path.abspath(p) for p in getattr(result.design, "includes", None) or ()]
-        kept = reports.store(key, write, worst, includes)
+    # the report is written once, into the cache, and copied from there
+    kept = slot.store(result, write) if slot is not None else None
     if kept is None:
         _emit(args, write)
         return result.exit_code(args.fail_on)
