@@ -6,13 +6,11 @@ Exit codes: 0 clean, 1 findings at or above ``--fail-on`` (configuration ``fail_
 from __future__ import annotations
 
 import argparse
-import importlib
 import os
 import sys
 
 from ..errors import EXIT_CLEAN, EXIT_FINDINGS, HazlintError
-
-FORMATS = ("text", "json", "sarif", "annotations")
+from ..report.registry import FormatNames, ReportOptions, get_format
 
 
 def _csv(values):
@@ -36,7 +34,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="run only these rules (comma-separated, repeatable)")
     p.add_argument("--ignore", action="append", metavar="RULES",
                    help="skip these rules (comma-separated, repeatable)")
-    p.add_argument("--format", default="text", choices=FORMATS, help="output format")
+    p.add_argument("--format", choices=FormatNames(), metavar="FORMAT",
+                   help="report format (configuration 'format'; default text; `hazlint "
+                        "formats` lists the registered ones)")
     p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE")
     p.add_argument("--fail-on", choices=("error", "warning", "info", "never"),
                    help="lowest severity that makes the exit code 1")
@@ -103,12 +103,14 @@ def parse_defines(items):
 
 
 def _renderer(fmt: str):
-    try:
-        return importlib.import_module(f"hazlint.report.{fmt}")
-    except ModuleNotFoundError as exc:
-        if exc.name == f"hazlint.report.{fmt}":
-            raise HazlintError(f"output format '{fmt}' is not available in this build") from None
-        raise
+    """The registered format ``fmt`` (:mod:`hazlint.report.registry`), loaded."""
+    return get_format(fmt)
+
+
+def report_options(args, renderer) -> ReportOptions:
+    """The report options the command line asks for (colour only for text on a terminal)."""
+    color = renderer.name == "text" and not args.output and use_color(args.color, sys.stdout)
+    return ReportOptions(color=color, evidence=not args.brief, ascii_only=bool(args.ascii))
 
 
 def use_color(choice: str, stream) -> bool:
@@ -142,6 +144,8 @@ def prepare(args):
         if args.jobs < 1:
             raise HazlintError(f"--jobs must be at least 1, got {args.jobs}")
         config.jobs = args.jobs
+    if args.format:
+        config.format = args.format
     if getattr(args, "scheduler", None):
         config.scheduler = args.scheduler
     if args.cache_dir:
@@ -155,16 +159,16 @@ def prepare(args):
 
 def run(args) -> int:
     from ..api import lint
-    renderer = _renderer(args.format)       # a missing format fails before the slow work
     prepared = prepare(args)
     if prepared is None:
         return EXIT_CLEAN
     config, files, changed, cwd = prepared
-    color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)
-    render_opts = {"format": args.format, "color": color, "evidence": not args.brief,
-                   "ascii": bool(args.ascii)}
+    renderer = _renderer(config.format)     # a missing format fails before the slow work
+    options = report_options(args, renderer)
+    render_opts = {"format": renderer.name, **options.key()}
     reports = key = None
-    if not args.no_cache and not args.write_baseline:
+    # a plugin format's report is not kept: the cache's code stamp does not cover its code
+    if not args.no_cache and not args.write_baseline and renderer.builtin:
         # a rerun on unchanged inputs prints the finished report of the last such run: no
         # decoding of the design or the findings, no waivers, no rendering
         from ..api import report_key
@@ -186,7 +190,7 @@ def run(args) -> int:
     finally:
         if progress is not None:
             progress.close()
-    return _report(args, result, renderer, color, reports, key)
+    return _report(args, result, renderer, options, reports, key)
 
 
 def _run_options(args, files, config, cwd, changed) -> dict:
@@ -245,7 +249,7 @@ def lint_request(lint, args, files, config, cwd, changed, progress):
                 **_run_options(args, files, config, cwd, changed))
 
 
-def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
+def _report(args, result, renderer, options, reports=None, key=None) -> int:
     if args.write_baseline:
         from ..baseline import write_baseline
         # everything found now, including what an existing baseline already accounted for
@@ -253,13 +257,8 @@ def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
                            result.root)
         print(f"hazlint: recorded {n} finding(s) in {args.write_baseline}", file=sys.stderr)
         return EXIT_CLEAN
-    if args.format == "text":
-        def write(stream):
-            renderer.write(result, stream, color=color, evidence=not args.brief,
-                           ascii_only=bool(getattr(args, "ascii", False)))
-    else:
-        def write(stream):
-            renderer.write(result, stream)
+    def write(stream):
+        renderer.write(result, stream, options)
     kept = None
     if reports is not None and key and not result.incomplete:
         # the report is written once, into the cache, and copied from there

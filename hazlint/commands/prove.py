@@ -55,17 +55,15 @@ def _run_lint(args) -> int:
     the same findings, headlines, severities and formats."""
     from . import check
     from ..api import lint
-    renderer = check._renderer(args.format)
     prepared = check.prepare(args)
     if prepared is None:
         return EXIT_CLEAN
     config, files, changed, cwd = prepared
+    renderer = check._renderer(config.format)
     if args.show_proven_absent:
         config.prove = dict(config.prove or {}, show_proven_absent=True)
     result = check.lint_request(lint, args, files, config, cwd, changed, None)
-    color = args.format == "text" and not args.output and check.use_color(args.color,
-                                                                             sys.stdout)
-    code = check._report(args, result, renderer, color)
+    code = check._report(args, result, renderer, check.report_options(args, renderer))
     from ..analysis import prove as P
     g = result.design.graph
     k = 0
