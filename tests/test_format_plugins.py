@@ -84,9 +84,9 @@ def test_formats_lists_plugins_and_names_the_broken_one(toy):
     env, demo, _ = toy
     p = hazlint("formats", cwd=demo, env=env)
     assert p.returncode == 2                    # a registered format cannot be loaded
-    names = [line.split()[0] for line in p.stdout.splitlines()[:5]]
-    assert names == ["annotations", "json", "sarif", "text", "toy"]
-    toy_line = p.stdout.splitlines()[4]
+    names = [line.split()[0] for line in p.stdout.splitlines()[:6]]
+    assert names == ["annotations", "json", "lsp", "sarif", "text", "toy"]
+    toy_line = p.stdout.splitlines()[5]
     assert "one tab-separated line per finding" in toy_line
     assert "[toy_format (hazlint-toy-format)]" in toy_line
     assert "toy-raises" in p.stdout             # it loads; it only fails when writing
@@ -95,8 +95,8 @@ def test_formats_lists_plugins_and_names_the_broken_one(toy):
     assert "Traceback" not in p.stderr
     rows = json.loads(hazlint("formats", "--format", "json", cwd=demo, env=env).stdout)
     assert {r["name"]: r["builtin"] for r in rows} == {
-        "annotations": True, "json": True, "sarif": True, "text": True, "toy": False,
-        "toy-raises": False}
+        "annotations": True, "json": True, "lsp": True, "sarif": True, "text": True,
+        "toy": False, "toy-raises": False}
 
 
 @pytest.mark.slow
@@ -123,7 +123,8 @@ def test_unknown_format_names_the_known_ones():
     with pytest.raises(HazlintError) as e:
         get_format("pdf")
     assert e.value.exit_code == 2
-    assert "unknown output format 'pdf' (known: annotations, json, sarif, text" in str(e.value)
+    assert "unknown output format 'pdf' (known: annotations, json, lsp, sarif, text" in \
+        str(e.value)
 
 
 @pytest.mark.parametrize("obj, words", [
@@ -138,8 +139,8 @@ def test_format_objects_are_checked(obj, words):
 
 
 def test_builtins_are_registered_through_entry_points():
-    assert set(format_names()) >= {"annotations", "json", "sarif", "text"}
-    for name in ("annotations", "json", "sarif", "text"):
+    assert set(format_names()) >= {"annotations", "json", "lsp", "sarif", "text"}
+    for name in ("annotations", "json", "lsp", "sarif", "text"):
         fmt = get_format(name)
         assert fmt.builtin and fmt.origin == f"hazlint.report.{name} (hazlint)"
     empty = SimpleNamespace(diagnostics=[], waived=[], root=str(DEMO), relpath=lambda p: p,

@@ -18,26 +18,26 @@ from pathlib import Path
 import pytest
 
 PLUGINS = Path(__file__).resolve().parent.parent / "plugins"
-# setuptools builds wheels by itself (without the 'wheel' package) from 70.1 on
-MIN_SETUPTOOLS = (70, 1)
 
 
-def _check_setuptools() -> None:
+def _check_build_tools() -> None:
+    """setuptools builds a wheel with the 'wheel' package, or by itself from 70.1 on (the
+    test extra installs both)."""
+    import importlib.util
     try:
         import setuptools
     except ImportError:
         pytest.fail("setuptools is required to build the test plugins: pip install -e '.[test]'")
     got = tuple(int(x) for x in setuptools.__version__.split(".")[:2] if x.isdigit())
-    if got < MIN_SETUPTOOLS:
-        pytest.fail(f"setuptools {setuptools.__version__} cannot build a wheel without the "
-                    f"'wheel' package; the test extra needs setuptools>=70.1: "
-                    f"pip install -e '.[test]'")
+    if got < (70, 1) and importlib.util.find_spec("wheel") is None:
+        pytest.fail(f"setuptools {setuptools.__version__} needs the 'wheel' package to build "
+                    f"the test plugins: pip install -e '.[test]'")
 
 
 def install_plugin(name: str, workdir: Path) -> Path:
     """Build and install ``tests/plugins/<name>`` into ``workdir/site``; returns that folder
     (put it on ``PYTHONPATH``, see :func:`plugin_env`)."""
-    _check_setuptools()
+    _check_build_tools()
     src = workdir / f"src-{name}"
     shutil.copytree(PLUGINS / name, src)
     site = workdir / "site"
