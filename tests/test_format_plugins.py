@@ -148,3 +148,15 @@ def test_builtins_are_registered_through_entry_points():
     assert get_format("json").render(empty) == "[]\n"
     text = get_format("text").render(empty, ReportOptions(caution=False))
     assert "note:" not in text and text.endswith("\n")
+
+
+def test_configuration_key_names_a_registered_format(tmp_path):
+    from hazlint.config import load_config
+    from hazlint.errors import ConfigError
+    cfg = tmp_path / "hazlint.toml"
+    cfg.write_text('top = "press_top"\nformat = "sarif"\n')
+    assert load_config(str(tmp_path)).format == "sarif"
+    cfg.write_text('top = "press_top"\nformat = "pdf"\n')
+    with pytest.raises(ConfigError) as e:
+        load_config(str(tmp_path))
+    assert str(e.value).startswith(f"{cfg}:2: error: unknown output format 'pdf' (known: ")
