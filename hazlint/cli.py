@@ -1,9 +1,9 @@
 """The ``hazlint`` command line.
 
 ``hazlint [check] FILES...`` lints (the default command); other commands are named first:
-``hazlint summary``, ``hazlint rules``, ``hazlint formats``, ``hazlint explain RULE``, ... Each command lives in its own
-module under :mod:`hazlint.commands` with ``add_arguments(parser)`` and ``run(args) -> int``, and is
-listed in :data:`COMMANDS`. Errors in the user's input end with exit code 2 and one
+``hazlint summary``, ``hazlint rules``, ``hazlint formats``, ``hazlint explain RULE``, ... Each
+command lives in its own module under :mod:`hazlint.commands` with ``add_arguments(parser)`` and
+``run(args) -> int``, and is listed in :data:`COMMANDS`. Errors in the user's input end with exit code 2 and one
 ``file:line: error: ...`` line on stderr, never a traceback.
 """
 from __future__ import annotations

@@ -5,7 +5,9 @@ registry is available) with its one-line summary and its documentation as help t
 has:
 
 * a physical location relative to the source root (``uriBaseId`` ``SRCROOT``, declared in
-  ``originalUriBaseIds``) and a logical location for the hierarchical instance path;
+  ``originalUriBaseIds``; §3.4.3-3.4.4) for a file inside it, an absolute ``file:`` URI for a
+  file outside it (:func:`hazlint.paths.inside_root` decides, as for every report), and a
+  logical location for the hierarchical instance path;
 * ``relatedLocations`` for the secondary places (the stem of a reconvergent fanout, the gates
   on a loop) taken from :attr:`Diagnostic.related`;
 * one ``codeFlow`` per evidence path (:attr:`Diagnostic.flows`: the two reconvergent branches,
