@@ -33,6 +33,7 @@ Keys (all optional)::
     jobs = 2                        # worker processes (default: every core for the prover)
     scheduler = "tcp://10.0.0.5:8786"   # prover work on a Dask cluster (extra 'cluster')
     frontend = "auto"               # auto | pyverilog | slang (auto: .sv files through slang)
+    format = "sarif"                # report format of `check` (`hazlint formats` lists them)
     prove = { }                     # hazard-prover options (hazlint.options.PROVE_OPTIONS)
     memory_as_registers_max_bits = 4096   # larger variable arrays become memory nodes
     time_budget = 60                # seconds for the whole run (0: none); see hazlint.budget
@@ -89,6 +90,7 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "jobs": ((int,), "a number of worker processes"),
     "scheduler": ((str,), "a Dask scheduler address, e.g. tcp://host:8786"),
     "frontend": ((str,), "auto, pyverilog or slang"),
+    "format": ((str,), "a report format name (hazlint formats lists them)"),
     "prove": ((dict,), "a table of hazard-prover options"),
     "memory_as_registers_max_bits": ((int,), "a number of bits (arrays up to it are registers)"),
     "time_budget": ((int, float), "a number of seconds (0: no time limit)"),
@@ -127,6 +129,7 @@ class Config:
     jobs: int | None = None
     scheduler: str | None = None
     frontend: str = "auto"
+    format: str = "text"
     prove: dict[str, Any] = field(default_factory=dict)
     memory_as_registers_max_bits: int = 4096
     time_budget: float | None = None  # seconds (None: the default, 0: none)
@@ -397,6 +400,12 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         except ConfigError as exc:
             raise err("frontend", exc.message) from None
         cfg.frontend = table["frontend"]
+    if "format" in table:
+        from .report.registry import FormatNames
+        if table["format"] not in FormatNames():
+            raise err("format", f"unknown output format {table['format']!r} (known: "
+                                f"{', '.join(FormatNames())})")
+        cfg.format = table["format"]
     if "limits" in table:
         from .limits import DEFAULT as LIMIT_DEFAULTS
         LIMIT_DEFAULTS.with_values(table["limits"], path=path, line=key_lines.get("limits"))

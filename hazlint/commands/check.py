@@ -6,14 +6,12 @@ Exit codes: 0 clean, 1 findings at or above ``--fail-on`` (configuration ``fail_
 from __future__ import annotations
 
 import argparse
-import importlib
 import os
 import sys
 
 from ..errors import EXIT_CLEAN, HazlintError
 from ..findings.names import RECONVERGENCE_RULE
-
-FORMATS = ("text", "json", "sarif", "annotations")
+from ..report.registry import FormatNames, ReportOptions, get_format
 
 
 def _csv(values):
@@ -37,7 +35,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="run only these rules (comma-separated, repeatable)")
     p.add_argument("--ignore", action="append", metavar="RULES",
                    help="skip these rules (comma-separated, repeatable)")
-    p.add_argument("--format", default="text", choices=FORMATS, help="output format")
+    p.add_argument("--format", choices=FormatNames(), metavar="FORMAT",
+                   help="report format (configuration 'format'; default text; `hazlint "
+                        "formats` lists the registered ones)")
     p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE")
     p.add_argument("--fail-on", choices=("error", "warning", "info", "never"),
                    help="lowest severity that makes the exit code 1")
@@ -104,12 +104,19 @@ def parse_defines(items):
 
 
 def _renderer(fmt: str):
-    try:
-        return importlib.import_module(f"hazlint.report.{fmt}")
-    except ModuleNotFoundError as exc:
-        if exc.name == f"hazlint.report.{fmt}":
-            raise HazlintError(f"output format '{fmt}' is not available in this build") from None
-        raise
+    """The registered format ``fmt`` (:mod:`hazlint.report.registry`), loaded."""
+    return get_format(fmt)
+
+
+def report_options(args, renderer) -> ReportOptions:
+    """The report options the command line asks for (colour only for text on a terminal)."""
+    color = renderer.name == "text" and not args.output and use_color(args.color, sys.stdout)
+    return ReportOptions(color=color, evidence=not args.brief, ascii_only=bool(args.ascii))
+
+
+def format_name(args, config) -> str:
+    """``--format``, else the configuration's ``format`` key (default text)."""
+    return getattr(args, "format", None) or config.format
 
 
 def use_color(choice: str, stream) -> bool:
@@ -166,15 +173,16 @@ def request_from_args(args, **extra):
 
 def run(args) -> int:
     from .. import pipeline
-    renderer = _renderer(args.format)       # a missing format fails before the slow work
     request = request_from_args(args)
     if request is None:
         return EXIT_CLEAN
-    color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)
-    render_opts = {"format": args.format, "color": color, "evidence": not args.brief,
-                   "ascii": bool(args.ascii)}
+    # a missing format fails before the slow work
+    renderer = _renderer(format_name(args, request.config))
+    options = report_options(args, renderer)
+    render_opts = {"format": renderer.name, **options.key()}
     slot = None
-    if request.use_cache and not args.write_baseline:
+    # a plugin format's report is not kept: the cache's code stamp does not cover its code
+    if request.use_cache and not args.write_baseline and renderer.builtin:
         # a rerun on unchanged inputs prints the finished report of the last such run: no
         # decoding of the design or the findings, no waivers, no rendering
         slot = pipeline.ReportSlot(request, render_opts)
@@ -191,7 +199,7 @@ def run(args) -> int:
     finally:
         if progress is not None:
             progress.close()
-    return report(args, result, renderer, color, slot)
+    return report(args, result, renderer, options, slot)
 
 
 def _copy_from(src):
@@ -214,7 +222,7 @@ def _emit(args, write) -> None:
         sys.stdout.flush()
 
 
-def report(args, result, renderer, color=False, slot=None) -> int:
+def report(args, result, renderer, options: ReportOptions, slot=None) -> int:
     """Write the report of ``result`` as the arguments ask (or the baseline file), through
     the report cache when ``slot`` (a :class:`hazlint.pipeline.ReportSlot`) is given; the exit
     code."""
@@ -225,13 +233,8 @@ def report(args, result, renderer, color=False, slot=None) -> int:
                            result.root)
         print(f"hazlint: recorded {n} finding(s) in {args.write_baseline}", file=sys.stderr)
         return EXIT_CLEAN
-    if args.format == "text":
-        def write(stream):
-            renderer.write(result, stream, color=color, evidence=not args.brief,
-                           ascii_only=bool(getattr(args, "ascii", False)))
-    else:
-        def write(stream):
-            renderer.write(result, stream)
+    def write(stream):
+        renderer.write(result, stream, options)
     # the report is written once, into the cache, and copied from there
     kept = slot.store(result, write) if slot is not None else None
     if kept is None:

@@ -60,11 +60,9 @@ def _run_lint(args, request) -> int:
     the same findings, headlines, severities and formats."""
     from . import check
     from .. import pipeline
-    renderer = check._renderer(args.format)
+    renderer = check._renderer(check.format_name(args, request.config))
     result = pipeline.lint(request)
-    color = args.format == "text" and not args.output and check.use_color(args.color,
-                                                                             sys.stdout)
-    code = check.report(args, result, renderer, color)
+    code = check.report(args, result, renderer, check.report_options(args, renderer))
     from ..analysis import prove as P
     from ..findings.evidence import Evidence
     from ..plugins import rule_for
