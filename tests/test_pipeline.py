@@ -199,3 +199,18 @@ def test_prove_transition_names_changes_outside_the_change_model(tmp_path):
     code, out, _ = _cli(["prove", "--no-cache", "--transition", "a-,b=1,c=1", "--target",
                          "y"], tmp_path)
     assert "note:" not in out and "static-1-hazard" in out
+
+
+def test_define_without_value_is_one_as_in_iverilog(tmp_path):
+    # Icarus Verilog (a reference simulator, not a lint product): `iverilog -DW` defines W as 1;
+    # the same design through hazlint's -D W must read `W as 1 too (a & 1 is a wire, no gate),
+    # and W=0 gives the constant 0 (no gate either), while W=a2 keeps the AND gate
+    import json
+    (tmp_path / "m.v").write_text("module m(input a, input a2, output y);\n"
+                                  "  assign y = a & `W;\nendmodule\n")
+    counts = {}
+    for d in ("W", "W=0", "W=a2"):
+        code, out, err = _cli(["summary", "--format", "json", "-D", d, "m.v"], tmp_path)
+        assert code == 0, err
+        counts[d] = json.loads(out)["gates"]
+    assert counts == {"W": 0, "W=0": 0, "W=a2": 1}

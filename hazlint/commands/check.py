@@ -30,7 +30,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("-I", "--include-dir", action="append", metavar="DIR", dest="include_dirs",
                    help="`include search directory (repeatable)")
     p.add_argument("-D", "--define", action="append", metavar="NAME[=VALUE]", dest="defines",
-                   help="preprocessor macro (repeatable)")
+                   help="preprocessor macro; NAME alone is defined as 1, as with "
+                        "iverilog -D (repeatable)")
     p.add_argument("--select", action="append", metavar="RULES",
                    help="run only these rules (comma-separated, repeatable)")
     p.add_argument("--ignore", action="append", metavar="RULES",
@@ -96,10 +97,10 @@ def add_frontend_argument(p) -> None:
 def parse_defines(items):
     out = {}
     for item in items or ():
-        k, _, v = item.partition("=")
+        k, eq, v = item.partition("=")
         if not k:
             raise HazlintError(f"bad --define '{item}' (expected NAME or NAME=VALUE)")
-        out[k] = v
+        out[k] = v if eq else "1"      # NAME alone: 1 (iverilog -D and C compilers do the same)
     return out
 
 

@@ -14,7 +14,8 @@ def add_arguments(p) -> None:
     p.add_argument("-I", "--include-dir", action="append", dest="include_dirs",
                    help="`include search directory (repeatable; replaces the configured ones)")
     p.add_argument("-D", "--define", action="append", dest="defines",
-                   metavar="NAME[=VALUE]", help="preprocessor macro (repeatable)")
+                   metavar="NAME[=VALUE]", help="preprocessor macro; NAME alone is defined as 1, as with "
+                        "iverilog -D (repeatable)")
     p.add_argument("--liberty", action="append", default=[], dest="liberty",
                    help="Liberty (.lib) file with the cells the netlist uses (configuration "
                         "'liberty'; repeatable)")
