@@ -108,8 +108,7 @@ class OptionTable:
 
 
 # ---------------------------------------------------------------------------------------------
-# hazard prover (configuration table ``prove``); analysis.prove.DEFAULTS holds the same
-# defaults (tests/test_options.py keeps the two equal)
+# hazard prover (configuration table ``prove``); analysis.prove.DEFAULTS is PROVE.defaults()
 
 PROVE_OPTIONS: tuple[Option, ...] = (
     Option("node_budget", int, 100_000, "BDD live nodes per check", minimum=0),

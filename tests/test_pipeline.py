@@ -170,18 +170,6 @@ def test_option_values_are_checked_with_key_and_line(tmp_path, text, words):
     assert words in ei.value.message and ei.value.line == 2
 
 
-def test_prover_option_declarations_match_the_prover():
-    # the prover's own defaults (hazlint.analysis.prove.DEFAULTS) are what it runs with; the
-    # typed declarations must name the same options with the same defaults and types
-    from hazlint.analysis.prove import DEFAULTS
-    from hazlint.options import PROVE
-    assert PROVE.defaults() == DEFAULTS
-    for o in PROVE.options:
-        assert isinstance(DEFAULTS[o.name], o.type) or (o.type is float and isinstance(
-            DEFAULTS[o.name], int)), o.name
-        assert o.help
-
-
 def test_sdf_corners_match_the_sdf_reader():
     from hazlint.delays.sdf_syntax import CORNERS
     from hazlint.options import SDF_CORNER, SDF_CORNERS

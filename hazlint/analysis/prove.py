@@ -25,6 +25,7 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from ..netlist.graph import SOURCE_KINDS
+from ..options import PROVE
 from . import fixes as _fixes
 from .batch import classify_batch, prove_symbolic  # noqa: F401 - prove_symbolic: public name
 from .symbolic import Budget, HazardProof, bdd_hazards
@@ -36,27 +37,8 @@ from .timedsim import DelayAssignment, Glitch, replay
 from .loops import classify_loop
 from .waves import timing_diagram
 
-DEFAULTS: dict[str, Any] = {
-    "node_budget": 100_000,      # BDD live nodes per check
-    "conflict_budget": 20_000,   # SAT conflicts per query
-    "check_time": 2.0,           # seconds per check (BDD + SAT)
-    "sim_vectors": 256,          # random side-input vectors simulated at once
-    "max_sources": 12,           # changing sources tried per finding
-    "max_sinks": 3,              # sinks classified per reconvergence finding
-    "max_findings": 200,         # findings per run given timed replay, delay search, waveform
-    "search_trials": 150,        # timed simulations when searching a glitching delay assignment
-    "search_events": 500_000,    # simulation events per delay search, over its trials (0: none)
-    "bdd_circuit_time": 10.0,    # seconds for the shared BDD of a batched pass, then SAT
-    "batch_time": 120.0,         # seconds for the SAT part of a batched pass (0: no limit)
-    "engine": "sat",             # batched pass: "sat" (one incremental solver) or "bdd" (a
-                                 # shared BDD, then SAT past its budget)
-    "max_changes": 0,            # glitch-sensitive sinks: largest set of simultaneously
-                                 # changing sources examined (0: every set the model allows)
-    "engine_sources": 16,        # ... cones with more sources go to SAT without a BDD try
-    "show_proven_absent": False,
-    "waveforms": True,
-    "seed": 0,
-}
+# the prover's options, their types, defaults and docs: hazlint.options.PROVE_OPTIONS
+DEFAULTS: dict[str, Any] = PROVE.defaults()
 
 CLASS_ORDER = ("static-1-hazard", "static-0-hazard", "dynamic-hazard")
 
