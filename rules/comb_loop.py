@@ -54,6 +54,7 @@ from collections import deque
 
 
 from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.findings.words import TimeUnit
 from hazlint.netlist.walks import cyclic_components
 from hazlint.plugins import Option
 
@@ -249,10 +250,13 @@ def _waveform(context, comp, c) -> list[str]:
     if not loop:
         return []
     nets = moved + loop
-    head = ("timed simulation of the loop alone (its delays, inputs changed at 10): "
+    unit = TimeUnit.of(context.graph)
+    head = (f"timed simulation of the loop alone (its delays, inputs changed at "
+            f"{unit.words(10)}): "
             + ("still changing when the simulation stopped" if tr.truncated else
                f"{max(len(tr.waves[n]) - 1 for n in loop)} changes"))
-    return [head] + timing_diagram(tr, nets, {n: context.net_name(n) for n in nets})
+    return [head] + timing_diagram(tr, nets, {n: context.net_name(n) for n in nets},
+                                   unit=unit)
 
 
 def _latch_loops(design, context, opts, comb_nodes):

@@ -50,10 +50,10 @@ import heapq
 from hazlint import budget
 from hazlint.diagnostics import Diagnostic, Severity
 
-from hazlint.findings.words import count, gate_words
+from hazlint.findings.words import TimeUnit, count, gate_words
 from hazlint.plugins import Option
 
-from ._common import name_list, num, stable_key
+from ._common import name_list, stable_key
 
 ID = "unbalanced-reconvergence"
 SUMMARY = "reconvergent fanout whose branches arrive at different times (static/dynamic hazard risk)"
@@ -277,7 +277,8 @@ class _Fields:
         """The evidence that places the finding (stem, sinks, skew) without its paths or text:
         what :mod:`hazlint.findings.fold` reads to group findings it does not all show."""
         stem, _gate, r, sinks = self.f.facts()[:4]
-        return {"stem_node": stem, "sink_nodes": list(sinks), "skew": r.skew}
+        return {"stem_node": stem, "sink_nodes": list(sinks), "skew": r.skew,
+                "time_unit": TimeUnit.of(self.context.graph).field}
 
     def __call__(self) -> dict:
         f = self.f
@@ -306,16 +307,17 @@ def _fields(context, stem, gate, r, sinks, path) -> dict:
     fast_net = context.net_name(ins[r.fast_pin]) if r.fast_pin < len(ins) else fast_pin
     where = gate_words(d.get("cell") or d.get("op") or "",
                        (d.get("instance") or gate).rsplit(".", 1)[-1])
-    msg = (f"fanout of {stem_name} reconverges at {where} with skew {num(r.skew)} "
-           f"(through {slow_net} at {num(r.slow_arrival)}, through {fast_net} at "
-           f"{num(r.fast_arrival)}), {reach}")
+    unit = TimeUnit.of(g)
+    msg = (f"fanout of {stem_name} reconverges at {where} with skew {unit.words(r.skew)} "
+           f"(through {slow_net} at {unit.words(r.slow_arrival)}, through {fast_net} at "
+           f"{unit.words(r.fast_arrival)}), {reach}")
     fast_ids, fast_hops = path(False, context.hop)
     slow_ids, slow_hops = path(True, context.hop)
     notes = (f"stem {stem_name}" + (f" ({context.where(stem)})"
                                     if g.nodes[stem].get("path") else ""),
-             "fast path: " + _path_text(fast_hops),
-             "slow path: " + _path_text(slow_hops),
-             f"skew {num(r.skew)}; worst reconvergence of this stem for "
+             "fast path: " + _path_text(fast_hops, unit),
+             "slow path: " + _path_text(slow_hops, unit),
+             f"skew {unit.words(r.skew)}; worst reconvergence of this stem for "
              f"{name_list(sink_names, 4)}")
     return dict(
         message=msg,
@@ -323,7 +325,7 @@ def _fields(context, stem, gate, r, sinks, path) -> dict:
                   "skew": r.skew,
                   "fast_path": fast_ids, "slow_path": slow_ids,
                   "fast_arrival": r.fast_arrival, "slow_arrival": r.slow_arrival,
-                  "slow_pin": slow_pin, "fast_pin": fast_pin,
+                  "slow_pin": slow_pin, "fast_pin": fast_pin, "time_unit": unit.field,
                   "key": stable_key("reconv", stem, gate)},
         notes=notes, flows=(fast_hops, slow_hops),
         fix=("balance the branch delays, add the consensus term that holds the output "
@@ -356,10 +358,14 @@ def _incomplete(context, left, analysed: int, work_budget: float | None) -> Diag
              + ", narrow scope to 'async', or lint the block's sub-modules one at a time"))
 
 
-def _path_text(hops, keep: int = 4) -> str:
-    """``a@0 -> b@1 -> ...``; long paths show their first and last hops and the gate count."""
-    parts = [f"{h.net}@{num(h.arrival)}" for h in
+def _path_text(hops, unit: TimeUnit, keep: int = 4) -> str:
+    """``a@0 -> b@1 -> ... (2 gates, 2 unit delays)``: arrival times in ``unit``, the path's
+    delay at the end; long paths show their first and last hops and the gate count."""
+    parts = [f"{h.net}@{unit.number(h.arrival)}" for h in
              (hops if len(hops) <= 2 * keep else hops[:keep] + hops[-keep:])]
     if len(hops) > 2 * keep:
         parts.insert(keep, f"... {len(hops) - 2 * keep} more ...")
-    return " -> ".join(parts) + f" ({count(len(hops) - 1, 'gate')})"
+    span = ""
+    if hops and hops[-1].arrival is not None and hops[0].arrival is not None:
+        span = ", " + unit.words(hops[-1].arrival - hops[0].arrival)
+    return " -> ".join(parts) + f" ({count(len(hops) - 1, 'gate')}{span})"

@@ -12,6 +12,7 @@ from typing import Any, Mapping, Sequence
 from .. import budget
 from ..diagnostics import Diagnostic, Severity
 from ..netlist.graph import ASYNC_ROLES
+from ..findings.words import TimeUnit
 from ..netlist.walks import behind_loops
 from . import workers
 from .changes import ChangeModel
@@ -382,7 +383,9 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed:
     msg = f"{label} at {tname}: {witness_text(graph, c)}"
     if c.function_hazard:
         msg += " (function hazard)"
-    gt = glitch_text(c)
+    unit = TimeUnit.of(graph)
+    evidence["time_unit"] = unit.field      # of the glitch's and the delays' numbers
+    gt = glitch_text(c, unit)
     notes.append(f"proof: {c.reason}")
     others = [k2 for k2 in c.present_kinds if k2 != kind]
     if others:

@@ -5,8 +5,9 @@ headlines, severities and formats) with proven-absent findings on request
 (``--show-proven-absent``) and the witnesses written as waveform files (``--vcd``, ``--svg``). ``--transition`` checks a change given by the user instead, e.g.
 ``--transition "two_hand_left+,two_hand_right+,guard_closed=1"`` (``+`` rises, ``-`` falls,
 ``=v`` holds), at every output and glitch-sensitive sink (or ``--target``), and tells a function
-hazard from a logic hazard. ``--vcd``/``--svg`` write the waveforms of the first proven hazard
-(further ones get ``-2``, ``-3``... before the extension).
+hazard from a logic hazard. ``--vcd`` writes the waveforms of each proven hazard (the first
+to the name given, further ones with ``-2``, ``-3``... before the extension), ``--svg`` one
+image with a panel per proven hazard; times are in the design's unit.
 """
 from __future__ import annotations
 
@@ -16,6 +17,7 @@ import sys
 from typing import Any
 
 from ..diagnostics import Severity
+from ..findings.words import TimeUnit
 from ..errors import EXIT_CLEAN, EXIT_FINDINGS, HazlintError
 from .check import add_frontend_argument
 
@@ -68,14 +70,14 @@ def _run_lint(args) -> int:
     code = check._report(args, result, renderer, color)
     from ..analysis import prove as P
     g = result.design.graph
-    k = 0
+    shown = []
     for d in result.diagnostics:
         ev = d.evidence if isinstance(d.evidence, dict) else {}
         c = classification_from_evidence(g, ev) if ev.get("classification") else None
         if c is not None and c.proven:
-            _write_waves(args, k, d.message, g, c, ev.get("waveform_nets") or
-                         P.waveform_nets(g, c, ev))
-            k += 1
+            shown.append((d.message, g, c, ev.get("waveform_nets") or
+                          P.waveform_nets(g, c, ev)))
+    _write_waves(args, shown)
     return code
 
 
@@ -111,8 +113,7 @@ def _run(args, config) -> int:
             _print(out, g, c, f"{P.net_label(g, t)} for {spec}", nets, args.ascii, sev)
             if c.proven:
                 shown.append((f"{P.net_label(g, t)}: {c.classification}", g, c, nets))
-    for k, (title, g, c, nets) in enumerate(shown):
-        _write_waves(args, k, title, g, c, nets)
+    _write_waves(args, shown)
     level = args.fail_on or config.fail_on
     if worst is None or level == "never":
         return EXIT_CLEAN
@@ -252,7 +253,7 @@ def _print(out, g, c, title, nets, ascii_only, sev):
     if c.proven:
         out.write(f"    witness: {P.witness_text(g, c)}\n")
         out.write(f"    proof: {c.reason}\n")
-        gt = P.glitch_text(c)
+        gt = P.glitch_text(c, TimeUnit.of(g))
         if gt:
             out.write(f"    timed simulation: {gt}\n")
         if c.assignment is not None and c.how != "nominal":
@@ -265,27 +266,31 @@ def _print(out, g, c, title, nets, ascii_only, sev):
         out.write(f"    {c.reason}\n")
 
 
-def _write_waves(args, k, title, g, c, nets):
+def _write_waves(args, shown):
+    """The witnesses ``shown`` ((title, graph, classification, nets) each) as waveform files:
+    one VCD per witness (``-2``, ``-3``... before the extension from the second on), one SVG
+    with a panel per witness. Times are in the design's unit."""
     from ..analysis import prove as P
     from ..analysis import waves
-    if not (args.vcd or args.svg):
+    if not (args.vcd or args.svg) or not shown:
         return
-    nets = list(dict.fromkeys(n for n in nets if n in g))
-    tr = P.witness_trace(g, c, nets)
-    names = {n: P.net_label(g, n) for n in nets}
-
-    def name(path):
-        if k == 0:
-            return path
-        base, ext = os.path.splitext(path)
-        return f"{base}-{k + 1}{ext}"
-    if args.vcd:
-        with open(name(args.vcd), "w") as fh:
-            waves.write_vcd(tr, nets, names, fh)
-    if args.svg:
+    panels = []
+    for k, (title, g, c, nets) in enumerate(shown):
+        nets = list(dict.fromkeys(n for n in nets if n in g))
+        tr = P.witness_trace(g, c, nets)
+        names = {n: P.net_label(g, n) for n in nets}
+        if args.vcd:
+            path = args.vcd
+            if k:
+                base, ext = os.path.splitext(path)
+                path = f"{base}-{k + 1}{ext}"
+            with open(path, "w") as fh:
+                waves.write_vcd(tr, nets, names, fh, unit=TimeUnit.of(g))
         hl = None
         if c.glitch is not None and c.glitch.time is not None:
             lead = P.witness_lead(c)
             hl = (lead + c.glitch.time, lead + c.glitch.time + (c.glitch.width or 0))
-        with open(name(args.svg), "w") as fh:
-            fh.write(waves.svg(tr, nets, names, title=title, highlight=hl))
+        panels.append(waves.Panel(tr, nets, names, title, hl))
+    if args.svg:
+        with open(args.svg, "w") as fh:
+            fh.write(waves.svg_panels(panels, TimeUnit.of(shown[0][1])))

@@ -20,6 +20,7 @@ from dataclasses import replace
 from typing import Callable, Iterable, Mapping, Sequence
 
 from ..diagnostics import Diagnostic, sort_diagnostics
+from .words import evidence_unit
 
 HAZARD_KINDS = frozenset(("unbalanced-reconvergence", "unregistered-async", "static-1-hazard",
                           "static-0-hazard", "dynamic-hazard"))
@@ -145,7 +146,10 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str])
              "skew": _ev(m).get("skew"), "path": m.location.path, "line": m.location.line}
             for m in stems[:MAX_LISTED]]
         evidence["other_stem_count"] = len(stems)
-        shown = [f"{s['stem']} (skew {_num(s['skew'])})" for s in evidence["other_stems"]
+        if "time_unit" in _ev(stems[0]):      # the unit of the skews listed
+            evidence.setdefault("time_unit", _ev(stems[0])["time_unit"])
+        unit = evidence_unit(evidence)
+        shown = [f"{s['stem']} (skew {unit.words(s['skew'])})" for s in evidence["other_stems"]
                  [:MAX_STEMS]]
         rest = len(stems) - len(shown)
         word = "stem" if len(stems) == 1 else "stems"
@@ -154,9 +158,3 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str])
     severity = max(m.severity for m in members)
     return replace(primary, severity=severity, evidence=evidence, notes=tuple(notes),
                    flows=flows, fix=fix)
-
-
-def _num(x) -> str:
-    if not isinstance(x, (int, float)):
-        return "?"
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"
