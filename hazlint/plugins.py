@@ -32,13 +32,16 @@ _ID_RE = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
 
 @dataclass(frozen=True)
 class Option:
-    """A typed rule option. ``type`` is one of bool, int, float, str, list (of str)."""
+    """A typed rule option. ``type`` is one of bool, int, float, str, list (of str).
+    ``old_name_of`` names the option this one is an old spelling of: a value given for it
+    goes to that option, with a deprecation note, and ``explain`` lists it only there."""
 
     name: str
     type: type
     default: Any
     help: str
     choices: tuple = ()
+    old_name_of: str = ""
 
     def coerce(self, value: Any, where: str = "") -> Any:
         t = self.type
@@ -64,8 +67,9 @@ class Option:
 
     @property
     def type_name(self) -> str:
-        return {bool: "bool", int: "int", float: "float", str: "string",
-                list: "list of strings"}[self.type]
+        """The option's type in the configuration file's words (TOML's type names)."""
+        return {bool: "boolean", int: "integer", float: "float", str: "string",
+                list: "array of strings"}[self.type]
 
 
 @dataclass(frozen=True)
@@ -95,7 +99,14 @@ class Rule:
             if k not in known:
                 raise ConfigError(f"{where}rule '{self.id}' has no option '{k}' (options: "
                                   f"{', '.join(sorted(known)) or 'none'})")
-            out[k] = self.option(k).coerce(v, f"{where}rule '{self.id}': ")
+            o = self.option(k)
+            out[k] = o.coerce(v, f"{where}rule '{self.id}': ")
+            if o.old_name_of:
+                from .findings.names import deprecated
+                deprecated(f"[rules.{self.id}] {k}", f"[rules.{self.id}] {o.old_name_of}",
+                           where.rstrip(": "))
+                if o.old_name_of not in (given or {}):
+                    out[o.old_name_of] = out[k]
         return out
 
 

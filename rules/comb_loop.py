@@ -46,7 +46,8 @@ How to fix
     Break the feedback with a register clocked by the design clock, or remove the path that was
     added by mistake. If storage is intended, use a library latch or flip-flop cell in
     synchronous logic; in asynchronous logic keep the element, check its hold condition and
-    drive its inputs from hazard-free logic, and accept the finding with a waiver that says why.
+    drive its inputs from hazard-free logic, and accept the finding with the reason
+    (``// hazlint accept(combinational-loop): reason`` on the reported line).
 """
 from __future__ import annotations
 
@@ -73,7 +74,8 @@ OPTIONS = (
            "severity of other loops that hold state, and of loops that settle; oscillating "
            "loops are errors", _LEVELS),
     Option("storage_pair_severity", str, "",
-           "old name of element_severity (kept for existing configurations)", ("",) + _LEVELS),
+           "old name of element_severity (kept for existing configurations)", ("",) + _LEVELS,
+           old_name_of="element_severity"),
     Option("max_inputs", int, 12,
            "loops with more input nets than this are not classified (reported as errors)"),
     Option("latch_loops", bool, True,
@@ -199,7 +201,7 @@ def _verdict(context, c, comp, cycle, loop_txt, opts):
                 more)
     level = opts["storage_severity"]
     if c.element:
-        level = opts["storage_pair_severity"] or opts["element_severity"]
+        level = opts["element_severity"]
     sev = severity(level)
     if c.behaviour == "settles":
         return ("combinational-loop", sev,

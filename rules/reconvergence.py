@@ -7,7 +7,9 @@ What it finds
     times come from the design's delay model (per-pin rise/fall min/max delays, SDF when given) by
     dynamic programming over a topological order of the stem's fanout cone; the fastest and the
     slowest path are rebuilt from back-pointers, never enumerated. For each stem and each sink in
-    scope only the worst reconvergence is reported, at the reconvergence gate.
+    scope only the worst reconvergence is reported, at the reconvergence gate. Times are in the
+    unit of the delays the design was given (its timescale, the Liberty time_unit, the SDF
+    TIMESCALE), and counted in unit delays when it was given none.
 
 Why it matters
     While the two branches disagree the gate can produce a short pulse (a static or dynamic
@@ -23,7 +25,7 @@ Example
           not g0 (sn, s);          // one branch of s is one gate slower
           and g1 (t0, a, s);
           and g2 (t1, b, sn);
-          or  g3 (y, t0, t1);      // reported here: s reconverges with skew 1
+          or  g3 (y, t0, t1);      // reported here: s reconverges with skew 1 unit delay
         endmodule
 
 How to fix
@@ -36,7 +38,7 @@ Options
     sink, the default), ``outputs`` (those and every primary output), ``all`` (every sink,
     register data pins included). Outside the default scope a pulse is harmless when timing is
     met; the summary line counts the places left out. Findings at one sink fold into one.
-    ``min_skew``: report when the skew reaches this many time units (default 0: any skew).
+    ``min_skew``: report when the skew reaches this many delay units (default 0: any skew).
     ``work_budget``: an upper bound on the arrival-time work of one run, in node visits (each
     stem costs at most the nodes after it in topological order; default 1e9: every EPFL
     benchmark but the 100k-node divider fits; 0: no limit). Stems that reach a glitch-sensitive sink go first. Past the budget
@@ -65,7 +67,8 @@ OPTIONS = (
            "outputs (those and every primary output), all (every sink, register data pins "
            "included); also --scope on the command line", ("async", "outputs", "all")),
     Option("min_skew", float, 0.0,
-           "report when the branch skew reaches this value (0: any positive skew)"),
+           "report when the branch skew reaches this value, in the design's delay unit "
+           "(unit delays when none is given; 0: any positive skew)"),
     Option("work_budget", float, 1e9,
            "arrival-time work per run in node visits; stems past it are reported as not "
            "analysed (0: no limit)"),
