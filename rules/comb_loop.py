@@ -55,7 +55,7 @@ from collections import deque
 
 
 from hazlint.diagnostics import Diagnostic, Severity
-from hazlint.findings.words import TimeUnit
+from hazlint.findings.words import TimeUnit, count
 from hazlint.netlist.walks import cyclic_components
 from hazlint.plugins import Option
 
@@ -256,7 +256,7 @@ def _waveform(context, comp, c) -> list[str]:
     head = (f"timed simulation of the loop alone (its delays, inputs changed at "
             f"{unit.words(10)}): "
             + ("still changing when the simulation stopped" if tr.truncated else
-               f"{max(len(tr.waves[n]) - 1 for n in loop)} changes"))
+               count(max(len(tr.waves[n]) - 1 for n in loop), "change")))
     return [head] + timing_diagram(tr, nets, {n: context.net_name(n) for n in nets},
                                    unit=unit)
 

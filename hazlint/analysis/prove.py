@@ -149,7 +149,7 @@ def prove_transition(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple
                 break
         out[k] = HazardProof(k, "present", witness=pick, method="simulation",
                              function_hazard=is_fh,
-                             reason=f"found by ternary simulation of {width} vectors")
+                             reason=f"found by ternary simulation of {count(width, 'vector')}")
     rest = [k for k in kinds if k not in out]
     if not rest:
         return out
