@@ -175,12 +175,13 @@ def run_rules(design, rules: Sequence[Rule], context: "AnalysisContext",
 def _not_run(design, rule: Rule) -> Diagnostic:
     """The finding that says a rule did not run because the time budget was used up."""
     from .diagnostics import Location
+    from .findings.evidence import NotRunEvidence
     files = list(getattr(design, "files", None) or [])
     return Diagnostic(
         rule=rule.id, kind="analysis-incomplete", severity=Severity.WARNING,
         location=Location(files[0] if files else "", 1, 1), instance=getattr(design, "top", ""),
         message=f"rule '{rule.id}' did not run: {budget.reason()}",
-        evidence={"reason": budget.reason(), "key": f"not-run:{rule.id}"},
+        evidence=NotRunEvidence(reason=budget.reason(), key=f"not-run:{rule.id}"),
         fix="raise the time budget (--time-budget SECONDS, or time_budget in the "
             "configuration; 0: none), or lint a smaller part of the design")
 

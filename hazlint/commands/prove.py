@@ -69,14 +69,18 @@ def _run_lint(args) -> int:
                                                                              sys.stdout)
     code = check._report(args, result, renderer, color)
     from ..analysis import prove as P
+    from ..findings.evidence import Evidence
+    from ..plugins import rule_for
+    from ..findings.requests import request_of
     g = result.design.graph
     shown = []
     for d in result.diagnostics:
-        ev = d.evidence if isinstance(d.evidence, dict) else {}
-        c = classification_from_evidence(g, ev) if ev.get("classification") else None
+        ev = d.evidence
+        verdict = ev.verdict if isinstance(ev, Evidence) else None
+        c = P.classification_of(g, verdict, ev.sink) if verdict is not None else None
         if c is not None and c.proven:
-            shown.append((d.message, g, c, ev.get("waveform_nets") or
-                          P.waveform_nets(g, c, ev)))
+            shown.append((d.message, g, c, verdict.waveform_nets or P.waveform_nets(
+                g, c, request_of(rule_for(d), d, ev))))
     _write_waves(args, shown)
     return code
 
@@ -185,36 +189,6 @@ def _node(design, name, item):
         raise HazlintError(f"--transition: '{name}' is not an input or register output",
                            construct=item)
     return n
-
-
-def classification_from_evidence(g, ev):
-    """Rebuild the witness of a refined finding (enough to replay and draw it)."""
-    from ..analysis.prove import Classification
-    from ..analysis.timedsim import DelayAssignment
-    w = ev.get("witness")
-    if not w or "before_nodes" not in w:
-        return None
-    before, after = dict(w["before_nodes"]), dict(w["after_nodes"])
-    changes = {n: (before[n], after[n]) for n in before if before[n] != after.get(n)}
-    target = None
-    for key in ("sink_node",):
-        target = ev.get(key)
-    if target is None:
-        sinks = ev.get("sink_nodes") or []
-        nets = ev.get("waveform_nets") or []
-        target = nets[-1] if nets else (sinks[0] if sinks else None)
-    if target is None or target not in g:
-        return None
-    c = Classification(target, ev.get("classification", ""), changes, before, after)
-    gl = ev.get("glitch") or {}
-    if gl.get("delays"):
-        c.assignment = DelayAssignment.from_json(gl["delays"])
-    if gl.get("occurs"):
-        from ..analysis.timedsim import Glitch
-        c.glitch = Glitch(True, [tuple(x) for x in gl.get("changes", [])], gl.get("time"),
-                          gl.get("width"), gl.get("mode", "inertial"))
-        c.how = gl.get("how", "")
-    return c
 
 
 def _moving_nets(g, c, limit=6):

@@ -114,9 +114,10 @@ def design_codec() -> Codec:
     if _CODEC is None:
         from ..netlist.design import BlackBox, Register
         from ..diagnostics import Diagnostic, Hop, Location, Related, Severity
+        from ..findings.evidence import CLASSES as EVIDENCE
         from ..netlist.library import Delay
-        _CODEC = Codec([Delay, Location, Hop, Related, Diagnostic, Severity, Register, BlackBox],
-                       shared=[Delay, Location, Hop])
+        _CODEC = Codec([Delay, Location, Hop, Related, Diagnostic, Severity, Register, BlackBox,
+                        *EVIDENCE], shared=[Delay, Location, Hop])
     return _CODEC
 
 
