@@ -13,7 +13,7 @@ from dataclasses import dataclass, field, replace
 from typing import Any, Iterable, Mapping
 
 from .findings.public import public_evidence
-from .findings.words import gate_words
+from .findings.words import UNIT_DELAYS, TimeUnit, gate_words
 
 
 class Severity(enum.IntEnum):
@@ -104,10 +104,11 @@ class Hop:
             d["arrival"] = self.arrival
         return d
 
-    def describe(self) -> str:
+    def describe(self, unit: TimeUnit = UNIT_DELAYS) -> str:
+        """``net @arrival via <gate> (file:line)``, the arrival a number in ``unit``."""
         where = f" ({self.location.path}:{self.location.line})" if self.location else ""
         via = f" {gate_words(self.cell, self.gate)}" if self.gate else ""
-        t = f" @{_num(self.arrival)}" if self.arrival is not None else ""
+        t = f" @{unit.number(self.arrival)}" if self.arrival is not None else ""
         return f"{self.net}{t} via{via}{where}" if via else f"{self.net}{t}{where}"
 
     @classmethod
@@ -247,12 +248,6 @@ def _relativise(obj: Any, relpath) -> Any:
     if isinstance(obj, (list, tuple)):
         return [_relativise(v, relpath) for v in obj]
     return obj
-
-
-def _num(x: float | None) -> str:
-    if x is None:
-        return "?"
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"
 
 
 def sort_diagnostics(diags: Iterable[Diagnostic]) -> list[Diagnostic]:

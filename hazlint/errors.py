@@ -9,14 +9,6 @@ EXIT_INPUT_ERROR = 2
 EXIT_INTERNAL_ERROR = 3    # a bug in hazlint itself
 
 
-def number_text(v) -> str:
-    """An integer for a message: as it is when short, else its size (Python refuses to print
-    an int of more than 4300 digits, and nobody wants to read one)."""
-    if isinstance(v, int) and not isinstance(v, bool) and abs(v) >= 10 ** 30:
-        return f"{'-' if v < 0 else ''}a {v.bit_length()}-bit number"
-    return str(v)
-
-
 class HazlintError(Exception):
     """A problem with the user's input or invocation.
 

@@ -19,14 +19,18 @@ from typing import Any, Mapping
 
 from .errors import ConfigError
 
-_TYPE_NAMES = {bool: "bool", int: "int", float: "float", str: "string", list: "list of strings"}
+# the types in the configuration file's words (TOML's type names)
+_TYPE_NAMES = {bool: "boolean", int: "integer", float: "float", str: "string",
+               list: "array of strings"}
 
 
 @dataclass(frozen=True)
 class Option:
     """One typed option. ``type`` is bool, int, float, str or list (of str); ``choices`` (when
     given) are the allowed values; ``minimum`` (numbers) the smallest one. A default of None
-    means "not set" (the run then decides)."""
+    means "not set" (the run then decides). ``old_name_of`` names the option this one is an
+    old spelling of: a value given for it goes to that option, with a deprecation note, and
+    ``explain`` lists it only there."""
 
     name: str
     type: type
@@ -34,6 +38,7 @@ class Option:
     help: str
     choices: tuple = ()
     minimum: float | None = None
+    old_name_of: str = ""
 
     @property
     def doc(self) -> str:

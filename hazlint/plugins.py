@@ -66,7 +66,14 @@ class Rule:
             if k not in known:
                 raise ConfigError(f"{where}rule '{self.id}' has no option '{k}' (options: "
                                   f"{', '.join(sorted(known)) or 'none'})")
-            out[k] = self.option(k).coerce(v, f"{where}rule '{self.id}': ")
+            o = self.option(k)
+            out[k] = o.coerce(v, f"{where}rule '{self.id}': ")
+            if o.old_name_of:
+                from .findings.names import deprecated
+                deprecated(f"[rules.{self.id}] {k}", f"[rules.{self.id}] {o.old_name_of}",
+                           where.rstrip(": "))
+                if o.old_name_of not in (given or {}):
+                    out[o.old_name_of] = out[k]
         return out
 
 

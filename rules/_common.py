@@ -21,7 +21,3 @@ def name_list(names, limit: int = 6) -> str:
     if len(names) <= limit:
         return ", ".join(names)
     return ", ".join(names[:limit]) + f", ... ({len(names) - limit} more)"
-
-
-def num(x: float) -> str:
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"

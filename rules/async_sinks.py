@@ -6,8 +6,8 @@ What it finds
     set/reset pins of registers and latches, clock pins, latch enables, three-state enables, and
     output ports marked asynchronous (configuration ``async_outputs`` or the Verilog attribute
     ``(* hazlint_async *)`` on the port). The evidence lists the cone's sources and every
-    reconvergent stem inside it. Inputs declared synchronous or quasi-static (configuration
-    ``static_inputs``, or ``(* hazlint_static *)`` on the port) and
+    reconvergent stem inside it. Static inputs (quasi-static: they do not change while the
+    circuit runs; configuration ``static_inputs``, or ``(* hazlint_static *)`` on the port) and
     constants do not count as sources of glitches.
 
     The hazard prover then decides each such pin over every transition its sources can make

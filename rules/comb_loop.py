@@ -46,7 +46,8 @@ How to fix
     Break the feedback with a register clocked by the design clock, or remove the path that was
     added by mistake. If storage is intended, use a library latch or flip-flop cell in
     synchronous logic; in asynchronous logic keep the element, check its hold condition and
-    drive its inputs from hazard-free logic, and accept the finding with a waiver that says why.
+    drive its inputs from hazard-free logic, and accept the finding with the reason
+    (``// hazlint accept(combinational-loop): reason`` on the reported line).
 """
 from __future__ import annotations
 
@@ -56,6 +57,7 @@ from collections import deque
 from hazlint.diagnostics import Diagnostic, Severity
 from hazlint.findings.evidence import LoopEvidence
 from hazlint.findings.requests import LoopBehaviour
+from hazlint.findings.words import TimeUnit, count
 from hazlint.netlist.walks import cyclic_components
 from hazlint.plugins import Option
 
@@ -74,7 +76,8 @@ OPTIONS = (
            "severity of other loops that hold state, and of loops that settle; oscillating "
            "loops are errors", _LEVELS),
     Option("storage_pair_severity", str, "",
-           "old name of element_severity (kept for existing configurations)", ("",) + _LEVELS),
+           "old name of element_severity (kept for existing configurations)", ("",) + _LEVELS,
+           old_name_of="element_severity"),
     Option("max_inputs", int, 12,
            "loops with more input nets than this are not classified (reported as errors)"),
     Option("latch_loops", bool, True,
@@ -200,7 +203,7 @@ def _verdict(context, c, comp, cycle, loop_txt, opts):
                 more)
     level = opts["storage_severity"]
     if c.element:
-        level = opts["storage_pair_severity"] or opts["element_severity"]
+        level = opts["element_severity"]
     sev = severity(level)
     if c.behaviour == "settles":
         return ("combinational-loop", sev,
@@ -251,10 +254,13 @@ def _waveform(context, comp, c) -> list[str]:
     if not loop:
         return []
     nets = moved + loop
-    head = ("timed simulation of the loop alone (its delays, inputs changed at 10): "
+    unit = TimeUnit.of(context.graph)
+    head = (f"timed simulation of the loop alone (its delays, inputs changed at "
+            f"{unit.words(10)}): "
             + ("still changing when the simulation stopped" if tr.truncated else
-               f"{max(len(tr.waves[n]) - 1 for n in loop)} changes"))
-    return [head] + timing_diagram(tr, nets, {n: context.net_name(n) for n in nets})
+               count(max(len(tr.waves[n]) - 1 for n in loop), "change")))
+    return [head] + timing_diagram(tr, nets, {n: context.net_name(n) for n in nets},
+                                   unit=unit)
 
 
 def _latch_loops(design, context, opts, comb_nodes):

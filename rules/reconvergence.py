@@ -7,7 +7,9 @@ What it finds
     times come from the design's delay model (per-pin rise/fall min/max delays, SDF when given) by
     dynamic programming over a topological order of the stem's fanout cone; the fastest and the
     slowest path are rebuilt from back-pointers, never enumerated. For each stem and each sink in
-    scope only the worst reconvergence is reported, at the reconvergence gate.
+    scope only the worst reconvergence is reported, at the reconvergence gate. Times are in the
+    unit of the delays the design was given (its timescale, the Liberty time_unit, the SDF
+    TIMESCALE), and counted in unit delays when it was given none.
 
 Why it matters
     While the two branches disagree the gate can produce a short pulse (a static or dynamic
@@ -23,7 +25,7 @@ Example
           not g0 (sn, s);          // one branch of s is one gate slower
           and g1 (t0, a, s);
           and g2 (t1, b, sn);
-          or  g3 (y, t0, t1);      // reported here: s reconverges with skew 1
+          or  g3 (y, t0, t1);      // reported here: s reconverges with skew 1 unit delay
         endmodule
 
 How to fix
@@ -36,7 +38,7 @@ Options
     sink, the default), ``outputs`` (those and every primary output), ``all`` (every sink,
     register data pins included). Outside the default scope a pulse is harmless when timing is
     met; the summary line counts the places left out. Findings at one sink fold into one.
-    ``min_skew``: report when the skew reaches this many time units (default 0: any skew).
+    ``min_skew``: report when the skew reaches this many delay units (default 0: any skew).
     ``work_budget``: an upper bound on the arrival-time work of one run, in node visits (each
     stem costs at most the nodes after it in topological order; default 1e9: every EPFL
     benchmark but the 100k-node divider fits; 0: no limit). Stems that reach a glitch-sensitive sink go first. Past the budget
@@ -52,10 +54,10 @@ from hazlint.diagnostics import Diagnostic, Severity
 
 from hazlint.findings.evidence import BudgetEvidence, ReconvergenceEvidence
 from hazlint.findings.requests import HazardFromStem
-from hazlint.findings.words import count, gate_words
+from hazlint.findings.words import TimeUnit, count, gate_words
 from hazlint.plugins import Option
 
-from ._common import name_list, num, stable_key
+from ._common import name_list, stable_key
 
 ID = "unbalanced-reconvergence"
 SUMMARY = "reconvergent fanout whose branches arrive at different times (static/dynamic hazard risk)"
@@ -67,7 +69,8 @@ OPTIONS = (
            "outputs (those and every primary output), all (every sink, register data pins "
            "included); also --scope on the command line", ("async", "outputs", "all")),
     Option("min_skew", float, 0.0,
-           "report when the branch skew reaches this value (0: any positive skew)"),
+           "report when the branch skew reaches this value, in the design's delay unit "
+           "(unit delays when none is given; 0: any positive skew)"),
     Option("work_budget", float, 1e9,
            "arrival-time work per run in node visits; stems past it are reported as not "
            "analysed (0: no limit)"),
@@ -279,7 +282,8 @@ class _Fields:
         """The evidence that places the finding (stem, sinks, skew) without its paths or text:
         what :mod:`hazlint.findings.fold` reads to group findings it does not all show."""
         stem, _gate, r, sinks = self.f.facts()[:4]
-        return {"stem_node": stem, "sink_nodes": list(sinks), "skew": r.skew}
+        return {"stem_node": stem, "sink_nodes": list(sinks), "skew": r.skew,
+                "time_unit": TimeUnit.of(self.context.graph).field}
 
     def __call__(self) -> dict:
         f = self.f
@@ -308,16 +312,17 @@ def _fields(context, stem, gate, r, sinks, path) -> dict:
     fast_net = context.net_name(ins[r.fast_pin]) if r.fast_pin < len(ins) else fast_pin
     where = gate_words(d.get("cell") or d.get("op") or "",
                        (d.get("instance") or gate).rsplit(".", 1)[-1])
-    msg = (f"fanout of {stem_name} reconverges at {where} with skew {num(r.skew)} "
-           f"(through {slow_net} at {num(r.slow_arrival)}, through {fast_net} at "
-           f"{num(r.fast_arrival)}), {reach}")
+    unit = TimeUnit.of(g)
+    msg = (f"fanout of {stem_name} reconverges at {where} with skew {unit.words(r.skew)} "
+           f"(through {slow_net} at {unit.words(r.slow_arrival)}, through {fast_net} at "
+           f"{unit.words(r.fast_arrival)}), {reach}")
     fast_ids, fast_hops = path(False, context.hop)
     slow_ids, slow_hops = path(True, context.hop)
     notes = (f"stem {stem_name}" + (f" ({context.where(stem)})"
                                     if g.nodes[stem].get("path") else ""),
-             "fast path: " + _path_text(fast_hops),
-             "slow path: " + _path_text(slow_hops),
-             f"skew {num(r.skew)}; worst reconvergence of this stem for "
+             "fast path: " + _path_text(fast_hops, unit),
+             "slow path: " + _path_text(slow_hops, unit),
+             f"skew {unit.words(r.skew)}; worst reconvergence of this stem for "
              f"{name_list(sink_names, 4)}")
     return dict(
         message=msg,
@@ -325,7 +330,7 @@ def _fields(context, stem, gate, r, sinks, path) -> dict:
             stem_node=stem, reconvergence_node=gate, sink_nodes=list(sinks), skew=r.skew,
             fast_path=fast_ids, slow_path=slow_ids, fast_arrival=r.fast_arrival,
             slow_arrival=r.slow_arrival, slow_pin=slow_pin, fast_pin=fast_pin,
-            key=stable_key("reconv", stem, gate)),
+            key=stable_key("reconv", stem, gate), time_unit=unit.field),
         notes=notes, flows=(fast_hops, slow_hops),
         fix=("balance the branch delays, add the consensus term that holds the output "
              "while the branches disagree, or register the signal before the sensitive sink"))
@@ -358,13 +363,17 @@ def _incomplete(context, left, analysed: int, work_budget: float | None) -> Diag
              + ", narrow scope to 'async', or lint the block's sub-modules one at a time"))
 
 
-def _path_text(hops, keep: int = 4) -> str:
-    """``a@0 -> b@1 -> ...``; long paths show their first and last hops and the gate count."""
-    parts = [f"{h.net}@{num(h.arrival)}" for h in
+def _path_text(hops, unit: TimeUnit, keep: int = 4) -> str:
+    """``a@0 -> b@1 -> ... (2 gates, 2 unit delays)``: arrival times in ``unit``, the path's
+    delay at the end; long paths show their first and last hops and the gate count."""
+    parts = [f"{h.net}@{unit.number(h.arrival)}" for h in
              (hops if len(hops) <= 2 * keep else hops[:keep] + hops[-keep:])]
     if len(hops) > 2 * keep:
         parts.insert(keep, f"... {len(hops) - 2 * keep} more ...")
-    return " -> ".join(parts) + f" ({count(len(hops) - 1, 'gate')})"
+    span = ""
+    if hops and hops[-1].arrival is not None and hops[0].arrival is not None:
+        span = ", " + unit.words(hops[-1].arrival - hops[0].arrival)
+    return " -> ".join(parts) + f" ({count(len(hops) - 1, 'gate')}{span})"
 
 
 def prove(diagnostic, evidence):

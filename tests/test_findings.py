@@ -129,7 +129,7 @@ def test_explain_lists_each_option_once_with_toml_defaults(tmp_path):
     assert "True" not in out and "1000000000.0" not in out
     assert "Options\n" not in out                                 # not printed twice
     loop = hazlint("explain", "combinational-loop", cwd=tmp_path).stdout
-    assert "  latch_loops = true  (bool)" in loop
+    assert "  latch_loops = true  (boolean)" in loop
 
 
 OLD_CONFIG = """\

@@ -52,3 +52,43 @@ def test_svg_is_well_formed_with_one_trace_per_net():
     assert len(root.findall(f"{ns}polyline")) == len(nets)
     labels = [t.text for t in root.findall(f"{ns}text")]
     assert "static-1 hazard" in labels and "F" in labels
+
+
+def test_svg_stacks_one_panel_per_witness_with_titles_that_fit():
+    from hazlint.analysis.waves import Panel, svg_panels, text_width, TITLE_SIZE
+    from hazlint.findings.words import TimeUnit
+    gl, tr, nets = _trace()
+    names = {n: n for n in nets}
+    long = ("static-1 hazard at u_press.u_fault.fault_q.reset: maint_key falls with "
+            + ", ".join(f"guard_closed_{k}=1" for k in range(30)))
+    panels = [Panel(tr, nets, names, long, (12, 14)), Panel(tr, nets[:2], names, "second")]
+    text = svg_panels(panels, TimeUnit(1e-9))
+    assert text == svg_panels(panels, TimeUnit(1e-9))          # same bytes twice
+    root = ET.fromstring(text)                                  # valid XML
+    ns = "{http://www.w3.org/2000/svg}"
+    width = float(root.get("width"))
+    assert len(root.findall(f"{ns}polyline")) == len(nets) + 2  # every witness drawn
+    titles = [t for t in root.findall(f"{ns}text") if t.get("font-weight") == "bold"]
+    assert len(titles) > 2                                      # the long title wrapped
+    for t in titles:                                            # and every line fits
+        assert float(t.get("x")) + text_width(t.text, TITLE_SIZE) <= width
+    assert " ".join(t.text for t in titles[:-1]) == long and titles[-1].text == "second"
+    # the second panel starts below the first one's rows and axis
+    lowest = max(float(p.split(",")[1]) for pl in root.findall(f"{ns}polyline")[:len(nets)]
+                 for p in pl.get("points").split())
+    assert float(titles[-1].get("y")) > lowest
+    assert [t.text for t in root.findall(f"{ns}text")].count("time (ns)") == 2
+    assert float(root.get("height")) > lowest
+
+
+def test_svg_time_axis_carries_the_unit():
+    gl, tr, nets = _trace()
+    from hazlint.findings.words import TimeUnit
+    for unit, label in ((TimeUnit(None, "unit"), "time (unit delays)"),
+                        (TimeUnit(1e-10), "time (ps)")):
+        root = ET.fromstring(svg(tr, nets, {n: n for n in nets}, unit=unit))
+        texts = [t.text for t in root.findall("{http://www.w3.org/2000/svg}text")]
+        assert label in texts
+    # 100 ps units: the tick at 10 units reads 1000 (ps)
+    root = ET.fromstring(svg(tr, nets, {n: n for n in nets}, unit=TimeUnit(1e-10)))
+    assert "1000" in [t.text for t in root.findall("{http://www.w3.org/2000/svg}text")]

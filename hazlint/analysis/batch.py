@@ -29,6 +29,7 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from .. import budget
+from ..findings.words import count
 from ..netlist.walks import sources_in_pin_order
 from .satcheck import sat_hazards
 from .symbolic import Budget, HazardProof, bdd_hazards
@@ -233,7 +234,7 @@ def _simulate(shared, p: _Pass, item, local) -> dict:
                                    sup[t] >> index[n] & 1}
                             res[k] = HazardProof(
                                 k, "present", witness=wit, method="simulation",
-                                reason=f"found by ternary simulation of {vectors} vectors")
+                                reason=f"found by ternary simulation of {count(vectors, 'vector')}")
     return found
 
 

@@ -8,7 +8,8 @@ from typing import Sequence
 import networkx as nx
 
 from ..netlist.library import Delay
-from .timedsim import delay_number, pin_delay
+from ..findings.words import number
+from .timedsim import pin_delay
 
 
 def build_graph(inputs: Sequence[str], gates: Sequence[tuple], outputs: Sequence[str] = (),
@@ -62,7 +63,7 @@ def graph_to_verilog(module: str, graph: nx.DiGraph, corner: str = "max") -> str
     for n in gl:
         d = graph.nodes[n]
         r, f = pin_delay(d, 0, corner)
-        lines.append(f"  {d['op']} #({delay_number(r)}, {delay_number(f)}) g{ident[n]}({ident[n]}, "
+        lines.append(f"  {d['op']} #({number(r)}, {number(f)}) g{ident[n]}({ident[n]}, "
                      f"{', '.join(ident[i] for i in d['inputs'])});")
     for k, (_, drv) in enumerate(outs):
         lines.append(f"  assign o{k} = {ident[drv]};")

@@ -13,7 +13,7 @@ from typing import Any, Mapping
 import networkx as nx
 
 from ..diagnostics import Hop, Location
-from ..findings.words import gate_words
+from ..findings.words import TimeUnit, gate_words
 from ..netlist.graph import ASYNC_ROLES, SOURCE_KINDS
 from ..netlist.walks import fanin, fanout_stems
 from .changes import (ASYNC_ATTR, ChangeModel, build_change_model, declared_quiet_inputs,
@@ -257,7 +257,7 @@ class AnalysisContext:
         where = (f" ({self.display_path(h.location.path)}:{h.location.line})"
                  if h.location else "")
         via = f" via {gate_words(h.cell, h.gate)}" if h.gate else ""
-        t = "" if h.arrival is None else f" @{h.arrival:g}"
+        t = "" if h.arrival is None else f" @{TimeUnit.of(self.graph).number(h.arrival)}"
         return f"{h.net}{t}{via}{where}"
 
     def describe(self, n: str) -> str:

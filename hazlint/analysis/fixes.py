@@ -19,7 +19,7 @@ from typing import Mapping, Sequence
 
 import networkx as nx
 
-from ..findings.words import gate_words
+from ..findings.words import TimeUnit, gate_words
 from ..netlist.library import Delay
 from .ternary import IntAlgebra, bool_gate, classify_explicit, cone, propagate
 
@@ -269,10 +269,7 @@ def fallback_fix(graph: nx.DiGraph, target: str, skew: float | None, fast_path: 
         parts.append(f"register the signal before {tname}")
     if skew and fast_path:
         first = fast_path[1] if len(fast_path) > 1 else fast_path[0]
-        parts.append(f"or balance the paths: add {_fmt(skew)} delay units on the fast branch at "
-                     f"{graph.nodes[first].get('name') or first}")
+        parts.append(f"or balance the paths: delay the fast branch at "
+                     f"{graph.nodes[first].get('name') or first} by "
+                     f"{TimeUnit.of(graph).words(skew)}")
     return "; ".join(parts)
-
-
-def _fmt(x) -> str:
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"

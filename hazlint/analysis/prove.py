@@ -24,6 +24,7 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import networkx as nx
 
+from ..findings.words import UNIT_DELAYS, TimeUnit, count
 from ..netlist.graph import SOURCE_KINDS
 from ..options import PROVE
 from . import fixes as _fixes
@@ -130,7 +131,7 @@ def prove_transition(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple
                 break
         out[k] = HazardProof(k, "present", witness=pick, method="simulation",
                              function_hazard=is_fh,
-                             reason=f"found by ternary simulation of {width} vectors")
+                             reason=f"found by ternary simulation of {count(width, 'vector')}")
     rest = [k for k in kinds if k not in out]
     if not rest:
         return out
@@ -418,12 +419,13 @@ def witness_text(graph, c: Classification) -> str:
     return f"{moves} with {held}" if held else moves
 
 
-def glitch_text(c: Classification) -> str:
+def glitch_text(c: Classification, unit: TimeUnit = UNIT_DELAYS) -> str:
+    """The timed replay in words, times in ``unit`` (the design's: ``TimeUnit.of(graph)``)."""
     if c.glitch is None:
         return f"not reproduced by timed simulation ({c.how})" if c.how else ""
     g = c.glitch
-    what = (f"pulse {_num(g.time)} after the change, {_num(g.width)} wide, "
-            f"{len(g.changes)} output changes")
+    what = (f"pulse {unit.words(g.time)} after the change, {unit.words(g.width)} wide, "
+            f"{count(len(g.changes), 'output change')}")
     if c.how == "nominal":
         return f"glitches with the nominal delays ({c.assignment.mode}): {what}"
     if c.how == "skewed":
@@ -432,12 +434,6 @@ def glitch_text(c: Classification) -> str:
         return f"glitches within the delay bounds ({c.how}): {what}"
     return ("hazardous under arbitrary delays but not with the nominal delays; it glitches "
             f"with the delay assignment below: {what}")
-
-
-def _num(x) -> str:
-    if x is None:
-        return "?"
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"
 
 
 def waveform_nets(graph, c: Classification, request=None) -> list[str]:
@@ -482,7 +478,7 @@ def diagram_lines(graph, c: Classification, nets: Sequence[str], ascii_only=Fals
     tr = witness_trace(graph, c, nets)
     c.trace = tr
     names = {n: net_label(graph, n) for n in nets}
-    return timing_diagram(tr, nets, names, ascii_only=ascii_only)
+    return timing_diagram(tr, nets, names, ascii_only=ascii_only, unit=TimeUnit.of(graph))
 
 
 def fix_for(graph, c: Classification, request, sink_role, memo: dict | None = None) -> str:

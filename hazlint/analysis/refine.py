@@ -15,6 +15,7 @@ from ..findings.evidence import OscillationEvidence, Verdict, with_verdict
 from ..findings.requests import (HazardAtSink, HazardFromStem, LoopBehaviour, ProofRequest,
                                  request_of)
 from ..netlist.graph import ASYNC_ROLES
+from ..findings.words import TimeUnit
 from ..netlist.walks import behind_loops
 from . import workers
 from .changes import ChangeModel
@@ -402,7 +403,9 @@ def _apply(graph, d: Diagnostic, c: Classification, req: ProofRequest, context, 
     if c.assignment is not None:
         glitch["delays"] = c.assignment.to_json()
     verdict["glitch"] = glitch
-    gt = glitch_text(c)
+    unit = TimeUnit.of(graph)
+    verdict["time_unit"] = unit.field      # of the glitch's and the delays' numbers
+    gt = glitch_text(c, unit)
     notes.append(f"proof: {c.reason}")
     others = [k2 for k2 in c.present_kinds if k2 != kind]
     if others:

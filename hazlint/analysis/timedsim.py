@@ -33,6 +33,7 @@ from typing import Any, Iterable, Mapping
 import networkx as nx
 
 from ..delays.model import GRAPH_DELAYS, DelayModel
+from ..findings.words import TimeUnit
 from ..netlist.walks import fanin, ordered_copy
 from .ternary import IntAlgebra, bool_gate, ternary_fixpoint
 
@@ -77,23 +78,19 @@ class DelayAssignment:
             if graph is None or n not in graph:
                 return n
             return graph.nodes[n].get("instance") or graph.nodes[n].get("name") or n
+        t_ = TimeUnit.of(graph).words           # times in the design's unit
         out = [f"{self.mode} delays, {self.corner} corner elsewhere"]
         for n, t in sorted(self.offsets.items(), key=lambda x: (x[1], x[0])):
             if t:
                 src = graph.nodes[n] if graph is not None and n in graph else {}
-                out.append(f"{src.get('port') or src.get('name') or n} changes {delay_number(t)} after "
+                out.append(f"{src.get('port') or src.get('name') or n} changes {t_(t)} after "
                            "the first change")
         for (n, p), (r, f) in sorted(self.pins.items()):
-            out.append(f"pin {p} of {nm(n)}: rise {delay_number(r)}, fall {delay_number(f)}")
+            out.append(f"pin {p} of {nm(n)}: rise {t_(r)}, fall {t_(f)}")
         for k, w in sorted(self.wires.items()):
             pin = f" pin {k[2]}" if len(k) > 2 else ""
-            out.append(f"extra delay {delay_number(w)} on the wire {nm(k[0])} -> {nm(k[1])}{pin}")
+            out.append(f"extra delay {t_(w)} on the wire {nm(k[0])} -> {nm(k[1])}{pin}")
         return out
-
-
-def delay_number(x: float) -> str:
-    """A delay or time as written in evidence and Verilog: ``3`` for 3.0, else ``%g``."""
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"
 
 
 def pin_delay(d: Mapping[str, Any], pin: int, corner: str,

@@ -4,9 +4,11 @@ from __future__ import annotations
 
 import io
 import re
+from dataclasses import dataclass
 from typing import Sequence
 from xml.sax.saxutils import escape
 
+from ..findings.words import UNIT_DELAYS, TimeUnit
 from .timedsim import Trace
 
 
@@ -14,17 +16,31 @@ def _row_label(names: dict[str, str], n: str) -> str:
     return names.get(n, n)
 
 
+def vcd_timescale(unit: TimeUnit) -> str:
+    """The VCD ``$timescale`` of times in ``unit``: the design's (``"100 ps"``); ``"1 ns"``
+    standing in for a unit delay or an unnamed time unit (the file's comment says so)."""
+    if unit.seconds is None:
+        return "1 ns"
+    f = unit.field
+    return f"{f[:-2]} {f[-2:]}" if f[-2:] in ("ms", "us", "ns", "ps", "fs") else f"{f[:-1]} s"
+
+
 def write_vcd(trace: Trace, nodes: Sequence[str], names: dict[str, str], out,
-              timescale: str = "1 ns", scope: str = "hazlint") -> None:
-    """Write the waveforms of ``nodes`` as VCD to the text stream ``out``. Times are scaled to
+              timescale: str | None = None, scope: str = "hazlint",
+              unit: TimeUnit = UNIT_DELAYS) -> None:
+    """Write the waveforms of ``nodes`` as VCD to the text stream ``out``, times in ``unit``
+    (the ``$timescale`` is that unit unless ``timescale`` is given). Times are scaled to
     integers (VCD times are integral): a trace with fractional times is written in tenths."""
     from vcd import VCDWriter
+    timescale = timescale or vcd_timescale(unit)
+    comment = "hazlint witness" + ("" if unit.seconds is not None else
+                                   f"; times in {unit.label}, written as {timescale} each")
     times = [t for n in nodes for t, _ in trace.waves[n]]
     scale = 1
     while scale < 1000 and any(abs(t * scale - round(t * scale)) > 1e-9 for t in times):
         scale *= 10
     ts = timescale if scale == 1 else _scale_timescale(timescale, scale)
-    with VCDWriter(out, timescale=ts, date="", comment="hazlint witness", version="hazlint") as w:
+    with VCDWriter(out, timescale=ts, date="", comment=comment, version="hazlint") as w:
         used: set[str] = set()
         vars_ = {}
         for n in nodes:
@@ -82,10 +98,11 @@ def _window(trace: Trace, nodes: Sequence[str], t0: float | None, t1: float | No
 
 def timing_diagram(trace: Trace, nodes: Sequence[str], names: dict[str, str],
                    t0: float | None = None, t1: float | None = None, width: int = 56,
-                   ascii_only: bool = False) -> list[str]:
+                   ascii_only: bool = False, unit: TimeUnit = UNIT_DELAYS) -> list[str]:
     """A terminal timing diagram: one row per net, a time axis under it. High is ``‾`` (``-``
     with ``ascii_only``), low ``_``, a change ``/`` or ``\\`` (``|`` for a pulse narrower than
-    a column); the times of the changes follow each row (``↑``/``↓``, or ``r``/``f``)."""
+    a column); the times of the changes follow each row (``↑``/``↓``, or ``r``/``f``). Times
+    are numbers in ``unit``, named after the axis."""
     lo, hi = _window(trace, nodes, t0, t1)
     hi_ch, lo_ch = ("-", "_") if ascii_only else ("\u203e", "_")
     step = (hi - lo) / width
@@ -106,7 +123,8 @@ def timing_diagram(trace: Trace, nodes: Sequence[str], names: dict[str, str],
             else:
                 row.append("/" if after else "\\")
         up, down = ("r", "f") if ascii_only else ("\u2191", "\u2193")
-        times = ", ".join(f"{_num(t)}{up if v else down}" for t, v in wave[1:] if lo <= t <= hi)
+        times = ", ".join(f"{unit.number(t)}{up if v else down}" for t, v in wave[1:]
+                          if lo <= t <= hi)
         label = _row_label(names, n)[:label_w].ljust(label_w)
         lines.append(f"{label} {''.join(row)}  {times}".rstrip())
     axis = [" "] * (width + 8)
@@ -114,46 +132,84 @@ def timing_diagram(trace: Trace, nodes: Sequence[str], names: dict[str, str],
     t = lo
     while t <= hi + 1e-9:
         c = int(round((t - lo) / step))
-        txt = _num(round(t, 3))
+        txt = unit.number(round(t, 3))
         if c + len(txt) <= len(axis) and all(x == " " for x in axis[max(0, c - 1):c + len(txt)]):
             axis[c:c + len(txt)] = list(txt)
         t += tick
-    lines.append(" " * label_w + " " + "".join(axis).rstrip())
+    lines.append(" " * label_w + " " + "".join(axis).rstrip() + "  " + unit.label)
     return lines
 
 
-def svg(trace: Trace, nodes: Sequence[str], names: dict[str, str], t0: float | None = None,
-        t1: float | None = None, title: str = "", highlight: tuple[float, float] | None = None,
-        row_h: int = 34, width: int = 720) -> str:
-    """The same rows as an SVG image. ``highlight`` shades a time interval (the glitch)."""
-    lo, hi = _window(trace, nodes, t0, t1)
-    label_w = 12 + 7 * min(28, max((len(_row_label(names, n)) for n in nodes), default=4))
+# Text width in SVG: a fixed advance per character of the monospace font (DejaVu Sans Mono
+# advances 0.6 em per glyph, from memory; 0.62 leaves a margin for a substitute font)
+CHAR_EM = 0.62
+TITLE_SIZE = 14
+LABEL_SIZE = 12
+MAX_LABEL = 28
+
+
+def text_width(text: str, size: float) -> float:
+    """Estimated width in pixels of ``text`` at font size ``size``."""
+    return len(text) * CHAR_EM * size
+
+
+def _title_lines(title: str, width: int) -> list[str]:
+    """``title`` wrapped to lines that fit ``width`` pixels with a 10 px margin each side; a
+    word longer than a line is cut."""
+    import textwrap
+    per_line = max(8, int((width - 20) / (CHAR_EM * TITLE_SIZE)))
+    return textwrap.wrap(title, per_line, break_long_words=True, break_on_hyphens=False) \
+        if title else []
+
+
+def _label(text: str) -> str:
+    return text if len(text) <= MAX_LABEL else text[:MAX_LABEL - 3] + "..."
+
+
+@dataclass
+class Panel:
+    """One witness to draw: its trace, the nets (rows) and their names, a title and the time
+    interval to shade (the glitch)."""
+
+    trace: Trace
+    nodes: Sequence[str]
+    names: dict[str, str]
+    title: str = ""
+    highlight: tuple[float, float] | None = None
+    t0: float | None = None
+    t1: float | None = None
+
+
+def _panel(p: Panel, y0: float, width: int, row_h: int, unit: TimeUnit) -> tuple[list[str], float]:
+    """The SVG elements of one panel from ``y0`` down, and its height."""
+    lo, hi = _window(p.trace, p.nodes, p.t0, p.t1)
+    label_w = 12 + int(CHAR_EM * LABEL_SIZE * min(MAX_LABEL, max(
+        (len(_row_label(p.names, n)) for n in p.nodes), default=4)))
     plot_w = width - label_w - 20
-    top = 34 if title else 12
-    height = top + row_h * len(nodes) + 34
+    titles = _title_lines(p.title, width)
+    top = y0 + (18 * len(titles) + 16 if titles else 12)
 
     def x(t):
         return label_w + (min(max(t, lo), hi) - lo) / (hi - lo) * plot_w
 
-    parts = [f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{height}" '
-             f'viewBox="0 0 {width} {height}" font-family="DejaVu Sans Mono, monospace" '
-             f'font-size="12">',
-             f'<rect width="{width}" height="{height}" fill="#ffffff"/>']
-    if title:
-        parts.append(f'<text x="10" y="20" font-size="14" font-weight="bold">{escape(title)}</text>')
-    if highlight:
-        a, b = highlight
-        parts.append(f'<rect x="{x(a):.1f}" y="{top - 4}" width="{max(2.0, x(b) - x(a)):.1f}" '
-                     f'height="{row_h * len(nodes) + 4}" fill="#ffd6d6"/>')
-    for i, n in enumerate(nodes):
+    parts = []
+    for k, line in enumerate(titles):
+        parts.append(f'<text x="10" y="{y0 + 20 + 18 * k:.0f}" font-size="{TITLE_SIZE}" '
+                     f'font-weight="bold">{escape(line)}</text>')
+    if p.highlight:
+        a, b = p.highlight
+        parts.append(f'<rect x="{x(a):.1f}" y="{top - 4:.0f}" '
+                     f'width="{max(2.0, x(b) - x(a)):.1f}" '
+                     f'height="{row_h * len(p.nodes) + 4}" fill="#ffd6d6"/>')
+    for i, n in enumerate(p.nodes):
         y_hi = top + i * row_h + 6
         y_lo = y_hi + row_h - 14
         parts.append(f'<text x="8" y="{(y_hi + y_lo) / 2 + 4:.1f}">'
-                     f'{escape(_row_label(names, n))}</text>')
+                     f'{escape(_label(_row_label(p.names, n)))}</text>')
         pts = []
-        v = trace.waves[n][0][1]
+        v = p.trace.waves[n][0][1]
         pts.append((x(lo), y_hi if v else y_lo))
-        for t, nv in trace.waves[n][1:]:
+        for t, nv in p.trace.waves[n][1:]:
             if t < lo or t > hi:
                 v = nv
                 continue
@@ -163,22 +219,48 @@ def svg(trace: Trace, nodes: Sequence[str], names: dict[str, str], t0: float | N
         pts.append((x(hi), y_hi if v else y_lo))
         path = " ".join(f"{px:.1f},{py:.1f}" for px, py in pts)
         parts.append(f'<polyline points="{path}" fill="none" stroke="#1f4e9c" stroke-width="2"/>')
-        parts.append(f'<line x1="{label_w}" y1="{y_lo + 4}" x2="{label_w + plot_w}" '
-                     f'y2="{y_lo + 4}" stroke="#dddddd"/>')
-    ay = top + row_h * len(nodes) + 8
-    parts.append(f'<line x1="{label_w}" y1="{ay}" x2="{label_w + plot_w}" y2="{ay}" '
+        parts.append(f'<line x1="{label_w}" y1="{y_lo + 4:.0f}" x2="{label_w + plot_w}" '
+                     f'y2="{y_lo + 4:.0f}" stroke="#dddddd"/>')
+    ay = top + row_h * len(p.nodes) + 8
+    parts.append(f'<line x1="{label_w}" y1="{ay:.0f}" x2="{label_w + plot_w}" y2="{ay:.0f}" '
                  f'stroke="#444444"/>')
     tick = _nice_step(hi - lo, 6)
     first = -(-lo // tick) * tick
     for k in range(int((hi - first) // tick) + 1):
         t = first + k * tick
-        parts.append(f'<line x1="{x(t):.1f}" y1="{ay}" x2="{x(t):.1f}" y2="{ay + 5}" '
+        parts.append(f'<line x1="{x(t):.1f}" y1="{ay:.0f}" x2="{x(t):.1f}" y2="{ay + 5:.0f}" '
                      f'stroke="#444444"/>')
-        parts.append(f'<text x="{x(t):.1f}" y="{ay + 18}" text-anchor="middle">'
-                     f'{escape(_num(round(t, 1)))}</text>')
-    parts.append("</svg>")
-    return "\n".join(parts) + "\n"
+        parts.append(f'<text x="{x(t):.1f}" y="{ay + 18:.0f}" text-anchor="middle">'
+                     f'{escape(unit.number(round(t, 1)))}</text>')
+    parts.append(f'<text x="{label_w + plot_w}" y="{ay + 34:.0f}" text-anchor="end">'
+                 f'time ({escape(unit.label)})</text>')
+    return parts, ay + 44 - y0
 
 
-def _num(x: float) -> str:
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"
+def svg_panels(panels: Sequence[Panel], unit: TimeUnit = UNIT_DELAYS, row_h: int = 34,
+               width: int = 720) -> str:
+    """Every witness of ``panels`` as one SVG image, one panel under the other, each with its
+    title (wrapped to the image's width), its rows and a time axis in ``unit``."""
+    body: list[str] = []
+    y = 0.0
+    for k, p in enumerate(panels):
+        if k:
+            body.append(f'<line x1="0" y1="{y:.0f}" x2="{width}" y2="{y:.0f}" '
+                        f'stroke="#bbbbbb"/>')
+        parts, h = _panel(p, y, width, row_h, unit)
+        body += parts
+        y += h
+    height = int(round(y))
+    return "\n".join([f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" '
+                      f'height="{height}" viewBox="0 0 {width} {height}" '
+                      f'font-family="DejaVu Sans Mono, monospace" font-size="{LABEL_SIZE}">',
+                      f'<rect width="{width}" height="{height}" fill="#ffffff"/>',
+                      *body, "</svg>"]) + "\n"
+
+
+def svg(trace: Trace, nodes: Sequence[str], names: dict[str, str], t0: float | None = None,
+        t1: float | None = None, title: str = "", highlight: tuple[float, float] | None = None,
+        row_h: int = 34, width: int = 720, unit: TimeUnit = UNIT_DELAYS) -> str:
+    """One witness as an SVG image (:func:`svg_panels` with one panel)."""
+    return svg_panels([Panel(trace, nodes, names, title, highlight, t0, t1)], unit, row_h,
+                      width)

@@ -1,6 +1,7 @@
 """``hazlint explain RULE``: a rule's documentation, kinds, default severity and options, as
 plain text (the docstring's markup removed; each option once, its default written as in the
-configuration file)."""
+configuration file, an old spelling named beside the option it stands for). Without a rule:
+the rules there are and how to read one."""
 from __future__ import annotations
 
 import re
@@ -8,7 +9,8 @@ import textwrap
 
 
 def add_arguments(p) -> None:
-    p.add_argument("rule", help="rule id (see `hazlint rules`)")
+    p.add_argument("rule", nargs="?", help="rule id (see `hazlint rules`; without one: the "
+                                           "list of rules)")
 
 
 def toml_value(v) -> str:
@@ -38,9 +40,25 @@ def plain_doc(doc: str) -> str:
     return text
 
 
+def overview() -> list[str]:
+    """What ``hazlint explain`` prints without a rule: every rule with its default severity
+    and summary, then how to read one rule's documentation."""
+    from .rules_cmd import listing
+    out = ["Rules (hazlint explain RULE prints one rule's documentation, kinds and options):", ""]
+    out += listing("  ")
+    out += [""] + textwrap.wrap(
+        "Options of a rule go in the configuration table [rules.RULE] of hazlint.toml (or "
+        "[tool.hazlint.rules.RULE] of pyproject.toml); the keys severity, select and ignore "
+        "and the options --select and --ignore take the same ids.", 96)
+    return out
+
+
 def run(args) -> int:
     from ..findings.names import rule_id
     from ..plugins import PSEUDO_RULES, get_rule
+    if not args.rule:
+        print("\n".join(overview()))
+        return 0
     r = get_rule(rule_id(args.rule, "explain"))
     out = [f"{r.id}: {r.summary}", "",
            f"default severity: {r.severity}",
@@ -53,9 +71,13 @@ def run(args) -> int:
     out.append(plain_doc(r.doc) if r.doc else "(no documentation)")
     if r.options:
         out += ["", f"Options (configuration table [rules.{r.id}]):"]
+        old = {o.old_name_of: o.name for o in r.options if o.old_name_of}
         for o in r.options:
+            if o.old_name_of:
+                continue            # listed with the option it stands for
             choice = f"; one of {', '.join(map(toml_value, o.choices))}" if o.choices else ""
-            out.append(f"  {o.name} = {toml_value(o.default)}  ({o.type_name}{choice})")
+            was = f"; old name {old[o.name]}" if o.name in old else ""
+            out.append(f"  {o.name} = {toml_value(o.default)}  ({o.type_name}{choice}{was})")
             out.append(textwrap.indent(textwrap.fill(o.help, 88), "      "))
     elif r.id in PSEUDO_RULES:
         out += ["", "No options; select, ignore, accept and set its severity like any rule."]

@@ -9,8 +9,10 @@ headlines, severities and formats) with proven-absent findings on request
 hazard from a logic hazard. Both load the design through the same run request as ``check``
 (configuration, -I, -D, cells, Liberty, SDF, cell model); with ``--transition`` the configured
 glitch-sensitive outputs decide the severity and a change the configured change model excludes
-(a static input, a one-at-a-time group changing together) is checked with a note. ``--vcd``/``--svg`` write the waveforms of the first proven hazard
-(further ones get ``-2``, ``-3``... before the extension).
+(a static input, a one-at-a-time group changing together) is checked with a note. ``--vcd``
+writes the waveforms of each proven hazard (the first to the name given, further ones with
+``-2``, ``-3``... before the extension), ``--svg`` one image with a panel per proven hazard;
+times are in the design's unit.
 """
 from __future__ import annotations
 
@@ -21,6 +23,7 @@ from typing import Any
 
 from ..diagnostics import Severity
 from ..errors import EXIT_CLEAN, HazlintError
+from ..findings.words import TimeUnit
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -68,15 +71,15 @@ def _run_lint(args, request) -> int:
     from ..plugins import rule_for
     from ..findings.requests import request_of
     g = result.design.graph
-    k = 0
+    shown = []
     for d in result.diagnostics:
         ev = d.evidence
         verdict = ev.verdict if isinstance(ev, Evidence) else None
         c = P.classification_of(g, verdict, ev.sink) if verdict is not None else None
         if c is not None and c.proven:
-            _write_waves(args, k, d.message, g, c, verdict.waveform_nets or P.waveform_nets(
-                g, c, request_of(rule_for(d), d, ev)))
-            k += 1
+            shown.append((d.message, g, c, verdict.waveform_nets or P.waveform_nets(
+                g, c, request_of(rule_for(d), d, ev))))
+    _write_waves(args, shown)
     return code
 
 
@@ -108,8 +111,7 @@ def _run(args, request) -> int:
             _print(out, g, c, f"{P.net_label(g, t)} for {spec}", nets, args.ascii, sev)
             if c.proven:
                 shown.append((f"{P.net_label(g, t)}: {c.classification}", g, c, nets))
-    for k, (title, g, c, nets) in enumerate(shown):
-        _write_waves(args, k, title, g, c, nets)
+    _write_waves(args, shown)
     return pipeline.exit_code(worst, args.fail_on or request.config.fail_on)
 
 
@@ -221,7 +223,7 @@ def _print(out, g, c, title, nets, ascii_only, sev):
     if c.proven:
         out.write(f"    witness: {P.witness_text(g, c)}\n")
         out.write(f"    proof: {c.reason}\n")
-        gt = P.glitch_text(c)
+        gt = P.glitch_text(c, TimeUnit.of(g))
         if gt:
             out.write(f"    timed simulation: {gt}\n")
         if c.assignment is not None and c.how != "nominal":
@@ -234,27 +236,31 @@ def _print(out, g, c, title, nets, ascii_only, sev):
         out.write(f"    {c.reason}\n")
 
 
-def _write_waves(args, k, title, g, c, nets):
+def _write_waves(args, shown):
+    """The witnesses ``shown`` ((title, graph, classification, nets) each) as waveform files:
+    one VCD per witness (``-2``, ``-3``... before the extension from the second on), one SVG
+    with a panel per witness. Times are in the design's unit."""
     from ..analysis import prove as P
     from ..analysis import waves
-    if not (args.vcd or args.svg):
+    if not (args.vcd or args.svg) or not shown:
         return
-    nets = list(dict.fromkeys(n for n in nets if n in g))
-    tr = P.witness_trace(g, c, nets)
-    names = {n: P.net_label(g, n) for n in nets}
-
-    def name(path):
-        if k == 0:
-            return path
-        base, ext = os.path.splitext(path)
-        return f"{base}-{k + 1}{ext}"
-    if args.vcd:
-        with open(name(args.vcd), "w") as fh:
-            waves.write_vcd(tr, nets, names, fh)
-    if args.svg:
+    panels = []
+    for k, (title, g, c, nets) in enumerate(shown):
+        nets = list(dict.fromkeys(n for n in nets if n in g))
+        tr = P.witness_trace(g, c, nets)
+        names = {n: P.net_label(g, n) for n in nets}
+        if args.vcd:
+            path = args.vcd
+            if k:
+                base, ext = os.path.splitext(path)
+                path = f"{base}-{k + 1}{ext}"
+            with open(path, "w") as fh:
+                waves.write_vcd(tr, nets, names, fh, unit=TimeUnit.of(g))
         hl = None
         if c.glitch is not None and c.glitch.time is not None:
             lead = P.witness_lead(c)
             hl = (lead + c.glitch.time, lead + c.glitch.time + (c.glitch.width or 0))
-        with open(name(args.svg), "w") as fh:
-            fh.write(waves.svg(tr, nets, names, title=title, highlight=hl))
+        panels.append(waves.Panel(tr, nets, names, title, hl))
+    if args.svg:
+        with open(args.svg, "w") as fh:
+            fh.write(waves.svg_panels(panels, TimeUnit.of(shown[0][1])))

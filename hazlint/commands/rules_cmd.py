@@ -22,10 +22,16 @@ def run(args) -> int:
                 for r in rules]
         print(json.dumps(rows, indent=2, sort_keys=True))
         return 0
-    width = max(len(r.id) for r in rules)
-    for r in rules:
-        print(f"{r.id:<{width}}  {str(r.severity):<7}  {r.summary}")
-    for rid, text in sorted(PSEUDO_RULES.items()):
-        print(f"{rid:<{width}}  {'warning':<7}  {text} (built in)")
+    print("\n".join(listing()))
     print("\n`hazlint explain RULE` prints a rule's documentation and options.")
     return 0
+
+
+def listing(indent: str = "") -> list[str]:
+    """One line per rule: id, default severity, summary; the built-in pseudo rules last."""
+    from ..plugins import PSEUDO_RULES, all_rules, pseudo_rule
+    rules = all_rules()
+    built_in = [pseudo_rule(r) for r in sorted(PSEUDO_RULES)]
+    width = max(len(r.id) for r in rules + built_in)
+    return [f"{indent}{r.id:<{width}}  {str(r.severity):<7}  {r.summary}"
+            + (" (built in)" if r in built_in else "") for r in rules + built_in]

@@ -175,7 +175,7 @@ def _read_cell(g: Group, templates: dict[str, Template], lib: LibertyLibrary,
                 inouts.append(pname)
             pin_groups.append((pname, p))
     cell = CellDef(name=name, inputs=inputs, outputs=outputs, inouts=inouts, source=path,
-                   line=g.line)
+                   line=g.line, time_unit=lib.time_unit)
     seq_groups = [s for s in g.groups if s.kind in ("ff", "latch")]
     if len(seq_groups) > 1:
         return None, "more than one ff/latch group"

@@ -29,6 +29,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
+from ..findings.words import TimeUnit
 from ..netlist.library import Delay
 
 from .sdf_syntax import CORNERS, add_delay, delay_of, envelope, parse_sdf
@@ -251,8 +252,9 @@ def annotate(design, sdf_path: str, *, corner: str = "max", library=None,
     ``corner`` is ``"min"``, ``"typ"``, ``"max"`` or ``"minmax"``. ``library`` (the
     :class:`~hazlint.netlist.library.Library` the design was built with) is needed to tell which pin of
     a register cell is its clock, data, set or reset and which output is Q or QN. Values are
-    converted to ``time_unit`` seconds, else to the design's ``timescale`` unit when it has one,
-    else kept in the SDF's own unit.
+    converted to ``time_unit`` seconds, else to the unit of the delays the design already has
+    (its ``timescale`` or Liberty unit), else to the design's ``timescale`` unit when it has
+    one, else kept in the SDF's own unit; the graph records that unit (origin "SDF").
     """
     if corner not in CORNERS:
         from ..errors import ConfigError
@@ -261,10 +263,12 @@ def annotate(design, sdf_path: str, *, corner: str = "max", library=None,
     if library is None:
         library = getattr(design, "library", None)
     sdf = parse_sdf(sdf_path, text)
-    target = time_unit if time_unit else (design.timescale[0] if design.timescale else None)
+    given = TimeUnit.of(design.graph).seconds
+    target = time_unit or given or (design.timescale[0] if design.timescale else None)
     scale = sdf.timescale / target if target else 1.0
     rep = AnnotationReport(sdf_path, corner, sdf.design, scale, target or sdf.timescale,
                            ignored=dict(sdf.ignored))
+    TimeUnit(rep.time_unit, "SDF").record(design.graph)
     idx = _Index(design, library)
     g = design.graph
     seen_missing: set[str] = set()

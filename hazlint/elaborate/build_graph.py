@@ -8,6 +8,7 @@ import networkx as nx
 from .. import budget as _budget
 from ..netlist.design import Design
 from ..diagnostics import Severity
+from ..findings.words import TimeUnit
 from ..netlist.library import ZERO_DELAY
 from . import initial_values
 from .common import C0, C1
@@ -20,6 +21,7 @@ class GraphEmitter:
     # ---------------------------------------------------------------- graph --------------------
     def build_graph(self, tops, inputs, outputs) -> Design:
         find = self.find
+        unit = TimeUnit(*self.settle_time_unit())     # converts delay lists: before the nodes
         g = nx.DiGraph()
         # choose one name per merged net
         members: dict[str, list[str]] = {}
@@ -99,6 +101,7 @@ class GraphEmitter:
                 else:
                     pins.append(i)
         g.add_edges_from((u, v, {"pins": pins}) for (u, v), pins in edges.items())
+        unit.record(g)
         design = Design(
             graph=g, top=tops[0] if len(tops) == 1 else ",".join(tops),
             inputs=inputs, outputs=outputs, registers=self.registers,

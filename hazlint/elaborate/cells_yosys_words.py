@@ -24,7 +24,8 @@ from typing import Callable
 from . import cells_yosys
 from .. import limits as _limits
 from ..diagnostics import Severity
-from ..errors import ElaborationError, number_text
+from ..errors import ElaborationError
+from ..findings.words import number
 from .. import ir
 from .common import named_connections
 from .common import where as _where
@@ -144,7 +145,7 @@ class _Word:
                 # a width builds that many bits (and a LUT or decoder 2**width of them)
                 if v < 0:
                     raise ElaborationError(f"yosys cell '{self.inst.cell}' parameter {name} is "
-                                           f"negative ({number_text(v)})", *_where(self.loc),
+                                           f"negative ({number(v)})", *_where(self.loc),
                                            construct=self.inst.name)
                 _limits.check("vector_width", v, f"parameter {name} of '{self.inst.name}'",
                               _where(self.loc))

@@ -1,7 +1,8 @@
 """Values and small helpers shared by the elaboration modules."""
 from __future__ import annotations
 
-from ..errors import ElaborationError, number_text
+from ..errors import ElaborationError
+from ..findings.words import number
 from .. import ir
 
 C0 = "1'b0"
@@ -86,7 +87,7 @@ def expr_text(e, parent: int = 0) -> str:
         if tag == "num":
             _, w, v, xz, _s = e
             if abs(v) >= 10 ** 30:
-                return number_text(v)
+                return number(v)
             return f"{w}'d{v}" if w and not xz else (str(v) if not w else f"{w}'b{v:b}")
         if tag == "real":
             return str(e[1])

@@ -23,7 +23,8 @@ import math
 from typing import Callable, Mapping
 
 from .. import limits as _limits
-from ..errors import ElaborationError, number_text
+from ..errors import ElaborationError
+from ..findings.words import number
 
 
 class NotConstant(Exception):
@@ -150,11 +151,11 @@ def _bound(op: str, a, b, max_bits: int) -> None:
         need = _bits(a) * b if b > 0 and abs(a) > 1 else 0
     elif op in ("<<", "<<<"):
         if b < 0:
-            raise _Refused(f"negative shift amount {number_text(b)}")
+            raise _Refused(f"negative shift amount {number(b)}")
         need = _bits(a) + b if a else 0
     elif op in (">>", ">>>"):
         if b < 0:
-            raise _Refused(f"negative shift amount {number_text(b)}")
+            raise _Refused(f"negative shift amount {number(b)}")
         return
     else:
         need = max(_bits(a), _bits(b)) + 1

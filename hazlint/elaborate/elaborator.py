@@ -82,6 +82,10 @@ class Elaborator(HierarchyElaborator, NetElaborator, InstanceElaborator, UdpElab
         self.time_unit = min(units) if units else None
         self.precision = min((m.timescale[1] for m in self.modules.values() if m.timescale),
                              default=None)
+        # delays given (source_delays.settle_time_unit): any `#`/specify delay, and the delay
+        # lists cells gave with their unit
+        self.source_delays = False
+        self.cell_delays: list[tuple[float | None, list]] = []
         # union-find over net bit names
         self.parent: dict[str, str] = {}
         self.net_delay: dict[str, Delay] = {}     # declared net bit -> its net delay

@@ -7,7 +7,8 @@ from typing import Any, Mapping
 from .. import budget as _budget
 from .. import ir
 from .. import limits as _limits
-from ..errors import ElaborationError, number_text
+from ..errors import ElaborationError
+from ..findings.words import number
 from . import initial_values
 from .common import walk_items
 from .common import BlackBoxModule as _BlackBoxModule
@@ -120,8 +121,8 @@ class HierarchyElaborator:
             _limits.check("vector_width", abs(msb - lsb) + 1, f"the width of '{name[:60]}'",
                           _where(loc))
             if max(abs(msb), abs(lsb)) >= 1 << 62:
-                raise ElaborationError(f"the range of '{name[:60]}' ([{number_text(msb)}:"
-                                       f"{number_text(lsb)}]) is beyond 2**62", *_where(loc))
+                raise ElaborationError(f"the range of '{name[:60]}' ([{number(msb)}:"
+                                       f"{number(lsb)}]) is beyond 2**62", *_where(loc))
             self._net_bits += abs(msb - lsb) + 1
             if abs(msb - lsb) > 8191:
                 _budget.check_loading("elaborating the design", *_where(loc)[:2])

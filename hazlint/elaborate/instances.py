@@ -300,6 +300,8 @@ class InstanceElaborator:
             ins = [pin_sig(p) for p in used]
             delays = [cell.arcs.get((p, out)) or cell.default_delay or self.default_delay
                       for p in used]
+            if cell.arcs or cell.default_delay:
+                self.cell_delays_given(cell, delays)
             en = cell.three_state.get(out)
             if en is not None:
                 data = self.fresh(scope, "tri")

@@ -4,7 +4,8 @@
 from __future__ import annotations
 
 from .. import limits as _limits
-from ..errors import ElaborationError, number_text
+from ..errors import ElaborationError
+from ..findings.words import number
 from .common import C0, C1, const_bits, expr_text, extend, where
 from .scope import span
 
@@ -127,11 +128,11 @@ class SelectElaborator:
         if info.indices is None:
             if k == 0:
                 return info.base
-            what = f"bit select [{number_text(k)}] of scalar '{info.base}'"
+            what = f"bit select [{number(k)}] of scalar '{info.base}'"
         elif k in info.indices:
             return info.bit(k)
         else:
-            what = f"bit [{number_text(k)}] is out of the range of '{info.base}'"
+            what = f"bit [{number(k)}] is out of the range of '{info.base}'"
         if env is None:
             raise ElaborationError(what, *where(loc), construct=expr_text(e))
         effect = "the write is ignored" if writing else "read as 0"

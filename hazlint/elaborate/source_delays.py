@@ -74,9 +74,38 @@ class SourceDelays:
                       f"library give that arc", path.loc, scope.instance,
                       key=("specify", scope.module.name, why))
 
+    def cell_delays_given(self, cell, delays: list) -> None:
+        """A cell definition gave ``delays`` (Liberty arcs in its library's time unit, or a
+        configured delay in the design's unit): kept for :meth:`settle_time_unit`."""
+        self.cell_delays.append((cell.time_unit, delays))
+
+    def settle_time_unit(self) -> tuple[float | None, str]:
+        """(seconds per delay unit, origin) of the delays the design was given: the design's
+        time unit (the finest ``timescale``) when the source or the configuration gives
+        delays, Liberty arcs converted into it; else the Liberty ``time_unit`` (the finest
+        when libraries differ, the others converted); else unit delays (None, "unit").
+        Converts the Liberty delay lists in place, before the graph is built."""
+        given = self.cell_delays
+        lib = sorted({u for u, _ in given if u})
+        source = self.source_delays or any(not u for u, _ in given)
+        if source:
+            unit = self.time_unit or (lib[0] if lib else None)
+            origin = "timescale" if self.time_unit else ("Liberty" if lib else "source")
+        elif lib:
+            unit, origin = lib[0], "Liberty"
+        else:
+            return None, "unit"
+        for u, delays in given:
+            if u and unit and u != unit:
+                f = u / unit
+                delays[:] = [Delay(d.rise_min * f, d.rise_max * f, d.fall_min * f,
+                                   d.fall_max * f) for d in delays]
+        return unit, origin
+
     def delay(self, d, scope: Scope, loc) -> Delay:
         """An IR delay (list of (min, typ, max) expressions: rise, fall, turn-off) as a Delay in
         design time units."""
+        self.source_delays = True
         params = scope.all_params()
         vals = []
         for mtm in d[:2]:

@@ -105,11 +105,12 @@ class Verdict(_Typed):
     cell_model: str | None = None
     sink_hazards: dict | None = None
     not_proven_reason: str | None = None
+    time_unit: str | None = None        # of the glitch's times (findings.words.TimeUnit.field)
 
     OPTIONAL: ClassVar[frozenset] = frozenset((
         "sink_node", "proof", "inconclusive_reason", "witness", "function_hazard", "glitch",
         "present_kinds", "waveform_nets", "change_model", "cell_model", "sink_hazards",
-        "not_proven_reason"))
+        "not_proven_reason", "time_unit"))
 
     # the words of a verdict: a proven hazard's headline, the line of one left unproven
     KIND_WORDS: ClassVar[dict] = {"static-1-hazard": "static-1 hazard",
@@ -150,9 +151,10 @@ class Folded(_Typed):
     also_left_out: int | None = None
     other_stems: list | None = None
     other_stem_count: int | None = None
+    time_unit: str | None = None        # of the other stems' skews
 
     OPTIONAL: ClassVar[frozenset] = frozenset(("also", "also_left_out", "other_stems",
-                                               "other_stem_count"))
+                                               "other_stem_count", "time_unit"))
 
 
 @dataclass(frozen=True, eq=False, repr=False)
@@ -195,6 +197,7 @@ class ReconvergenceEvidence(Evidence):
     slow_pin: str
     fast_pin: str
     key: str
+    time_unit: str = "unit delay"       # of skew and arrivals (findings.words.TimeUnit.field)
 
 
 @dataclass(frozen=True, eq=False, repr=False)

@@ -23,6 +23,7 @@ from .. import plugins
 from ..diagnostics import PROVEN_HAZARD_KINDS, Diagnostic, sort_diagnostics
 from .evidence import Folded, with_folded
 from .requests import request_of
+from .words import evidence_unit
 
 # the kinds of the built-in rules' hazard and loop findings (for reports and tests that count
 # them; grouping asks each rule's proof hook, never these)
@@ -156,7 +157,10 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str],
              "skew": _request(m, memo).skew, "path": m.location.path, "line": m.location.line}
             for m in stems[:MAX_LISTED]]
         folded["other_stem_count"] = len(stems)
-        shown = [f"{s['stem']} (skew {_num(s['skew'])})" for s in folded["other_stems"]
+        if "time_unit" in _ev(stems[0]):      # the unit of the skews listed
+            folded["time_unit"] = _ev(stems[0])["time_unit"]
+        unit = evidence_unit(folded)
+        shown = [f"{s['stem']} (skew {unit.words(s['skew'])})" for s in folded["other_stems"]
                  [:MAX_STEMS]]
         rest = len(stems) - len(shown)
         word = "stem" if len(stems) == 1 else "stems"
@@ -167,9 +171,3 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str],
                            Folded(**folded))
     return replace(primary, severity=severity, evidence=evidence, notes=tuple(notes),
                    flows=flows, fix=fix)
-
-
-def _num(x) -> str:
-    if not isinstance(x, (int, float)):
-        return "?"
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"

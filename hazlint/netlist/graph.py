@@ -33,6 +33,12 @@ driven by ``u`` feeds ``v``. Node ids are strings (hierarchical net names for dr
 Edge attributes: ``pins`` (list of input-pin indices of ``v`` fed by ``u``) and, when SDF gives
 one, ``wire`` (a :class:`~hazlint.netlist.library.Delay` for the interconnect).
 
+Graph attribute ``time_unit`` (``graph.graph["time_unit"]``): what one delay number means,
+``{"seconds": float | None, "origin": "timescale" | "Liberty" | "SDF" | "source" | "unit"}``
+(seconds None: no unit named; origin "unit": no delays given, every gate one unit delay).
+Written when the graph is built and by SDF annotation; read through
+:class:`hazlint.findings.words.TimeUnit`.
+
 Loops are cut at registers: a register's pins are sinks and its outputs are sources, so the graph is
 acyclic unless the design has a real combinational loop. Transparent latches are cut the same way;
 ``Design.latch_paths`` lists (data sink, enable sink, state node) so the loop rule can see through

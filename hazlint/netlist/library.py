@@ -210,6 +210,7 @@ class CellDef:
     # (input pin, output pin) -> Delay; missing arcs use ``default_delay``
     arcs: dict[tuple[str, str], Delay] = field(default_factory=dict)
     default_delay: Delay | None = None
+    time_unit: float | None = None      # seconds per unit of ``arcs`` (Liberty time_unit)
     source: str = ""           # where the definition came from ("config", a .lib path, ...)
     line: int = 0
 

@@ -29,6 +29,7 @@ from urllib.parse import quote
 from .. import __version__
 from ..baseline import fingerprint
 from ..findings.public import public_evidence
+from ..findings.words import UNIT_DELAYS, TimeUnit, evidence_unit
 from ..diagnostics import Diagnostic, Hop, Location, Severity, sort_diagnostics
 from ..paths import inside_root
 from .registry import ReportOptions
@@ -138,24 +139,20 @@ class _Locator:
         return {ROOT_ID: {"uri": uri if uri.endswith("/") else uri + "/"}}
 
 
-def hop_message(h: Hop) -> str:
-    """The words of one evidence hop (net, gate and delay) as SARIF and the language server
-    show them."""
+def hop_message(h: Hop, unit: TimeUnit = UNIT_DELAYS) -> str:
+    """The words of one evidence hop (net, gate and delay, times in ``unit``) as SARIF and the
+    language server show them."""
     text = h.net
     if h.gate:
         text += f" driven by {h.cell} {h.gate}" if h.cell else f" driven by {h.gate}"
     extra = []
     if h.delay is not None:
-        extra.append(f"delay {_num(h.delay)}")
+        extra.append(f"delay {unit.words(h.delay)}")
     if h.arrival is not None:
-        extra.append(f"arrives at {_num(h.arrival)}")
+        extra.append(f"arrives at {unit.words(h.arrival)}")
     if extra:
         text += " (" + ", ".join(extra) + ")"
     return text
-
-
-def _num(x: float) -> str:
-    return str(int(x)) if float(x).is_integer() else f"{x:g}"
 
 
 def _flow_message(d: Diagnostic, i: int) -> str:
@@ -187,10 +184,11 @@ def result_object(d: Diagnostic, locator: _Locator, rule_index: int | None) -> d
     if related:
         res["relatedLocations"] = related
     flows = []
+    unit = evidence_unit(d.evidence) if d.flows else UNIT_DELAYS
     for i, flow in enumerate(d.flows):
         tfl = []
         for h in flow:
-            loc: dict[str, Any] = {"message": {"text": hop_message(h)}}
+            loc: dict[str, Any] = {"message": {"text": hop_message(h, unit)}}
             if h.location is not None and h.location.path:
                 loc["physicalLocation"] = locator.physical(h.location)
             if h.instance:

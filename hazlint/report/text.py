@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from ..findings.words import count, evidence_unit
 from .registry import ReportOptions
 
 NAME = "text"
@@ -17,10 +18,6 @@ _COLOURS = {"error": "\033[1;31m", "warning": "\033[1;33m", "info": "\033[1;36m"
 _DIM = "\033[2m"
 _BOLD = "\033[1m"
 _RESET = "\033[0m"
-
-
-def _plural(n: int, word: str) -> str:
-    return f"{n} {word}{'' if n == 1 else 's'}"
 
 
 # longest line of text evidence; the full data stays in the JSON and SARIF reports
@@ -60,8 +57,9 @@ def format_diagnostic(d, relpath, color: bool = False, evidence: bool = True) ->
         return lines
     body = list(d.notes)
     if not body and d.flows:
+        unit = evidence_unit(d.evidence)
         for k, flow in enumerate(d.flows, 1):
-            body.append(f"path {k}: " + " -> ".join(h.describe() for h in flow))
+            body.append(f"path {k}: " + " -> ".join(h.describe(unit) for h in flow))
     if d.instance:
         body.insert(0, f"instance {d.instance}")
     if d.fix:
@@ -80,9 +78,9 @@ def summary_line(result: Any) -> str:
     parts = []
     for sev in ("error", "warning", "info"):
         if c.get(sev):
-            parts.append(_plural(c[sev], sev))
+            parts.append(count(c[sev], sev))
     total = c.get("total", len(result.diagnostics))
-    head = f"hazlint: {_plural(total, 'finding')}" + (f" ({', '.join(parts)})" if parts else "")
+    head = f"hazlint: {count(total, 'finding')}" + (f" ({', '.join(parts)})" if parts else "")
     extra = []
     if c.get("waived"):
         extra.append(f"{c['waived']} accepted")
@@ -90,7 +88,7 @@ def summary_line(result: Any) -> str:
         extra.append(f"{c['baselined']} in baseline")
     files = getattr(result, "files", None) or []
     design = getattr(result, "design", None)
-    where = f" in {_plural(len(files), 'file')}" if files else ""
+    where = f" in {count(len(files), 'file')}" if files else ""
     top = f" (top {design.top})" if design is not None and getattr(design, "top", None) else ""
     from ..findings.scope import summary_text
     return (head + (", " + ", ".join(extra) if extra else "") + where + top
@@ -105,7 +103,7 @@ def coverage_text(design) -> str:
     total = max(len(getattr(design, "modules", None) or []), len(left))
     names = [r["module"] for r in left]
     shown = ", ".join(names[:5]) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
-    return f"; {len(left)} of {total} module{'' if total == 1 else 's'} not analysed: {shown}"
+    return f"; {len(left)} of {count(total, 'module')} not analysed: {shown}"
 
 
 # the timing diagrams' glyphs in ASCII, as hazlint.analysis.waves draws them with ascii_only

@@ -32,6 +32,7 @@ from dataclasses import dataclass, field
 
 from ... import budget as _budget
 from ... import limits as _limits
+from ...findings.words import count
 from ...errors import ParseError
 from ..files import digest_text, read_text, repository_root
 
@@ -458,8 +459,8 @@ class Preprocessor:
         if len(args) == 1 and args[0].strip() == "" and not macro.params:
             args = []
         if len(args) != len(macro.params):
-            self._error(f"macro `{name} takes {len(macro.params)} argument(s), got {len(args)}",
-                        path, i + 1, "`" + name)
+            self._error(f"macro `{name} takes {count(len(macro.params), 'argument')}, got "
+                        f"{len(args)}", path, i + 1, "`" + name)
         return _substitute(macro, [a.strip() for a in args]), end_pos, end_line - i
 
     def _collect_args(self, name, path, lines, i, at):
@@ -547,7 +548,7 @@ class Preprocessor:
                 if len(args) == 1 and args[0].strip() == "" and not macro.params:
                     args = []
                 if len(args) != len(macro.params):
-                    self._error(f"macro `{name} takes {len(macro.params)} argument(s), got "
+                    self._error(f"macro `{name} takes {count(len(macro.params), 'argument')}, got "
                                 f"{len(args)}", path, lineno, "`" + name)
                 body, pos = _substitute(macro, [a.strip() for a in args]), end
             done = self._expand_text(body, path, lineno, depth + 1, active | {name}, memo)
