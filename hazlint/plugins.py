@@ -23,7 +23,6 @@ package would register its own, so there is one plugin mechanism.
 """
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from functools import lru_cache
 from importlib import metadata
@@ -32,9 +31,9 @@ from typing import Any, Callable, Iterable, Mapping
 from .diagnostics import BUILTIN_KINDS, KINDS, Kind, Severity
 from .errors import ConfigError, HazlintError
 from .options import Option
+from .plugin_names import is_name, plugin_name
 
 ENTRY_POINT_GROUP = "hazlint.rules"
-_ID_RE = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
 
 
 @dataclass(frozen=True)
@@ -79,13 +78,8 @@ class Rule:
 
 def rule_from_object(obj: Any, origin: str = "") -> Rule:
     """Validate a rule module/object and wrap it. Raises HazlintError naming what is missing."""
-    missing = [a for a in ("ID", "SUMMARY", "SEVERITY", "check") if not hasattr(obj, a)]
-    if missing:
-        raise HazlintError(f"rule plugin {origin or obj!r} lacks {', '.join(missing)}")
-    rid = obj.ID
-    if not isinstance(rid, str) or not _ID_RE.match(rid):
-        raise HazlintError(f"rule plugin {origin}: bad rule id {rid!r} (lowercase words "
-                           f"joined by hyphens)")
+    rid = plugin_name(obj, ("ID", "SUMMARY", "SEVERITY", "check"), "ID", "rule", "rule id",
+                      origin)
     declared = tuple(getattr(obj, "KINDS", ()))
     new_kinds = tuple(k for k in declared if isinstance(k, Kind))
     kinds = tuple(k.name if isinstance(k, Kind) else k for k in declared)
@@ -95,7 +89,7 @@ def rule_from_object(obj: Any, origin: str = "") -> Rule:
                            f"declared as hazlint.diagnostics.Kind(name, severity, "
                            f"description))")
     for k in new_kinds:
-        if not _ID_RE.match(k.name) or k.name in KINDS:
+        if not is_name(k.name) or k.name in KINDS:
             raise HazlintError(f"rule '{rid}' declares kind '{k.name}': a new kind is "
                                f"lowercase words joined by hyphens, not one of hazlint's own")
     hook = getattr(obj, "prove", None)

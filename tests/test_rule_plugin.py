@@ -11,8 +11,6 @@ pins: one prover, reached through two rules' hooks, must give the same witness.
 from __future__ import annotations
 
 import json
-import os
-import shutil
 import subprocess
 import sys
 from pathlib import Path
@@ -23,29 +21,22 @@ from hazlint.diagnostics import KINDS, Kind
 from hazlint.errors import HazlintError
 from hazlint.plugins import rule_from_object
 
+from support.plugin_install import install_plugin, plugin_env
+
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "fixtures" / "demo"
-PACKAGE = ROOT / "tests" / "plugins" / "toy_rule"
 
 
 @pytest.fixture(scope="module")
 def toy_path(tmp_path_factory):
-    """The toy package installed into a fresh folder (its source copied first: a build
-    leaves files beside the sources, and the test never writes into the repository)."""
-    base = tmp_path_factory.mktemp("toy_rule")
-    src, target = base / "src", base / "site"
-    shutil.copytree(PACKAGE, src)
-    subprocess.run([sys.executable, "-m", "pip", "install", "-q", "--no-deps", "--no-index",
-                    "--no-build-isolation", "--disable-pip-version-check", "--target",
-                    str(target), str(src)], check=True, capture_output=True, text=True)
-    return str(target)
+    """The toy package installed into a fresh folder (tests/support/plugin_install: its source
+    copied first, so the test never writes into the repository)."""
+    return install_plugin("toy_rule", tmp_path_factory.mktemp("toy_rule"))
 
 
 def _hazlint(toy_path, *args):
-    env = dict(os.environ, PYTHONPATH=os.pathsep.join(
-        p for p in (toy_path, os.environ.get("PYTHONPATH", "")) if p))
-    return subprocess.run([sys.executable, "-m", "hazlint", *args], cwd=DEMO, env=env,
-                          capture_output=True, text=True, timeout=300)
+    return subprocess.run([sys.executable, "-m", "hazlint", *args], cwd=DEMO,
+                          env=plugin_env(toy_path), capture_output=True, text=True, timeout=300)
 
 
 def _findings(proc):

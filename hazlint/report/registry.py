@@ -17,17 +17,16 @@ A plugin format that raises while writing is reported with its name, never as a 
 """
 from __future__ import annotations
 
-import re
 from dataclasses import asdict, dataclass
 from functools import lru_cache
 from importlib import metadata
 from typing import Any, Callable, Iterator
 
 from ..errors import HazlintError
+from ..plugin_names import plugin_name
 
 ENTRY_POINT_GROUP = "hazlint.formats"
 DEFAULT_FORMAT = "text"
-_NAME_RE = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
 _OWN_DIST = "hazlint"
 
 
@@ -81,13 +80,8 @@ class Format:
 
 def format_from_object(obj: Any, origin: str = "", builtin: bool = False) -> Format:
     """Check a format module/object and wrap it; a :class:`HazlintError` names what is wrong."""
-    missing = [a for a in ("NAME", "SUMMARY", "write") if not hasattr(obj, a)]
-    if missing:
-        raise HazlintError(f"output format plugin {origin or obj!r} lacks {', '.join(missing)}")
-    name = obj.NAME
-    if not isinstance(name, str) or not _NAME_RE.match(name):
-        raise HazlintError(f"output format plugin {origin}: bad format name {name!r} "
-                           f"(lowercase words joined by hyphens)")
+    name = plugin_name(obj, ("NAME", "SUMMARY", "write"), "NAME", "output format",
+                       "format name", origin)
     if not callable(obj.write):
         raise HazlintError(f"output format plugin {origin}: 'write' is not callable")
     return Format(name=name, summary=str(obj.SUMMARY).strip(), writer=obj.write, origin=origin,
