@@ -25,6 +25,7 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from ..netlist.graph import SOURCE_KINDS
+from ..netlist.walks import path_counts
 from . import fixes as _fixes
 from .batch import classify_batch, prove_symbolic  # noqa: F401 - prove_symbolic: public name
 from .symbolic import Budget, HazardProof, bdd_hazards
@@ -75,16 +76,7 @@ def path_count(graph: nx.DiGraph, order: Sequence[str], source: str, target: str
                ) -> int:
     """Number of paths (pin-wise) from ``source`` to ``target``, capped at ``cap`` (DP over the
     topological order)."""
-    cnt = {source: 1}
-    for n in order:
-        if n == source:
-            continue
-        d = graph.nodes[n]
-        ins = d.get("inputs") or []
-        c = sum(cnt.get(i, 0) for i in ins)
-        if c:
-            cnt[n] = min(c, cap)
-    return cnt.get(target, 0)
+    return path_counts(graph, order, source, cap).get(target, 0)
 
 
 def prove_transition(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, int]],
