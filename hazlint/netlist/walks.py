@@ -60,8 +60,11 @@ def ordered_copy(graph: nx.DiGraph, nodes: set) -> nx.DiGraph:
     keep = [n for n in graph if n in nodes] if len(nodes) * 8 > len(graph) else \
         fanin_postorder(graph, sorted(nodes), within=nodes)
     sub.add_nodes_from((n, graph.nodes[n].copy()) for n in keep)
-    succ = graph.succ
-    sub.add_edges_from((u, v, d.copy()) for u in keep for v, d in succ[u].items() if v in nodes)
+    # the edges into each kept node (``nodes`` is closed under predecessors, so these are all
+    # the edges inside it): walking each node's fan-out instead would cost the whole fan-out
+    # of a reset or clock net, read by every register of a chip, for every copy
+    pred = graph.pred
+    sub.add_edges_from((u, v, d.copy()) for v in keep for u, d in pred[v].items())
     return sub
 
 
