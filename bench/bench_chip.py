@@ -223,7 +223,7 @@ def write(results: list[tuple[int, dict]], path: Path, note: str) -> None:
     for gates, r in results:
         load = r.get("load", {})
         rules = r.get("rules", {})
-        nodes = load.get("nodes") or rules.get("nodes", "")
+        nodes = load.get("nodes") or rules.get("nodes") or r.get("prove", {}).get("nodes", "")
         real = load.get("gates") or rules.get("gates", gates)
         steps = [("load", load, f"{load.get('registers', '')} registers")] if load else []
         if rules:
