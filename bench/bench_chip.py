@@ -10,6 +10,9 @@ memory of that process (``ru_maxrss`` from ``wait4``) are recorded:
 2. ``rules``: load, then the three rules with their default options on one shared context,
    then every finding's deferred text and evidence built (``rules`` and ``findings built``
    are timed inside the child);
+   ``prove`` (only when asked in ``--steps``): load and rules, then the prover's refinement
+   of their findings in one process, timed alone in CPU seconds, with a digest of the
+   refined findings;
 3. ``check cold``: ``hazlint check`` (prover on, the default) with an empty cache folder;
 4. ``check warm``: the same command again (caches filled);
 5. ``--changed``: one tile module's file is edited (a comment line added, so its digest
@@ -69,6 +72,29 @@ for d in found:
 print(json.dumps({"load": t_load, "rules": t_rules, "built": clock() - t,
                   "findings": len(found), "nodes": design.graph.number_of_nodes(),
                   "gates": sum(1 for _, k in design.graph.nodes(data="kind") if k == "gate")}))
+"""
+
+PROVE = r"""
+import hashlib, json, sys, time
+from hazlint.api import load
+from hazlint.config import Config
+from hazlint.analysis import workers
+from hazlint.analysis.context import AnalysisContext
+from hazlint.analysis.refine import refine
+from hazlint.plugins import all_rules
+clock = time.process_time
+design = load(json.loads(sys.argv[1]), Config(top=[sys.argv[2]]), use_cache=False)
+rules = all_rules()
+ctx = AnalysisContext(design, None, {r.id: r.resolve_options({}) for r in rules})
+found = [d for r in rules for d in r.check(design, ctx)]
+t = clock()
+with workers.configured(1, None):
+    out = refine(design, found, ctx, {})
+t_prove = clock() - t
+digest = hashlib.sha256(json.dumps([d.to_json() for d in out], sort_keys=True,
+                                   default=repr).encode()).hexdigest()[:16]
+print(json.dumps({"prove": t_prove, "findings": len(found), "refined": len(out),
+                  "digest": digest, "nodes": design.graph.number_of_nodes()}))
 """
 
 
@@ -139,6 +165,12 @@ def bench(gates: int, work: Path, timeout: float, cores=None, load_step=True,
         out["rules"] = run([*py, "-c", RULES, json.dumps(files), info["top"]],
                            timeout=timeout)
         print(f"  rules: {out['rules']}", flush=True)
+    if "prove" in steps:
+        # the prover's refinement alone, one process, default options: CPU seconds and a
+        # digest of the refined findings (the same digest for the same findings)
+        out["prove"] = run([*py, "-c", PROVE, json.dumps(files), info["top"]],
+                           timeout=timeout)
+        print(f"  prove: {out['prove']}", flush=True)
     if "check" not in steps:
         return out
     hz = [*py, "-m", "hazlint", "check", "--brief", "-o", str(folder / "report.txt"),
@@ -191,7 +223,7 @@ def write(results: list[tuple[int, dict]], path: Path, note: str) -> None:
     for gates, r in results:
         load = r.get("load", {})
         rules = r.get("rules", {})
-        nodes = load.get("nodes") or rules.get("nodes", "")
+        nodes = load.get("nodes") or rules.get("nodes") or r.get("prove", {}).get("nodes", "")
         real = load.get("gates") or rules.get("gates", gates)
         steps = [("load", load, f"{load.get('registers', '')} registers")] if load else []
         if rules:
@@ -200,6 +232,12 @@ def write(results: list[tuple[int, dict]], path: Path, note: str) -> None:
                           f"{rules.get('rules', 0):.1f} s, findings built "
                           f"{rules.get('built', 0):.1f} s, {rules.get('findings', '')} "
                           "findings" if "rules" in rules else rules.get("error", "")))
+        if "prove" in r:
+            pr = r["prove"]
+            steps.append(("prover's refinement alone (-j 1)", pr,
+                          f"CPU: refinement {pr.get('prove', 0):.1f} s, {pr.get('findings', '')}"
+                          f" findings in, {pr.get('refined', '')} out, digest "
+                          f"{pr.get('digest', '')}" if "prove" in pr else pr.get("error", "")))
         if "cold" in r:
             args = "".join(f" {x}" for x in r.get("check_args", []))
             steps += [(f"check{args}, cold", r["cold"], r.get("summary", "")),
@@ -235,7 +273,8 @@ def main() -> None:
     ap.add_argument("--memory-mb", type=int, default=0,
                     help="cap each step's address space at this many MB (0: none)")
     ap.add_argument("--steps", default="load,rules,check",
-                    help="which steps to run: load, rules, check (cold, warm, --changed)")
+                    help="which steps to run: load, rules, prove (the prover's refinement "
+                         "alone, -j 1), check (cold, warm, --changed)")
     a = ap.parse_args()
     tmp = None
     if a.work:

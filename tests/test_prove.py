@@ -86,6 +86,17 @@ def test_refine_severity_absent_and_inconclusive():
         assert "budget" in c.reason
 
 
+def test_refine_same_whether_the_design_is_known_acyclic_or_walked():
+    # a design that carries its topological order (known acyclic) skips the loop walk; the
+    # verdict is the textbook one either way (common practice: A = C = 1, B changing)
+    known = _Design(_sop(role="reset"))
+    known.topo_order = list(known.graph)
+    walked = _Design(_sop(role="reset"))
+    got = [refine(d, [_finding("B", "F", ["<sink>F"])], None, {})[0] for d in (known, walked)]
+    assert got[0] == got[1] and got[0].kind == "static-1-hazard"
+    assert got[0].evidence["witness"]["inputs"] == {"A": 1, "C": 1}
+
+
 def test_oscillation_finding_for_a_ring():
     g = build_graph(["en"], [], [])
     for name, op, ins in [("n1", "nand", ["en", "n3"]), ("n2", "not", ["n1"]),

@@ -167,3 +167,26 @@ def test_loops_oscillation_storage_and_procedure_b():
     state = {"S": (0, 1), "R": (1, 0), "q": (0, 1), "qn": (1, 0)}
     res = procedure_a_b(latch, ["q", "qn"], state, {"S": 1, "R": 0}, {"S": 0, "R": 0}, A)
     assert res["q"] == (0, 1) and res["qn"] == (1, 0)
+
+
+def test_consensus_fix_copies_only_the_cone_it_checks():
+    # F = A&~B | B&C (static-1 on B falling, A = C = 1) beside an unrelated output G that
+    # reads B and D: the fix at F's OR gate is the consensus term A&C (consensus theorem,
+    # common practice), verified on a copy of F's cone alone
+    from hazlint.analysis.fixes import add_term, consensus_fix
+    g = build_graph(["A", "B", "C", "D"],
+                    [("nb", "not", ["B"], 1), ("t1", "and", ["A", "nb"], 1),
+                     ("t2", "and", ["B", "C"], 1), ("F", "or", ["t1", "t2"], 1),
+                     ("G", "xor", ["B", "D"], 1)], ["F", "G"])
+    before, after = {"A": 1, "B": 1, "C": 1, "D": 0}, {"A": 1, "B": 0, "C": 1, "D": 0}
+    fix = consensus_fix(g, "<sink>F", "static-1-hazard", before, after, ["F"])
+    assert fix is not None and fix["verified"] and fix["term"] == [["A", True], ["C", True]]
+    term = frozenset({("A", True), ("C", True)})
+    part = add_term(g, "F", term, "static-1-hazard", roots=["<sink>F"])
+    whole = add_term(g, "F", term, "static-1-hazard")
+    assert "G" not in part and "D" not in part and "G" in whole
+    assert set(whole.nodes) - set(part.nodes) == {"G", "D", "<sink>G"}
+    assert sorted(part.edges) == sorted(e for e in whole.edges if e[1] in part)
+    assert classify_explicit(g, "<sink>F", before, after) == "static-1-hazard"
+    for h in (part, whole):
+        assert classify_explicit(h, "<sink>F", before, after) is None

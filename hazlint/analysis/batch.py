@@ -30,7 +30,7 @@ import networkx as nx
 
 from .. import budget
 from ..findings.words import count
-from ..netlist.walks import sources_in_pin_order
+from ..netlist.walks import path_counts, sources_in_pin_order
 from .satcheck import sat_hazards
 from .symbolic import Budget, HazardProof, bdd_hazards
 from .ternary import (HAZARD_KINDS, IntAlgebra, cone, free_sources, propagate, ternary_gate)
@@ -100,7 +100,7 @@ def classify_batch(g: nx.DiGraph, targets: Sequence[str] | None, opts: Mapping[s
             if not rest:
                 continue
             if x not in counts:
-                counts[x] = _path_counts(g, order, x, pos=pos)
+                counts[x] = path_counts(g, order, x, pos=pos)
             if counts[x].get(t, 0) <= 1:
                 for k in rest:
                     res[k] = HazardProof(k, "absent", method="structural",
@@ -236,28 +236,6 @@ def _simulate(shared, p: _Pass, item, local) -> dict:
                                 k, "present", witness=wit, method="simulation",
                                 reason=f"found by ternary simulation of {count(vectors, 'vector')}")
     return found
-
-
-def _path_counts(g, order, source, cap=2, pos=None) -> dict[str, int]:
-    """Paths (pin-wise) from ``source`` to every node, capped (DP over the topological order of
-    ``source``'s fan-out only; with ``pos``, each node's position in ``order``, the fan-out is
-    sorted instead of ``order`` scanned: many sources with small fan-outs cost their size)."""
-    cnt = {source: 1}
-    stack, fo = [source], {source}
-    while stack:
-        n = stack.pop()
-        for s in g.successors(n):
-            if s not in fo:
-                fo.add(s)
-                stack.append(s)
-    walk = order if pos is None else sorted((n for n in fo if n in pos), key=pos.__getitem__)
-    for n in walk:
-        if n == source or n not in fo:
-            continue
-        c = sum(cnt.get(i, 0) for i in g.nodes[n].get("inputs") or ())
-        if c:
-            cnt[n] = min(c, cap)
-    return cnt
 
 
 def _var_order(g, order, targets, srcs) -> list[str]:

@@ -28,6 +28,7 @@ class AnalysisContext:
         self._options = {k: dict(v) for k, v in (options or {}).items()}
         self._hop_cache: dict[str, tuple] = {}
         self._hops: dict[tuple, Hop] = {}
+        self._shown: dict[str, str] = {}     # display_path per path (a few files, many calls)
         self._reach_cache: dict[str, tuple] = {}
 
     # ---- options -------------------------------------------------------------------------------
@@ -241,11 +242,14 @@ class AnalysisContext:
 
     def display_path(self, path: str) -> str:
         """A path as reports print it: relative to the project root when there is one."""
-        root = getattr(self.config, "root", None)
-        if not root or not path:
-            return path
-        from ..paths import relpath
-        return relpath(path, root)
+        shown = self._shown.get(path)
+        if shown is None:
+            root = getattr(self.config, "root", None)
+            if not root or not path:
+                return path
+            from ..paths import relpath
+            shown = self._shown[path] = relpath(path, root)
+        return shown
 
     def where(self, n: str) -> str:
         """``path:line`` of a node for evidence text (relative to the project root)."""

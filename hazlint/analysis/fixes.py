@@ -21,6 +21,7 @@ import networkx as nx
 
 from ..findings.words import TimeUnit, gate_words
 from ..netlist.library import Delay
+from ..netlist.walks import fanin, ordered_copy
 from .ternary import IntAlgebra, bool_gate, classify_explicit, cone, propagate
 
 MAX_CUBES = 64
@@ -112,10 +113,16 @@ def term_text(term: frozenset, graph: nx.DiGraph, sep: str = " & ", neg: str = "
     return sep.join(f"{'' if p else neg}{nm(n)}" for n, p in sorted(term, key=lambda l: nm(l[0])))
 
 
-def add_term(graph: nx.DiGraph, node: str, term: frozenset, kind: str) -> nx.DiGraph:
+def add_term(graph: nx.DiGraph, node: str, term: frozenset, kind: str,
+             roots: Sequence[str] | None = None) -> nx.DiGraph:
     """A copy of ``graph`` where every reader of ``node`` reads ``node | term`` (static-1) or
-    ``node & ~term`` (static-0, the dual clause) instead."""
-    h = graph.copy()
+    ``node & ~term`` (static-0, the dual clause) instead. With ``roots``, only the fan-in
+    cone of ``roots`` and of the term's literals is copied (what a check at ``roots`` reads;
+    a copy of a whole chip for each fix would cost the chip's size)."""
+    if roots is None:
+        h = graph.copy()
+    else:
+        h = ordered_copy(graph, fanin(graph, [*roots, *(n for n, _ in sorted(term))]))
     lits = []
     for k, (n, p) in enumerate(sorted(term)):
         if p:
@@ -135,7 +142,7 @@ def add_term(graph: nx.DiGraph, node: str, term: frozenset, kind: str) -> nx.DiG
         else:
             h.add_edge(n, t, pins=[i])
     out = f"{node}.fix_out"
-    readers = list(graph.successors(node))
+    readers = [r for r in graph.successors(node) if r in h]
     zero = [Delay.fixed(0.0)] * 2
     if kind == "static-1-hazard":
         h.add_node(out, kind="gate", op="or", inputs=[node, t], pins=["A", "B"], delays=zero,
@@ -210,7 +217,7 @@ def _consensus_at(graph, target, kind, before, after, va, vb, node) -> dict | No
         if term is None:
             continue
         node_kind = "static-1-hazard" if positive else "static-0-hazard"
-        fixed = add_term(graph, node, term, node_kind)
+        fixed = add_term(graph, node, term, node_kind, roots=[target])
         verified = classify_explicit(fixed, target, before, after) != kind
         if not verified:
             continue

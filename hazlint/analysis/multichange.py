@@ -39,7 +39,7 @@ from dataclasses import dataclass, field
 from typing import Any, Mapping, Sequence
 
 from ..netlist.graph import SOURCE_KINDS
-from ..netlist.walks import sources_in_pin_order
+from ..netlist.walks import path_counts, sources_in_pin_order
 from .changes import ChangeModel, SinkModel
 from .changesim import known_minimal, random_transitions
 from .symbolic import BACKEND, Budget, BDDAlgebra, HazardProof, new_manager
@@ -230,7 +230,7 @@ def decide_sink(graph, target: str, model: ChangeModel | SinkModel | None = None
     if not sm.sources:
         v.method = "structural"
         return _all(v, "absent", "no source of the cone can change")
-    if len(sm.sources) == 1 and _paths(graph, order, sm.sources[0], target) <= 1:
+    if len(sm.sources) == 1 and path_counts(graph, order, sm.sources[0]).get(target, 0) <= 1:
         v.method = "structural"
         return _all(v, "absent", "a single path from its only changing source")
     node_budget = int(opts.get("node_budget", 100_000))
@@ -272,17 +272,6 @@ def _all(v: SinkVerdict, status: str, reason: str) -> SinkVerdict:
         v.kinds[k] = {q: Found(status, reason=reason) for q in QUESTIONS}
     v.reason = reason
     return v
-
-
-def _paths(graph, order, source, target, cap=2) -> int:
-    cnt = {source: 1}
-    for n in order:
-        if n == source:
-            continue
-        c = sum(cnt.get(i, 0) for i in graph.nodes[n].get("inputs") or ())
-        if c:
-            cnt[n] = min(c, cap)
-    return cnt.get(target, 0)
 
 
 def _source_order(graph, target, sources) -> list[str]:

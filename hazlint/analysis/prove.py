@@ -26,6 +26,7 @@ import networkx as nx
 
 from ..findings.words import UNIT_DELAYS, TimeUnit, count
 from ..netlist.graph import SOURCE_KINDS
+from ..netlist.walks import path_counts
 from ..options import PROVE
 from . import fixes as _fixes
 from .batch import classify_batch, prove_symbolic  # noqa: F401 - prove_symbolic: public name
@@ -58,16 +59,7 @@ def path_count(graph: nx.DiGraph, order: Sequence[str], source: str, target: str
                ) -> int:
     """Number of paths (pin-wise) from ``source`` to ``target``, capped at ``cap`` (DP over the
     topological order)."""
-    cnt = {source: 1}
-    for n in order:
-        if n == source:
-            continue
-        d = graph.nodes[n]
-        ins = d.get("inputs") or []
-        c = sum(cnt.get(i, 0) for i in ins)
-        if c:
-            cnt[n] = min(c, cap)
-    return cnt.get(target, 0)
+    return path_counts(graph, order, source, cap).get(target, 0)
 
 
 def prove_transition(graph: nx.DiGraph, target: str, changes: Mapping[str, tuple[int, int]],

@@ -75,7 +75,7 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     plans = [_plan(graph, d, context, opts, memo, r) for d, r in zip(diagnostics, reqs)]
     view = _ContextView.of(graph, context)
     with workers.Session({"graph": graph, "context": view}, graph.number_of_nodes()) as ses:
-        known = _decide_batch(graph, plans, opts, ses)
+        known = _decide_batch(graph, plans, opts, ses, _loop_reach(design, graph, context))
         limit = int(opts["max_findings"])
         rank = sorted((i for i, p in enumerate(plans) if p is not None),
                       key=lambda i: plans[i][0])
@@ -254,14 +254,31 @@ def _plan(graph, d: Diagnostic, context, opts, memo=None, req="hook"):
     return None
 
 
-def _decide_batch(graph, plans, opts, session=None) -> dict[tuple[str, str], dict[str, HazardProof]]:
+def _loop_reach(design, graph, context) -> set[str] | None:
+    """Nodes behind a combinational loop: none, without a walk, when the run already knows
+    the graph is acyclic (the design's topological order, or the context's timing graph
+    over every node with no edge cut to break a loop); None: not known, walk the graph."""
+    known = vars(design) if design is not graph and hasattr(design, "__dict__") else {}
+    if "topo_order" in known or known.get("has_loop") is False:
+        return set()
+    tg = vars(context).get("timing_graph") if hasattr(context, "__dict__") else None
+    if tg is not None and getattr(context, "graph", None) is graph and not tg.cut_edges \
+            and len(tg.order) == graph.number_of_nodes():
+        return set()
+    return None
+
+
+def _decide_batch(graph, plans, opts, session=None, looped: set[str] | None = None
+                  ) -> dict[tuple[str, str], dict[str, HazardProof]]:
     """Every (sink, source) single change the plans need, decided in one batched pass. Sinks
-    whose fan-in cone holds a combinational loop are left out (proven one by one)."""
+    whose fan-in cone holds a combinational loop (``looped``: the nodes behind one, None to
+    find them) are left out (proven one by one)."""
     wanted = {(s, x) for p in plans if p is not None for s, xs in p[1] for x in xs}
     if not wanted:
         return {}
     targets = sorted({s for s, _ in wanted})
-    looped = behind_loops(graph)
+    if looped is None:
+        looped = behind_loops(graph)
     targets = [t for t in targets if t not in looped]
     if not targets:
         return {}

@@ -116,21 +116,23 @@ class TimingGraph:
     @cached_property
     def fanin(self) -> list[list[tuple[int, int, float, float]]]:
         """Per node: (pred index, pin index, min delay, max delay) per input pin."""
-        p, s, pin, lo, hi = self.fi_ptr, self.fi_src, self.fi_pin, self.fi_dmin, self.fi_dmax
-        return [list(zip(s[p[v]:p[v + 1]], pin[p[v]:p[v + 1]], lo[p[v]:p[v + 1]],
-                         hi[p[v]:p[v + 1]])) for v in range(len(self.order))]
+        # one conversion to lists, then list slices (slicing the arrays per node costs more)
+        p = self.fi_ptr.tolist()
+        rows = list(zip(self.fi_src.tolist(), self.fi_pin.tolist(), self.fi_dmin.tolist(),
+                        self.fi_dmax.tolist()))
+        return [rows[p[v]:p[v + 1]] for v in range(len(self.order))]
 
     @cached_property
     def fanout(self) -> list[list[int]]:
         """Distinct successor indices, ascending."""
-        p, d = self.fo_ptr, self.fo_dst
-        return [list(d[p[v]:p[v + 1]]) for v in range(len(self.order))]
+        p, d = self.fo_ptr.tolist(), self.fo_dst.tolist()
+        return [d[p[v]:p[v + 1]] for v in range(len(self.order))]
 
     @cached_property
     def preds(self) -> list[list[int]]:
         """Distinct predecessor indices, ascending."""
-        p, s = self.pr_ptr, self.pr_src
-        return [list(s[p[v]:p[v + 1]]) for v in range(len(self.order))]
+        p, s = self.pr_ptr.tolist(), self.pr_src.tolist()
+        return [s[p[v]:p[v + 1]] for v in range(len(self.order))]
 
     def reach_bits(self, sinks) -> list[int]:
         """For every node (by index), the set of ``sinks`` (node names, each in the graph) it

@@ -60,8 +60,11 @@ def ordered_copy(graph: nx.DiGraph, nodes: set) -> nx.DiGraph:
     keep = [n for n in graph if n in nodes] if len(nodes) * 8 > len(graph) else \
         fanin_postorder(graph, sorted(nodes), within=nodes)
     sub.add_nodes_from((n, graph.nodes[n].copy()) for n in keep)
-    succ = graph.succ
-    sub.add_edges_from((u, v, d.copy()) for u in keep for v, d in succ[u].items() if v in nodes)
+    # the edges into each kept node (``nodes`` is closed under predecessors, so these are all
+    # the edges inside it): walking each node's fan-out instead would cost the whole fan-out
+    # of a reset or clock net, read by every register of a chip, for every copy
+    pred = graph.pred
+    sub.add_edges_from((u, v, d.copy()) for v in keep for u, d in pred[v].items())
     return sub
 
 
@@ -210,3 +213,34 @@ def sources_in_pin_order(graph: "nx.DiGraph", roots: Iterable[str], sources) -> 
                 stack.append((nxt, iter(nodes[nxt].get("inputs") or ())))
     placed = set(out)
     return out + [n for n in sources if n not in placed]
+
+
+def path_counts(graph: "nx.DiGraph", order, source: str, cap: int = 2,
+                pos: dict | None = None) -> dict[str, int]:
+    """Paths from ``source`` to every node it reaches, counted pin-wise (a gate reading the
+    same net on two pins counts two) and capped at ``cap``: dynamic programming over the
+    topological ``order``. With ``pos`` (each node's position in ``order``) only ``source``'s
+    fan-out is sorted and walked instead of all of ``order`` scanned, so many sources with
+    small fan-outs cost their size. Nodes no path reaches are absent.
+
+    >>> import networkx
+    >>> g = networkx.DiGraph([("a", "g"), ("g", "h"), ("a", "h")])
+    >>> g.nodes["g"]["inputs"] = ["a", "a"]; g.nodes["h"]["inputs"] = ["g", "a"]
+    >>> path_counts(g, ["a", "g", "h"], "a", cap=9)
+    {'a': 1, 'g': 2, 'h': 3}
+    """
+    cnt = {source: 1}
+    nodes = graph.nodes
+    if pos is None:
+        walk = order
+    else:
+        walk = sorted((n for n in fanout(graph, [source]) if n in pos), key=pos.__getitem__)
+    for n in walk:
+        if n == source:
+            continue
+        c = 0
+        for i in nodes[n].get("inputs") or ():
+            c += cnt.get(i, 0)
+        if c:
+            cnt[n] = min(c, cap)
+    return cnt
