@@ -86,6 +86,7 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
     def load_fresh():
         from .elaborate import elaborate
         from .frontends.registry import read_sources
+        from .gcpause import collector_paused
         kwargs: dict[str, Any] = {"include_dirs": include_dirs, "defines": defines,
                                   "frontend": config.frontend}
         params = inspect.signature(read_sources).parameters
@@ -106,9 +107,10 @@ def load(files: Sequence[str], config: Config, *, texts: Mapping[str, str] | Non
                                    "takes no 'texts')")
             kwargs["texts"] = abs_texts
         library = config.library()
-        sources = read_sources(list(files), tolerant=True, **kwargs)
-        design = elaborate(sources, top=chosen_top, library=library,
-                           memory_max_bits=config.memory_as_registers_max_bits)
+        with collector_paused():
+            sources = read_sources(list(files), tolerant=True, **kwargs)
+            design = elaborate(sources, top=chosen_top, library=library,
+                               memory_max_bits=config.memory_as_registers_max_bits)
         _apply_sdf(design, config, library)
         return design, sources
 
