@@ -3,7 +3,7 @@
 The netlists are the ones shipped in the PyPI package circuitgraph==0.2.1 (read in place through
 importlib.resources). Each measurement runs in a fresh interpreter, as a rerun of the command
 would: the cold run starts with an empty cache folder, the warm run reuses it. Inside the child
-we time ``hazlint.api.load`` and the whole ``check`` command in CPU seconds of the child (the
+we time ``hazlint.pipeline.load`` and the whole ``check`` command in CPU seconds of the child (the
 machine may be shared), and the whole process wall time from outside; separately, the parse
 cache alone (``read_sources`` cold versus warm).
 
@@ -29,12 +29,12 @@ NETLISTS = {"ISCAS c7552": "netlists/c7552.v", "EPFL sin": "netlists/sin.v"}
 CHILD = r"""
 import json, os, sys, time
 t0 = time.perf_counter()
-import hazlint.api as api
+import hazlint.pipeline as pipeline
 from hazlint.cli import main
 t_import = time.perf_counter() - t0
 path, cache_dir, mode, fmt = sys.argv[1], sys.argv[2], sys.argv[3], sys.argv[4]
-# instrumentation only: the real api.load runs, its CPU time is added up
-real_load = api.load
+# instrumentation only: the real pipeline.load runs, its CPU time is added up
+real_load = pipeline.load
 spent = [0.0]
 def timed_load(*a, **k):
     t = time.process_time()
@@ -42,8 +42,8 @@ def timed_load(*a, **k):
         return real_load(*a, **k)
     finally:
         spent[0] += time.process_time() - t
-api.load = timed_load
-real_lint = api.lint
+pipeline.load = timed_load
+real_lint = pipeline.lint
 spent_lint = [0.0]
 def timed_lint(*a, **k):
     t = time.process_time()
@@ -51,7 +51,7 @@ def timed_lint(*a, **k):
         return real_lint(*a, **k)
     finally:
         spent_lint[0] += time.process_time() - t
-api.lint = timed_lint
+pipeline.lint = timed_lint
 from hazlint.store.design import DesignCache
 from hazlint.store.result import ResultCache
 # CPU time of this process: the machine may be busy with other work, wall time would be noisy
@@ -209,9 +209,9 @@ def write_report(rows: dict, out: str, repeat: int) -> None:
             f"report {kept / 1e6:.2f} MB. Parse cache alone (`read_sources`): cold "
             f"{r['read_cold']:.3f} s, warm {r['read_warm']:.3f} s "
             f"({pct(r['read_warm'], r['read_cold']):.1f}%).")
-    lines += ["", "CPU seconds in the process for \"load\" (`hazlint.api.load`: read, "
+    lines += ["", "CPU seconds in the process for \"load\" (`hazlint.pipeline.load`: read, "
               "elaborate, SDF; on a warm run from the design cache, 0 when the report cache "
-              "answered), \"lint\" (`hazlint.api.lint`: configuration, load, rules or the "
+              "answered), \"lint\" (`hazlint.pipeline.lint`: load, rules or the "
               "result cache, prover, waivers, baseline; 0 when the report cache answered) and "
               "\"command\" (the whole `check` command, writing the report included); wall "
               "seconds for \"process\" (the whole child process, interpreter start "

@@ -16,12 +16,12 @@ from __future__ import annotations
 
 import argparse
 import importlib.resources
-import json
 import os
-import platform
-import subprocess
 import sys
-import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from fresh import best, recorded, run  # noqa: E402
 
 EPFL = ["adder.v", "arbiter.v", "bar.v", "cavlc.v", "ctrl.v", "dec.v", "div.v", "i2c.v",
         "int2float.v", "log2.v", "max.v", "memctrl.v", "multiplier.v", "priority_ckt.v",
@@ -64,19 +64,6 @@ print(json.dumps({"import": t1 - t0, "read": t2 - t1, "elaborate": t3 - t2, "sec
 """
 
 
-def best(n: int, code: str, *args: str) -> dict:
-    """The fastest of ``n`` fresh-process runs (the least disturbed by other load)."""
-    return min((run(code, *args) for _ in range(n)), key=lambda r: r["seconds"])
-
-
-def run(code: str, *args: str) -> dict:
-    r = subprocess.run([sys.executable, "-c", code, *args], capture_output=True, text=True,
-                       timeout=3600)
-    if r.returncode != 0:
-        raise SystemExit(f"benchmark child failed:\n{r.stderr}")
-    return json.loads(r.stdout.strip().splitlines()[-1])
-
-
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("names", nargs="*", default=EPFL)
@@ -100,11 +87,9 @@ def main() -> None:
               f"{pv['seconds']:.2f}s; ratio {sl['seconds'] / ps['seconds']:.1f}", flush=True)
     with open(args.out, "w") as f:
         f.write("# Front-end benchmark\n\n")
-        f.write(f"Recorded {time.strftime('%Y-%m-%d')} on {platform.machine()}, "
-                f"{os.cpu_count()} cores, Python {platform.python_version()}, by "
-                f"`python bench/bench_frontends.py --repeat {args.repeat}`. Each row is the "
-                f"fastest of {args.repeat} fresh processes per measurement; times in seconds, peak "
-                "resident memory in MB.\n\n")
+        f.write(recorded(f"python bench/bench_frontends.py --repeat {args.repeat}") + " "
+                f"Each row is the fastest of {args.repeat} fresh processes per measurement; "
+                "times in seconds, peak resident memory in MB.\n\n")
         f.write("| netlist | size | pyslang parse | + elaborate | = total | peak | slang read "
                 "| + hazlint elaborate | = slang load | peak | pyverilog read | + hazlint "
                 "elaborate | = pyverilog load | peak | graph nodes | slang load / pyslang |\n")

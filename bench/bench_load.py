@@ -12,13 +12,13 @@ from __future__ import annotations
 
 import argparse
 import importlib.resources
-import json
 import os
-import platform
-import subprocess
 import sys
 import tempfile
-import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from fresh import recorded, run  # noqa: E402
 
 DEFAULT = ["multiplier.v", "sin.v", "c6288.v", "c7552.v", "s38417.v", "voter.v"]
 
@@ -47,14 +47,6 @@ print(json.dumps({"seconds": dt, "peak_mb": resource.getrusage(resource.RUSAGE_S
 """
 
 
-def run(code: str, *args: str) -> dict:
-    r = subprocess.run([sys.executable, "-c", code, *args], capture_output=True, text=True,
-                       timeout=3600)
-    if r.returncode != 0:
-        raise SystemExit(f"benchmark child failed:\n{r.stderr}")
-    return json.loads(r.stdout.strip().splitlines()[-1])
-
-
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("names", nargs="*", default=DEFAULT)
@@ -76,9 +68,8 @@ def main() -> None:
                   f"({ours['nodes']} nodes)", flush=True)
     with open(args.out, "w") as f:
         f.write("# Load benchmark\n\n")
-        f.write(f"Recorded {time.strftime('%Y-%m-%d')} on {platform.machine()}, "
-                f"{os.cpu_count()} cores, Python {platform.python_version()}, by "
-                f"`python bench/bench_load.py`. Each figure is one fresh process.\n\n")
+        f.write(recorded("python bench/bench_load.py") + " Each figure is one fresh "
+                "process.\n\n")
         f.write("| netlist | size | stock pyverilog parse (s) | peak (MB) | hazlint load (s) "
                 "| peak (MB) | graph nodes | ratio |\n|---|---:|---:|---:|---:|---:|---:|---:|\n")
         for name, size, s, o in rows:

@@ -59,7 +59,7 @@ def timed(self, *a):
 bg.GraphEmitter.build_graph = timed
 cells = {"fflopd": {"inputs": ["CK", "D"], "outputs": {"Q": "IQ"},
                     "ff": {"clocked_on": "CK", "next_state": "D"}}}
-gc.disable()                        # as hazlint.load_design and api.load do
+gc.disable()                        # as hazlint.load_design and pipeline.load do
 t0 = c()
 sources = read_sources([sys.argv[1]], frontend=sys.argv[2], tolerant=True)
 t1 = c()

@@ -30,6 +30,7 @@ from typing import Iterable, Sequence
 from . import __version__
 from .diagnostics import Diagnostic, sort_diagnostics
 from .errors import ConfigError
+from .paths import relpath
 
 FORMAT = 1
 _MAGIC = "hazlint-baseline"
@@ -38,19 +39,6 @@ _MAGIC = "hazlint-baseline"
 def fingerprint(d: Diagnostic) -> str:
     """Stable identity of a finding across unrelated edits (hex, 32 characters)."""
     return hashlib.sha256(d.fingerprint_material().encode("utf-8")).hexdigest()[:32]
-
-
-def _rel(path: str, root: str | None) -> str:
-    if not path:
-        return path
-    if root:
-        try:
-            rel = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
-            if not rel.startswith(".."):
-                return rel.replace(os.sep, "/")
-        except ValueError:
-            pass
-    return path.replace(os.sep, "/")
 
 
 @dataclass
@@ -95,7 +83,7 @@ def baseline_entries(diagnostics: Iterable[Diagnostic], root: str | None = None)
         if d.waived is not None:
             continue
         rows.append({"fingerprint": fingerprint(d), "rule": d.rule, "kind": d.kind,
-                     "instance": d.instance, "path": _rel(d.location.path, root),
+                     "instance": d.instance, "path": relpath(d.location.path, root),
                      "line": d.location.line, "message": d.message})
     rows.sort(key=lambda r: (r["path"], r["rule"], r["instance"], r["fingerprint"]))
     return rows

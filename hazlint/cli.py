@@ -1,9 +1,9 @@
 """The ``hazlint`` command line.
 
 ``hazlint [check] FILES...`` lints (the default command); other commands are named first:
-``hazlint summary``, ``hazlint rules``, ``hazlint explain RULE``, ... Each command lives in its own
-module under :mod:`hazlint.commands` with ``add_arguments(parser)`` and ``run(args) -> int``, and is
-listed in :data:`COMMANDS`. Errors in the user's input end with exit code 2 and one
+``hazlint summary``, ``hazlint rules``, ``hazlint formats``, ``hazlint explain RULE``, ... Each
+command lives in its own module under :mod:`hazlint.commands` with ``add_arguments(parser)`` and
+``run(args) -> int``, and is listed in :data:`COMMANDS`. Errors in the user's input end with exit code 2 and one
 ``file:line: error: ...`` line on stderr, never a traceback.
 """
 from __future__ import annotations
@@ -21,6 +21,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "check": ("check", "lint Verilog files for glitch hazards (the default command)"),
     "summary": ("summary", "summarise a design: ports, gates by type, registers, depth"),
     "rules": ("rules_cmd", "list the rules"),
+    "formats": ("formats_cmd", "list the report formats"),
     "explain": ("explain", "print one rule's documentation"),
     "prove": ("prove", "classify hazards with ternary simulation and show the witness waveform"),
     "lsp": ("lsp_cmd", "run the language server over stdio"),

@@ -16,6 +16,7 @@ Keys (all optional)::
                      ff = { clocked_on = "CK", next_state = "D" } } }
     liberty = ["lib/cells.lib"]
     sdf = "build/press.sdf"
+    sdf_corner = "minmax"           # min | typ | max | minmax: which SDF values are the delays
     select = ["combinational-loop"]          # run only these rules
     ignore = ["unbalanced-reconvergence"]
     severity = { unbalanced-reconvergence = "error" }
@@ -32,7 +33,8 @@ Keys (all optional)::
     jobs = 2                        # worker processes (default: every core for the prover)
     scheduler = "tcp://10.0.0.5:8786"   # prover work on a Dask cluster (extra 'cluster')
     frontend = "auto"               # auto | pyverilog | slang (auto: .sv files through slang)
-    prove = { }                     # options handed to the hazard prover
+    format = "sarif"                # report format of `check` (`hazlint formats` lists them)
+    prove = { }                     # hazard-prover options (hazlint.options.PROVE_OPTIONS)
     memory_as_registers_max_bits = 4096   # larger variable arrays become memory nodes
     time_budget = 60                # seconds for the whole run (0: none); see hazlint.budget
     limits = { vector_width = 1048576 }   # size limits; see hazlint.limits
@@ -57,6 +59,7 @@ else:  # pragma: no cover
 
 from .diagnostics import Severity
 from .errors import ConfigError
+from .options import DELAYS, PROVE, RUN
 
 CONFIG_NAMES = ("hazlint.toml", "pyproject.toml")
 
@@ -69,6 +72,7 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "cells": ((dict,), "a table of cell tables"),
     "liberty": ((list, str), "a list of .lib paths"),
     "sdf": ((list, str), "an SDF path"),
+    "sdf_corner": ((str,), "min, typ, max or minmax"),
     "select": ((list, str), "a list of rule ids"),
     "ignore": ((list, str), "a list of rule ids"),
     "severity": ((dict,), "a table of rule id = severity"),
@@ -86,12 +90,12 @@ KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "jobs": ((int,), "a number of worker processes"),
     "scheduler": ((str,), "a Dask scheduler address, e.g. tcp://host:8786"),
     "frontend": ((str,), "auto, pyverilog or slang"),
+    "format": ((str,), "a report format name (hazlint formats lists them)"),
     "prove": ((dict,), "a table of hazard-prover options"),
     "memory_as_registers_max_bits": ((int,), "a number of bits (arrays up to it are registers)"),
     "time_budget": ((int, float), "a number of seconds (0: no time limit)"),
     "limits": ((dict,), "a table of limit = number (see hazlint.limits)"),
 }
-FAIL_LEVELS = ("error", "warning", "info", "never")
 
 
 @dataclass
@@ -107,6 +111,7 @@ class Config:
     cells: dict[str, Any] = field(default_factory=dict)
     liberty: list[str] = field(default_factory=list)
     sdf: list[str] = field(default_factory=list)
+    sdf_corner: str = DELAYS.defaults()["sdf_corner"]
     select: list[str] | None = None
     ignore: list[str] = field(default_factory=list)
     severity: dict[str, str] = field(default_factory=dict)
@@ -124,6 +129,7 @@ class Config:
     jobs: int | None = None
     scheduler: str | None = None
     frontend: str = "auto"
+    format: str = "text"
     prove: dict[str, Any] = field(default_factory=dict)
     memory_as_registers_max_bits: int = 4096
     time_budget: float | None = None  # seconds (None: the default, 0: none)
@@ -144,11 +150,13 @@ class Config:
         line = self.key_lines.get(key or "", 0)
         return f"{self.path}:{line}: " if line else f"{self.path}: "
 
-    def library(self):
-        """Cells from ``cells`` and ``liberty`` as a :class:`hazlint.netlist.library.Library`."""
+    def library(self, liberty: list[str] | None = None):
+        """Cells from ``cells`` and ``liberty`` (the configuration's, or the files given) as a
+        :class:`hazlint.netlist.library.Library`."""
         from .netlist.library import Library, cell_from_config
         lib = Library()
-        if self.liberty:
+        liberty = self.liberty if liberty is None else liberty
+        if liberty:
             try:
                 from .delays.liberty import read_liberty
             except ModuleNotFoundError as exc:
@@ -157,7 +165,7 @@ class Config:
                 raise ConfigError("Liberty files are configured but Liberty reading is not "
                                   "available in this build", path=self.path,
                                   line=self.key_lines.get("liberty")) from None
-            for p in self.liberty:
+            for p in liberty:
                 if not os.path.exists(p):
                     raise ConfigError(f"Liberty file not found: {p}", path=self.path,
                                       line=self.key_lines.get("liberty"))
@@ -350,10 +358,12 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         except ValueError as exc:
             raise err("severity", f"severity of '{rid}': {exc}") from None
     cfg.severity = dict(sev)
-    fail_on = table.get("fail_on", "warning")
-    if fail_on not in FAIL_LEVELS:
-        raise err("fail_on", f"fail_on must be one of {', '.join(FAIL_LEVELS)}, got {fail_on!r}")
-    cfg.fail_on = fail_on
+    for opt in RUN.options:        # scalar keys: type, values and bounds as declared
+        if opt.name in table:
+            try:
+                setattr(cfg, opt.name, opt.coerce(table[opt.name], label=opt.name))
+            except ConfigError as exc:
+                raise err(opt.name, exc.message) from None
     rules = table.get("rules", {})
     for rid, opts in rules.items():
         if not isinstance(opts, dict):
@@ -379,14 +389,6 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
     for key in ("accept_file", "baseline", "cache_dir"):
         if key in table:
             setattr(cfg, key, abspath(table[key]))
-    if "cache_limit_mb" in table:
-        if isinstance(table["cache_limit_mb"], bool) or table["cache_limit_mb"] < 0:
-            raise err("cache_limit_mb", "cache_limit_mb must be a size in MB, 0 or more")
-        cfg.cache_limit_mb = table["cache_limit_mb"]
-    if "jobs" in table:
-        if table["jobs"] < 1:
-            raise err("jobs", "jobs must be at least 1")
-        cfg.jobs = table["jobs"]
     if "scheduler" in table:
         if not table["scheduler"].strip():
             raise err("scheduler", "scheduler must be an address such as tcp://host:8786")
@@ -398,33 +400,18 @@ def config_from_table(table: dict[str, Any], path: str | None, text: str = "",
         except ConfigError as exc:
             raise err("frontend", exc.message) from None
         cfg.frontend = table["frontend"]
-    if "memory_as_registers_max_bits" in table:
-        v = table["memory_as_registers_max_bits"]
-        if isinstance(v, bool) or v < 0:
-            raise err("memory_as_registers_max_bits",
-                      "memory_as_registers_max_bits must be a number of bits, 0 or more")
-        cfg.memory_as_registers_max_bits = v
-    if "time_budget" in table:
-        if isinstance(table["time_budget"], bool) or not table["time_budget"] >= 0:
-            raise err("time_budget", "time_budget must be a number of seconds, 0 or more")
-        cfg.time_budget = float(table["time_budget"])
+    if "format" in table:
+        from .report.registry import FormatNames
+        if table["format"] not in FormatNames():
+            raise err("format", f"unknown output format {table['format']!r} (known: "
+                                f"{', '.join(FormatNames())})")
+        cfg.format = table["format"]
     if "limits" in table:
         from .limits import DEFAULT as LIMIT_DEFAULTS
         LIMIT_DEFAULTS.with_values(table["limits"], path=path, line=key_lines.get("limits"))
         cfg.limits = dict(table["limits"])
-    cfg.prove = dict(table.get("prove", {}))
-    if cfg.prove:
-        from .analysis.prove import DEFAULTS as PROVE_DEFAULTS
-        for k, v in cfg.prove.items():
-            name = k.replace("-", "_")
-            if name not in PROVE_DEFAULTS:
-                raise err("prove", f"unknown hazard-prover option 'prove.{k}' (known: "
-                          + ", ".join(sorted(PROVE_DEFAULTS)) + ")")
-            want = type(PROVE_DEFAULTS[name])
-            ok = isinstance(v, bool) if want is bool else (
-                isinstance(v, (int, float)) and not isinstance(v, bool) if want is float else
-                isinstance(v, want) and not isinstance(v, bool) if want is int else
-                isinstance(v, want))
-            if not ok:
-                raise err("prove", f"prove.{k} must be {want.__name__}")
+    try:
+        cfg.prove = PROVE.check(table.get("prove", {}))
+    except ConfigError as exc:
+        raise err("prove", exc.message) from None
     return cfg

@@ -34,20 +34,38 @@ class Severity(enum.IntEnum):
         return self.name.lower()
 
 
+@dataclass(frozen=True)
+class Kind:
+    """A kind of finding: its name (what scripts match on), the severity it usually has and
+    one line on what it means. Rules declare the kinds they emit (``KINDS`` of a rule); a
+    third-party rule declares a new kind with one of these."""
+
+    name: str
+    severity: str = "warning"
+    description: str = ""
+
+
 # The trade's vocabulary for what was found; scripts may rely on these strings.
-KINDS = (
-    "combinational-loop",
-    "unbalanced-reconvergence",
-    "unregistered-async",
-    "static-1-hazard",
-    "static-0-hazard",
-    "dynamic-hazard",
-    "function-hazard",
-    "oscillation",
-    "unused-acceptance",
-    "design-note",
-    "analysis-incomplete",      # a rule stopped at its work budget: part of the design unchecked
+BUILTIN_KINDS = (
+    Kind("combinational-loop", "error", "a path from a gate's output back to its own input"),
+    Kind("unbalanced-reconvergence", "warning",
+         "a fanout stem whose branches meet again with different delays"),
+    Kind("unregistered-async", "error",
+         "a glitch-sensitive pin driven by combinational logic"),
+    Kind("static-1-hazard", "error", "a proven glitch to 0 on a signal that should stay 1"),
+    Kind("static-0-hazard", "error", "a proven glitch to 1 on a signal that should stay 0"),
+    Kind("dynamic-hazard", "error", "a proven extra change on a signal that changes once"),
+    Kind("function-hazard", "error",
+         "a glitch no logic implementation avoids for a change of several inputs"),
+    Kind("oscillation", "error", "a loop with no stable state for some input values"),
+    Kind("unused-acceptance", "warning", "an acceptance that matched no finding"),
+    Kind("design-note", "info", "what reading the design noted"),
+    Kind("analysis-incomplete", "warning",
+         "a rule stopped at its work budget: part of the design unchecked"),
 )
+KINDS = tuple(k.name for k in BUILTIN_KINDS)
+#: the kinds the prover gives a finding whose hazard it proved (the finding's rule stays)
+PROVEN_HAZARD_KINDS = ("static-1-hazard", "static-0-hazard", "dynamic-hazard")
 
 
 @dataclass(frozen=True)

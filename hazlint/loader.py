@@ -1,6 +1,6 @@
 """Loading a design: the front end (files -> IR) then elaboration (IR -> Design), the one
 function for callers that need a design without the run's caches (commands, tests, benches).
-The lint run itself (:func:`hazlint.api.load`) adds the design cache and SDF on top."""
+The lint run itself (:func:`hazlint.pipeline.load`) adds the design cache and SDF on top."""
 from __future__ import annotations
 
 from typing import TYPE_CHECKING, Iterable, Mapping, Sequence

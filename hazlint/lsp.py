@@ -13,7 +13,7 @@ A run superseded by a newer edit of the same document is dropped instead of publ
 
 Robustness: a document whose URI does not name a file (``%00`` in it) gets one diagnostic
 saying so and is left out of every other document's run; converting findings reads each text
-once per run through a line index (:class:`TextLines`) and shows at most
+once per run through a line index (:class:`hazlint.report.lsp.TextIndex`) and shows at most
 :data:`MAX_RELATED` related locations per diagnostic, so a megabyte netlist with findings of
 thousands of hops is published in seconds. Malformed frames are handled before pygls sees
 them (:mod:`hazlint.lsp_framing`).
@@ -24,72 +24,21 @@ import asyncio
 import logging
 import os
 import threading
-from typing import Any, Iterable
+from typing import Any
 
 from lsprotocol import types
 from pygls.lsp.server import LanguageServer
 from pygls.uris import from_fs_path, to_fs_path
 
 from . import __version__
-from .diagnostics import Diagnostic, Severity
+from .diagnostics import Diagnostic
 from .errors import HazlintError
-from .report.sarif import hop_message
+from .report.lsp import (MAX_RELATED, SOURCE, absolute, diagnostics_by_document,  # noqa: F401
+                         same_file, text_range, usable_path)
 
 log = logging.getLogger("hazlint.lsp")
 
-SOURCE = "hazlint"
 VERILOG_SUFFIXES = (".v", ".vh", ".vg", ".verilog", ".vlib", ".sv", ".svh")
-_SEVERITY = {Severity.ERROR: types.DiagnosticSeverity.Error,
-             Severity.WARNING: types.DiagnosticSeverity.Warning,
-             Severity.INFO: types.DiagnosticSeverity.Information}
-
-
-MAX_RELATED = 100        # related locations shown per diagnostic (the rest are counted)
-
-
-def _norm(path: str) -> str:
-    try:
-        return os.path.normcase(os.path.realpath(path))
-    except (ValueError, OSError):       # a NUL in the name: keep it apart from every file
-        return path
-
-
-def usable_path(path: str | None) -> bool:
-    """Whether ``path`` (from a document URI) can name a file at all."""
-    return bool(path) and "\0" not in path
-
-
-class TextLines:
-    """The lines of one text, split once (a conversion asks for one line per location)."""
-
-    def __init__(self, text: str | None):
-        self.lines = text.splitlines() if text is not None else []
-
-    def line(self, line0: int) -> str:
-        return self.lines[line0] if 0 <= line0 < len(self.lines) else ""
-
-
-class _Texts:
-    """Per conversion run: the line index of every document and file a location points into,
-    each read and split once."""
-
-    def __init__(self, texts: dict[str, str]):
-        self.texts = texts
-        self.index: dict[str, TextLines] = {}
-
-    def of(self, path: str, text: str | None = None) -> TextLines:
-        got = self.index.get(path)
-        if got is None:
-            if text is None:
-                text = self.texts.get(path)
-            if text is None:
-                try:
-                    with open(path, encoding="utf-8", errors="replace") as fh:
-                        text = fh.read()
-                except (OSError, ValueError):
-                    text = None
-            got = self.index[path] = TextLines(text)
-        return got
 
 
 # ---------------------------------------------------------------------------------------------
@@ -111,7 +60,7 @@ def lint_document(path: str, texts: dict[str, str], workspace_root: str | None =
     except HazlintError as exc:
         return [], None, exc, [path]
     root = getattr(result, "root", None) or folder
-    files = [_abs(f, root) for f in
+    files = [absolute(f, root) for f in
              list(getattr(result, "files", None) or []) + _result_files(result)]
     return list(getattr(result, "diagnostics", ()) or ()), root, None, files or [path]
 
@@ -123,9 +72,9 @@ def _lint_with_config(lint, path, folder, texts, workspace_root):
     config = _discover_config(folder, workspace_root)
     if config is not None and _config_files(config):
         result = lint(None, config=config, cwd=folder, texts=texts, changed=[path])
-        files = {_norm(_abs(f, getattr(result, "root", None) or folder))
+        files = {same_file(absolute(f, getattr(result, "root", None) or folder))
                  for f in _result_files(result)}
-        if not files or _norm(path) in files:
+        if not files or same_file(path) in files:
             return result
     return lint([path], config=config, cwd=folder, texts=texts)
 
@@ -147,124 +96,6 @@ def _config_files(config) -> list:
 def _result_files(result) -> list:
     design = getattr(result, "design", None)
     return list(getattr(design, "files", None) or [])
-
-
-def _abs(p: str, root: str) -> str:
-    return p if os.path.isabs(p) else os.path.join(root, p)
-
-
-def _line_text(text, line0: int) -> str:
-    if text is None:
-        return ""
-    if isinstance(text, TextLines):
-        return text.line(line0)
-    lines = text.splitlines()
-    return lines[line0] if 0 <= line0 < len(lines) else ""
-
-
-def _range(line: int, column: int, text) -> types.Range:
-    """From the reported column to the end of the line's text (the gate or statement);
-    ``text`` is the document's text or its :class:`TextLines`."""
-    l0 = max(0, (line or 1) - 1)
-    c0 = max(0, (column or 1) - 1)
-    content = _line_text(text, l0)
-    end = len(content.rstrip())
-    if end <= c0:
-        end = c0 + 1
-    return types.Range(start=types.Position(line=l0, character=c0),
-                       end=types.Position(line=l0, character=end))
-
-
-def _location(path: str, line: int, column: int, root: str | None, texts,
-              uris: dict | None = None):
-    ap = _abs(path, root or os.getcwd())
-    index = texts if isinstance(texts, _Texts) else _Texts(texts)
-    uri = uris.get(ap) if uris is not None else None
-    if uri is None:
-        uri = from_fs_path(ap)
-        if uris is not None:
-            uris[ap] = uri
-    return types.Location(uri=uri, range=_range(line, column, index.of(ap)))
-
-
-def to_lsp(d: Diagnostic, text, root: str | None, texts) -> types.Diagnostic:
-    """The LSP diagnostic of a finding; ``texts`` is the open documents' texts (or the run's
-    :class:`_Texts`). Evidence becomes related information, at most :data:`MAX_RELATED`
-    locations (the first ones: the fast path, then the slow path), the rest counted."""
-    index = texts if isinstance(texts, _Texts) else _Texts(texts)
-    uris: dict[str, str] = {}
-    related: list[types.DiagnosticRelatedInformation] = []
-    left = 0
-    places = [(r.location, r.message) for r in d.related if r.location.path]
-    for i, flow in enumerate(d.flows):
-        label = "loop" if d.kind in ("combinational-loop", "oscillation") else f"path {i + 1}"
-        places += [(h.location, f"{label}: {hop_message(h)}") for h in flow
-                   if h.location is not None and h.location.path]
-    if len(places) > MAX_RELATED:
-        left = len(places) - (MAX_RELATED - 1)
-        places = places[:MAX_RELATED - 1]
-    for loc, msg in places:
-        related.append(types.DiagnosticRelatedInformation(
-            location=_location(loc.path, loc.line, loc.column, root, index, uris), message=msg))
-    if left and places:
-        loc = places[-1][0]
-        related.append(types.DiagnosticRelatedInformation(
-            location=_location(loc.path, loc.line, loc.column, root, index, uris),
-            message=f"... {left} more evidence locations (the command line report lists "
-                    "them all)"))
-    message = d.message
-    if d.fix:
-        message += f"\nfix: {d.fix}"
-    return types.Diagnostic(
-        range=_range(d.line, d.column, text if not isinstance(text, str) else
-                     index.of(_abs(d.location.path, root or os.getcwd()), text)),
-        message=message,
-        severity=_SEVERITY.get(d.severity, types.DiagnosticSeverity.Warning),
-        code=d.rule, source=SOURCE,
-        related_information=related or None,
-        data={"kind": d.kind, "instance": d.instance})
-
-
-def error_to_lsp(exc: HazlintError, text: str | None) -> types.Diagnostic:
-    from .errors import excerpt
-    return types.Diagnostic(range=_range(exc.line or 1, exc.column or 1, text),
-                            message=excerpt(exc.message, 2000),
-                            severity=types.DiagnosticSeverity.Error,
-                            source=SOURCE, code="input-error")
-
-
-def diagnostics_by_document(path: str, diags: Iterable[Diagnostic], root: str | None, error,
-                            texts: dict[str, str], files: Iterable[str] = ()
-                            ) -> dict[str, list[types.Diagnostic]]:
-    """LSP diagnostics from one lint run for ``path`` and the open documents among ``files``
-    (the run's sources); other open documents keep what they had."""
-    in_run = {_norm(f) for f in files}
-    want = {_norm(p): p for p in texts if _norm(p) in in_run}
-    want[_norm(path)] = path
-    out: dict[str, list[types.Diagnostic]] = {p: [] for p in want.values()}
-    if error is not None:
-        epath = error.path and _norm(_abs(error.path, root or os.path.dirname(path)))
-        open_docs = {_norm(p): p for p in texts}
-        target = (want.get(epath) or open_docs.get(epath)) if epath else None
-        target = target or path
-        # an error elsewhere in the design is shown on this document's first line
-        e = error if target != path or epath == _norm(path) else HazlintError(
-            str(error), line=1)
-        out[target] = [error_to_lsp(e, texts.get(target))]
-        return out
-    index = _Texts(texts)
-    keys: dict[str, str] = {}
-    for d in diags:
-        if not d.location.path:
-            continue
-        key = keys.get(d.location.path)
-        if key is None:
-            key = keys[d.location.path] = _norm(_abs(d.location.path,
-                                                     root or os.path.dirname(path)))
-        if key in want:
-            p = want[key]
-            out[p].append(to_lsp(d, index.of(p), root, index))
-    return out
 
 
 # ---------------------------------------------------------------------------------------------
@@ -311,7 +142,7 @@ class HazlintServer(LanguageServer):
             path = None
         if not usable_path(path):
             self._publish(uri, [types.Diagnostic(
-                range=_range(1, 1, None), severity=types.DiagnosticSeverity.Error,
+                range=text_range(1, 1, None), severity=types.DiagnosticSeverity.Error,
                 source=SOURCE, code="input-error",
                 message="hazlint cannot lint this document: its URI does not name a file "
                         "(it holds a NUL character or is not a file: URI)")])

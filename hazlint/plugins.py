@@ -4,10 +4,16 @@ A rule is a module (or any object) with these attributes:
 
 ``ID``        rule id, lowercase words joined by hyphens (``"combinational-loop"``)
 ``SUMMARY``   one line
-``KINDS``     tuple of :data:`hazlint.diagnostics.KINDS` values the rule emits
+``KINDS``     the kinds of finding the rule emits: names from :data:`hazlint.diagnostics.KINDS`,
+              or :class:`~hazlint.diagnostics.Kind` values that declare a new kind with its
+              default severity and description
 ``SEVERITY``  default severity name (``"error"``, ``"warning"``, ``"info"``)
-``OPTIONS``   tuple of :class:`Option`
+``OPTIONS``   tuple of :class:`~hazlint.options.Option`
 ``check(design, context)``  generator of :class:`~hazlint.diagnostics.Diagnostic`
+``prove(diagnostic, evidence)``  optional proof hook: the
+              :class:`~hazlint.findings.requests.ProofRequest` that says how a finding of this
+              rule is proven, or None when it claims nothing to prove. Findings of a rule
+              without the hook are reported as not proven (their evidence says so)
 ``__doc__``   the documentation ``hazlint explain`` prints (what it finds, why it matters, an
               example, how to fix)
 
@@ -23,49 +29,12 @@ from functools import lru_cache
 from importlib import metadata
 from typing import Any, Callable, Iterable, Mapping
 
-from .diagnostics import KINDS, Severity
+from .diagnostics import BUILTIN_KINDS, KINDS, Kind, Severity
 from .errors import ConfigError, HazlintError
+from .options import Option
 
 ENTRY_POINT_GROUP = "hazlint.rules"
 _ID_RE = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
-
-
-@dataclass(frozen=True)
-class Option:
-    """A typed rule option. ``type`` is one of bool, int, float, str, list (of str)."""
-
-    name: str
-    type: type
-    default: Any
-    help: str
-    choices: tuple = ()
-
-    def coerce(self, value: Any, where: str = "") -> Any:
-        t = self.type
-        ok = False
-        if t is bool:
-            ok = isinstance(value, bool)
-        elif t is int:
-            ok = isinstance(value, int) and not isinstance(value, bool)
-        elif t is float:
-            ok = isinstance(value, (int, float)) and not isinstance(value, bool)
-            value = float(value) if ok else value
-        elif t is str:
-            ok = isinstance(value, str)
-        elif t is list:
-            ok = isinstance(value, list) and all(isinstance(v, str) for v in value)
-        if not ok:
-            raise ConfigError(f"{where}option '{self.name}' must be of type {self.type_name}, "
-                              f"got {value!r}")
-        if self.choices and value not in self.choices:
-            raise ConfigError(f"{where}option '{self.name}' must be one of "
-                              f"{', '.join(map(str, self.choices))}; got {value!r}")
-        return value
-
-    @property
-    def type_name(self) -> str:
-        return {bool: "bool", int: "int", float: "float", str: "string",
-                list: "list of strings"}[self.type]
 
 
 @dataclass(frozen=True)
@@ -80,6 +49,8 @@ class Rule:
     options: tuple[Option, ...]
     check: Callable
     origin: str = ""            # "module (distribution)"
+    prove: Callable | None = None   # the proof hook (see the module docstring)
+    new_kinds: tuple[Kind, ...] = ()    # kinds this rule declares beyond diagnostics.KINDS
 
     def option(self, name: str) -> Option:
         for o in self.options:
@@ -108,17 +79,29 @@ def rule_from_object(obj: Any, origin: str = "") -> Rule:
     if not isinstance(rid, str) or not _ID_RE.match(rid):
         raise HazlintError(f"rule plugin {origin}: bad rule id {rid!r} (lowercase words "
                            f"joined by hyphens)")
-    kinds = tuple(getattr(obj, "KINDS", ()))
-    bad = [k for k in kinds if k not in KINDS]
+    declared = tuple(getattr(obj, "KINDS", ()))
+    new_kinds = tuple(k for k in declared if isinstance(k, Kind))
+    kinds = tuple(k.name if isinstance(k, Kind) else k for k in declared)
+    bad = [k for k in declared if not isinstance(k, Kind) and k not in KINDS]
     if bad:
-        raise HazlintError(f"rule '{rid}' declares unknown kind '{bad[0]}'")
+        raise HazlintError(f"rule '{rid}' declares unknown kind '{bad[0]}' (a new kind is "
+                           f"declared as hazlint.diagnostics.Kind(name, severity, "
+                           f"description))")
+    for k in new_kinds:
+        if not _ID_RE.match(k.name) or k.name in KINDS:
+            raise HazlintError(f"rule '{rid}' declares kind '{k.name}': a new kind is "
+                               f"lowercase words joined by hyphens, not one of hazlint's own")
+    hook = getattr(obj, "prove", None)
+    if hook is not None and not callable(hook):
+        raise HazlintError(f"rule '{rid}': its proof hook 'prove' is not callable")
     try:
         sev = Severity.parse(obj.SEVERITY) if isinstance(obj.SEVERITY, str) else Severity(obj.SEVERITY)
     except ValueError as exc:
         raise HazlintError(f"rule '{rid}': {exc}") from None
     doc = (getattr(obj, "__doc__", None) or "").strip()
     return Rule(id=rid, summary=str(obj.SUMMARY), doc=doc, severity=sev, kinds=kinds,
-                options=tuple(getattr(obj, "OPTIONS", ())), check=obj.check, origin=origin)
+                options=tuple(getattr(obj, "OPTIONS", ())), check=obj.check, origin=origin,
+                prove=hook, new_kinds=new_kinds)
 
 
 @lru_cache(maxsize=1)
@@ -140,6 +123,12 @@ def _discover() -> tuple[Rule, ...]:
             raise HazlintError(f"rule id '{rule.id}' registered twice: {rules[rule.id].origin} "
                                f"and {origin}")
         rules[rule.id] = rule
+    owner: dict[str, str] = {}
+    for rule in rules.values():
+        for k in rule.new_kinds:
+            if owner.setdefault(k.name, rule.id) != rule.id:
+                raise HazlintError(f"kind '{k.name}' declared by two rules: "
+                                   f"'{owner[k.name]}' and '{rule.id}'")
     if not rules:
         raise HazlintError("no rules registered under the 'hazlint.rules' entry-point group; "
                            "install hazlint (pip install -e .) so its rules are registered")
@@ -149,6 +138,33 @@ def _discover() -> tuple[Rule, ...]:
 def all_rules() -> list[Rule]:
     """Every registered rule, sorted by id."""
     return list(_discover())
+
+
+def rule_for(diagnostic) -> Rule | None:
+    """The rule that owns a finding: the registered rule of its id, else the rule that
+    declares its kind (a finding made outside a rule's run, e.g. in a test); None for the
+    built-in pseudo rules and kinds no rule declares."""
+    by_id, by_kind = _owners()
+    return by_id.get(diagnostic.rule) or by_kind.get(diagnostic.kind)
+
+
+@lru_cache(maxsize=1)
+def _owners() -> tuple[dict, dict]:
+    rules = _discover()
+    by_kind: dict[str, Rule] = {}
+    for r in rules:
+        for k in r.kinds:
+            by_kind.setdefault(k, r)
+    return {r.id: r for r in rules}, by_kind
+
+
+def known_kinds() -> dict[str, Kind]:
+    """Every kind a finding may have: hazlint's own and those the rules declare."""
+    out = {k.name: k for k in BUILTIN_KINDS}
+    for r in _discover():
+        for k in r.new_kinds:
+            out.setdefault(k.name, k)
+    return out
 
 
 def get_rule(rule_id: str) -> Rule:

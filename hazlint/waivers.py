@@ -36,6 +36,7 @@ else:  # pragma: no cover
 
 from .diagnostics import Diagnostic, Location, Severity
 from .errors import ConfigError
+from .findings.evidence import AcceptanceEvidence
 from .findings.names import rule_id
 
 UNUSED_RULE = "unused-acceptance"
@@ -239,7 +240,8 @@ def apply_waivers(diagnostics: Sequence[Diagnostic], waivers: Sequence[Waiver],
         problems.append(Diagnostic(
             rule=UNUSED_RULE, kind=UNUSED_KIND, severity=Severity.WARNING, location=w.location,
             instance="", message=msg,
-            evidence={"rules": list(w.rules), "origin": w.origin, "reason": w.reason,
-                      "key": f"waiver:{w.origin}:{','.join(w.rules)}:{w.instance or ''}"},
+            evidence=AcceptanceEvidence(
+                rules=list(w.rules), origin=w.origin, reason=w.reason,
+                key=f"waiver:{w.origin}:{','.join(w.rules)}:{w.instance or ''}"),
             fix="remove the acceptance, or correct its rule id or pattern"))
     return kept, waived, problems

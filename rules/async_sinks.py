@@ -42,6 +42,8 @@ How to fix
 from __future__ import annotations
 
 from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.findings.evidence import AsyncSinkEvidence
+from hazlint.findings.requests import HazardAtSink
 from hazlint.findings.words import count
 from hazlint.plugins import Option
 
@@ -121,12 +123,12 @@ def check(design, context):
             rule=ID, kind="unregistered-async", severity=Severity.parse(SEVERITY),
             location=context.location(sink), instance=d.get("instance", "") or (reg or ""),
             message=msg,
-            evidence={"sink_node": sink, "role": role,
-                      "source_nodes": sorted(toggling, key=lambda n: rank[n]),
-                      "quiet_nodes": sorted(quiet, key=lambda n: rank[n]),
-                      "stems": sorted(stems, key=lambda n: rank[n]),
-                      "cone_gates": len(gates),
-                      "key": stable_key("async", sink)},
+            evidence=AsyncSinkEvidence(
+                sink_node=sink, role=role,
+                source_nodes=sorted(toggling, key=lambda n: rank[n]),
+                quiet_nodes=sorted(quiet, key=lambda n: rank[n]),
+                stems=sorted(stems, key=lambda n: rank[n]), cone_gates=len(gates),
+                key=stable_key("async", sink)),
             notes=tuple(notes), flows=flows,
             fix=_FIXES.get(role, _FIXES["reset"]))
 
@@ -169,3 +171,12 @@ def _paths_to_sink(g, sink, sources, gates, rank, limit):
             path.append(toward[path[-1]])
         out.append(path)
     return out
+
+
+def prove(diagnostic, evidence):
+    """The proof hook: the pin's finding is decided over every change the change model allows
+    at that pin."""
+    sink = evidence.get("sink_node")
+    if not sink:
+        return None
+    return HazardAtSink(sink=sink, quiet=tuple(evidence.get("quiet_nodes") or ()))

@@ -54,6 +54,8 @@ from collections import deque
 
 
 from hazlint.diagnostics import Diagnostic, Severity
+from hazlint.findings.evidence import LoopEvidence
+from hazlint.findings.requests import LoopBehaviour
 from hazlint.netlist.walks import cyclic_components
 from hazlint.plugins import Option
 
@@ -147,10 +149,10 @@ def check(design, context):
         yield Diagnostic(
             rule=ID, kind=kind, severity=sev, location=context.location(start),
             instance=g.nodes[start].get("instance", "") or "", message=msg + extra,
-            evidence={"cycle": list(cycle), "scc": sorted(comp),
-                      "storage_element": c.element, "behaviour": c.behaviour,
-                      "loop": c.to_json(context.net_name), "through_latch": [],
-                      "key": stable_key("loop", *sorted(comp))},
+            evidence=LoopEvidence(cycle=list(cycle), scc=sorted(comp),
+                                  storage_element=c.element, behaviour=c.behaviour,
+                                  loop=c.to_json(context.net_name), through_latch=[],
+                                  key=stable_key("loop", *sorted(comp))),
             notes=tuple(notes + more), flows=(hops,), fix=fix)
     if opts["latch_loops"]:
         yield from _latch_loops(design, context, opts, reported_nodes)
@@ -297,9 +299,20 @@ def _latch_loops(design, context, opts, comb_nodes):
             instance=g.nodes[anchor].get("instance", "") or "",
             message=(f"loop through transparent latch {latch_name}: its output reaches its own "
                      f"data input ({name_list(names, 5)})"),
-            evidence={"cycle": list(cycle), "scc": sorted(comp), "storage_element": None,
-                      "through_latch": sorted({e[1] for e in edges}),
-                      "key": stable_key("latch-loop", *sorted(comp))},
+            evidence=LoopEvidence(cycle=list(cycle), scc=sorted(comp), storage_element=None,
+                                  through_latch=sorted({e[1] for e in edges}),
+                                  key=stable_key("latch-loop", *sorted(comp))),
             notes=tuple(notes), flows=(hops,),
             fix=("make sure the latch can never be transparent while its output changes its "
                  "input (use a flip-flop, or a second latch on the opposite phase)"))
+
+
+def prove(diagnostic, evidence):
+    """The proof hook: whether the loop can oscillate. The rule classifies most loops itself
+    (``loop`` in the evidence); an oscillation finding is its own verdict."""
+    scc = evidence.get("scc")
+    if not scc:
+        return None
+    return LoopBehaviour(scc=tuple(scc), cycle=tuple(evidence.get("cycle") or ()),
+                         key=str(evidence.get("key", "")),
+                         decided=bool(evidence.get("loop")) or diagnostic.kind == "oscillation")

@@ -50,6 +50,8 @@ import heapq
 from hazlint import budget
 from hazlint.diagnostics import Diagnostic, Severity
 
+from hazlint.findings.evidence import BudgetEvidence, ReconvergenceEvidence
+from hazlint.findings.requests import HazardFromStem
 from hazlint.findings.words import count, gate_words
 from hazlint.plugins import Option
 
@@ -319,12 +321,11 @@ def _fields(context, stem, gate, r, sinks, path) -> dict:
              f"{name_list(sink_names, 4)}")
     return dict(
         message=msg,
-        evidence={"stem_node": stem, "reconvergence_node": gate, "sink_nodes": list(sinks),
-                  "skew": r.skew,
-                  "fast_path": fast_ids, "slow_path": slow_ids,
-                  "fast_arrival": r.fast_arrival, "slow_arrival": r.slow_arrival,
-                  "slow_pin": slow_pin, "fast_pin": fast_pin,
-                  "key": stable_key("reconv", stem, gate)},
+        evidence=ReconvergenceEvidence(
+            stem_node=stem, reconvergence_node=gate, sink_nodes=list(sinks), skew=r.skew,
+            fast_path=fast_ids, slow_path=slow_ids, fast_arrival=r.fast_arrival,
+            slow_arrival=r.slow_arrival, slow_pin=slow_pin, fast_pin=fast_pin,
+            key=stable_key("reconv", stem, gate)),
         notes=notes, flows=(fast_hops, slow_hops),
         fix=("balance the branch delays, add the consensus term that holds the output "
              "while the branches disagree, or register the signal before the sensitive sink"))
@@ -344,10 +345,11 @@ def _incomplete(context, left, analysed: int, work_budget: float | None) -> Diag
                     else f"because {budget.reason()}")
                  + f": {len(left)} of {len(left) + analysed} fanout stems not analysed, "
                  f"first {name_list(shown, 3)}"),
-        evidence={"not_analysed": len(left), "analysed": analysed, "work_budget": work_budget,
-                  "stems_not_analysed": [context.net_name(n) for n in names[:100]],
-                  "key": stable_key("reconv-incomplete" if work_budget is not None
-                                    else "reconv-out-of-time", str(len(left)))},
+        evidence=BudgetEvidence(
+            not_analysed=len(left), analysed=analysed, work_budget=work_budget,
+            stems_not_analysed=[context.net_name(n) for n in names[:100]],
+            key=stable_key("reconv-incomplete" if work_budget is not None
+                           else "reconv-out-of-time", str(len(left)))),
         notes=(f"stems reaching a glitch-sensitive sink were analysed first; "
                f"not analysed: {name_list(shown, 10)}",),
         fix=(("raise [rules.unbalanced-reconvergence] work_budget (0: no limit)"
@@ -363,3 +365,16 @@ def _path_text(hops, keep: int = 4) -> str:
     if len(hops) > 2 * keep:
         parts.insert(keep, f"... {len(hops) - 2 * keep} more ...")
     return " -> ".join(parts) + f" ({count(len(hops) - 1, 'gate')})"
+
+
+def prove(diagnostic, evidence):
+    """The proof hook: a reconvergence is proven or refuted by single changes of the sources
+    behind its stem, decided at the sinks it reaches (the budget report proves nothing)."""
+    if "stem_node" not in evidence:
+        return None
+    return HazardFromStem(stem=evidence["stem_node"],
+                          sinks=tuple(evidence.get("sink_nodes") or ()),
+                          skew=evidence.get("skew"),
+                          gate=evidence.get("reconvergence_node"),
+                          fast_path=tuple(evidence.get("fast_path") or ()),
+                          slow_path=tuple(evidence.get("slow_path") or ()))

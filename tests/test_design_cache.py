@@ -368,13 +368,14 @@ endmodule
 
 def test_result_cache_hits_misses_and_redoes_waivers(tmp_path, monkeypatch):
     import hazlint.api as api
+    import hazlint.pipeline as pipeline
     calls = []
-    real = api.run_rules
+    real = pipeline.run_rules
 
     def counted(*a, **k):
         calls.append(1)
         return real(*a, **k)
-    monkeypatch.setattr(api, "run_rules", counted)
+    monkeypatch.setattr(pipeline, "run_rules", counted)
     (tmp_path / "storage.v").write_text(LOOP)
     waivers = tmp_path / "waivers.toml"
     waivers.write_text("")
@@ -435,14 +436,14 @@ def test_result_cache_round_trip_on_a_benchmark(tmp_path):
 # report cache: the finished report of a check run
 
 def test_report_cache_replays_bytes_and_misses_on_every_input(tmp_path, monkeypatch):
-    import hazlint.api as api
+    import hazlint.pipeline as pipeline
     calls = []
-    real = api.lint
+    real = pipeline.lint
 
     def counted(*a, **k):
         calls.append(1)
         return real(*a, **k)
-    monkeypatch.setattr(api, "lint", counted)
+    monkeypatch.setattr(pipeline, "lint", counted)
     project(tmp_path)
     # BYPASS: guard_closed paths of 1 and 2 (into a plain output: listed at the wider scope)
     base = ["check", "--no-prove", "-D", "BYPASS", "--scope", "outputs"]

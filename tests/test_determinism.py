@@ -26,7 +26,7 @@ from hazlint.report import json as rjson, sarif, text
 src, out = sys.argv[1], sys.argv[2]
 result = lint([src], use_cache=False, time_budget=0,
               rule_options={"unbalanced-reconvergence": {"scope": "outputs"}})
-for name, write in (("text", lambda s: text.write(result, s, color=False)),
+for name, write in (("text", lambda s: text.write(result, s)),
                     ("json", lambda s: rjson.write(result, s)),
                     ("sarif", lambda s: sarif.write(result, s))):
     with open(f"{out}.{name}", "w", encoding="utf-8", newline="") as fh:

@@ -30,7 +30,6 @@ attribute are input errors naming the configuration line or the source line.
 from __future__ import annotations
 
 import fnmatch
-import os
 import re
 from dataclasses import dataclass, field
 from typing import Any, Iterable, Mapping, Sequence
@@ -38,6 +37,7 @@ from typing import Any, Iterable, Mapping, Sequence
 from ..errors import ConfigError, ElaborationError
 from ..findings.names import ATTRIBUTE_RENAMES, deprecated
 from ..netlist.graph import SOURCE_KINDS
+from ..paths import relpath
 
 QUIET_ATTRS = ("hazlint_static", "hazlint_sync")     # hazlint_sync: the old spelling
 ASYNC_ATTR = "hazlint_async"
@@ -267,11 +267,8 @@ def build_change_model(design, config=None) -> ChangeModel:
     root = getattr(config, "root", None)
 
     def shown(path: str) -> str:
-        """A declaration's path as reports print it: relative to the project root inside it."""
-        if not root or not path:
-            return path or ""
-        rel = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
-        return path if rel.startswith("..") else rel.replace(os.sep, "/")
+        """A declaration's path as reports print it (:func:`hazlint.paths.relpath`)."""
+        return relpath(path, root) if path else ""
     lines = getattr(config, "key_lines", {}) or {}
 
     def cfg_err(key):

@@ -5,6 +5,8 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+from ..findings.evidence import Verdict, typed, with_verdict
+
 from .cellmodel import MODEL_TEXT
 from .multichange import SinkVerdict
 from .ternary import HAZARD_KINDS
@@ -13,15 +15,14 @@ from .ternary import HAZARD_KINDS
 def with_change_model(diag, v: SinkVerdict, label, cell_model: str = "atomic"):
     """The finding with the change model and the cell model it was proven under, in its
     evidence and notes (right after the proof line)."""
-    ev = dict(diag.evidence)
     cons = v.model.constraint_text(label)
-    ev["change_model"] = {
+    ev = typed(diag.evidence)
+    ev = with_verdict(ev, replace(ev.verdict or Verdict(), change_model={
         "sources": {label(n): v.model.labels.get(n, "any time") for n in v.model.sources},
         "held": sorted(label(n) for n in v.model.quiet),
         "constraints": cons, "max_changes": v.model.max_changes, "bound": v.bound,
-        "covered": v.model.proven_text(label, v.bound)}
-    ev["cell_model"] = cell_model
-    ev["sink_hazards"] = v.to_json(label)
+        "covered": v.model.proven_text(label, v.bound)},
+        cell_model=cell_model, sink_hazards=v.to_json(label)))
     lines = [f"change model: {v.model.sources_text(label) or 'no changing source'}"
              + (f"; {'; '.join(cons)}" if cons else ""),
              f"cell model: {MODEL_TEXT.get(cell_model, cell_model)}"]

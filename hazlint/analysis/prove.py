@@ -25,6 +25,7 @@ from typing import Any, Iterable, Mapping, Sequence
 import networkx as nx
 
 from ..netlist.graph import SOURCE_KINDS
+from ..options import PROVE
 from . import fixes as _fixes
 from .batch import classify_batch, prove_symbolic  # noqa: F401 - prove_symbolic: public name
 from .symbolic import Budget, HazardProof, bdd_hazards
@@ -36,27 +37,8 @@ from .timedsim import DelayAssignment, Glitch, replay
 from .loops import classify_loop
 from .waves import timing_diagram
 
-DEFAULTS: dict[str, Any] = {
-    "node_budget": 100_000,      # BDD live nodes per check
-    "conflict_budget": 20_000,   # SAT conflicts per query
-    "check_time": 2.0,           # seconds per check (BDD + SAT)
-    "sim_vectors": 256,          # random side-input vectors simulated at once
-    "max_sources": 12,           # changing sources tried per finding
-    "max_sinks": 3,              # sinks classified per reconvergence finding
-    "max_findings": 200,         # findings per run given timed replay, delay search, waveform
-    "search_trials": 150,        # timed simulations when searching a glitching delay assignment
-    "search_events": 500_000,    # simulation events per delay search, over its trials (0: none)
-    "bdd_circuit_time": 10.0,    # seconds for the shared BDD of a batched pass, then SAT
-    "batch_time": 120.0,         # seconds for the SAT part of a batched pass (0: no limit)
-    "engine": "sat",             # batched pass: "sat" (one incremental solver) or "bdd" (a
-                                 # shared BDD, then SAT past its budget)
-    "max_changes": 0,            # glitch-sensitive sinks: largest set of simultaneously
-                                 # changing sources examined (0: every set the model allows)
-    "engine_sources": 16,        # ... cones with more sources go to SAT without a BDD try
-    "show_proven_absent": False,
-    "waveforms": True,
-    "seed": 0,
-}
+# the prover's options, their types, defaults and docs: hazlint.options.PROVE_OPTIONS
+DEFAULTS: dict[str, Any] = PROVE.defaults()
 
 CLASS_ORDER = ("static-1-hazard", "static-0-hazard", "dynamic-hazard")
 
@@ -402,6 +384,32 @@ def witness_json(graph, c: Classification) -> dict[str, Any]:
             "after_nodes": dict(sorted(c.after.items()))}
 
 
+def classification_of(graph, verdict, sink: str | None = None) -> Classification | None:
+    """The replayable case of a proven finding's verdict
+    (:class:`hazlint.findings.evidence.Verdict`, made by :func:`witness_json` and the glitch
+    replay): its witness, delay assignment and glitch; None without a witness or a sink in
+    ``graph``. ``sink`` is the sink the verdict is about (the finding's evidence names it)."""
+    w = verdict.witness
+    if not w or "before_nodes" not in w:
+        return None
+    before, after = dict(w["before_nodes"]), dict(w["after_nodes"])
+    changes = {n: (before[n], after[n]) for n in before if before[n] != after.get(n)}
+    target = sink or verdict.sink_node
+    if target is None and verdict.waveform_nets:
+        target = verdict.waveform_nets[-1]
+    if target is None or target not in graph:
+        return None
+    c = Classification(target, verdict.classification, changes, before, after)
+    gl = verdict.glitch or {}
+    if gl.get("delays"):
+        c.assignment = DelayAssignment.from_json(gl["delays"])
+    if gl.get("occurs"):
+        c.glitch = Glitch(True, [tuple(x) for x in gl.get("changes", [])], gl.get("time"),
+                          gl.get("width"), gl.get("mode", "inertial"))
+        c.how = gl.get("how", "")
+    return c
+
+
 def witness_text(graph, c: Classification) -> str:
     moves = ", ".join(f"{net_label(graph, n)} {'rises' if b > a else 'falls'}"
                       for n, (a, b) in sorted(c.changes.items()) if a != b)
@@ -432,19 +440,13 @@ def _num(x) -> str:
     return str(int(x)) if float(x).is_integer() else f"{x:g}"
 
 
-def waveform_nets(graph, c: Classification, evidence: Mapping[str, Any] | None) -> list[str]:
-    ev = evidence or {}
-    nets: list[str] = []
-    for n in c.changes:
-        nets.append(n)
-    stem = ev.get("stem_node")
-    if stem:
-        nets.append(stem)
-    fp, sp = list(ev.get("fast_path") or []), list(ev.get("slow_path") or [])
-    for n in (fp[1:-1] + sp[1:-1])[:6]:
-        nets.append(n)
-    if ev.get("reconvergence_node"):
-        nets.append(ev["reconvergence_node"])
+def waveform_nets(graph, c: Classification, request=None) -> list[str]:
+    """The nets drawn for a witness: the changing sources, the nets the finding's proof
+    request names (:attr:`hazlint.findings.requests.ProofRequest.draw`: a stem, its
+    branches, the gate where they meet), then the sink."""
+    nets: list[str] = list(c.changes)
+    if request is not None:
+        nets += list(request.draw)
     nets.append(c.target)
     d = graph.nodes[c.target]
     if d["kind"] == "sink" and d.get("inputs"):
@@ -483,15 +485,14 @@ def diagram_lines(graph, c: Classification, nets: Sequence[str], ascii_only=Fals
     return timing_diagram(tr, nets, names, ascii_only=ascii_only)
 
 
-def fix_for(graph, c: Classification, evidence: Mapping[str, Any] | None, sink_role,
-            memo: dict | None = None) -> str:
+def fix_for(graph, c: Classification, request, sink_role, memo: dict | None = None) -> str:
     """The fix hint of a proven hazard: a verified consensus term where one exists, else
-    registering or balancing. ``memo`` (one per run) keeps the consensus search per change and
-    gate, which findings of different stems at the same sink share."""
-    ev = evidence or {}
-    cands = []
-    if ev.get("reconvergence_node"):
-        cands.append(ev["reconvergence_node"])
+    registering or balancing. ``request`` (the finding's proof request, or None) names the gate
+    where the branches meet, the skew and the fast path. ``memo`` (one per run) keeps the
+    consensus search per change and gate, which findings of different stems at the same sink
+    share."""
+    gate = getattr(request, "gate", None)
+    cands = [gate] if gate else []
     n = graph.nodes[c.target].get("inputs", [c.target])[0] if \
         graph.nodes[c.target]["kind"] == "sink" else c.target
     for _ in range(6):
@@ -510,10 +511,11 @@ def fix_for(graph, c: Classification, evidence: Mapping[str, Any] | None, sink_r
         return ("function hazard: no logic implementation is glitch-free for this input change; "
                 "make the inputs change one at a time, or "
                 + _fixes.fallback_fix(graph, c.target, None, (), sink_role))
-    skew = ev.get("skew")
+    skew = getattr(request, "skew", None)
     if skew is None and c.glitch is not None:
         skew = c.glitch.width
-    return _fixes.fallback_fix(graph, c.target, skew, ev.get("fast_path") or (), sink_role)
+    return _fixes.fallback_fix(graph, c.target, skew, getattr(request, "fast_path", ()) or (),
+                               sink_role)
 
 
 # ---------------------------------------------------------------------------------------------

@@ -9,8 +9,11 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from typing import Any, Mapping, Sequence
 
-from .. import budget
+from .. import budget, plugins
 from ..diagnostics import Diagnostic, Severity
+from ..findings.evidence import OscillationEvidence, Verdict, with_verdict
+from ..findings.requests import (HazardAtSink, HazardFromStem, LoopBehaviour, ProofRequest,
+                                 request_of)
 from ..netlist.graph import ASYNC_ROLES
 from ..netlist.walks import behind_loops
 from . import workers
@@ -46,11 +49,13 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
            options: Mapping[str, Any] | None = None) -> list[Diagnostic]:
     """Classify the findings of the structural rules.
 
-    ``unbalanced-reconvergence`` and ``unregistered-async`` findings become static-1, static-0 or
-    dynamic hazards (error when proven at a glitch-sensitive sink), stay warnings when
-    inconclusive or structural only, and are dropped when proven absent (kept with
-    ``show_proven_absent``). ``combinational-loop`` findings gain an ``oscillation`` finding when
-    the loop can oscillate. Other findings pass through unchanged.
+    Each finding is proven as its rule's proof hook asks (:mod:`hazlint.findings.requests`):
+    a hazard request (from a fanout stem, or at a glitch-sensitive sink) makes the finding a
+    static-1, static-0 or dynamic hazard (error when proven at a glitch-sensitive sink), keeps
+    it a warning when inconclusive or structural only, and drops it when proven absent (kept
+    with ``show_proven_absent``); a loop request adds an ``oscillation`` finding when the loop
+    can oscillate. Findings whose hook asks nothing pass through unchanged; those of a rule
+    without a hook are marked not proven.
 
     Cost: the single changes every finding needs are first decided together, in one batched
     pass (:func:`classify_outputs`: bit-parallel ternary simulation, then shared BDD or SAT).
@@ -65,7 +70,8 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
     opts = options_with_defaults(options)
     graph = design.graph if hasattr(design, "graph") else design
     memo: dict[str, list[str]] = {}
-    plans = [_plan(graph, d, context, opts, memo) for d in diagnostics]
+    reqs = [_request(d) for d in diagnostics]
+    plans = [_plan(graph, d, context, opts, memo, r) for d, r in zip(diagnostics, reqs)]
     view = _ContextView.of(graph, context)
     with workers.Session({"graph": graph, "context": view}, graph.number_of_nodes()) as ses:
         known = _decide_batch(graph, plans, opts, ses)
@@ -73,14 +79,36 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
         rank = sorted((i for i, p in enumerate(plans) if p is not None),
                       key=lambda i: plans[i][0])
         full = set(rank[:limit]) if limit >= 0 else set(rank)
-        done = _refine_split(ses, graph, diagnostics, plans, known, full, opts, limit)
+        done = _refine_split(ses, graph, diagnostics, reqs, plans, known, full, opts, limit)
     out: list[Diagnostic] = []
     for i, d in enumerate(diagnostics):
-        out.extend(done.get(i, (d,)))
+        out.extend(done.get(i, (d,) if reqs[i] is not _NO_HOOK else (_not_proven(d),)))
     return out
 
 
-def _refine_split(ses, graph, diagnostics, plans, known, full, opts, limit) -> dict:
+# a finding whose rule declares no proof hook (reported as not proven)
+_NO_HOOK = object()
+
+
+def _request(d: Diagnostic):
+    """The proof request of ``d`` by its rule's hook; None when the finding asks nothing
+    (or no rule owns it: hazlint's own notes), :data:`_NO_HOOK` when its rule has no hook."""
+    rule = plugins.rule_for(d)
+    if rule is not None and rule.prove is None:
+        # its own kinds are claims left unproven; another (a rule that did not run) is a note
+        return _NO_HOOK if d.kind in rule.kinds else None
+    return request_of(rule, d, d.evidence if isinstance(d.evidence, Mapping) else {})
+
+
+def _not_proven(d: Diagnostic) -> Diagnostic:
+    """A finding of a rule that says nothing on how to prove it: kept as the rule made it,
+    its evidence saying that no proof was attempted."""
+    why = f"rule '{d.rule}' declares no proof hook"
+    v = Verdict(classification="not-proven", not_proven_reason=why)
+    return replace(d, evidence=with_verdict(d.evidence, v), notes=tuple(d.notes) + (v.note(),))
+
+
+def _refine_split(ses, graph, diagnostics, reqs, plans, known, full, opts, limit) -> dict:
     """The refinement as work items (:mod:`hazlint.analysis.workers`), in two rounds.
 
     1. Per sink, the single-change verdicts of the reconvergence findings that name it, in
@@ -90,32 +118,32 @@ def _refine_split(ses, graph, diagnostics, plans, known, full, opts, limit) -> d
        sink driver's glitch-sensitive sinks share that driver's verdict and go together.
     """
     per_sink: dict[str, list] = {}
-    for i, d in enumerate(diagnostics):
-        if plans[i] is not None and d.kind != "unregistered-async":
+    for i, r in enumerate(reqs):
+        if plans[i] is not None and isinstance(r, HazardFromStem):
             for s, srcs in plans[i][1]:
-                per_sink.setdefault(s, []).append((i, tuple(srcs), i in full, d.kind))
+                per_sink.setdefault(s, []).append((i, tuple(srcs), i in full))
     cut = workers.pack([[k] for k in range(len(per_sink))],
                        workers.items_for(ses, len(per_sink)))
     sinks = list(per_sink)
     items = [[(sinks[k], per_sink[sinks[k]],
-               {(sinks[k], x): known[(sinks[k], x)] for _, srcs, _, _ in per_sink[sinks[k]]
+               {(sinks[k], x): known[(sinks[k], x)] for _, srcs, _ in per_sink[sinks[k]]
                 for x in srcs if (sinks[k], x) in known}) for k in it] for it in cut]
     verdicts: dict = {}
     for part in ses.map(_sink_verdicts, items, (opts, limit)):
         verdicts.update(part)
     keyed = []
-    for i, d in enumerate(diagnostics):
-        if plans[i] is None and d.kind != "combinational-loop":
+    for i, r in enumerate(reqs):
+        if plans[i] is None and not (isinstance(r, LoopBehaviour) and not r.decided):
             continue
         keys = []
-        if d.kind == "unregistered-async" and plans[i] is not None:
+        if isinstance(r, HazardAtSink) and plans[i] is not None:
             sink = plans[i][1][0][0]
             keys.append((graph.nodes[sink].get("inputs") or [sink])[0])
         keyed.append((i, keys))
     groups = workers.connected_groups(keyed)
-    items = [[(i, diagnostics[i], plans[i], i in full,
+    items = [[(i, diagnostics[i], reqs[i], plans[i], i in full,
                [verdicts[(i, s)] for s, _ in plans[i][1]]
-               if plans[i] is not None and diagnostics[i].kind != "unregistered-async"
+               if plans[i] is not None and not isinstance(reqs[i], HazardAtSink)
                else None) for i in it]
              for it in workers.pack(groups, workers.items_for(ses, len(groups)))]
     done: dict = {}
@@ -132,13 +160,12 @@ def _sink_verdicts(shared, common, item, local) -> dict:
     out: dict = {}
     for s, reqs, known in item:
         memo = _RunMemo()
-        for i, srcs, full, kind in reqs:
+        for i, srcs, full in reqs:
             if budget.expired():
                 out[(i, s)] = None
                 continue
             try:
-                out[(i, s)] = _sink_verdict(graph, s, srcs, full, kind, opts, memo, known,
-                                            limit)
+                out[(i, s)] = _sink_verdict(graph, s, srcs, full, opts, memo, known, limit)
             except (Budget, RuntimeError, KeyError) as exc:
                 out[(i, s)] = str(exc)
     return out
@@ -150,20 +177,19 @@ def _refine_item(shared, common, item, local) -> list:
     opts, limit = common
     memo = _RunMemo()
     out = []
-    for i, d, plan, full, results in item:
-        ev = d.evidence if isinstance(d.evidence, Mapping) else {}
+    for i, d, req, plan, full, results in item:
         try:
             if plan is not None and (budget.expired() or
                                      (results is not None and None in results)):
                 got = [_out_of_time(d)]
             elif results is not None and any(isinstance(r, str) for r in results):
                 raise RuntimeError(next(r for r in results if isinstance(r, str)))
-            elif plan is not None and d.kind == "unregistered-async":
-                got = _refine_sink(graph, d, ev, context, opts, memo, full, limit)
+            elif plan is not None and isinstance(req, HazardAtSink):
+                got = _refine_sink(graph, d, req, context, opts, memo, full, limit)
             elif plan is not None:
-                got = _finish_planned(graph, d, ev, results, context, opts, memo, full, limit)
+                got = _finish_planned(graph, d, req, results, context, opts, memo, full, limit)
             else:
-                osc = _refine_loop(graph, d, ev) if ev.get("scc") else None
+                osc = _refine_loop(graph, d, req)
                 got = [d] if osc is None else [d, osc]
         except (Budget, RuntimeError, KeyError) as exc:
             got = [replace(d, notes=tuple(d.notes) + (f"prover: inconclusive ({exc})",))]
@@ -195,19 +221,20 @@ class _ContextView:
 def _out_of_time(d: Diagnostic) -> Diagnostic:
     """A finding the prover had no time left for: inconclusive, with the budget as reason."""
     why = budget.reason()
-    evidence = dict(d.evidence) if isinstance(d.evidence, Mapping) else {}
-    evidence.update(classification="inconclusive", inconclusive_reason=why)
-    return replace(d, severity=Severity.WARNING, evidence=evidence,
-                   notes=tuple(d.notes) + (f"hazard proof inconclusive: {why}",))
+    v = Verdict(classification="inconclusive", inconclusive_reason=why)
+    return replace(d, severity=Severity.WARNING, evidence=with_verdict(d.evidence, v),
+                   notes=tuple(d.notes) + (v.note(),))
 
 
-def _plan(graph, d: Diagnostic, context, opts, memo=None):
-    """(priority key, [(sink, [changing sources])]) for a finding the prover classifies.
+def _plan(graph, d: Diagnostic, context, opts, memo=None, req="hook"):
+    """(priority key, [(sink, [changing sources])]) for a finding the prover classifies by
+    single changes or at a sink, by its proof request ``req`` (by default its rule's hook's).
     ``memo`` keeps each stem's sources (they do not depend on the sink)."""
-    ev = d.evidence if isinstance(d.evidence, Mapping) else {}
-    if d.kind == "unbalanced-reconvergence" and ev.get("stem_node") in graph:
-        stem = ev["stem_node"]
-        sinks = [s for s in ev.get("sink_nodes") or [] if s in graph]
+    if req == "hook":
+        req = _request(d)
+    if isinstance(req, HazardFromStem) and req.stem in graph:
+        stem = req.stem
+        sinks = [s for s in req.sinks if s in graph]
         sinks.sort(key=lambda s: not is_sensitive_sink(graph, context, s))
         sinks = sinks[: int(opts["max_sinks"])]
         srcs = memo.get(stem) if memo is not None else None
@@ -218,12 +245,11 @@ def _plan(graph, d: Diagnostic, context, opts, memo=None):
                 memo[stem] = srcs
         work = [(s, srcs) for s in sinks]
         sens = any(is_sensitive_sink(graph, context, s) for s in sinks)
-        skew = ev.get("skew")
-        skew = float(skew) if isinstance(skew, (int, float)) else 0.0
+        skew = float(req.skew) if isinstance(req.skew, (int, float)) else 0.0
         return (0 if sens else 2, -skew, d.sort_key()), work
-    if d.kind == "unregistered-async" and ev.get("sink_node") in graph:
+    if isinstance(req, HazardAtSink) and req.sink in graph:
         # decided over the change model by refine_sink (multichange), not by single changes
-        return (1, 0.0, d.sort_key()), [(ev["sink_node"], [])]
+        return (1, 0.0, d.sort_key()), [(req.sink, [])]
     return None
 
 
@@ -277,8 +303,8 @@ class _RunMemo:
     sinks: dict = field(default_factory=dict)
 
 
-def _sink_verdict(graph, s, srcs, full, kind, opts, memo: _RunMemo, known, limit):
-    """The verdict of one reconvergence finding's changing sources at sink ``s``."""
+def _sink_verdict(graph, s, srcs, full, opts, memo: _RunMemo, known, limit):
+    """The verdict of one stem's changing sources at sink ``s``."""
     cache = memo.verdicts
     key = (s, srcs, full)
     if not full and (s, srcs, True) in cache:
@@ -294,33 +320,32 @@ def _sink_verdict(graph, s, srcs, full, kind, opts, memo: _RunMemo, known, limit
             c = combine(classify_sources(graph, s, list(srcs), opts, order=order, known=known,
                                          replay_glitch=full, free=free,
                                          memo=memo.per_source)) or Classification(
-                s, "inconclusive", {}, reason="no changing input found for the stem"
-                if kind == "unbalanced-reconvergence" else "no changing source")
+                s, "inconclusive", {}, reason="no changing input found for the stem")
         cache[key] = c
     return cache[key]
 
 
-def _finish_planned(graph, d, ev, results, context, opts, memo: _RunMemo, full, limit):
+def _finish_planned(graph, d, req, results, context, opts, memo: _RunMemo, full, limit):
     c = combine(results)
     if c is None:
         return [d]
     replayed = full or c.glitch is not None or bool(c.how)
     o = opts if full else dict(opts, waveforms=False)
-    x = _apply(graph, d, c, ev, context, o, replayed=replayed, limit=limit,
+    x = _apply(graph, d, c, req, context, o, replayed=replayed, limit=limit,
                fix_memo=memo.fixes)
     return [x] if x is not None else []
 
 
-def _refine_sink(graph, d, ev, context, opts, memo: _RunMemo, full, limit):
+def _refine_sink(graph, d, req: HazardAtSink, context, opts, memo: _RunMemo, full, limit):
     """A glitch-sensitive sink's finding, decided over every transition the change model
     allows (:mod:`hazlint.analysis.multichange`); its drivers' verdicts are shared."""
-    sink = ev["sink_node"]
+    sink = req.sink
     drv = (graph.nodes[sink].get("inputs") or [sink])[0]
     v = memo.sinks.get(drv)
     if v is None:
         model = getattr(context, "change_model", None) if context is not None else None
         if model is None:
-            model = ChangeModel(quiet=frozenset(ev.get("quiet_nodes") or ()))
+            model = ChangeModel(quiet=frozenset(req.quiet))
         v = memo.sinks[drv] = decide_sink(graph, sink, model, opts)
     label = lambda n: net_label(graph, n)  # noqa: E731
     pick = v.best()
@@ -339,7 +364,7 @@ def _refine_sink(graph, d, ev, context, opts, memo: _RunMemo, full, limit):
         c = Classification(sink, "hazard-free" if v.status == "hazard-free" else "inconclusive",
                            {}, proofs=v.hazard_proofs(), reason=v.proof_text(label))
     o = opts if full else dict(opts, waveforms=False)
-    x = _apply(graph, d, c, ev, context, o, replayed=full or c.glitch is not None or bool(c.how),
+    x = _apply(graph, d, c, req, context, o, replayed=full or c.glitch is not None or bool(c.how),
                limit=limit, fix_memo=memo.fixes)
     return [] if x is None else [with_change_model(x, v, label, _cell_model(context))]
 
@@ -348,46 +373,41 @@ def _cell_model(context) -> str:
     return getattr(getattr(context, "config", None), "cell_model", None) or "atomic"
 
 
-def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed: bool = True,
+def _apply(graph, d: Diagnostic, c: Classification, req: ProofRequest, context, opts,
+           replayed: bool = True,
            limit: int | None = None, fix_memo: dict | None = None) -> Diagnostic | None:
     sens = is_sensitive_sink(graph, context, c.target)
     sink_role = graph.nodes[c.target].get("role")
-    evidence = dict(d.evidence)
-    evidence.setdefault("sink_node", c.target)      # the sink the verdict is about
-    evidence["classification"] = c.classification
-    evidence["proof"] = {k: p.to_json() for k, p in c.proofs.items()}
+    # the sink the verdict is about, and the proof of every hazard kind
+    verdict = dict(sink_node=c.target, classification=c.classification,
+                   proof={k: p.to_json() for k, p in c.proofs.items()})
     notes = list(d.notes)
     if c.classification == "hazard-free":
         if not opts["show_proven_absent"]:
             return None
         notes.append(f"proven hazard-free under arbitrary delays ({c.reason})")
-        return replace(d, severity=Severity.INFO, evidence=evidence, notes=tuple(notes),
-                       message=d.message + "; proven hazard-free")
+        return replace(d, severity=Severity.INFO, evidence=with_verdict(
+            d.evidence, Verdict(**verdict)), notes=tuple(notes),
+            message=d.message + "; proven hazard-free")
     if c.classification == "inconclusive":
-        notes.append(f"hazard proof inconclusive: {c.reason}")
-        evidence["inconclusive_reason"] = c.reason
+        v = Verdict(**verdict, inconclusive_reason=c.reason)
+        notes.append(v.note())
         return replace(d, severity=max(Severity.WARNING, min(d.severity, Severity.WARNING)),
-                       evidence=evidence, notes=tuple(notes))
+                       evidence=with_verdict(d.evidence, v), notes=tuple(notes))
     kind = c.classification
-    evidence["witness"] = witness_json(graph, c)
-    evidence["function_hazard"] = bool(c.function_hazard)
+    verdict["witness"] = witness_json(graph, c)
+    verdict["function_hazard"] = bool(c.function_hazard)
     glitch = c.glitch.to_json() if c.glitch else {"occurs": False}
     glitch["how"] = c.how
     if c.assignment is not None:
         glitch["delays"] = c.assignment.to_json()
-    evidence["glitch"] = glitch
-    tname = net_label(graph, c.target)
-    label = {"static-1-hazard": "static-1 hazard", "static-0-hazard": "static-0 hazard",
-             "dynamic-hazard": "dynamic hazard"}[kind]
-    msg = f"{label} at {tname}: {witness_text(graph, c)}"
-    if c.function_hazard:
-        msg += " (function hazard)"
+    verdict["glitch"] = glitch
     gt = glitch_text(c)
     notes.append(f"proof: {c.reason}")
     others = [k2 for k2 in c.present_kinds if k2 != kind]
     if others:
         notes.append("also possible for other transitions: " + ", ".join(others))
-    evidence["present_kinds"] = c.present_kinds
+    verdict["present_kinds"] = c.present_kinds
     notes.append(f"witness: {witness_text(graph, c)}")
     if gt:
         notes.append(f"timed simulation: {gt}")
@@ -397,28 +417,30 @@ def _apply(graph, d: Diagnostic, c: Classification, ev, context, opts, replayed:
     if c.assignment is not None and c.how not in ("nominal",):
         notes += ["  " + x for x in c.assignment.describe(graph)[1:]]
     if opts["waveforms"] and c.before:
-        nets = waveform_nets(graph, c, ev)
-        evidence["waveform_nets"] = nets
+        nets = waveform_nets(graph, c, req)
+        verdict["waveform_nets"] = nets
         notes += diagram_lines(graph, c, nets)
     sev = Severity.ERROR if sens else Severity.WARNING
-    fix = fix_for(graph, c, ev, sink_role, fix_memo) if replayed else d.fix
-    return replace(d, kind=kind, severity=sev, message=msg, evidence=evidence,
+    fix = fix_for(graph, c, req, sink_role, fix_memo) if replayed else d.fix
+    v = Verdict(**verdict)
+    return replace(d, kind=kind, severity=sev, evidence=with_verdict(d.evidence, v),
+                   message=v.headline(net_label(graph, c.target), witness_text(graph, c)),
                    notes=tuple(notes), fix=fix)
 
 
-def _refine_loop(graph, d: Diagnostic, ev) -> Diagnostic | None:
+def _refine_loop(graph, d: Diagnostic, req) -> Diagnostic | None:
     """An oscillation finding for a loop finding the loop rule did not classify itself."""
-    if ev.get("loop"):
+    if not isinstance(req, LoopBehaviour) or req.decided:
         return None
-    comp = [n for n in ev["scc"] if n in graph]
+    comp = [n for n in req.scc if n in graph]
     v = loop_behaviour(graph, comp)
     if v.behaviour != "oscillation":
         return None
     ins = ", ".join(f"{net_label(graph, n)}={x}" for n, x in sorted(v.inputs.items()))
-    evidence = {"scc": list(comp), "cycle": list(ev.get("cycle") or []), "inputs":
-                {net_label(graph, n): x for n, x in v.inputs.items()},
-                "behaviour": v.behaviour, "reason": v.reason,
-                "key": f"osc:{ev.get('key', '')}"}
+    evidence = OscillationEvidence(
+        scc=list(comp), cycle=list(req.cycle),
+        inputs={net_label(graph, n): x for n, x in v.inputs.items()},
+        behaviour=v.behaviour, reason=v.reason, key=f"osc:{req.key}")
     return replace(d, kind="oscillation", severity=Severity.ERROR,
                    message=f"loop oscillates when {ins}: it has no stable state",
                    evidence=evidence, notes=tuple(d.notes) + (

@@ -6,13 +6,12 @@ Exit codes: 0 clean, 1 findings at or above ``--fail-on`` (configuration ``fail_
 from __future__ import annotations
 
 import argparse
-import importlib
 import os
 import sys
 
-from ..errors import EXIT_CLEAN, EXIT_FINDINGS, HazlintError
-
-FORMATS = ("text", "json", "sarif", "annotations")
+from ..errors import EXIT_CLEAN, HazlintError
+from ..findings.names import RECONVERGENCE_RULE
+from ..report.registry import FormatNames, ReportOptions, get_format
 
 
 def _csv(values):
@@ -31,12 +30,15 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("-I", "--include-dir", action="append", metavar="DIR", dest="include_dirs",
                    help="`include search directory (repeatable)")
     p.add_argument("-D", "--define", action="append", metavar="NAME[=VALUE]", dest="defines",
-                   help="preprocessor macro (repeatable)")
+                   help="preprocessor macro; NAME alone is defined as 1, as with "
+                        "iverilog -D (repeatable)")
     p.add_argument("--select", action="append", metavar="RULES",
                    help="run only these rules (comma-separated, repeatable)")
     p.add_argument("--ignore", action="append", metavar="RULES",
                    help="skip these rules (comma-separated, repeatable)")
-    p.add_argument("--format", default="text", choices=FORMATS, help="output format")
+    p.add_argument("--format", choices=FormatNames(), metavar="FORMAT",
+                   help="report format (configuration 'format'; default text; `hazlint "
+                        "formats` lists the registered ones)")
     p.add_argument("-o", "--output", metavar="FILE", help="write the report to FILE")
     p.add_argument("--fail-on", choices=("error", "warning", "info", "never"),
                    help="lowest severity that makes the exit code 1")
@@ -95,20 +97,27 @@ def add_frontend_argument(p) -> None:
 def parse_defines(items):
     out = {}
     for item in items or ():
-        k, _, v = item.partition("=")
+        k, eq, v = item.partition("=")
         if not k:
             raise HazlintError(f"bad --define '{item}' (expected NAME or NAME=VALUE)")
-        out[k] = v
+        out[k] = v if eq else "1"      # NAME alone: 1 (iverilog -D and C compilers do the same)
     return out
 
 
 def _renderer(fmt: str):
-    try:
-        return importlib.import_module(f"hazlint.report.{fmt}")
-    except ModuleNotFoundError as exc:
-        if exc.name == f"hazlint.report.{fmt}":
-            raise HazlintError(f"output format '{fmt}' is not available in this build") from None
-        raise
+    """The registered format ``fmt`` (:mod:`hazlint.report.registry`), loaded."""
+    return get_format(fmt)
+
+
+def report_options(args, renderer) -> ReportOptions:
+    """The report options the command line asks for (colour only for text on a terminal)."""
+    color = renderer.name == "text" and not args.output and use_color(args.color, sys.stdout)
+    return ReportOptions(color=color, evidence=not args.brief, ascii_only=bool(args.ascii))
+
+
+def format_name(args, config) -> str:
+    """``--format``, else the configuration's ``format`` key (default text)."""
+    return getattr(args, "format", None) or config.format
 
 
 def use_color(choice: str, stream) -> bool:
@@ -119,101 +128,79 @@ def use_color(choice: str, stream) -> bool:
     return hasattr(stream, "isatty") and stream.isatty() and not os.environ.get("NO_COLOR")
 
 
-def prepare(args):
-    """(config, files, changed, cwd) of a run from the arguments ``check`` and ``prove``
-    share; None for ``changed`` when not ``--changed``, and None for the whole tuple when
-    ``--changed`` has nothing to do."""
+def request_from_args(args, **extra):
+    """The :class:`~hazlint.request.RunRequest` of the arguments ``check``, ``prove`` and
+    ``summary`` share (configuration discovery, ``--config``, files, -I, -D, ``--top``,
+    selection, ``--scope``, caches, workers, bounds), with ``extra`` keywords of
+    :func:`hazlint.request.resolve` over them; None when ``--changed`` has nothing to do."""
     from ..config import load_config
-    cwd = os.getcwd()
-    config = load_config(cwd, args.config)
     from ..limits import DEFAULT as LIMITS, parse_assignments
-    LIMITS.with_values(parse_assignments(args.limits), where="--limit: ")
-    if args.time_budget is not None and not args.time_budget >= 0:
+    from ..request import resolve
+    cwd = os.getcwd()
+    config = load_config(cwd, getattr(args, "config", None))
+    limits = parse_assignments(getattr(args, "limits", None))
+    LIMITS.with_values(limits, where="--limit: ")
+    time_budget = getattr(args, "time_budget", None)
+    if time_budget is not None and not time_budget >= 0:
         raise HazlintError(f"--time-budget must be a number of seconds, 0 or more (0: none), "
-                           f"got {args.time_budget}")
+                           f"got {time_budget}")
     files = list(args.files)
     changed = None
-    if args.changed:
+    if getattr(args, "changed", False):
         changed = files
         files = [] if config.files else files
         if not config.files and not changed:
             return None              # nothing staged and no design configured
-    if args.jobs is not None:
-        if args.jobs < 1:
-            raise HazlintError(f"--jobs must be at least 1, got {args.jobs}")
-        config.jobs = args.jobs
-    if getattr(args, "scheduler", None):
-        config.scheduler = args.scheduler
-    if args.cache_dir:
-        config.cache_dir = os.path.abspath(args.cache_dir)
-    if args.frontend:
-        from ..frontends.registry import check_choice
-        check_choice(args.frontend)
-        config.frontend = args.frontend
-    return config, files, changed, cwd
+    jobs = getattr(args, "jobs", None)
+    if jobs is not None and jobs < 1:
+        raise HazlintError(f"--jobs must be at least 1, got {jobs}")
+    scope = getattr(args, "scope", None)
+    options = dict(
+        config=config, cwd=cwd, changed=changed,
+        select=_csv(getattr(args, "select", None)) or None,
+        ignore=_csv(getattr(args, "ignore", None)), prove=not getattr(args, "no_prove", False),
+        top=args.top, include_dirs=([os.path.abspath(d) for d in args.include_dirs]
+                                    if args.include_dirs else None),
+        defines=parse_defines(args.defines), baseline=getattr(args, "baseline", None),
+        rule_options={RECONVERGENCE_RULE: {"scope": scope}} if scope else None,
+        use_cache=not getattr(args, "no_cache", False),
+        cache_dir=getattr(args, "cache_dir", None), jobs=jobs,
+        scheduler=getattr(args, "scheduler", None) or None,
+        frontend=getattr(args, "frontend", None) or None, time_budget=time_budget,
+        limits=limits)
+    options.update(extra)
+    return resolve(files or None, **options)
 
 
 def run(args) -> int:
-    from ..api import lint
-    renderer = _renderer(args.format)       # a missing format fails before the slow work
-    prepared = prepare(args)
-    if prepared is None:
+    from .. import pipeline
+    request = request_from_args(args)
+    if request is None:
         return EXIT_CLEAN
-    config, files, changed, cwd = prepared
-    color = args.format == "text" and not args.output and use_color(args.color, sys.stdout)
-    render_opts = {"format": args.format, "color": color, "evidence": not args.brief,
-                   "ascii": bool(args.ascii)}
-    reports = key = None
-    if not args.no_cache and not args.write_baseline:
+    # a missing format fails before the slow work
+    renderer = _renderer(format_name(args, request.config))
+    options = report_options(args, renderer)
+    render_opts = {"format": renderer.name, **options.key()}
+    slot = None
+    # a plugin format's report is not kept: the cache's code stamp does not cover its code
+    if request.use_cache and not args.write_baseline and renderer.builtin:
         # a rerun on unchanged inputs prints the finished report of the last such run: no
         # decoding of the design or the findings, no waivers, no rendering
-        from ..api import report_key
-        from ..store.report import open_report_cache
-        key = report_key(files or None, render=render_opts,
-                         **_run_options(args, files, config, cwd, changed))
-        reports = open_report_cache(config.cache_dir, limit_mb=config.cache_limit_mb) \
-            if key else None
-        hit = reports.load(key) if reports is not None else None
+        slot = pipeline.ReportSlot(request, render_opts)
+        hit = slot.load()
         if hit is not None:
             src, worst = hit
             with src:
                 _emit(args, _copy_from(src))
-            return _exit_code(worst, args.fail_on or config.fail_on)
+            return pipeline.exit_code(worst, args.fail_on or request.config.fail_on)
     from ..progress import terminal_progress
     progress = terminal_progress()
     try:
-        result = lint_request(lint, args, files, config, cwd, changed, progress)
+        result = pipeline.lint(request, progress=progress)
     finally:
         if progress is not None:
             progress.close()
-    return _report(args, result, renderer, color, reports, key)
-
-
-def _run_options(args, files, config, cwd, changed) -> dict:
-    """What decides a run, as keyword arguments of ``api.lint`` and ``api.report_key``."""
-    return dict(config=config, cwd=cwd, changed=changed,
-                select=_csv(args.select) or None, ignore=_csv(args.ignore),
-                prove=not args.no_prove, top=args.top,
-                include_dirs=([os.path.abspath(d) for d in args.include_dirs]
-                              if args.include_dirs else None),
-                defines=parse_defines(args.defines), baseline=args.baseline,
-                rule_options=scope_options(args))
-
-
-def scope_options(args) -> dict | None:
-    """``--scope`` as the reconvergence rule's option."""
-    scope = getattr(args, "scope", None)
-    if not scope:
-        return None
-    from ..findings.names import RECONVERGENCE_RULE
-    return {RECONVERGENCE_RULE: {"scope": scope}}
-
-
-def _exit_code(worst, level) -> int:
-    from ..diagnostics import Severity
-    if level == "never" or worst is None:
-        return EXIT_CLEAN
-    return EXIT_FINDINGS if worst >= Severity.parse(level) else EXIT_CLEAN
+    return report(args, result, renderer, options, slot)
 
 
 def _copy_from(src):
@@ -236,16 +223,10 @@ def _emit(args, write) -> None:
         sys.stdout.flush()
 
 
-def lint_request(lint, args, files, config, cwd, changed, progress):
-    """Call ``lint`` with everything the command line asked for (``check`` and ``prove``
-    share it)."""
-    from ..limits import parse_assignments
-    return lint(files or None, use_cache=not args.no_cache, progress=progress,
-                time_budget=args.time_budget, limits=parse_assignments(args.limits),
-                **_run_options(args, files, config, cwd, changed))
-
-
-def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
+def report(args, result, renderer, options: ReportOptions, slot=None) -> int:
+    """Write the report of ``result`` as the arguments ask (or the baseline file), through
+    the report cache when ``slot`` (a :class:`hazlint.pipeline.ReportSlot`) is given; the exit
+    code."""
     if args.write_baseline:
         from ..baseline import write_baseline
         # everything found now, including what an existing baseline already accounted for
@@ -253,20 +234,10 @@ def _report(args, result, renderer, color=False, reports=None, key=None) -> int:
                            result.root)
         print(f"hazlint: recorded {n} finding(s) in {args.write_baseline}", file=sys.stderr)
         return EXIT_CLEAN
-    if args.format == "text":
-        def write(stream):
-            renderer.write(result, stream, color=color, evidence=not args.brief,
-                           ascii_only=bool(getattr(args, "ascii", False)))
-    else:
-        def write(stream):
-            renderer.write(result, stream)
-    kept = None
-    if reports is not None and key and not result.incomplete:
-        # the report is written once, into the cache, and copied from there
-        # (the input files' contents are in the key; what they include is checked on a hit)
-        worst = max((int(d.severity) for d in result.diagnostics), default=None)
-        includes = [os.path.abspath(p) for p in getattr(result.design, "includes", None) or ()]
-        kept = reports.store(key, write, worst, includes)
+    def write(stream):
+        renderer.write(result, stream, options)
+    # the report is written once, into the cache, and copied from there
+    kept = slot.store(result, write) if slot is not None else None
     if kept is None:
         _emit(args, write)
         return result.exit_code(args.fail_on)

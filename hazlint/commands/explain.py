@@ -44,8 +44,12 @@ def run(args) -> int:
     r = get_rule(rule_id(args.rule, "explain"))
     out = [f"{r.id}: {r.summary}", "",
            f"default severity: {r.severity}",
-           f"kinds: {', '.join(r.kinds)}",
-           f"provided by: {r.origin}", ""]
+           f"kinds: {', '.join(r.kinds)}"]
+    out += [f"  {k.name} ({k.severity}): {k.description}" for k in r.new_kinds]
+    if r.prove is None and r.id not in PSEUDO_RULES:
+        out.append("proof: none (the rule declares no proof hook; its findings are reported "
+                   "as not proven)")
+    out += [f"provided by: {r.origin}", ""]
     out.append(plain_doc(r.doc) if r.doc else "(no documentation)")
     if r.options:
         out += ["", f"Options (configuration table [rules.{r.id}]):"]

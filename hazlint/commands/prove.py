@@ -2,10 +2,14 @@
 
 Without ``--transition`` it is ``check`` (the same configuration discovery, options, findings,
 headlines, severities and formats) with proven-absent findings on request
-(``--show-proven-absent``) and the witnesses written as waveform files (``--vcd``, ``--svg``). ``--transition`` checks a change given by the user instead, e.g.
+(``--show-proven-absent``) and the witnesses written as waveform files (``--vcd``, ``--svg``).
+``--transition`` checks a change given by the user instead, e.g.
 ``--transition "two_hand_left+,two_hand_right+,guard_closed=1"`` (``+`` rises, ``-`` falls,
 ``=v`` holds), at every output and glitch-sensitive sink (or ``--target``), and tells a function
-hazard from a logic hazard. ``--vcd``/``--svg`` write the waveforms of the first proven hazard
+hazard from a logic hazard. Both load the design through the same run request as ``check``
+(configuration, -I, -D, cells, Liberty, SDF, cell model); with ``--transition`` the configured
+glitch-sensitive outputs decide the severity and a change the configured change model excludes
+(a static input, a one-at-a-time group changing together) is checked with a note. ``--vcd``/``--svg`` write the waveforms of the first proven hazard
 (further ones get ``-2``, ``-3``... before the extension).
 """
 from __future__ import annotations
@@ -16,8 +20,7 @@ import sys
 from typing import Any
 
 from ..diagnostics import Severity
-from ..errors import EXIT_CLEAN, EXIT_FINDINGS, HazlintError
-from .check import add_frontend_argument
+from ..errors import EXIT_CLEAN, HazlintError
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -40,72 +43,66 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 def run(args) -> int:
     if args.no_prove:
         raise HazlintError("prove: --no-prove leaves nothing to prove (use check)")
+    from .check import request_from_args
+    extra = {"prove_options": {"show_proven_absent": True}} if args.show_proven_absent else {}
+    request = request_from_args(args, **extra)
+    if request is None:
+        return EXIT_CLEAN
     if not args.transition:
-        return _run_lint(args)
-    from ..budget import bounded
-    from ..config import load_config
-    from ..limits import parse_assignments
-    config = load_config(os.getcwd(), args.config)
-    with bounded(config, args.time_budget, parse_assignments(args.limits)):
-        return _run(args, config)
+        return _run_lint(args, request)
+    from .. import pipeline
+    with pipeline.bounds(request):
+        return _run(args, request)
 
 
-def _run_lint(args) -> int:
+def _run_lint(args, request) -> int:
     """``check`` with the prover's options (``--show-proven-absent``) and the waveform files:
     the same findings, headlines, severities and formats."""
     from . import check
-    from ..api import lint
-    renderer = check._renderer(args.format)
-    prepared = check.prepare(args)
-    if prepared is None:
-        return EXIT_CLEAN
-    config, files, changed, cwd = prepared
-    if args.show_proven_absent:
-        config.prove = dict(config.prove or {}, show_proven_absent=True)
-    result = check.lint_request(lint, args, files, config, cwd, changed, None)
-    color = args.format == "text" and not args.output and check.use_color(args.color,
-                                                                             sys.stdout)
-    code = check._report(args, result, renderer, color)
+    from .. import pipeline
+    renderer = check._renderer(check.format_name(args, request.config))
+    result = pipeline.lint(request)
+    code = check.report(args, result, renderer, check.report_options(args, renderer))
     from ..analysis import prove as P
+    from ..findings.evidence import Evidence
+    from ..plugins import rule_for
+    from ..findings.requests import request_of
     g = result.design.graph
     k = 0
     for d in result.diagnostics:
-        ev = d.evidence if isinstance(d.evidence, dict) else {}
-        c = classification_from_evidence(g, ev) if ev.get("classification") else None
+        ev = d.evidence
+        verdict = ev.verdict if isinstance(ev, Evidence) else None
+        c = P.classification_of(g, verdict, ev.sink) if verdict is not None else None
         if c is not None and c.proven:
-            _write_waves(args, k, d.message, g, c, ev.get("waveform_nets") or
-                         P.waveform_nets(g, c, ev))
+            _write_waves(args, k, d.message, g, c, verdict.waveform_nets or P.waveform_nets(
+                g, c, request_of(rule_for(d), d, ev)))
             k += 1
     return code
 
 
-def _run(args, config) -> int:
+def _run(args, request) -> int:
+    """The changes given by ``--transition`` at the targets, on the design as ``check`` loads
+    it (configuration, -I, -D, cells, Liberty, SDF), with the run's change-model declarations
+    and glitch-sensitive outputs (the analysis context of a lint run)."""
+    from .. import pipeline
     from ..analysis import prove as P
-    files = [os.path.abspath(f) for f in args.files] or list(config.files)
-    if not files:
-        raise HazlintError("no Verilog files given and none configured (configuration key "
-                           "'files')")
-    for f in files:
-        if not os.path.isfile(f):
-            raise HazlintError("is a directory, not a Verilog file" if os.path.isdir(f)
-                               else f"file not found: {f}", path=f)
-    top = args.top or config.top
-    top = top[0] if top and len(top) == 1 else top
-    opts: dict[str, Any] = {"show_proven_absent": args.show_proven_absent}
+    opts: dict[str, Any] = dict(request.prove_options)
     out = sys.stdout
     shown = []          # (title, graph, classification, nets)
     worst = None
-    design = _load(files, top, args.frontend or config.frontend, config, args)
+    design, context = pipeline.context_for(request, pipeline.load(request))
     g = design.graph
     for spec in args.transition:
         changes, fixed = parse_transition(design, spec)
+        for note in outside_model(g, context.change_model, changes):
+            out.write(f"note: {note}; checked as given\n")
         targets = _targets(design, args.target)
         for t in targets:
             c = P.classify(g, t, changes, fixed, options=opts)
             if c.classification == "hazard-free" and not args.show_proven_absent:
                 out.write(f"{P.net_label(g, t)}: hazard-free for {spec} ({c.reason})\n")
                 continue
-            sev = _severity_of(g, c, None)
+            sev = _severity_of(g, c, context)
             worst = sev if worst is None or sev > worst else worst
             nets = P.waveform_nets(g, c, None) + _moving_nets(g, c)
             _print(out, g, c, f"{P.net_label(g, t)} for {spec}", nets, args.ascii, sev)
@@ -113,21 +110,23 @@ def _run(args, config) -> int:
                 shown.append((f"{P.net_label(g, t)}: {c.classification}", g, c, nets))
     for k, (title, g, c, nets) in enumerate(shown):
         _write_waves(args, k, title, g, c, nets)
-    level = args.fail_on or config.fail_on
-    if worst is None or level == "never":
-        return EXIT_CLEAN
-    return EXIT_FINDINGS if worst >= Severity.parse(level) else EXIT_CLEAN
+    return pipeline.exit_code(worst, args.fail_on or request.config.fail_on)
 
 
-def _load(files, top, frontend, config, args):
-    """The design as ``check`` loads it: the configuration's include directories, macros,
-    cells, Liberty and SDF, with -I and -D over them."""
-    from ..api import load
-    from .check import parse_defines
-    config.frontend = frontend
-    incs = [os.path.abspath(d) for d in args.include_dirs] if args.include_dirs else None
-    return load(files, config, top=top, include_dirs=incs,
-                defines=parse_defines(args.defines) or None, use_cache=not args.no_cache)
+def outside_model(g, model, changes) -> list[str]:
+    """What in the transition ``changes`` the run's change model excludes: a source declared
+    static (``static_inputs``, ``hazlint_static``), two or more members of a one-at-a-time
+    group changing together."""
+    from ..analysis.prove import net_label
+    notes = [f"{net_label(g, n)} is declared static (it never changes in the change model)"
+             for n in changes if n in model.quiet]
+    for gr in model.groups:
+        moving = [m for m in gr.members if m in changes]
+        if gr.kind == "one-at-a-time" and len(moving) > 1:
+            where = f" ({gr.where})" if gr.where else ""
+            notes.append(f"{', '.join(net_label(g, m) for m in moving)} change together, but "
+                         f"group '{gr.name}'{where} changes one member at a time")
+    return notes
 
 
 def _targets(design, names):
@@ -184,36 +183,6 @@ def _node(design, name, item):
         raise HazlintError(f"--transition: '{name}' is not an input or register output",
                            construct=item)
     return n
-
-
-def classification_from_evidence(g, ev):
-    """Rebuild the witness of a refined finding (enough to replay and draw it)."""
-    from ..analysis.prove import Classification
-    from ..analysis.timedsim import DelayAssignment
-    w = ev.get("witness")
-    if not w or "before_nodes" not in w:
-        return None
-    before, after = dict(w["before_nodes"]), dict(w["after_nodes"])
-    changes = {n: (before[n], after[n]) for n in before if before[n] != after.get(n)}
-    target = None
-    for key in ("sink_node",):
-        target = ev.get(key)
-    if target is None:
-        sinks = ev.get("sink_nodes") or []
-        nets = ev.get("waveform_nets") or []
-        target = nets[-1] if nets else (sinks[0] if sinks else None)
-    if target is None or target not in g:
-        return None
-    c = Classification(target, ev.get("classification", ""), changes, before, after)
-    gl = ev.get("glitch") or {}
-    if gl.get("delays"):
-        c.assignment = DelayAssignment.from_json(gl["delays"])
-    if gl.get("occurs"):
-        from ..analysis.timedsim import Glitch
-        c.glitch = Glitch(True, [tuple(x) for x in gl.get("changes", [])], gl.get("time"),
-                          gl.get("width"), gl.get("mode", "inertial"))
-        c.how = gl.get("how", "")
-    return c
 
 
 def _moving_nets(g, c, limit=6):

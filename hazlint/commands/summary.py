@@ -5,17 +5,17 @@ import argparse
 import json
 import os
 
-from ..errors import HazlintError
 from .check import add_frontend_argument
 
 
 def add_arguments(p) -> None:
     p.add_argument("files", nargs="*", help="Verilog files (default: the configured files)")
     p.add_argument("--top", action="append", help="top module (repeat for several)")
-    p.add_argument("-I", "--include-dir", action="append", default=[], dest="include_dirs",
-                   help="directory searched by `include")
-    p.add_argument("-D", "--define", action="append", default=[], dest="defines",
-                   metavar="NAME[=VALUE]", help="define a macro")
+    p.add_argument("-I", "--include-dir", action="append", dest="include_dirs",
+                   help="`include search directory (repeatable; replaces the configured ones)")
+    p.add_argument("-D", "--define", action="append", dest="defines",
+                   metavar="NAME[=VALUE]", help="preprocessor macro; NAME alone is defined as 1, as with "
+                        "iverilog -D (repeatable)")
     p.add_argument("--liberty", action="append", default=[], dest="liberty",
                    help="Liberty (.lib) file with the cells the netlist uses (configuration "
                         "'liberty'; repeatable)")
@@ -29,42 +29,20 @@ def add_arguments(p) -> None:
 
 
 def design_from_args(args):
-    """Load the design named by command-line arguments and configuration (shared by commands
-    that need a design but not the rules), within the run's time budget and size limits."""
-    from ..budget import bounded
-    from ..config import load_config
-    from ..limits import parse_assignments
-    cfg = load_config(path=args.config) if getattr(args, "config", None) else load_config()
-    with bounded(cfg, getattr(args, "time_budget", None),
-                 parse_assignments(getattr(args, "limits", None))):
-        return _load(args, cfg)
-
-
-def _load(args, cfg):
-    from ..loader import load_design
-    files = [os.path.abspath(f) for f in args.files] or list(cfg.files)
-    if not files:
-        raise HazlintError("no input files: name Verilog files or set 'files' in the "
-                           "configuration")
-    defines = dict(cfg.defines)
-    for d in args.defines:
-        name, _, value = d.partition("=")
-        defines[name] = value or "1"
-    library = cfg.library()
-    paths = list(getattr(args, "liberty", None) or [])
+    """The design named by the command-line arguments and the configuration, loaded as
+    ``check`` loads it (the same request resolution: configuration discovery, -I, -D, cells,
+    Liberty, SDF), within the run's time budget and size limits; no cache is read or written.
+    Returns ``(design, config)``."""
+    from .. import pipeline
+    from .check import request_from_args
+    liberty = list(getattr(args, "liberty", None) or [])
     if getattr(args, "old_library", None):
         from ..findings.names import deprecated
         deprecated("--library", "--liberty", "summary")
-        paths += args.old_library
-    if paths:
-        from ..elaborate import resolve_library
-        for path in paths:
-            library = library.merge(resolve_library(path))
-    return load_design(files, top=args.top or cfg.top,
-                       include_dirs=[*cfg.include_dirs, *args.include_dirs],
-                       defines=defines, library=library, root=cfg.include_root,
-                       memory_max_bits=cfg.memory_as_registers_max_bits,
-                       frontend=getattr(args, "frontend", None) or cfg.frontend), cfg
+        liberty += args.old_library
+    request = request_from_args(args, liberty=liberty, use_cache=False)
+    with pipeline.bounds(request):
+        return pipeline.load(request), request.config
 
 
 def run(args) -> int:

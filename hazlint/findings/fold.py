@@ -19,11 +19,16 @@ from __future__ import annotations
 from dataclasses import replace
 from typing import Callable, Iterable, Mapping, Sequence
 
-from ..diagnostics import Diagnostic, sort_diagnostics
+from .. import plugins
+from ..diagnostics import PROVEN_HAZARD_KINDS, Diagnostic, sort_diagnostics
+from .evidence import Folded, with_folded
+from .requests import request_of
 
+# the kinds of the built-in rules' hazard and loop findings (for reports and tests that count
+# them; grouping asks each rule's proof hook, never these)
 HAZARD_KINDS = frozenset(("unbalanced-reconvergence", "unregistered-async", "static-1-hazard",
                           "static-0-hazard", "dynamic-hazard"))
-PROVEN_KINDS = frozenset(("static-1-hazard", "static-0-hazard", "dynamic-hazard"))
+PROVEN_KINDS = frozenset(PROVEN_HAZARD_KINDS)
 LOOP_KINDS = frozenset(("combinational-loop", "oscillation"))
 MAX_STEMS = 5        # other stems named in a folded finding's text; the rest are counted
 MAX_LISTED = 20      # folded members of the leading rule kept in the evidence (JSON, SARIF)
@@ -40,36 +45,42 @@ def _ev(d: Diagnostic) -> Mapping:
     return d.evidence if isinstance(d.evidence, Mapping) else {}
 
 
+def _request(d: Diagnostic, memo: dict | None = None):
+    """The proof request of ``d`` by its rule's hook, from the evidence that places it;
+    ``memo`` (one per fold, by object) asks each finding's hook once."""
+    if memo is None:
+        return request_of(plugins.rule_for(d), d, _ev(d))
+    got = memo.get(id(d))
+    if got is None:
+        got = memo[id(d)] = (d, request_of(plugins.rule_for(d), d, _ev(d)))
+    return got[1]
+
+
 def problem_of(d: Diagnostic, sensitive: Iterable[str] = (),
-               name: Callable[[str], str] = str) -> str | None:
-    """The problem a finding describes: ``hazard:<sink node>``, ``loop:<first net of the
-    loop>``, or None for findings that are problems of their own."""
-    ev = _ev(d)
-    if d.kind in HAZARD_KINDS:
-        sink = ev.get("sink_node")
-        if not sink:
-            sinks = list(ev.get("sink_nodes") or ())
-            if not sinks:
-                return None
-            sens = set(sensitive)
-            sink = next((s for s in sinks if s in sens), sinks[0])
-        return f"hazard:{name(sink)}"
-    if d.kind in LOOP_KINDS and ev.get("scc"):
-        return f"loop:{name(min(ev['scc']))}"
-    return None
+               name: Callable[[str], str] = str, memo: dict | None = None) -> str | None:
+    """The problem a finding describes, as its proof request says: ``hazard:<sink node>``,
+    ``loop:<first net of the loop>``, or None for findings that are problems of their own."""
+    req = _request(d, memo)
+    return req.problem(_ev(d), frozenset(sensitive), name) if req is not None else None
 
 
-def _is_reconvergence(d: Diagnostic) -> bool:
-    return "stem_node" in _ev(d)
+def _stem(d: Diagnostic, memo: dict):
+    req = _request(d, memo)
+    return req.stem if req is not None else None
 
 
-def _rank(d: Diagnostic) -> tuple:
+def _is_reconvergence(d: Diagnostic, memo: dict) -> bool:
+    return _stem(d, memo) is not None
+
+
+def _rank(d: Diagnostic, memo: dict) -> tuple:
     """Order of members: a proven hazard first, then the more severe, then a reconvergence
     (its place is the gate to edit and it shows both paths), then the larger skew."""
-    skew = _ev(d).get("skew")
+    req = _request(d, memo)
+    skew = req.skew if req is not None else None
     skew = float(skew) if isinstance(skew, (int, float)) else 0.0
     loc = d.location
-    return (d.kind not in PROVEN_KINDS, -int(d.severity), not _is_reconvergence(d), -skew,
+    return (d.kind not in PROVEN_KINDS, -int(d.severity), not _is_reconvergence(d, memo), -skew,
             loc.path, loc.line, loc.column, d.rule, d.instance)
 
 
@@ -82,14 +93,15 @@ def fold(diagnostics: Sequence[Diagnostic], sensitive: Iterable[str] = (),
     sensitive = frozenset(sensitive)
     groups: dict[str, list[Diagnostic]] = {}
     out: list[Diagnostic] = []
+    memo: dict = {}
     for d in diagnostics:
-        key = problem_of(d, sensitive, name)
+        key = problem_of(d, sensitive, name, memo)
         if key is None:
             out.append(d)
         else:
             groups.setdefault(key, []).append(d)
     for key, members in groups.items():
-        out.append(_fold_group(key, sorted(members, key=_rank), name))
+        out.append(_fold_group(key, sorted(members, key=lambda m: _rank(m, memo)), name, memo))
     return sort_diagnostics(out)
 
 
@@ -107,11 +119,10 @@ def _before(notes: Sequence[str], stop: tuple[str, ...]) -> list[str]:
     return out
 
 
-def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str]) -> Diagnostic:
+def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str],
+                memo: dict) -> Diagnostic:
     primary, others = members[0], members[1:]
-    evidence = dict(primary.evidence) if isinstance(primary.evidence, Mapping) else {}
-    evidence["problem"] = key
-    evidence["rules"] = sorted({m.rule for m in members})
+    folded = dict(problem=key, rules=sorted({m.rule for m in members}))
     notes = list(primary.notes)
     flows = tuple(primary.flows)
     fix = primary.fix
@@ -119,12 +130,12 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str])
         # every other rule's report, and the first of the leading rule's other reports (a
         # plain output of an arithmetic block can gather thousands of stems)
         same = [m for m in others if m.rule == primary.rule]
-        evidence["also"] = [_also(m) for m in others if m.rule != primary.rule] + \
+        folded["also"] = [_also(m) for m in others if m.rule != primary.rule] + \
             [_also(m) for m in same[:MAX_LISTED]]
         if len(same) > MAX_LISTED:
-            evidence["also_left_out"] = len(same) - MAX_LISTED
-    stems = [m for m in others if _is_reconvergence(m)]
-    if stems and not _is_reconvergence(primary):
+            folded["also_left_out"] = len(same) - MAX_LISTED
+    stems = [m for m in others if _is_reconvergence(m, memo)]
+    if stems and not _is_reconvergence(primary, memo):
         # the reconvergence evidence (stem, both paths, skew) of the worst stem
         first = stems.pop(0)
         notes.append(f"reconvergent fanout ({first.rule}):")
@@ -132,7 +143,7 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str])
                                                             "hazard proof", "timed "))]
         flows = flows + tuple(first.flows)
     for m in others:
-        if _is_reconvergence(m) or m.rule == primary.rule and m.kind == primary.kind:
+        if _is_reconvergence(m, memo) or m.rule == primary.rule and m.kind == primary.kind:
             continue
         notes.append(f"also found by {m.rule} ({m.kind}):")
         notes += ["  " + n for n in _before(m.notes, ("witness:", "timed simulation:"))]
@@ -140,18 +151,20 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str])
         if tail and tail not in fix:
             fix = f"{fix}; this removes the logic hazard only: {tail}"
     if stems:
-        evidence["other_stems"] = [
-            {"stem": name(_ev(m)["stem_node"]),
-             "skew": _ev(m).get("skew"), "path": m.location.path, "line": m.location.line}
+        folded["other_stems"] = [
+            {"stem": name(_stem(m, memo)),
+             "skew": _request(m, memo).skew, "path": m.location.path, "line": m.location.line}
             for m in stems[:MAX_LISTED]]
-        evidence["other_stem_count"] = len(stems)
-        shown = [f"{s['stem']} (skew {_num(s['skew'])})" for s in evidence["other_stems"]
+        folded["other_stem_count"] = len(stems)
+        shown = [f"{s['stem']} (skew {_num(s['skew'])})" for s in folded["other_stems"]
                  [:MAX_STEMS]]
         rest = len(stems) - len(shown)
         word = "stem" if len(stems) == 1 else "stems"
         notes.append(f"other {word} reconverging toward the same sink: " + ", ".join(shown)
                      + (f" and {rest} more" if rest else ""))
     severity = max(m.severity for m in members)
+    evidence = with_folded(primary.evidence if isinstance(primary.evidence, Mapping) else {},
+                           Folded(**folded))
     return replace(primary, severity=severity, evidence=evidence, notes=tuple(notes),
                    flows=flows, fix=fix)
 

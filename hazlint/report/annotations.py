@@ -7,15 +7,21 @@ pull-request diff at ``file:line``. Levels are ``error``, ``warning`` and ``noti
 values escape ``%``, CR, LF, ``:`` and ``,``; the text escapes ``%``, CR and LF (the runner's
 escaping rules, from memory of its documentation), so the fix can follow the message on the
 same physical line as a ``%0A``-separated line; the evidence stays in the text, JSON and SARIF
-reports. Paths are relative to the source root,
-because the runner resolves them against the repository checkout.
+reports. Paths are relative to the project root (:func:`hazlint.paths.relpath`),
+because the runner resolves them against the repository checkout; a file outside the root is
+named by its absolute path.
 """
 from __future__ import annotations
 
 import os
-from typing import Any, Iterable
+from typing import Any
 
 from ..diagnostics import Diagnostic, Severity, sort_diagnostics
+from ..paths import relpath
+from .registry import ReportOptions
+
+NAME = "annotations"
+SUMMARY = "one ::level file=,line=,col=,title=::text line per finding for CI runners"
 
 _LEVEL = {Severity.ERROR: "error", Severity.WARNING: "warning", Severity.INFO: "notice"}
 
@@ -28,16 +34,8 @@ def escape_property(text: str) -> str:
     return escape_data(text).replace(":", "%3A").replace(",", "%2C")
 
 
-def _rel(path: str, root: str | None) -> str:
-    if root and path:
-        rel = os.path.relpath(os.path.abspath(path), os.path.abspath(root))
-        if not rel.startswith(".."):
-            return rel.replace(os.sep, "/")
-    return path.replace(os.sep, "/")
-
-
 def annotation_line(d: Diagnostic, root: str | None = None) -> str:
-    props = [f"file={escape_property(_rel(d.location.path, root))}"]
+    props = [f"file={escape_property(relpath(d.location.path, root))}"]
     if d.location.line:
         props.append(f"line={int(d.location.line)}")
         if d.location.column:
@@ -53,19 +51,16 @@ def annotation_line(d: Diagnostic, root: str | None = None) -> str:
     return f"::{level} {','.join(props)}::{escape_data(chr(10).join(body))}"
 
 
-def render_diagnostics(diagnostics: Iterable[Diagnostic], root: str | None = None) -> str:
-    lines = [annotation_line(d, root) for d in sort_diagnostics(diagnostics) if d.waived is None]
-    return "".join(line + "\n" for line in lines)
-
-
-def write(result: Any, stream) -> None:
+def write(result: Any, stream, options: ReportOptions | None = None) -> None:
     root = getattr(result, "root", None) or os.getcwd()
     for d in sort_diagnostics(getattr(result, "diagnostics", ()) or ()):
         if d.waived is None:
             stream.write(annotation_line(d, root) + "\n")
 
 
-def render(result: Any) -> str:
+def render(result: Any, options: ReportOptions | None = None) -> str:
     """Annotation lines for a :class:`hazlint.api.LintResult` (waived findings are left out)."""
-    return render_diagnostics(getattr(result, "diagnostics", ()) or (),
-                              getattr(result, "root", None) or os.getcwd())
+    import io
+    buf = io.StringIO()
+    write(result, buf, options)
+    return buf.getvalue()

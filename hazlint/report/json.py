@@ -11,20 +11,15 @@ from __future__ import annotations
 import json
 from typing import Any
 
+from .registry import ReportOptions
 
-def findings(result: Any, include_waived: bool = False) -> list[dict]:
+NAME = "json"
+SUMMARY = "a JSON array, one finding object per line, paths relative to the project root"
+
+
+def write(result: Any, stream, options: ReportOptions | None = None) -> None:
     rel = getattr(result, "relpath", None) or (lambda p: p)
     diags = list(result.diagnostics)
-    if include_waived:
-        diags += list(getattr(result, "waived", []) or [])
-    return [d.to_json(rel) for d in diags]
-
-
-def write(result: Any, stream, include_waived: bool = False) -> None:
-    rel = getattr(result, "relpath", None) or (lambda p: p)
-    diags = list(result.diagnostics)
-    if include_waived:
-        diags += list(getattr(result, "waived", []) or [])
     if not diags:
         stream.write("[]\n")
         return
@@ -37,8 +32,8 @@ def write(result: Any, stream, include_waived: bool = False) -> None:
     stream.write("]\n")
 
 
-def render(result: Any, include_waived: bool = False) -> str:
+def render(result: Any, options: ReportOptions | None = None) -> str:
     import io
     buf = io.StringIO()
-    write(result, buf, include_waived)
+    write(result, buf, options)
     return buf.getvalue()

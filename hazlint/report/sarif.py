@@ -5,7 +5,9 @@ registry is available) with its one-line summary and its documentation as help t
 has:
 
 * a physical location relative to the source root (``uriBaseId`` ``SRCROOT``, declared in
-  ``originalUriBaseIds``) and a logical location for the hierarchical instance path;
+  ``originalUriBaseIds``; §3.4.3-3.4.4) for a file inside it, an absolute ``file:`` URI for a
+  file outside it (:func:`hazlint.paths.inside_root` decides, as for every report), and a
+  logical location for the hierarchical instance path;
 * ``relatedLocations`` for the secondary places (the stem of a reconvergent fanout, the gates
   on a loop) taken from :attr:`Diagnostic.related`;
 * one ``codeFlow`` per evidence path (:attr:`Diagnostic.flows`: the two reconvergent branches,
@@ -21,13 +23,18 @@ from __future__ import annotations
 import json
 import os
 from pathlib import Path
-from typing import Any, Iterable, Mapping, Sequence
+from typing import Any, Iterable, Mapping
 from urllib.parse import quote
 
 from .. import __version__
 from ..baseline import fingerprint
 from ..findings.public import public_evidence
 from ..diagnostics import Diagnostic, Hop, Location, Severity, sort_diagnostics
+from ..paths import inside_root
+from .registry import ReportOptions
+
+NAME = "sarif"
+SUMMARY = "SARIF 2.1.0 (OASIS): one run, rules, results with code flows and fingerprints"
 
 SARIF_VERSION = "2.1.0"
 SARIF_SCHEMA_URI = ("https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/"
@@ -112,12 +119,10 @@ class _Locator:
     def _artifact(self, path: str) -> dict:
         if not path:
             return {"uri": ""}
-        ap = os.path.abspath(path)
-        if self.root:
-            rel = os.path.relpath(ap, self.root)
-            if not rel.startswith(".." + os.sep) and rel != "..":
-                return {"uri": quote(rel.replace(os.sep, "/")), "uriBaseId": ROOT_ID}
-        return {"uri": Path(ap).as_uri()}
+        rel = inside_root(path, self.root)
+        if rel is not None:
+            return {"uri": quote(rel), "uriBaseId": ROOT_ID}
+        return {"uri": Path(os.path.abspath(path)).as_uri()}
 
     def physical(self, loc: Location) -> dict:
         phys: dict[str, Any] = {"artifactLocation": self.artifact(loc.path)}
@@ -304,7 +309,7 @@ def write_log(log: dict, results: Iterable[dict], stream) -> None:
     stream.write(tail + "\n")
 
 
-def write(result: Any, stream) -> None:
+def write(result: Any, stream, options: ReportOptions | None = None) -> None:
     """Stream the SARIF text for a :class:`hazlint.api.LintResult` to ``stream``."""
     rules = getattr(result, "rules", None) or registered_rules()
     log, results = _sarif_parts(getattr(result, "diagnostics", ()) or (),
@@ -313,17 +318,9 @@ def write(result: Any, stream) -> None:
     write_log(log, results, stream)
 
 
-def render(result: Any) -> str:
+def render(result: Any, options: ReportOptions | None = None) -> str:
     """SARIF text for a :class:`hazlint.api.LintResult` (``diagnostics``, ``waived``, ``root``)."""
     import io
     buf = io.StringIO()
-    write(result, buf)
-    return buf.getvalue()
-
-
-def render_diagnostics(diagnostics: Sequence[Diagnostic], root: str | None = None) -> str:
-    import io
-    log, results = _sarif_parts(diagnostics, root=root, rules=registered_rules())
-    buf = io.StringIO()
-    write_log(log, results, buf)
+    write(result, buf, options)
     return buf.getvalue()

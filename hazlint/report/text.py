@@ -5,6 +5,11 @@ from __future__ import annotations
 
 from typing import Any
 
+from .registry import ReportOptions
+
+NAME = "text"
+SUMMARY = "path:line:column: severity: message [rule], evidence indented below, a summary line"
+
 CAUTION = ("note: a clean lint run does not make a machine safe; safety functions follow the "
            "applicable functional-safety standards and a qualified review.")
 
@@ -107,19 +112,19 @@ def coverage_text(design) -> str:
 ASCII = str.maketrans({"\u203e": "-", "\u2191": "r", "\u2193": "f"})
 
 
-def write(result: Any, stream, color: bool = False, evidence: bool = True,
-          caution: bool = True, ascii_only: bool = False) -> None:
+def write(result: Any, stream, options: ReportOptions | None = None) -> None:
+    o = options or ReportOptions()
     rel = getattr(result, "relpath", None) or (lambda p: p)
     for d in result.diagnostics:
-        text = "\n".join(format_diagnostic(d, rel, color, evidence)) + "\n"
-        stream.write(text.translate(ASCII) if ascii_only else text)
+        text = "\n".join(format_diagnostic(d, rel, o.color, o.evidence)) + "\n"
+        stream.write(text.translate(ASCII) if o.ascii_only else text)
     stream.write(summary_line(result) + "\n")
-    if caution:
+    if o.caution:
         stream.write(CAUTION + "\n")
 
 
-def render(result: Any, color: bool = False, evidence: bool = True, caution: bool = True) -> str:
+def render(result: Any, options: ReportOptions | None = None) -> str:
     import io
     buf = io.StringIO()
-    write(result, buf, color, evidence, caution)
+    write(result, buf, options)
     return buf.getvalue()

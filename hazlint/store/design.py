@@ -42,6 +42,7 @@ import os
 from typing import Any, Iterable, Mapping, Sequence
 
 
+from ..options import SDF_CORNER
 from .codec import Codec, CodecError, EncodeState
 from .files import digest_file
 from .namespace import Namespace
@@ -59,7 +60,7 @@ def design_key(paths: Sequence[str], *, texts: Mapping[str, str] | None = None, 
                include_dirs: Iterable[str] = (), defines: Mapping[str, Any] | None = None,
                root: str | None = None, cells: Mapping[str, Any] | None = None,
                cells_source: str | None = None, liberty: Iterable[str] = (),
-               sdf: Iterable[str] = (), sdf_corner: str = "minmax",
+               sdf: Iterable[str] = (), sdf_corner: str = SDF_CORNER,
                default_delay: Any = None, memory_max_bits: int | None = None,
                frontend: str = "auto") -> str | None:
     """sha256 over every input of reading, elaborating and annotating a design, or None when
@@ -114,9 +115,10 @@ def design_codec() -> Codec:
     if _CODEC is None:
         from ..netlist.design import BlackBox, Register
         from ..diagnostics import Diagnostic, Hop, Location, Related, Severity
+        from ..findings.evidence import CLASSES as EVIDENCE
         from ..netlist.library import Delay
-        _CODEC = Codec([Delay, Location, Hop, Related, Diagnostic, Severity, Register, BlackBox],
-                       shared=[Delay, Location, Hop])
+        _CODEC = Codec([Delay, Location, Hop, Related, Diagnostic, Severity, Register, BlackBox,
+                        *EVIDENCE], shared=[Delay, Location, Hop])
     return _CODEC
 
 
@@ -431,29 +433,3 @@ def open_design_cache(directory: str | os.PathLike | None = None, *,
         return None
     c = DesignCache(directory, limit_mb=limit_mb)
     return c if c.enabled else None
-
-
-def load_cached(paths: Sequence[str], config, *, texts=None, top=None, include_dirs=(),
-                defines=None, root=None, load_fresh, cache: DesignCache | None = None,
-                info: dict | None = None):
-    """The design for ``paths`` from ``cache`` when an entry matches, else ``load_fresh()``
-    (returning ``(design, sources)``), stored for the next run. Entries are not written for
-    unsaved editor text (``texts``): each keystroke would leave one behind."""
-    if cache is None:
-        return load_fresh()[0]
-    key = design_key(paths, texts=texts, top=top, include_dirs=include_dirs, defines=defines,
-                     root=root, cells=config.cells, cells_source=config.path,
-                     liberty=config.liberty, sdf=config.sdf, sdf_corner="minmax",
-                     memory_max_bits=config.memory_as_registers_max_bits,
-                     frontend=getattr(config, "frontend", "auto"))
-    if info is not None:
-        info["design_key"] = key
-    if key is not None:
-        design = cache.load(key, texts)
-        if design is not None:
-            return design
-    design, sources = load_fresh()
-    if key is not None and not texts:
-        includes = [p for sf in sources for p in getattr(sf, "includes", ())]
-        cache.store(key, design, includes)
-    return design

@@ -18,11 +18,13 @@ RESULT_NAMESPACE = "result"
 
 
 def result_key(design_key: str, config, *, select, ignore, prove: bool,
-               options: Mapping[str, Any], rules: Iterable[Any]) -> str | None:
+               options: Mapping[str, Any], rules: Iterable[Any],
+               prove_options: Mapping[str, Any] | None = None) -> str | None:
     """sha256 over what decides the findings of a design: the design key, the whole
     configuration table plus the resolved rule options, the selection, whether the prover ran
-    (and its options), and which rules ran with a stamp of each rule's module file (rules from
-    other distributions are not covered by :func:`code_stamp`)."""
+    and its options (``prove_options``, default the configuration's), and which rules ran
+    with a stamp of each rule's module file (rules from other distributions are not covered
+    by :func:`code_stamp`)."""
     import sys
     ran = []
     for r in rules:
@@ -38,7 +40,7 @@ def result_key(design_key: str, config, *, select, ignore, prove: bool,
         "format": RESULT_FORMAT, "design": design_key, "raw": config.raw,
         "config_path": config.path, "root": config.root, "severity": config.severity,
         "async_outputs": config.async_outputs, "static_inputs": config.static_inputs,
-        "prove_options": config.prove, "select": None if select is None else list(select),
+        "prove_options": config.prove if prove_options is None else prove_options, "select": None if select is None else list(select),
         "ignore": list(ignore), "prove": bool(prove), "options": options, "rules": ran,
     }
     try:

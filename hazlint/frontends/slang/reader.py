@@ -96,13 +96,14 @@ def _read_one(path, include_dirs, defines, root, texts, fast) -> ir.SourceFile:
 def _within_limits(path, text, include_dirs, defines, root, texts) -> None:
     """slang expands macros and includes without a bound (a `define whose expansion quadruples
     at each level filled 24 GB; an include fan-out ran for minutes). A file that uses compiler
-    directives is first run through hazlint's own preprocessor, which counts macro expansion
-    and includes against the documented limits (``macro_expansion``, ``include_fanout``) and
-    raises a located :class:`~hazlint.limits.LimitExceeded`. Only the limits are taken from
-    it: any other complaint it has is left to slang, which reads SystemVerilog directives the
-    Verilog preprocessor does not know."""
+    directives is first walked by hazlint's own preprocessor in its counting-only mode (no
+    output text, line map or digests are built), which counts macro expansion and includes
+    against the documented limits (``macro_expansion``, ``include_fanout``) and raises a
+    located :class:`~hazlint.limits.LimitExceeded`. Only the limits are taken from it: any
+    other complaint it has is left to slang, which reads SystemVerilog directives the Verilog
+    preprocessor does not know."""
     try:
-        Preprocessor(include_dirs, defines, root, texts).run(path, text)
+        Preprocessor(include_dirs, defines, root, texts).check_limits(path, text)
     except LimitExceeded:
         raise
     except HazlintError:

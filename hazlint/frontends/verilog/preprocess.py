@@ -16,6 +16,11 @@ includes (:class:`LineMap`).
 Speed: a file without a backtick is passed through in one step; other lines without a backtick
 or a comment opener are copied as they are, and only the rest is scanned with regular
 expressions.
+
+Counting only (:meth:`Preprocessor.check_limits`): the same walk over the directives, macro
+uses and includes, with the same errors and the same limits (``macro_expansion``,
+``include_fanout``), but no output text, line map or file digests are kept: what the slang
+front end needs before slang preprocesses the file itself.
 """
 from __future__ import annotations
 
@@ -132,6 +137,34 @@ class PreprocessResult:
     notes: list                            # [(path, line, message)]
 
 
+class _LineCount:
+    """Stands in for the output lines when only counting: their number, not their text."""
+
+    __slots__ = ("n",)
+
+    def __init__(self):
+        self.n = 0
+
+    def append(self, line: str) -> None:
+        self.n += 1
+
+    def extend(self, lines) -> None:
+        self.n += len(lines)
+
+    def __len__(self) -> int:
+        return self.n
+
+
+class _NoLineMap:
+    """Stands in for the :class:`LineMap` when only counting."""
+
+    def add(self, path: str, line: int) -> None:
+        pass
+
+    def add_range(self, path: str, first: int, count: int) -> None:
+        pass
+
+
 class Preprocessor:
     def __init__(self, include_dirs=(), defines: dict | None = None, root: str | None = None,
                  texts: dict | None = None):
@@ -148,13 +181,27 @@ class Preprocessor:
 
     # ------------------------------------------------------------------------------------------
     def run(self, path: str, text: str | None = None) -> PreprocessResult:
+        text = self._start(path, text, counting=False)
+        return PreprocessResult("\n".join(self.out) + "\n", self.lmap, self.state,
+                                self.includes, self.digests, self.notes)
+
+    def check_limits(self, path: str, text: str | None = None) -> int:
+        """Walk the file as :meth:`run` does (the same errors, the same limits, includes
+        followed) without building the output text, the line map or the digests; returns the
+        number of lines :meth:`run` would output."""
+        self._start(path, text, counting=True)
+        return len(self.out)
+
+    def _start(self, path: str, text: str | None, counting: bool) -> str:
         if text is None:
             text = read_text(path, self.texts)
-        self.out: list[str] = []
-        self.lmap = LineMap()
+        self._counting = counting
+        self.out = _LineCount() if counting else []
+        self.lmap = _NoLineMap() if counting else LineMap()
         self.state = DirectiveState()
         self.includes: list[str] = []
-        self.digests = {path: digest_text(text)}
+        self._included: set[str] = set()
+        self.digests = {} if counting else {path: digest_text(text)}
         self.notes: list = []
         self._stack: list[str] = [os.path.realpath(path)]
         root = self.root or repository_root(path) or os.path.dirname(self._stack[0])
@@ -163,8 +210,7 @@ class Preprocessor:
         self._include_texts: dict[str, str] = {}
         self._expansion_left = _limits.current().macro_expansion
         self._process(path, text)
-        return PreprocessResult("\n".join(self.out) + "\n", self.lmap, self.state,
-                                self.includes, self.digests, self.notes)
+        return text
 
     # ------------------------------------------------------------------------------------------
     def _process(self, path: str, text: str) -> None:
@@ -547,8 +593,10 @@ class Preprocessor:
         if text is None:
             text = self._include_texts[found] = read_text(found, self.texts)
         rel = found
-        if rel not in self.digests:
-            self.digests[rel] = digest_text(text)
+        if rel not in self._included:
+            self._included.add(rel)
+            if not self._counting:
+                self.digests[rel] = digest_text(text)
             self.includes.append(rel)
         self._stack.append(real)
         try:

@@ -1,0 +1,1 @@
+"""Example hazlint rules (a test package; see tests/test_rule_plugin.py)."""
