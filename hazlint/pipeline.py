@@ -119,6 +119,7 @@ def _load_fresh(request: RunRequest, progress):
     # the design has to be built: a warm run from the design cache does not need them
     from .elaborate import elaborate
     from .frontends.registry import read_sources
+    from .gcpause import collector_paused
     inputs = request.design
     kwargs: dict[str, Any] = {}
     if request.jobs is not None:
@@ -130,11 +131,12 @@ def _load_fresh(request: RunRequest, progress):
         kwargs["cache"] = open_cache(request.cache_dir, limit_mb=request.cache_limit_mb)
     kwargs["tables"] = _table_cache(request) if request.use_cache else False
     library = request.library()
-    sources = read_sources(list(inputs.paths), include_dirs=list(inputs.include_dirs),
-                           defines=dict(inputs.defines), frontend=inputs.frontend,
-                           texts=inputs.texts, progress=progress, tolerant=True, **kwargs)
-    design = elaborate(sources, top=inputs.top, library=library,
-                       memory_max_bits=inputs.memory_max_bits)
+    with collector_paused():        # millions of small acyclic objects: no collector passes
+        sources = read_sources(list(inputs.paths), include_dirs=list(inputs.include_dirs),
+                               defines=dict(inputs.defines), frontend=inputs.frontend,
+                               texts=inputs.texts, progress=progress, tolerant=True, **kwargs)
+        design = elaborate(sources, top=inputs.top, library=library,
+                           memory_max_bits=inputs.memory_max_bits)
     _apply_sdf(design, request, library)
     return design, sources
 

@@ -28,21 +28,33 @@ class GraphEmitter:
         for name in list(self.parent):
             members.setdefault(find(name), []).append(name)
         self._members = members
+        # every bit now points at its root (find compresses paths) and no union follows:
+        # a lookup in the parent table is find() without the call
+        root_of = self.parent.get
         port_set = set(inputs) | set(outputs)
         inits = initial_values.by_net(self.init_values, find)
-        driven = {find(d["out"]) for d in self.drivers}
-        for root, (bit, v, loc, inst) in inits.items():
-            if root not in driven:      # a variable nothing assigns keeps its initial value
-                self._add_driver("const", bit, op=f"const{v}", instance=inst, loc=loc)
+        if inits:
+            driven = {root_of(d["out"], d["out"]) for d in self.drivers}
+            for root, (bit, v, loc, inst) in inits.items():
+                if root not in driven:  # a variable nothing assigns keeps its initial value
+                    self._add_driver("const", bit, op=f"const{v}", instance=inst, loc=loc)
 
         def rank(n: str):
             return (0 if n in port_set else 1, "$" in n, n.count("."), len(n), n)
         rep = self._rep = {r: ms[0] if len(ms) == 1 else min(ms, key=rank)
                            for r, ms in members.items()}
-        # drivers per merged net
+        # drivers per merged net; the records are handed over (and freed as they become
+        # nodes), so a large design does not hold each gate's attributes twice
         drv_of: dict[str, list[dict]] = {}
         for d in self.drivers:
-            drv_of.setdefault(find(d["out"]), []).append(d)
+            out = d["out"]
+            r = root_of(out, out)
+            ds = drv_of.get(r)
+            if ds is None:
+                drv_of[r] = [d]
+            else:
+                ds.append(d)
+        self.drivers = []
 
         def node_of(sig: str) -> str:
             if sig in (C0, C1):
@@ -51,12 +63,16 @@ class GraphEmitter:
                                "const0", inputs=[], pins=[], delays=[], cell="constant",
                                instance="", path="", line=0, column=1)
                 return sig
-            return rep[find(sig)]
+            return rep[root_of(sig, sig)]
 
-        for k, (r, ds) in enumerate(drv_of.items()):
+        for k, r in enumerate(list(drv_of)):
+            ds = drv_of.pop(r)
             if not k & 8191:
                 _budget.check_loading("building the gate graph", *_where(ds[0]["loc"])[:2])
             nid = rep[r]
+            if len(ds) == 1:
+                _emit(g, nid, ds[0], node_of)
+                continue
             strong = [d for d in ds if not d.get("weak")]
             ds_use = strong or ds
             if len(ds_use) > 1:
@@ -66,7 +82,7 @@ class GraphEmitter:
                     outs = []
                     for k, d in enumerate(tri):
                         dn = f"{nid}$drv{k}"
-                        self._emit(g, dn, d, node_of)
+                        _emit(g, dn, d, node_of)
                         outs.append(dn)
                     first = tri[0]
                     g.add_node(nid, kind="gate", name=nid, op="or", inputs=outs,
@@ -80,7 +96,7 @@ class GraphEmitter:
                 self.note(f"net '{nid}' has {len(ds_use)} drivers ({', '.join(kinds)}; {locs}); "
                           f"the first is used", ds_use[1]["loc"], ds_use[1]["instance"],
                           severity=Severity.WARNING)
-            self._emit(g, nid, ds_use[0], node_of)
+            _emit(g, nid, ds_use[0], node_of)
         # sinks
         for s in self.sinks:
             src = node_of(s["input"])
@@ -89,18 +105,30 @@ class GraphEmitter:
                        delays=[ZERO_DELAY], **_locattrs(s["loc"]), **attrs)
         # edges (and undriven-net sources), gathered first and added in one call: the same
         # edges in the same order, without networkx's per-edge checks
-        edges: dict[tuple[str, str], list[int]] = {}
-        nodes = g.nodes
-        for n in list(nodes):
-            for i, src in enumerate(nodes[n]["inputs"]):
+        edges = []
+        add_edge = edges.append
+        for n, ins in list(g.nodes(data="inputs")):
+            if not ins:
+                continue
+            if len(ins) == 1:
+                src = ins[0]
                 if src not in g:
                     self._undriven(g, src)
-                pins = edges.get((src, n))
+                add_edge((src, n, {"pins": [0]}))
+                continue
+            pins_of: dict[str, list[int]] = {}
+            for i, src in enumerate(ins):
+                pins = pins_of.get(src)
                 if pins is None:
-                    edges[(src, n)] = [i]
+                    if src not in g:
+                        self._undriven(g, src)
+                    pins_of[src] = [i]
                 else:
                     pins.append(i)
-        g.add_edges_from((u, v, {"pins": pins}) for (u, v), pins in edges.items())
+            for src, pins in pins_of.items():
+                add_edge((src, n, {"pins": pins}))
+        g.add_edges_from(edges)
+        del edges
         unit.record(g)
         design = Design(
             graph=g, top=tops[0] if len(tops) == 1 else ",".join(tops),
@@ -125,22 +153,6 @@ class GraphEmitter:
         design.latch_paths = [(d_, e_, node_of(q)) for d_, e_, q in self.latch_paths]
         return design
 
-    def _emit(self, g, nid, d, node_of) -> None:
-        attrs = dict(kind=d["kind"], name=nid, op=d["op"],
-                     inputs=[node_of(s) for s in d["inputs"]], pins=list(d["pins"]),
-                     delays=list(d["delays"]), cell=d["cell"], instance=d["instance"],
-                     **_locattrs(d["loc"]))
-        if d.get("expr") is not None:
-            attrs["expr"] = d["expr"]
-        if d.get("attrs"):
-            attrs["attrs"] = d["attrs"]
-        for k in ("register", "state", "port", "reason", "out_pin", "tri", "memory"):
-            if k in d:
-                attrs[k] = d[k]
-        if d["kind"] == "const":
-            attrs["op"] = d["op"]
-        g.add_node(nid, **attrs)
-
     def _undriven(self, g, nid) -> None:
         owner = self.bb_owner
         for m in self._members.get(self.find(nid), [nid]):
@@ -156,6 +168,31 @@ class GraphEmitter:
             return                      # one warning per array (hazlint.elaborate.memory)
         self.note(f"net '{nid}' is read but never driven; it is a free input for analysis",
                   None, "", key=("undriven", nid), severity=Severity.WARNING)
+
+
+# attributes a driver record may carry into its node, in the order they are written
+_EXTRA = ("register", "state", "port", "reason", "out_pin", "tri", "memory")
+
+
+def _emit(g, nid, d, node_of) -> None:
+    """Driver record ``d`` -> node ``nid`` (the schema of :mod:`hazlint.netlist.graph`)."""
+    loc = d["loc"]
+    attrs = {"kind": d["kind"], "name": nid, "op": d["op"],
+             "inputs": [node_of(s) for s in d["inputs"]], "pins": list(d["pins"]),
+             "delays": list(d["delays"]), "cell": d["cell"], "instance": d["instance"]}
+    if loc is None:
+        attrs["path"], attrs["line"], attrs["column"] = "", 0, 1
+    else:
+        attrs["path"], attrs["line"], attrs["column"] = loc.path, loc.line, loc.col or 1
+    if d["expr"] is not None:
+        attrs["expr"] = d["expr"]
+    if d["attrs"]:
+        attrs["attrs"] = d["attrs"]
+    if len(d) > 11:             # the record has more than the keys every record has
+        for k in _EXTRA:
+            if k in d:
+                attrs[k] = d[k]
+    g.add_node(nid, **attrs)
 
 
 def _locattrs(loc) -> dict:

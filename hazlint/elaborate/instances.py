@@ -84,18 +84,29 @@ class InstanceElaborator:
     def conn_bits(self, scope, e, loc) -> list[str] | None:
         if e is None:
             return None
-        if isinstance(e, tuple) and e and e[0] == "_bits":
-            return list(e[1])
+        if isinstance(e, tuple) and e:
+            tag = e[0]
+            if tag == "id":
+                # a declared scalar, as select_bits reads it (the common netlist connection)
+                info = scope.lookup(e[1])
+                if info is not None and info.indices is None and not info.dims:
+                    return [info.base]
+            elif tag == "_bits":
+                return list(e[1])
         return self.lvalue_bits(e, scope, loc, reading=True)
 
     def elab_primitive(self, scope: Scope, inst: ir.Instance) -> None:
         cell = inst.cell
         path = f"{scope.instance}.{inst.name}" if inst.name else f"{scope.instance}.{cell}"
-        if any(p is not None for p, _ in inst.connections):
-            raise ElaborationError(f"gate primitive '{cell}' takes positional terminals only",
-                                   *_where(inst.loc), construct=inst.name or cell)
-        terms = [self.conn_bits(scope, e, inst.loc) for _, e in inst.connections]
-        if any(t is None for t in terms):
+        conn_bits = self.conn_bits
+        terms = []
+        for pname, e in inst.connections:
+            if pname is not None:
+                raise ElaborationError(f"gate primitive '{cell}' takes positional terminals "
+                                       "only", *_where(inst.loc), construct=inst.name or cell)
+        for _, e in inst.connections:
+            terms.append(conn_bits(scope, e, inst.loc))
+        if None in terms:
             raise ElaborationError(f"gate primitive '{cell}' has an empty terminal",
                                    *_where(inst.loc), construct=inst.name or cell)
         dspec = inst.delay
@@ -126,15 +137,16 @@ class InstanceElaborator:
                                        *_where(inst.loc), construct=inst.name or cell)
             outs, ins = [terms[0]], terms[1:]
             op = cell
-        in_sigs = [t[0] if len(t) == 1 else t[0] for t in ins]
+        in_sigs = [t[0] for t in ins]
         for t in ins + outs:
             if len(t) != 1:
                 self.note(f"vector connected to a terminal of gate '{inst.name or cell}': "
                           f"only its least significant bit is used", inst.loc, path)
+        tri = cell in lib.TRISTATE_GATES
         for o in outs:
             self._add_driver("gate", o[0], op=op, inputs=in_sigs, delays=[delay] * len(in_sigs),
                              cell=cell, instance=path, loc=inst.loc, attrs=inst.attrs,
-                             tri=cell in lib.TRISTATE_GATES, explicit_delay=bool(dspec))
+                             tri=tri, explicit_delay=bool(dspec))
         if cell in lib.TRISTATE_GATES:
             self.add_sink(in_sigs[1], "tristate_enable",
                           f"{self.rel(scope, inst.name or cell)}.enable", inst.loc, path,

@@ -17,6 +17,10 @@ from .scope import Scope
 from .source_delays import sum_delay
 
 
+# the default names of a gate's input pins ("1", "2", ...), by number of inputs
+_PIN_NAMES = tuple(tuple(str(i + 1) for i in range(n)) for n in range(17))
+
+
 class NetElaborator:
     """Net bits, drivers, sinks and continuous assignments."""
 
@@ -50,22 +54,27 @@ class NetElaborator:
                     delays=None, cell: str = "", instance: str = "", loc: ir.Loc | None = None,
                     expr=None, attrs=None, **extra) -> None:
         inputs = list(inputs)
-        if kind == "gate" and out in self.net_delay:
+        n = len(inputs)
+        if kind == "gate" and self.net_delay and out in self.net_delay:
             # a net delay adds to the delay of every gate and assign that drives the net
             nd = self.net_delay[out]
             delays = [sum_delay(d, nd) for d in
-                      (delays if delays is not None else [self.default_delay] * len(inputs))]
+                      (delays if delays is not None else [self.default_delay] * n)]
         rec = {"kind": kind, "out": out, "op": op, "inputs": inputs,
-               "pins": pins if pins is not None else [str(i + 1) for i in range(len(inputs))],
-               "delays": delays if delays is not None else [self.default_delay] * len(inputs),
+               "pins": pins if pins is not None else
+               (list(_PIN_NAMES[n]) if n < len(_PIN_NAMES) else [str(i + 1) for i in range(n)]),
+               "delays": delays if delays is not None else [self.default_delay] * n,
                "cell": cell or op, "instance": instance, "loc": loc, "expr": expr,
                "attrs": attrs or {}}
-        rec.update(extra)
-        self.drivers.append(rec)
+        if extra:
+            rec.update(extra)
+        drivers = self.drivers
+        drivers.append(rec)
         self.parent.setdefault(out, out)
-        if len(self.drivers) > self._max_gates:
-            _limits.check("gates", len(self.drivers), "the number of gates", _where(loc))
-        if not len(self.drivers) & 8191:
+        count = len(drivers)
+        if count > self._max_gates:
+            _limits.check("gates", count, "the number of gates", _where(loc))
+        if not count & 8191:
             _budget.check_loading("elaborating the design", *_where(loc)[:2])
 
     def gate(self, scope: Scope, op: str, ins: list[str], loc, delay: Delay | None = None,
