@@ -88,13 +88,7 @@ def classify_batch(g: nx.DiGraph, targets: Sequence[str] | None, opts: Mapping[s
     for t in targets:
         if budget.expired():
             break               # pairs left undecided are proven one by one, or reported
-        s = sup[t] & chg_mask
-        while s:
-            i = (s & -s).bit_length() - 1
-            s &= s - 1
-            x = srcs[i]
-            if wanted is not None and (t, x) not in wanted:
-                continue
+        for x in _pairs_wanted(t, sup[t] & chg_mask, srcs, wanted):
             res = found.setdefault((t, x), {})
             rest = [k for k in HAZARD_KINDS if k not in res]
             if not rest:
@@ -110,6 +104,17 @@ def classify_batch(g: nx.DiGraph, targets: Sequence[str] | None, opts: Mapping[s
     if open_pairs and not budget.expired():
         _prove_open(g, order, targets, srcs, open_pairs, found, p, session, local)
     return found
+
+
+def _pairs_wanted(t: str, mask: int, srcs: Sequence[str], wanted) -> Iterable[str]:
+    """The changing sources of target ``t`` whose bits are set in ``mask`` (source index order),
+    those of ``wanted`` (pairs ``(t, x)``) only when it is given."""
+    while mask:
+        i = (mask & -mask).bit_length() - 1
+        mask &= mask - 1
+        x = srcs[i]
+        if wanted is None or (t, x) in wanted:
+            yield x
 
 
 def _map(session, func, items, p: _Pass, shared, local) -> list:
@@ -216,12 +221,7 @@ def _simulate(shared, p: _Pass, item, local) -> dict:
                 planes = {"static-1-hazard": one_a & one_b & xm,
                           "static-0-hazard": zero_a & zero_b & xm,
                           "dynamic-hazard": ((one_a & zero_b) | (zero_a & one_b)) & h}
-                while s:
-                    i = (s & -s).bit_length() - 1
-                    s &= s - 1
-                    x = srcs[i]
-                    if wanted is not None and (t, x) not in wanted:
-                        continue
+                for x in _pairs_wanted(t, s, srcs, wanted):
                     base = lane_of[x] * vectors
                     res = found.setdefault((t, x), {})
                     for k, lanes in planes.items():

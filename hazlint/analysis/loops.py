@@ -133,6 +133,13 @@ def classify_loop(graph: nx.DiGraph, scc: Iterable[str], max_inputs: int = 12,
 
     def vec(u):
         return {n: (u >> i) & 1 for i, n in enumerate(ext)}
+
+    def change_of(u, change):
+        """The loop inputs of lane ``u`` before and after the inputs ``change`` flip."""
+        after = vec(u)
+        for i in change:
+            after[ext[i]] ^= 1
+        return {"from": vec(u), "to": after}
     for u in range(W):
         if not per_lane[u]:
             return LoopClass("oscillation", ext, witness={"inputs": vec(u)},
@@ -145,10 +152,7 @@ def classify_loop(graph: nx.DiGraph, scc: Iterable[str], max_inputs: int = 12,
     bad = _unsettled(g, comp, ext, blocks, stable, state_vals, W, inbits)
     if bad is not None:
         s, change, u = bad
-        after = vec(u)
-        for i in change:
-            after[ext[i]] ^= 1
-        return LoopClass("oscillation", ext, witness={"from": vec(u), "to": after},
+        return LoopClass("oscillation", ext, witness=change_of(u, change),
                          reason="this input change leaves the loop undetermined (ternary "
                                 "simulation, procedure B): it may oscillate or settle either way")
     holds = [u for u in range(W) if len(per_lane[u]) >= 2]
@@ -162,10 +166,7 @@ def classify_loop(graph: nx.DiGraph, scc: Iterable[str], max_inputs: int = 12,
         race = _unsettled(g, comp, ext, pairs, stable, state_vals, W, inbits)
         if race is not None:
             s, change, u = race
-            after = vec(u)
-            for i in change:
-                after[ext[i]] ^= 1
-            out.race = {"from": vec(u), "to": after}
+            out.race = change_of(u, change)
     _recognise(g, out, loop, ext, per_lane, state_vals, W)
     return out
 

@@ -11,7 +11,6 @@ Nothing here imports a parser.
 """
 from __future__ import annotations
 
-import gc
 import hashlib
 import json
 import os
@@ -20,6 +19,7 @@ from typing import Callable
 
 from .. import __version__
 from ..errors import HazlintError, ParseError
+from ..gcpause import collector_paused
 from .. import ir
 from .files import digest_text, read_text
 
@@ -162,15 +162,11 @@ def _from_cache(cache, key, texts):
         except HazlintError:
             return None
     # decoding builds many small acyclic objects: no cyclic GC passes meanwhile
-    gc_was_enabled = gc.isenabled()
-    gc.disable()
     try:
-        sf = ir.from_compact(data["ir"])
+        with collector_paused():
+            sf = ir.from_compact(data["ir"])
     except (KeyError, TypeError, ValueError, AttributeError):
         sf = None
-    finally:
-        if gc_was_enabled:
-            gc.enable()
     if not isinstance(sf, ir.SourceFile):
         discard = getattr(cache, "discard", None)
         if discard is not None:

@@ -35,13 +35,13 @@ built graph. Like every cache entry it is plain JSON: nothing in it is executed 
 from __future__ import annotations
 
 import dataclasses
-import gc
 import hashlib
 import json
 import os
 from typing import Any, Iterable, Mapping, Sequence
 
 
+from ..gcpause import collector_paused
 from ..options import SDF_CORNER
 from .codec import Codec, CodecError, EncodeState
 from .files import digest_file
@@ -392,15 +392,11 @@ class DesignCache(Namespace):
                     return None      # an included file changed: a miss, not corruption
             except HazlintError:
                 return None
-        gc_was_enabled = gc.isenabled()
-        gc.disable()                 # many small acyclic objects: no cyclic GC passes
         try:
-            design = decode_design(data)
+            with collector_paused():     # many small acyclic objects: no cyclic GC passes
+                design = decode_design(data)
         except (ValueError, RecursionError, LookupError, TypeError, AttributeError):
             design = None
-        finally:
-            if gc_was_enabled:
-                gc.enable()
         if design is None:
             self.store_.discard(key)     # well-formed JSON that is not a usable entry
         return design
