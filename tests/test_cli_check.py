@@ -181,3 +181,29 @@ def test_baseline_round_trip_and_waiver_file(demo):
     assert [(r["path"], r["line"], r["kind"]) for r in stale] == [
         ("accepted.toml", 6, "unused-acceptance")]
     assert "1 accepted" in hazlint("--no-prove", cwd=demo).stdout
+
+
+def test_output_file_is_replaced_whole_or_left_as_it_was(tmp_path):
+    # -o FILE is written to a temporary file beside it and renamed (POSIX rename(2) replaces
+    # the old file in one step): a report that fails halfway leaves the previous report intact
+    # and no temporary file behind; a symbolic link keeps pointing at the new report
+    from types import SimpleNamespace
+    from hazlint.commands.check import _emit
+    out = tmp_path / "report.txt"
+    out.write_text("previous report\n")
+
+    def half(stream):
+        stream.write("half a rep")
+        raise RuntimeError("format failed")
+
+    with pytest.raises(RuntimeError):
+        _emit(SimpleNamespace(output=str(out)), half)
+    assert out.read_text() == "previous report\n"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["report.txt"]
+    link = tmp_path / "latest.txt"
+    link.symlink_to(out)
+    _emit(SimpleNamespace(output=str(link)), lambda s: s.write("new report\n"))
+    assert link.is_symlink() and out.read_text() == "new report\n"
+    # a character device is written in place (never replaced by a rename)
+    _emit(SimpleNamespace(output=os.devnull), lambda s: s.write("discarded\n"))
+    assert os.path.exists(os.devnull) and not os.path.isfile(os.devnull)

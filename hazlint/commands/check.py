@@ -209,15 +209,39 @@ def _copy_from(src):
     return lambda stream: shutil.copyfileobj(src, stream, 1 << 20)
 
 
+def _regular_or_new(path: str) -> bool:
+    """Whether ``path`` is a regular file or does not exist yet (not a device or a pipe)."""
+    import stat
+    try:
+        return stat.S_ISREG(os.stat(path).st_mode)
+    except FileNotFoundError:
+        return True
+    except OSError:
+        return False
+
+
+def write_user_file(path: str, write, what: str = "report") -> None:
+    """Write a file the user asked for (``-o``, ``--vcd``, ``--svg``) with ``write(stream)``:
+    into a temporary file beside it, then a rename, so a run that fails halfway (a format
+    plugin that raises, a full disk) never leaves half a file; a terminal, a pipe or
+    /dev/stdout is written as it is. An error names the file (exit 2)."""
+    try:
+        if _regular_or_new(path):
+            from pathlib import Path
+            from ..store.files import atomic_write
+            # through a symbolic link: the file it points to is replaced, not the link
+            atomic_write(Path(os.path.realpath(path)), write, private=False)
+        else:
+            with open(path, "w", encoding="utf-8", newline="") as fh:
+                write(fh)
+    except OSError as exc:
+        raise HazlintError(f"cannot write {what}: {exc.strerror}", path=path) from None
+
+
 def _emit(args, write) -> None:
     """Run ``write(stream)`` on ``--output`` or stdout."""
     if args.output:
-        try:
-            with open(args.output, "w", encoding="utf-8", newline="") as fh:
-                write(fh)
-        except OSError as exc:
-            raise HazlintError(f"cannot write report: {exc.strerror}",
-                               path=args.output) from None
+        write_user_file(args.output, write)
     else:
         write(sys.stdout)
         sys.stdout.flush()

@@ -242,6 +242,7 @@ def _write_waves(args, shown):
     with a panel per witness. Times are in the design's unit."""
     from ..analysis import prove as P
     from ..analysis import waves
+    from .check import write_user_file
     if not (args.vcd or args.svg) or not shown:
         return
     panels = []
@@ -254,13 +255,14 @@ def _write_waves(args, shown):
             if k:
                 base, ext = os.path.splitext(path)
                 path = f"{base}-{k + 1}{ext}"
-            with open(path, "w") as fh:
-                waves.write_vcd(tr, nets, names, fh, unit=TimeUnit.of(g))
+            unit = TimeUnit.of(g)
+            write_user_file(path, lambda fh: waves.write_vcd(tr, nets, names, fh, unit=unit),
+                            "waveform")
         hl = None
         if c.glitch is not None and c.glitch.time is not None:
             lead = P.witness_lead(c)
             hl = (lead + c.glitch.time, lead + c.glitch.time + (c.glitch.width or 0))
         panels.append(waves.Panel(tr, nets, names, title, hl))
     if args.svg:
-        with open(args.svg, "w") as fh:
-            fh.write(waves.svg_panels(panels, TimeUnit.of(shown[0][1])))
+        image = waves.svg_panels(panels, TimeUnit.of(shown[0][1]))
+        write_user_file(args.svg, lambda fh: fh.write(image), "waveform")
