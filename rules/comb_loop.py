@@ -52,7 +52,7 @@ How to fix
 from __future__ import annotations
 
 from collections import deque
-
+from typing import TYPE_CHECKING
 
 from hazlint.diagnostics import Diagnostic, Severity
 from hazlint.findings.evidence import LoopEvidence
@@ -62,6 +62,9 @@ from hazlint.netlist.walks import cyclic_components
 from hazlint.plugins import Option
 
 from ._common import name_list, severity, stable_key
+
+if TYPE_CHECKING:         # annotations only: a cached report loads no networkx
+    import networkx as nx
 
 ID = "combinational-loop"
 SUMMARY = "feedback through combinational logic (a loop not broken by a register)"

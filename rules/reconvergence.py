@@ -345,7 +345,7 @@ def _incomplete(context, left, analysed: int, work_budget: float | None) -> Diag
         rule=ID, kind="analysis-incomplete", severity=Severity.WARNING,
         location=context.location(first), instance=context.graph.nodes[first].get(
             "instance", "") or "",
-        message=(f"reconvergence analysis stopped "
+        message=("reconvergence analysis stopped "
                  + (f"at its work budget ({work_budget:g} node visits)" if work_budget is not None
                     else f"because {budget.reason()}")
                  + f": {len(left)} of {len(left) + analysed} fanout stems not analysed, "

@@ -123,7 +123,6 @@ def sat_hazards(graph, order: Sequence[str], target: str, changes: Mapping[str, 
     fixed = dict(fixed or {})
     A = CNFAlgebra()
     srcs = free_sources(graph, order)
-    free = [n for n in srcs if n not in changes and n not in fixed]
     va, vb, var_of = {}, {}, {}
     for n in srcs:
         if n in changes:
