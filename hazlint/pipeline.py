@@ -223,7 +223,8 @@ def findings(request: RunRequest, design, context) -> list[Diagnostic]:
                            and n.rule not in ign and (sel is None or n.rule in sel
                                                       or n.kind in _COVERAGE_KINDS)]
     from .findings.fold import fold
-    return fold(diags, context.sensitive_sinks, context.describe)
+    from .findings.netgroup import SinkNets
+    return fold(diags, context.sensitive_sinks, context.describe, SinkNets.of(context))
 
 
 def context_for(request: RunRequest, design):
