@@ -15,7 +15,8 @@ File format (JSON, written sorted so it diffs well)::
                    "path": "rtl/press.v", "line": 12, "message": "..."}, ...]}
 
 Only ``fingerprint`` is used for matching; the other fields are there for the human reading the
-diff in review.
+diff in review. A glitching net's finding (:mod:`hazlint.findings.netgroup`) also matches a
+baseline that holds the old fingerprint of every one of its pins.
 """
 from __future__ import annotations
 

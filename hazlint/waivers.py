@@ -17,6 +17,10 @@ waiver file) is optional::
     instance = "press_top.u_latch.*"
     reason = "cross-coupled storage element reviewed"
 
+A glitching net's finding (one finding for the pins one net drives) is accepted when the
+acceptance names the net's own finding (the driver's line or instance) or every one of its
+pins; an acceptance of some of its pins leaves the net reported, with a note.
+
 A waiver that matches no finding of the rules that ran is reported (kind ``unused-acceptance``), so
 stale waivers do not pile up.
 """

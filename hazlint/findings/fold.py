@@ -7,7 +7,12 @@ one sink; one loop) and gives one finding per group: the headline, witness, wave
 the most telling member, the evidence of the other rules folded in as notes, and the other stems
 listed by name with their skew (at most :data:`MAX_STEMS`, then a count of the rest).
 
-Every folded finding carries ``evidence["problem"]`` (``hazard:<sink>`` or ``loop:<net>``),
+The glitch-sensitive pins one net drives, with the same verdict, are then one problem
+``net:<net>`` (:mod:`hazlint.findings.netgroup`); :func:`groups` is the one place that groups
+and ranks.
+
+Every folded finding carries ``evidence["problem"]`` (``hazard:<sink>``, ``net:<net>`` or
+``loop:<net>``),
 which is its identity for baselines and SARIF fingerprints: it does not change when another stem
 becomes the worst one or the proof picks another witness, only when the sink (or the loop) does.
 ``evidence["also"]`` lists the folded members (rule, kind, place): every other rule's report and
