@@ -161,3 +161,23 @@ def test_pins_fold_only_when_their_verdicts_agree():
     out = fold(other, sens, nets.name, nets)
     assert sorted(d.evidence["problem"] for d in out) == ["hazard:q2.reset", "net:n"]
     assert next(d for d in out if d.evidence["problem"] == "net:n").evidence["pin_count"] == 2
+
+
+def test_changed_file_holding_only_pins_of_the_net_keeps_its_finding(tmp_path):
+    # the reset logic is in the top's file, the registers in the bank's: a commit that
+    # touches only the bank (e.g. adds a register on the net) must still see the net
+    (tmp_path / "bank.v").write_text(
+        "module bank (input clk, input rst_n, input [1:0] d, output reg [1:0] q);\n"
+        "  always @(posedge clk or negedge rst_n)\n"
+        "    if (!rst_n) q <= 2'b0; else q <= d;\n"
+        "endmodule\n")
+    (tmp_path / "top.v").write_text(
+        "module top (input clk, input estop_n, input maint_n, input [1:0] d,"
+        " output [1:0] q);\n"
+        "  wire rst_n = estop_n & maint_n;\n"
+        "  bank u_bank (.clk(clk), .rst_n(rst_n), .d(d), .q(q));\n"
+        "endmodule\n")
+    files = [str(tmp_path / "top.v"), str(tmp_path / "bank.v")]
+    r = lint(files, top="top", use_cache=False, changed=[str(tmp_path / "bank.v")])
+    net = _net_finding(r)
+    assert net.location.path.endswith("top.v") and net.evidence["pin_count"] == 2
