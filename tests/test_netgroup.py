@@ -181,3 +181,15 @@ def test_changed_file_holding_only_pins_of_the_net_keeps_its_finding(tmp_path):
     r = lint(files, top="top", use_cache=False, changed=[str(tmp_path / "bank.v")])
     net = _net_finding(r)
     assert net.location.path.endswith("top.v") and net.evidence["pin_count"] == 2
+
+
+def test_the_pins_of_a_net_survive_the_result_cache(project, rtl_result, tmp_path):
+    from hazlint.diagnostics import pin_problems
+    files = [str(project / "reset_fanout.v")]
+    lint(files, cache_dir=str(tmp_path))
+    again = lint(files, cache_dir=str(tmp_path))         # from the result cache
+    assert [d.to_json() for d in again.diagnostics] == \
+        [d.to_json() for d in rtl_result.diagnostics]
+    net = _net_finding(again)
+    assert [k for k, _ in pin_problems(net)] == [f"hazard:hist[{i}].reset" for i in range(8)]
+    assert load_baseline(project / "old.json").split(again.diagnostics)[0] == []
