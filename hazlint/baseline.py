@@ -15,7 +15,8 @@ File format (JSON, written sorted so it diffs well)::
                    "path": "rtl/press.v", "line": 12, "message": "..."}, ...]}
 
 Only ``fingerprint`` is used for matching; the other fields are there for the human reading the
-diff in review.
+diff in review. A glitching net's finding (:mod:`hazlint.findings.netgroup`) also matches a
+baseline that holds the old fingerprint of every one of its pins.
 """
 from __future__ import annotations
 
@@ -28,7 +29,7 @@ from pathlib import Path
 from typing import Iterable, Sequence
 
 from . import __version__
-from .diagnostics import Diagnostic, sort_diagnostics
+from .diagnostics import Diagnostic, pin_problems, problem_material, sort_diagnostics
 from .errors import ConfigError
 from .paths import relpath
 
@@ -38,7 +39,17 @@ _MAGIC = "hazlint-baseline"
 
 def fingerprint(d: Diagnostic) -> str:
     """Stable identity of a finding across unrelated edits (hex, 32 characters)."""
-    return hashlib.sha256(d.fingerprint_material().encode("utf-8")).hexdigest()[:32]
+    return _digest(d.fingerprint_material())
+
+
+def _digest(material: str) -> str:
+    return hashlib.sha256(material.encode("utf-8")).hexdigest()[:32]
+
+
+def pin_fingerprints(d: Diagnostic) -> list[str]:
+    """The fingerprints the pins of a glitching net's finding had as findings of their own
+    (:mod:`hazlint.findings.netgroup`); empty for any other finding."""
+    return [_digest(problem_material(k)) for k, _ in pin_problems(d)]
 
 
 @dataclass
@@ -57,13 +68,24 @@ class Baseline:
             if left[fp] > 0:
                 left[fp] -= 1
                 known.append(d)
+                continue
+            # a glitching net's finding is known when each of its pins was recorded as a
+            # finding of its own (a baseline written before pins were folded per net); a pin
+            # the baseline does not hold makes the finding new
+            need = Counter(pin_fingerprints(d))
+            if need and all(left[f] >= k for f, k in need.items()):
+                left.subtract(need)
+                known.append(d)
             else:
                 new.append(d)
         return new, known
 
     def fixed(self, diagnostics: Iterable[Diagnostic]) -> list[dict]:
         """Baseline entries no current finding matches (fixed since, or changed beyond match)."""
-        seen = Counter(fingerprint(d) for d in diagnostics)
+        seen = Counter()
+        for d in diagnostics:
+            seen[fingerprint(d)] += 1
+            seen.update(pin_fingerprints(d))
         out = []
         for e in self.entries:
             fp = e["fingerprint"]

@@ -209,7 +209,7 @@ class Diagnostic:
         loop), so another stem or witness for the same problem keeps it."""
         problem = self.evidence.get("problem") if isinstance(self.evidence, Mapping) else None
         if problem:
-            return json.dumps(["problem", problem])
+            return problem_material(problem)
         nets = sorted({h.net for flow in self.flows for h in flow})
         key = self.evidence.get("key") if isinstance(self.evidence, Mapping) else None
         return json.dumps([self.rule, self.kind, self.instance, key, nets], sort_keys=True)
@@ -234,6 +234,18 @@ class Diagnostic:
         if self.waived is not None:
             d["accepted"] = self.waived
         return d
+
+
+def problem_material(problem: str) -> str:
+    """The fingerprint material of a folded finding with problem key ``problem``."""
+    return json.dumps(["problem", problem])
+
+
+def pin_problems(d: "Diagnostic") -> list:
+    """``[(problem, [[rule, path, line, instance], ...]), ...]`` of the pins folded into a
+    glitching net's finding (:mod:`hazlint.findings.netgroup`); empty for any other."""
+    folded = getattr(d.evidence, "folded", None)
+    return [(k, ms) for k, ms in (getattr(folded, "pin_members", None) or ())]
 
 
 _DEFERRED = ("message", "evidence", "notes", "related", "flows", "fix")

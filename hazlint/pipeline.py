@@ -223,7 +223,8 @@ def findings(request: RunRequest, design, context) -> list[Diagnostic]:
                            and n.rule not in ign and (sel is None or n.rule in sel
                                                       or n.kind in _COVERAGE_KINDS)]
     from .findings.fold import fold
-    return fold(diags, context.sensitive_sinks, context.describe)
+    from .findings.netgroup import SinkNets
+    return fold(diags, context.sensitive_sinks, context.describe, SinkNets.of(context))
 
 
 def context_for(request: RunRequest, design):
@@ -329,7 +330,10 @@ def _touches(d: Diagnostic, changed) -> bool:
         for h in flow:
             if h.location is not None and h.location.path and norm(h.location.path) in changed:
                 return True
-    return False
+    # a glitching net's finding is at its driver: a changed file holding any of its pins
+    # (a register added to the net) touches it too
+    from .diagnostics import pin_problems
+    return any(m[1] and norm(m[1]) in changed for _, ms in pin_problems(d) for m in ms)
 
 
 # ---------------------------------------------------------------------------------------------

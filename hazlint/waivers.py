@@ -17,6 +17,10 @@ waiver file) is optional::
     instance = "press_top.u_latch.*"
     reason = "cross-coupled storage element reviewed"
 
+A glitching net's finding (one finding for the pins one net drives) is accepted when the
+acceptance names the net's own finding (the driver's line or instance) or every one of its
+pins; an acceptance of some of its pins leaves the net reported, with a note.
+
 A waiver that matches no finding of the rules that ran is reported (kind ``unused-acceptance``), so
 stale waivers do not pile up.
 """
@@ -26,7 +30,7 @@ import fnmatch
 import os
 import re
 import sys
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Iterable, Mapping, Sequence
 
 if sys.version_info >= (3, 11):
@@ -34,7 +38,7 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover
     import tomli as tomllib
 
-from .diagnostics import Diagnostic, Location, Severity
+from .diagnostics import Diagnostic, Location, Severity, pin_problems
 from .errors import ConfigError
 from .findings.evidence import AcceptanceEvidence
 from .findings.names import rule_id
@@ -60,9 +64,23 @@ class Waiver:
     def matches(self, d: Diagnostic, norm) -> bool:
         """Whether this acceptance covers ``d``, or one of the findings folded into it
         (:mod:`hazlint.findings.fold`: an acceptance written for any rule's report of a
-        problem accepts the problem)."""
+        problem accepts the problem). A glitching net's finding
+        (:mod:`hazlint.findings.netgroup`) is covered when the acceptance names the net's
+        own finding, or every one of its pins (an acceptance of some pins leaves the others
+        reported: see :meth:`pins_covered`)."""
+        pins = pin_problems(d)
+        if pins:
+            own = self._matches_one(d.rule, d.location.path, d.location.line, d.instance, norm)
+            return own or self.pins_covered(d, norm) == len(pins)
         return any(self._matches_one(rule, path, line, inst, norm)
                    for rule, path, line, inst in _members(d))
+
+    def pins_covered(self, d: Diagnostic, norm) -> int:
+        """How many pins of a glitching net's finding this acceptance covers (a pin is
+        covered when the acceptance matches any finding folded into it)."""
+        return sum(1 for _, members in pin_problems(d)
+                   if any(self._matches_one(rule, path, line, inst, norm)
+                          for rule, path, line, inst in members))
 
     def _matches_one(self, rule, path, line, instance, norm) -> bool:
         if "*" not in self.rules and rule not in self.rules:
@@ -212,12 +230,24 @@ def apply_waivers(diagnostics: Sequence[Diagnostic], waivers: Sequence[Waiver],
     waived: list[Diagnostic] = []
     for d in diagnostics:
         hit = None
+        partial = []
         for w in valid:
             if w.matches(d, _norm):
                 w.used += 1
                 hit = hit or w
+            elif pin_problems(d):
+                k = w.pins_covered(d, _norm)
+                if k:
+                    w.used += 1         # it accepts pins that are still there: not stale
+                    partial.append((w, k))
         if hit is not None:
             waived.append(d.with_waiver(hit.reason))
+        elif partial:
+            n = len(pin_problems(d))
+            kept.append(replace(d, notes=tuple(d.notes) + tuple(
+                f"accepted for {k} of its {n} pins by the acceptance at "
+                f"{os.path.basename(w.location.path)}:{w.location.line} ({w.reason}); the "
+                f"net is reported for the other pins" for w, k in partial)))
         else:
             kept.append(d)
     problems = []

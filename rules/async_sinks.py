@@ -17,7 +17,8 @@ What it finds
     per transition; a one-hot group (``one_hot``, ``(* hazlint_one_hot *)``) is one-hot before
     and after. A finding is dropped only when every allowed transition is proven hazard-free;
     otherwise it shows the smallest witness, whether it is a function hazard (no logic removes
-    it) or a logic hazard, and the model that was proven.
+    it) or a logic hazard, and the model that was proven. The pins of one net with the same
+    verdict are reported once, at the net's driver, with the pins counted by role and listed.
 
 Why it matters
     These pins act on every pulse, however short. Logic between registers and such a pin can

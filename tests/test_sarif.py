@@ -12,6 +12,7 @@ import pytest
 
 from hazlint.baseline import fingerprint
 from hazlint.diagnostics import Diagnostic, Hop, Location, Related, Severity
+from hazlint.findings.evidence import LoopEvidence
 from hazlint.report import sarif
 
 
@@ -57,7 +58,11 @@ def loop_diag(root):
                  for i in range(3))
     return Diagnostic(rule="combinational-loop", kind="combinational-loop", severity=Severity.WARNING,
                       location=Location(p, 20, 3), instance="press_top.g0",
-                      message="combinational loop through 3 gates", flows=(hops,))
+                      message="combinational loop through 3 gates", flows=(hops,),
+                      # the loop rule's evidence: its proof hook makes the path a loop
+                      evidence=LoopEvidence(cycle=[h.net for h in hops],
+                                            scc=sorted(h.net for h in hops),
+                                            storage_element=None))
 
 
 def note_diag():

@@ -42,7 +42,14 @@ class _Typed(Mapping):
     """A frozen dataclass that reads as the mapping of its serialised dict."""
 
     OPTIONAL: ClassVar[frozenset] = frozenset()
+    #: fields whose values are node ids (a string or a list of them): machine-readable
+    #: reports print them as net names (:mod:`hazlint.findings.public`)
+    NODE_FIELDS: ClassVar[frozenset] = frozenset()
     _PARTS: ClassVar[tuple] = ()        # fields that are typed parts, not keys
+
+    def node_fields(self) -> frozenset:
+        """The keys of the serialised dict whose values are node ids."""
+        return self.NODE_FIELDS
 
     def _own(self) -> dict[str, Any]:
         out = {}
@@ -107,6 +114,7 @@ class Verdict(_Typed):
     not_proven_reason: str | None = None
     time_unit: str | None = None        # of the glitch's times (findings.words.TimeUnit.field)
 
+    NODE_FIELDS: ClassVar[frozenset] = frozenset(("sink_node", "waveform_nets"))
     OPTIONAL: ClassVar[frozenset] = frozenset((
         "sink_node", "proof", "inconclusive_reason", "witness", "function_hazard", "glitch",
         "present_kinds", "waveform_nets", "change_model", "cell_model", "sink_hazards",
@@ -152,9 +160,19 @@ class Folded(_Typed):
     other_stems: list | None = None
     other_stem_count: int | None = None
     time_unit: str | None = None        # of the other stems' skews
+    # a glitching net's finding (:mod:`hazlint.findings.netgroup`): the net, how many
+    # glitch-sensitive pins it reaches, by role
+    net: str | None = None
+    pin_count: int | None = None
+    pin_roles: dict | None = None
+    # not printed: each pin's own problem (``hazard:<pin>``) and the (rule, path, line,
+    # instance) of the findings folded into it, for baselines and acceptances written per pin
+    pin_members: list | None = None
 
     OPTIONAL: ClassVar[frozenset] = frozenset(("also", "also_left_out", "other_stems",
-                                               "other_stem_count", "time_unit"))
+                                               "other_stem_count", "time_unit", "net",
+                                               "pin_count", "pin_roles"))
+    _PARTS: ClassVar[tuple] = ("pin_members",)
 
 
 @dataclass(frozen=True, eq=False, repr=False)
@@ -174,6 +192,13 @@ class Evidence(_Typed):
         for part in (self.verdict, self.folded):
             if part is not None:
                 out.update(part._dict)
+        return out
+
+    def node_fields(self) -> frozenset:
+        out = self.NODE_FIELDS
+        for part in (self.verdict, self.folded):
+            if part is not None:
+                out = out | part.node_fields()
         return out
 
     @property
@@ -199,6 +224,9 @@ class ReconvergenceEvidence(Evidence):
     key: str
     time_unit: str = "unit delay"       # of skew and arrivals (findings.words.TimeUnit.field)
 
+    NODE_FIELDS: ClassVar[frozenset] = frozenset(("stem_node", "reconvergence_node",
+                                                  "sink_nodes", "fast_path", "slow_path"))
+
 
 @dataclass(frozen=True, eq=False, repr=False)
 class AsyncSinkEvidence(Evidence):
@@ -211,6 +239,9 @@ class AsyncSinkEvidence(Evidence):
     stems: list
     cone_gates: int
     key: str
+
+    NODE_FIELDS: ClassVar[frozenset] = frozenset(("sink_node", "source_nodes", "quiet_nodes",
+                                                  "stems"))
 
 
 @dataclass(frozen=True, eq=False, repr=False)
@@ -227,6 +258,7 @@ class LoopEvidence(Evidence):
     key: str = ""
 
     OPTIONAL: ClassVar[frozenset] = frozenset(("behaviour", "loop"))
+    NODE_FIELDS: ClassVar[frozenset] = frozenset(("cycle", "scc"))
 
 
 @dataclass(frozen=True, eq=False, repr=False)
@@ -240,6 +272,8 @@ class OscillationEvidence(Evidence):
     behaviour: str
     reason: str
     key: str
+
+    NODE_FIELDS: ClassVar[frozenset] = frozenset(("scc", "cycle"))
 
 
 @dataclass(frozen=True, eq=False, repr=False)
@@ -280,6 +314,11 @@ class RuleEvidence(Evidence):
 
     def _own(self) -> dict[str, Any]:
         return dict(self.data)
+
+    def node_fields(self) -> frozenset:
+        # a rule of another package declares its node-id keys by name: ``*_node``, ``*_nodes``
+        own = frozenset(k for k in self.data if k.endswith(("_node", "_nodes")))
+        return own | super().node_fields()
 
 
 #: every evidence class (the result cache's codec registers them)

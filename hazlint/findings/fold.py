@@ -7,7 +7,12 @@ one sink; one loop) and gives one finding per group: the headline, witness, wave
 the most telling member, the evidence of the other rules folded in as notes, and the other stems
 listed by name with their skew (at most :data:`MAX_STEMS`, then a count of the rest).
 
-Every folded finding carries ``evidence["problem"]`` (``hazard:<sink>`` or ``loop:<net>``),
+The glitch-sensitive pins one net drives, with the same verdict, are then one problem
+``net:<net>`` (:mod:`hazlint.findings.netgroup`); :func:`groups` is the one place that groups
+and ranks.
+
+Every folded finding carries ``evidence["problem"]`` (``hazard:<sink>``, ``net:<net>`` or
+``loop:<net>``),
 which is its identity for baselines and SARIF fingerprints: it does not change when another stem
 becomes the worst one or the proof picks another witness, only when the sink (or the loop) does.
 ``evidence["also"]`` lists the folded members (rule, kind, place): every other rule's report and
@@ -16,12 +21,14 @@ rest), so an acceptance written for any of them still applies.
 """
 from __future__ import annotations
 
-from dataclasses import replace
+import json
+from dataclasses import dataclass, replace
 from typing import Callable, Iterable, Mapping, Sequence
 
 from .. import plugins
 from ..diagnostics import PROVEN_HAZARD_KINDS, Diagnostic, sort_diagnostics
 from .evidence import Folded, with_folded
+from .netgroup import SinkNets, also_entry, combine
 from .requests import request_of
 from .words import evidence_unit
 
@@ -65,6 +72,13 @@ def problem_of(d: Diagnostic, sensitive: Iterable[str] = (),
     return req.problem(_ev(d), frozenset(sensitive), name) if req is not None else None
 
 
+def describes_loop(d: Diagnostic) -> bool:
+    """Whether ``d`` is about a combinational loop, as its rule's proof request says (its
+    evidence path is then a loop, not a path from a change to a sink)."""
+    req = _request(d)
+    return bool(req is not None and req.loop)
+
+
 def _stem(d: Diagnostic, memo: dict):
     req = _request(d, memo)
     return req.stem if req is not None else None
@@ -85,30 +99,100 @@ def _rank(d: Diagnostic, memo: dict) -> tuple:
             loc.path, loc.line, loc.column, d.rule, d.instance)
 
 
-def fold(diagnostics: Sequence[Diagnostic], sensitive: Iterable[str] = (),
-         name: Callable[[str], str] = str) -> list[Diagnostic]:
+@dataclass
+class Problem:
+    """One problem and the findings that describe it, ranked (``members[0]`` is shown).
+    A glitching net's problem (``net:<net>``) has ``pins``: per pin, its node, its own key
+    (``hazard:<pin>``) and its ranked members, best pin first; ``members`` is then every
+    pin's members in that order."""
+
+    key: str
+    members: list
+    pins: list | None = None
+    driver: str | None = None
+
+
+def groups(diagnostics: Sequence[Diagnostic], sensitive: Mapping[str, str] | Iterable[str] = (),
+           name: Callable[[str], str] = str, nets: SinkNets | None = None,
+           memo: dict | None = None) -> tuple[list[Diagnostic], list[Problem]]:
+    """The grouping of :func:`fold`: ``(alone, problems)``, ``alone`` the findings that
+    describe no shared problem. Findings group by :func:`problem_of` and rank by
+    :func:`_rank`; with ``nets``, the problems at the glitch-sensitive pins of one driving net
+    whose shown verdicts are the same (:func:`_verdict`) become one ``net:<net>`` problem
+    (:mod:`hazlint.findings.netgroup`): the verdict shown is then true for each pin."""
+    memo = {} if memo is None else memo
+    sens = frozenset(sensitive)
+    by_key: dict[str, list[Diagnostic]] = {}
+    alone: list[Diagnostic] = []
+    for d in diagnostics:
+        key = problem_of(d, sens, name, memo)
+        if key is None:
+            alone.append(d)
+        else:
+            by_key.setdefault(key, []).append(d)
+    problems = [Problem(k, sorted(ms, key=lambda m: _rank(m, memo))) for k, ms in by_key.items()]
+    if nets is None:
+        return alone, problems
+    per_driver: dict[str, list[tuple[str, Problem]]] = {}
+    out: list[Problem] = []
+    for p in problems:
+        sink = _sink(p.members[0], sens, memo) if p.key.startswith("hazard:") else None
+        drv = nets.driver(sink) if sink is not None and sink in sens else None
+        if drv is None:
+            out.append(p)
+        else:
+            per_driver.setdefault(drv, []).append((sink, p))
+    for drv, pins in per_driver.items():
+        pins.sort(key=lambda sp: (_rank(sp[1].members[0], memo), sp[0]))
+        lead = _verdict(pins[0][1].members[0])
+        same = [sp for sp in pins if _verdict(sp[1].members[0]) == lead]
+        if len(same) < 2:
+            out += [p for _, p in pins]
+            continue
+        out.append(Problem(f"net:{nets.name(drv)}", [m for _, p in same for m in p.members],
+                           pins=[(s, p.key, p.members) for s, p in same], driver=drv))
+        folded = {s for s, _ in same}
+        out += [p for s, p in pins if s not in folded]
+    return alone, out
+
+
+def _sink(d: Diagnostic, sensitive: frozenset, memo: dict) -> str | None:
+    req = _request(d, memo)
+    return req.sink_of(_ev(d), sensitive) if req is not None else None
+
+
+def _verdict(d: Diagnostic) -> tuple:
+    """What a problem's shown finding claims, beyond its sink: kind, severity, the prover's
+    classification and reason, and the witness (by net name). Pins of one net fold only when
+    these are equal."""
+    ev = _ev(d)
+    w = ev.get("witness")
+    seen = json.dumps([w.get("inputs"), w.get("transition")], sort_keys=True, default=str) \
+        if isinstance(w, Mapping) else None
+    return (d.kind, int(d.severity), ev.get("classification"), ev.get("inconclusive_reason"),
+            ev.get("not_proven_reason"), seen)
+
+
+def fold(diagnostics: Sequence[Diagnostic], sensitive: Mapping[str, str] | Iterable[str] = (),
+         name: Callable[[str], str] = str, nets: SinkNets | None = None) -> list[Diagnostic]:
     """One finding per problem (see the module docstring); findings that describe no shared
     problem pass through. ``sensitive`` are the glitch-sensitive sink nodes (a reconvergence
-    reaching several sinks belongs to the first sensitive one), ``name`` turns a node id into
-    the net name a designer reads."""
-    sensitive = frozenset(sensitive)
-    groups: dict[str, list[Diagnostic]] = {}
-    out: list[Diagnostic] = []
+    reaching several sinks belongs to the first sensitive one; a mapping gives each pin's
+    role), ``name`` turns a node id into the net name a designer reads; with ``nets`` the
+    pins of one glitching net fold into one finding (:func:`groups`)."""
     memo: dict = {}
-    for d in diagnostics:
-        key = problem_of(d, sensitive, name, memo)
-        if key is None:
-            out.append(d)
-        else:
-            groups.setdefault(key, []).append(d)
-    for key, members in groups.items():
-        out.append(_fold_group(key, sorted(members, key=lambda m: _rank(m, memo)), name, memo))
+    alone, problems = groups(diagnostics, sensitive, name, nets, memo)
+    out = list(alone)
+    roles = sensitive if isinstance(sensitive, Mapping) else {}
+    for p in problems:
+        if p.pins is None:
+            out.append(_fold_group(p.key, p.members, name, memo))
+            continue
+        pins = [(name(s), roles.get(s, ""), _fold_group(k, ms, name, memo), ms, nets.place(s))
+                for s, k, ms in p.pins]
+        out.append(combine(p.key, nets.name(p.driver), pins, nets.place(p.driver),
+                           nets.where(p.driver)))
     return sort_diagnostics(out)
-
-
-def _also(d: Diagnostic) -> dict:
-    return {"rule": d.rule, "kind": d.kind, "path": d.location.path, "line": d.location.line,
-            "column": d.location.column, "instance": d.instance}
 
 
 def _before(notes: Sequence[str], stop: tuple[str, ...]) -> list[str]:
@@ -131,8 +215,8 @@ def _fold_group(key: str, members: list[Diagnostic], name: Callable[[str], str],
         # every other rule's report, and the first of the leading rule's other reports (a
         # plain output of an arithmetic block can gather thousands of stems)
         same = [m for m in others if m.rule == primary.rule]
-        folded["also"] = [_also(m) for m in others if m.rule != primary.rule] + \
-            [_also(m) for m in same[:MAX_LISTED]]
+        folded["also"] = [also_entry(m) for m in others if m.rule != primary.rule] + \
+            [also_entry(m) for m in same[:MAX_LISTED]]
         if len(same) > MAX_LISTED:
             folded["also_left_out"] = len(same) - MAX_LISTED
     stems = [m for m in others if _is_reconvergence(m, memo)]

@@ -6,18 +6,26 @@ JSON and SARIF reports carry the names a designer reads (``u_fault.fault_q.reset
 witness (``witness.inputs`` held values and ``witness.transition`` changes, by net name); the
 node-id copies stay inside hazlint (the result cache, ``prove``'s waveform files).
 
-    >>> public_evidence({"sink_node": "@u.q.reset#2", "fast_path": ["a", "@y"],
-    ...                  "witness": {"inputs": {"b": 1}, "transition": {"a": [0, 1]},
-    ...                              "before_nodes": {}, "after_nodes": {}}})
-    {'sink_node': 'u.q.reset', 'fast_path': ['a', 'y'], 'witness': {'inputs': {'b': 1}, 'transition': {'a': [0, 1]}}}
+Which keys hold node ids, each evidence class declares (``NODE_FIELDS``,
+:mod:`hazlint.findings.evidence`); a plain dict from a rule of another package names them
+``*_node`` / ``*_nodes``.
+
+    >>> from hazlint.findings.evidence import AsyncSinkEvidence, Verdict, with_verdict
+    >>> ev = AsyncSinkEvidence(sink_node="@u.q.reset#2", role="reset", source_nodes=["@a"],
+    ...                        quiet_nodes=[], stems=[], cone_gates=1, key="async:1")
+    >>> out = public_evidence(with_verdict(ev, Verdict(
+    ...     classification="static-1-hazard", witness={"inputs": {"b": 1},
+    ...     "transition": {"a": [0, 1]}, "before_nodes": {}, "after_nodes": {}})))
+    >>> out["sink_node"], out["source_nodes"], out["witness"]
+    ('u.q.reset', ['a'], {'inputs': {'b': 1}, 'transition': {'a': [0, 1]}})
 """
 from __future__ import annotations
 
 import re
 from typing import Any, Mapping
 
-# evidence keys whose values are node ids (a string or a list of them)
-_NODE_LISTS = frozenset(("fast_path", "slow_path", "waveform_nets", "stems", "scc", "cycle"))
+from .evidence import typed
+
 _INTERNAL_WITNESS = ("before_nodes", "after_nodes")
 _SUFFIX = re.compile(r"#\d+$")
 
@@ -42,9 +50,10 @@ def _names(v: Any) -> Any:
 def public_evidence(evidence: Mapping[str, Any]) -> dict[str, Any]:
     """A copy of ``evidence`` with node ids as net names and one witness (see the module
     docstring)."""
+    nodes = typed(evidence).node_fields()
     out: dict[str, Any] = {}
     for k, v in evidence.items():
-        if k.endswith("_node") or k.endswith("_nodes") or k in _NODE_LISTS:
+        if k in nodes:
             out[k] = _names(v)
         elif k == "witness" and isinstance(v, Mapping):
             out[k] = {wk: wv for wk, wv in v.items() if wk not in _INTERNAL_WITNESS}

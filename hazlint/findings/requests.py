@@ -30,7 +30,7 @@ fast path that the fallback fix names.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable, Iterable, Mapping
+from typing import Callable, Mapping
 
 #: the prover's own evidence key: the sink its verdict is about (set on every refined finding)
 VERDICT_SINK = "sink_node"
@@ -55,21 +55,26 @@ class ProofRequest:
     fast_path = ()          # the fast branch (node ids), named by the fallback fix
     stem = None             # the fanout stem, for requests that have one
 
+    #: whether the finding describes a combinational loop (reports label its path a loop)
+    loop = False
+
     def problem(self, evidence: Mapping | None, sensitive: frozenset,
                 name: Callable[[str], str]) -> str | None:
         """The problem the finding describes (``hazard:<sink>``, ``loop:<net>``): findings of
         one problem are folded into one (:mod:`hazlint.findings.fold`)."""
-        return None
+        sink = self.sink_of(evidence, sensitive)
+        return f"hazard:{name(sink)}" if sink else None
 
-
-def _hazard_problem(evidence, sinks: Iterable[str], sensitive, name) -> str | None:
-    sink = (evidence or {}).get(VERDICT_SINK)
-    if not sink:
-        sinks = list(sinks)
+    def sink_of(self, evidence: Mapping | None, sensitive: frozenset) -> str | None:
+        """The sink node a hazard finding's problem is at: the prover's verdict sink, else
+        the first glitch-sensitive one of :attr:`sinks`, else the first; None for a loop."""
+        sink = (evidence or {}).get(VERDICT_SINK)
+        if sink:
+            return sink
+        sinks = list(self.sinks)
         if not sinks:
             return None
-        sink = next((s for s in sinks if s in sensitive), sinks[0])
-    return f"hazard:{name(sink)}"
+        return next((s for s in sinks if s in sensitive), sinks[0])
 
 
 @dataclass(frozen=True)
@@ -88,9 +93,6 @@ class HazardFromStem(ProofRequest):
         inner = (list(self.fast_path)[1:-1] + list(self.slow_path)[1:-1])[:6]
         return tuple([self.stem] + inner + ([self.gate] if self.gate else []))
 
-    def problem(self, evidence, sensitive, name):
-        return _hazard_problem(evidence, self.sinks, sensitive, name)
-
 
 @dataclass(frozen=True)
 class HazardAtSink(ProofRequest):
@@ -104,9 +106,6 @@ class HazardAtSink(ProofRequest):
     def sinks(self) -> tuple[str, ...]:
         return (self.sink,) if self.sink else ()
 
-    def problem(self, evidence, sensitive, name):
-        return _hazard_problem(evidence, self.sinks, sensitive, name)
-
 
 @dataclass(frozen=True)
 class LoopBehaviour(ProofRequest):
@@ -116,9 +115,13 @@ class LoopBehaviour(ProofRequest):
     cycle: tuple[str, ...] = ()
     key: str = ""
     decided: bool = False
+    loop = True
 
     def problem(self, evidence, sensitive, name):
         return f"loop:{name(min(self.scc))}" if self.scc else None
+
+    def sink_of(self, evidence, sensitive):
+        return None
 
 
 def request_of(rule, diagnostic, evidence: Mapping | None) -> ProofRequest | None:

@@ -22,6 +22,7 @@ from pygls.uris import from_fs_path
 
 from ..diagnostics import Diagnostic, Severity
 from ..errors import HazlintError, excerpt
+from ..findings.fold import describes_loop
 from ..findings.words import evidence_unit
 from .registry import ReportOptions
 from .sarif import hop_message
@@ -132,8 +133,9 @@ def to_lsp(d: Diagnostic, text, root: str | None, texts) -> types.Diagnostic:
     left = 0
     places = [(r.location, r.message) for r in d.related if r.location.path]
     unit = evidence_unit(d.evidence)
+    loop = describes_loop(d)
     for i, flow in enumerate(d.flows):
-        label = "loop" if d.kind in ("combinational-loop", "oscillation") else f"path {i + 1}"
+        label = "loop" if loop else f"path {i + 1}"
         places += [(h.location, f"{label}: {hop_message(h, unit)}") for h in flow
                    if h.location is not None and h.location.path]
     if len(places) > MAX_RELATED:

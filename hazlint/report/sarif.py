@@ -28,6 +28,7 @@ from urllib.parse import quote
 
 from .. import __version__
 from ..baseline import fingerprint
+from ..findings.fold import describes_loop
 from ..findings.public import public_evidence
 from ..findings.words import UNIT_DELAYS, TimeUnit, evidence_unit
 from ..diagnostics import Diagnostic, Hop, Location, Severity, sort_diagnostics
@@ -157,7 +158,7 @@ def hop_message(h: Hop, unit: TimeUnit = UNIT_DELAYS) -> str:
 
 def _flow_message(d: Diagnostic, i: int) -> str:
     n = len(d.flows)
-    if d.kind in ("combinational-loop", "oscillation"):
+    if describes_loop(d):
         return "loop" if n == 1 else f"loop {i + 1} of {n}"
     return f"path {i + 1} of {n}"
 

@@ -17,11 +17,18 @@ RESULT_FORMAT = 1
 RESULT_NAMESPACE = "result"
 
 
+# configuration keys that do not change the findings this cache holds: the report format,
+# the acceptances and the baseline (applied to the cached findings afterwards), where the
+# caches live, and how the work is spread (the findings never depend on the worker count)
+REPORT_ONLY_KEYS = frozenset(("format", "accept_file", "baseline", "cache_dir",
+                              "cache_limit_mb", "jobs", "scheduler"))
+
+
 def result_key(design_key: str, config, *, select, ignore, prove: bool,
                options: Mapping[str, Any], rules: Iterable[Any],
                prove_options: Mapping[str, Any] | None = None) -> str | None:
-    """sha256 over what decides the findings of a design: the design key, the whole
-    configuration table plus the resolved rule options, the selection, whether the prover ran
+    """sha256 over what decides the findings of a design: the design key, the
+    configuration table but its :data:`REPORT_ONLY_KEYS` plus the resolved rule options, the selection, whether the prover ran
     and its options (``prove_options``, default the configuration's), and which rules ran
     with a stamp of each rule's module file (rules from other distributions are not covered
     by :func:`code_stamp`)."""
@@ -37,7 +44,8 @@ def result_key(design_key: str, config, *, select, ignore, prove: bool,
         ran.append([r.id, r.origin, str(r.severity), f,
                     [st.st_size, st.st_mtime_ns] if st else None])
     material = {
-        "format": RESULT_FORMAT, "design": design_key, "raw": config.raw,
+        "format": RESULT_FORMAT, "design": design_key,
+        "raw": {k: v for k, v in (config.raw or {}).items() if k not in REPORT_ONLY_KEYS},
         "config_path": config.path, "root": config.root, "severity": config.severity,
         "async_outputs": config.async_outputs, "static_inputs": config.static_inputs,
         "prove_options": config.prove if prove_options is None else prove_options, "select": None if select is None else list(select),
