@@ -24,6 +24,9 @@ try:
 except ImportError:         # the extension is optional: the items are then read as usual
     _flatnet = None
 
+# False: every module is read as items (tests compare both)
+ENABLED = True
+
 SK = syntax.SyntaxKind
 _KINDS = {SK.PortDeclaration: 1, SK.NetDeclaration: 2, SK.PrimitiveInstantiation: 3,
           SK.ContinuousAssign: 4}
@@ -115,7 +118,7 @@ def _items(mod: FlatModule) -> list:
 def try_module(builder, members, mod: ir.Module):
     """``mod`` as a :class:`FlatModule` with its ports read, or None (nothing changed) when
     a member is outside the flat subset."""
-    if _flatnet is None or not members:
+    if _flatnet is None or not ENABLED or not members:
         return None
     kinds = [_KINDS.get(n.kind, 0) for n in members]
     if 0 in kinds:
