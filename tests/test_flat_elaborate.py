@@ -59,12 +59,12 @@ def _load(paths, mode, **kw):
         flatread.ENABLED = flat.ENABLED = True
 
 
-def _same(paths, **kw):
-    """The three modes give one design; returns whether the compiled path was taken."""
+def _same(paths, modes=("lazy", "general"), **kw):
+    """The modes give one design; returns whether the compiled path was taken."""
     a, used = _load(paths, "compiled", **kw)
     va = _view(a)
-    assert va == _view(_load(paths, "lazy", **kw)[0])
-    assert va == _view(_load(paths, "general", **kw)[0])
+    for mode in modes:
+        assert va == _view(_load(paths, mode, **kw)[0]), mode
     return used == 1, a
 
 
@@ -271,6 +271,7 @@ def test_yosys_netlists_same_design(design, top, tmp_path):
 
 @pytest.mark.slow
 def test_epfl_multiplier_same_design():
-    # the netlist of the speed goal (EPFL multiplier, 43k gates) in every mode
-    used, d = _same([netlist("multiplier.v")])
+    # the netlist of the speed goal (EPFL multiplier, 43k gates); the lazily read items are
+    # those of the general read (test_frontend_slang.py compares the IR)
+    used, d = _same([netlist("multiplier.v")], modes=("lazy",))
     assert used and d.graph.number_of_nodes() == 43230
