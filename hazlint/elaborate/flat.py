@@ -16,6 +16,8 @@ warnings and errors). The extension is optional: without it this module always r
 """
 from __future__ import annotations
 
+import importlib
+
 import networkx as nx
 
 from .. import budget as _budget
@@ -25,15 +27,26 @@ from ..netlist.design import Design
 from ..netlist.library import ZERO_DELAY
 from .scope import index_range
 
-try:
-    from . import _flatnet
-except ImportError:
-    _flatnet = None
+
+
+def _load():
+    try:
+        return importlib.import_module("hazlint.elaborate._flatnet")
+    except ImportError:         # not built: the general path does everything
+        return None
+
+
+_flatnet = _load()
 
 # False: never take the compiled path (tests compare both)
 ENABLED = True
 # designs the compiled path elaborated (tests check it was taken)
 taken = 0
+
+
+def extension():
+    """The compiled module (``check`` and ``build``), or None when it is not built."""
+    return _flatnet
 
 
 def _index(e):

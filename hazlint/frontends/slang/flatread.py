@@ -19,10 +19,7 @@ from pyslang import syntax
 from ... import ir
 from . import fastpath
 
-try:
-    from ...elaborate import _flatnet
-except ImportError:         # the extension is optional: the items are then read as usual
-    _flatnet = None
+from ...elaborate import flat as _compiled
 
 # False: every module is read as items (tests compare both)
 ENABLED = True
@@ -118,7 +115,8 @@ def _items(mod: FlatModule) -> list:
 def try_module(builder, members, mod: ir.Module):
     """``mod`` as a :class:`FlatModule` with its ports read, or None (nothing changed) when
     a member is outside the flat subset."""
-    if _flatnet is None or not ENABLED or not members:
+    ext = _compiled.extension()
+    if ext is None or not ENABLED or not members:   # not built: the items are read as usual
         return None
     kinds = [_KINDS.get(n.kind, 0) for n in members]
     if 0 in kinds:
@@ -126,7 +124,7 @@ def try_module(builder, members, mod: ir.Module):
     plan = fastpath.Members.plan(builder, members)
     if plan is None:
         return None
-    wires = _flatnet.check(plan.texts, kinds)
+    wires = ext.check(plan.texts, kinds)
     if wires is None:
         return None
     wires = dict(wires)
