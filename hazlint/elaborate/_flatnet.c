@@ -149,6 +149,7 @@ typedef struct {
     Py_ssize_t na, nb;   /* instance name */
     long line, col;      /* of the instance name */
     long msb, lsb;       /* net: range, msb = -1 for none */
+    int cval;            /* assign of 1'b0 / 1'b1: the value (line, col: the keyword) */
     Py_ssize_t first, count;   /* into the Sig array: terminals, names, or lhs and rhs */
 } Stmt;
 
@@ -243,17 +244,28 @@ static int parse_member(Parsed *p, Py_ssize_t m, int kind, const char *s, Py_ssi
         st->count = p->nsg - st->first;
         if (ws(&c) < 0 || !lit(&c, ';')) return 0;
     } else if (kind == K_ASSIGN) {
+        long kline = c.line, kcol = c.i - c.lstart + 1;
         if (!word(&c, "assign")) return 0;
         if (c.i >= c.n || !is_blank(c.s[c.i])) return 0;
         if (ws(&c) < 0) return 0;
         if (!(st = push_st(p))) return -1;
-        st->kind = K_ASSIGN; st->member = m;
+        st->kind = K_ASSIGN; st->member = m; st->cval = -1;
+        st->line = kline; st->col = kcol;
         st->first = p->nsg; st->count = 2;
         if (!sig(&c, &a, &b, &bit)) return 0;
         if (push_sig(p, a, b, bit) < 0) return -1;
         if (ws(&c) < 0 || !lit(&c, '=') || ws(&c) < 0) return 0;
-        if (!sig(&c, &a, &b, &bit)) return 0;
-        if (push_sig(p, a, b, bit) < 0) return -1;
+        if (c.i + 4 <= c.n && memcmp(c.s + c.i, "1'b", 3) == 0 &&
+            (c.s[c.i + 3] == '0' || c.s[c.i + 3] == '1') &&
+            (c.i + 4 == c.n || !strchr("0123456789abcdefABCDEFxXzZ?_", c.s[c.i + 4]) ||
+             c.s[c.i + 4] == 0)) {
+            st->cval = c.s[c.i + 3] - '0';          /* a one-bit constant */
+            st->count = 1;
+            c.i += 4;
+        } else {
+            if (!sig(&c, &a, &b, &bit)) return 0;
+            if (push_sig(p, a, b, bit) < 0) return -1;
+        }
         if (ws(&c) < 0 || !lit(&c, ';')) return 0;
     } else if (kind == K_PORT) {
         /* read by the Python reader; only its lines are counted here */
@@ -522,7 +534,8 @@ static PyObject *build(PyObject *self, PyObject *args) {
     PyObject *s_kind = NULL, *s_name = NULL, *s_op = NULL, *s_inputs = NULL, *s_pins = NULL,
              *s_delays = NULL, *s_cell = NULL, *s_instance = NULL, *s_path = NULL,
              *s_line = NULL, *s_column = NULL, *s_tri = NULL, *s_gate = NULL, *s_input = NULL,
-             *s_buf = NULL, *s_epins = NULL, *opname[N_OPS] = {0};
+             *s_buf = NULL, *s_epins = NULL, *opname[N_OPS] = {0}, *s_const = NULL,
+             *s_const0 = NULL, *s_const1 = NULL;
     Py_ssize_t ndrv = 0, widest = 0, vbits = 0, gates = 0;
     int r = parse_all(&p, texts, kinds, line0, lstart0);
     if (r <= 0) goto done;
@@ -602,6 +615,10 @@ static PyObject *build(PyObject *self, PyObject *args) {
             if (x == -2) goto done;
             ins[st->first + j] = x;
         }
+        if (st->kind == K_ASSIGN && st->cval >= 0) {      /* a constant driver */
+            drv[ndrv].out = ins[st->first]; drv[ndrv].stmt = k; ndrv++;
+            continue;
+        }
         if (st->kind == K_ASSIGN) {
             Py_ssize_t a = find(&N, ins[st->first]), b = find(&N, ins[st->first + 1]);
             if (a != b) N.parent[a] = b;
@@ -659,7 +676,8 @@ static PyObject *build(PyObject *self, PyObject *args) {
     S(s_kind, "kind") S(s_name, "name") S(s_op, "op") S(s_inputs, "inputs") S(s_pins, "pins")
     S(s_delays, "delays") S(s_cell, "cell") S(s_instance, "instance") S(s_path, "path")
     S(s_line, "line") S(s_column, "column") S(s_tri, "tri") S(s_gate, "gate")
-    S(s_input, "input") S(s_buf, "buf") S(s_epins, "pins")
+    S(s_input, "input") S(s_buf, "buf") S(s_epins, "pins") S(s_const, "const")
+    S(s_const0, "const0") S(s_const1, "const1")
     for (int k = 0; k < N_OPS; k++) S(opname[k], OPS[k])
 #undef S
     Py_ssize_t maxpins = 2;
@@ -693,6 +711,19 @@ static PyObject *build(PyObject *self, PyObject *args) {
                 PyDict_SetItem(a, s_pins, e2) < 0 || PyDict_SetItem(a, s_delays, e3) < 0 ||
                 PyDict_SetItem(a, s_cell, s_buf) < 0 || PyDict_SetItem(a, s_instance, top) < 0;
             Py_XDECREF(e1); Py_XDECREF(e2); Py_XDECREF(e3);
+        } else if (p.st[d->stmt].kind == K_ASSIGN) {
+            Stmt *st = &p.st[d->stmt];
+            PyObject *e1 = PyList_New(0), *e2 = PyList_New(0), *e3 = PyList_New(0);
+            PyObject *ln = PyLong_FromLong(st->line), *cl = PyLong_FromLong(st->col);
+            PyObject *op = st->cval ? s_const1 : s_const0;
+            bad = !e1 || !e2 || !e3 || !ln || !cl ||
+                PyDict_SetItem(a, s_kind, s_const) < 0 || PyDict_SetItem(a, s_name, id) < 0 ||
+                PyDict_SetItem(a, s_op, op) < 0 || PyDict_SetItem(a, s_inputs, e1) < 0 ||
+                PyDict_SetItem(a, s_pins, e2) < 0 || PyDict_SetItem(a, s_delays, e3) < 0 ||
+                PyDict_SetItem(a, s_cell, op) < 0 || PyDict_SetItem(a, s_instance, top) < 0 ||
+                PyDict_SetItem(a, s_path, path) < 0 || PyDict_SetItem(a, s_line, ln) < 0 ||
+                PyDict_SetItem(a, s_column, cl) < 0;
+            Py_XDECREF(e1); Py_XDECREF(e2); Py_XDECREF(e3); Py_XDECREF(ln); Py_XDECREF(cl);
         } else {
             Stmt *st = &p.st[d->stmt];
             Py_ssize_t nin = st->op < N_INPUT_OPS ? st->count - 1 : 1;
@@ -814,6 +845,7 @@ done:
     Py_XDECREF(s_pins); Py_XDECREF(s_delays); Py_XDECREF(s_cell); Py_XDECREF(s_instance);
     Py_XDECREF(s_path); Py_XDECREF(s_line); Py_XDECREF(s_column); Py_XDECREF(s_tri);
     Py_XDECREF(s_gate); Py_XDECREF(s_input); Py_XDECREF(s_buf); Py_XDECREF(s_epins);
+    Py_XDECREF(s_const); Py_XDECREF(s_const0); Py_XDECREF(s_const1);
     for (int k = 0; k < N_OPS; k++) Py_XDECREF(opname[k]);
     if (result) return result;
     if (r < 0 || PyErr_Occurred()) return NULL;
