@@ -495,18 +495,15 @@ typedef struct { Py_ssize_t out; Py_ssize_t stmt; } Drv;   /* stmt -1: an input 
 
 /* build(texts, kinds, line0, lstart0, ports, port_bits, inputs, outputs, path, top, delay,
  *       max_width, max_bits[, node, succ, pred])
- *   ports: [(name, msb, lsb)] (msb None: scalar) in declaration order; their names are not
- *   declared again by a wire statement; port_bits: set of top-level port bits; inputs: the
- *   input port bits in order.
- * -> None, or (nodes, edges, input_nodes, node_of_bits, gates, vector_bits, widest) where
- *   nodes = [(id, attrs)] of the gates and inputs (input attributes without location and port,
- *   added by the caller), edges = [(u, v, {"pins": [...]})], node_of_bits(bits) -> node ids. */
-typedef struct {
-    Nets N;
-    Py_ssize_t *rep;     /* root -> net index of its name */
-    PyObject *list;
-} Built;
-
+ *   ports: [(name, msb, lsb)] (msb None: scalar) in declaration order (a wire statement
+ *   naming one declares nothing); port_bits: the set of top-level port bits; inputs, outputs:
+ *   the input and output port bits in order; delay: each gate input's delay; max_width,
+ *   max_bits: the limits of one wire's width and of all wire bits (past them: None); node,
+ *   succ, pred: an empty networkx DiGraph's dictionaries, filled in place.
+ * -> None, or (nodes, edges, input nodes, output nodes, drivers, wire bits, widest wire):
+ *   nodes = [(id, attrs)] of the gates, constants and inputs in driver order (an input's
+ *   location and port are added by the caller), edges = [(u, v, {"pins": [...]})] of the
+ *   gates (both None when the graph was filled), the node id of each input and output bit. */
 static PyObject *build(PyObject *self, PyObject *args) {
     PyObject *texts, *kinds, *ports, *port_bits, *inputs, *outputs, *path, *top, *delay;
     PyObject *gnode = NULL, *gsucc = NULL, *gpred = NULL;
@@ -529,14 +526,14 @@ static PyObject *build(PyObject *self, PyObject *args) {
     Nets N = {0};
     Drv *drv = NULL;
     Py_ssize_t *drv_of = NULL, *rep = NULL, *ins = NULL;
-    PyObject *result = NULL, *nodes = NULL, *edges = NULL, *nid = NULL, *pins = NULL;
+    PyObject *result = NULL, *nodes = NULL, *edges = NULL, *pins = NULL;
     PyObject *innodes = NULL, *outnodes = NULL, *portnames = NULL;
     PyObject *s_kind = NULL, *s_name = NULL, *s_op = NULL, *s_inputs = NULL, *s_pins = NULL,
              *s_delays = NULL, *s_cell = NULL, *s_instance = NULL, *s_path = NULL,
              *s_line = NULL, *s_column = NULL, *s_tri = NULL, *s_gate = NULL, *s_input = NULL,
              *s_buf = NULL, *s_epins = NULL, *opname[N_OPS] = {0}, *s_const = NULL,
              *s_const0 = NULL, *s_const1 = NULL;
-    Py_ssize_t ndrv = 0, widest = 0, vbits = 0, gates = 0;
+    Py_ssize_t ndrv = 0, widest = 0, vbits = 0;
     int r = parse_all(&p, texts, kinds, line0, lstart0);
     if (r <= 0) goto done;
     r = 0;
@@ -624,7 +621,6 @@ static PyObject *build(PyObject *self, PyObject *args) {
             if (a != b) N.parent[a] = b;
             continue;
         }
-        gates++;
         if (st->count < 2) goto done;
         if (st->op < N_INPUT_OPS) {
             drv[ndrv].out = ins[st->first]; drv[ndrv].stmt = k; ndrv++;
@@ -834,12 +830,11 @@ static PyObject *build(PyObject *self, PyObject *args) {
         Py_SETREF(edges, Py_None); Py_INCREF(Py_None);
     }
     result = Py_BuildValue("(OOOOnnn)", nodes, edges, innodes, outnodes, ndrv, vbits, widest);
-    (void)gates;
 done:
     parsed_free(&p);
     PyMem_Free(N.parent); PyMem_Free(drv); PyMem_Free(drv_of); PyMem_Free(rep); PyMem_Free(ins);
     Py_XDECREF(N.names); Py_XDECREF(N.list); Py_XDECREF(N.vectors);
-    Py_XDECREF(nodes); Py_XDECREF(edges); Py_XDECREF(nid); Py_XDECREF(pins);
+    Py_XDECREF(nodes); Py_XDECREF(edges); Py_XDECREF(pins);
     Py_XDECREF(innodes); Py_XDECREF(outnodes); Py_XDECREF(portnames);
     Py_XDECREF(s_kind); Py_XDECREF(s_name); Py_XDECREF(s_op); Py_XDECREF(s_inputs);
     Py_XDECREF(s_pins); Py_XDECREF(s_delays); Py_XDECREF(s_cell); Py_XDECREF(s_instance);
