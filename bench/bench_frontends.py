@@ -9,7 +9,8 @@ Netlists come from the circuitgraph==0.2.1 package (the EPFL combinational bench
 Amaru, Gaillardon, De Micheli, IWLS 2015). hazlint's load is split into reading (preprocess,
 parse, IR) and elaboration (hazlint/flatten.py: hierarchy, bit-blasting, gates, networkx graph).
 pyslang's is ``SyntaxTree.fromFile`` and ``Compilation.getAllDiagnostics()`` (which elaborates
-the whole design). Each measurement is the fastest of ``--repeat`` fresh processes. Goal (issue 16): hazlint's slang load of multiplier.v within 3x pyslang's own
+the whole design). Each measurement is the fastest of ``--repeat`` fresh processes, in CPU
+seconds of the process (the machine may be shared). Goal (issue 16): hazlint's slang load of multiplier.v within 3x pyslang's own
 parse + elaboration.
 """
 from __future__ import annotations
@@ -31,33 +32,33 @@ PYSLANG = r"""
 import json, resource, sys, time
 import pyslang
 from pyslang import ast, syntax
-t0 = time.perf_counter()
+t0 = time.process_time()
 tree = syntax.SyntaxTree.fromFile(sys.argv[1])
-t1 = time.perf_counter()
+t1 = time.process_time()
 comp = ast.Compilation()
 comp.addSyntaxTree(tree)
 comp.getAllDiagnostics()            # forces elaboration of every instance
-t2 = time.perf_counter()
+t2 = time.process_time()
 print(json.dumps({"parse": t1 - t0, "elaborate": t2 - t1, "seconds": t2 - t0,
                   "peak_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024}))
 """
 
 HAZLINT = r"""
 import gc, json, resource, sys, time
-t0 = time.perf_counter()
+t0 = time.process_time()
 from hazlint.elaborate import elaborate
 from hazlint.frontends.registry import read_sources
 if sys.argv[2] == "slang":          # the front end's own imports are not load time
     import hazlint.frontends.slang.reader
 else:
     import hazlint.frontends.verilog.reader
-t1 = time.perf_counter()
+t1 = time.process_time()
 gc.disable()                        # as hazlint.load_design does while loading
 sources = read_sources([sys.argv[1]], frontend=sys.argv[2])
-t2 = time.perf_counter()
+t2 = time.process_time()
 d = elaborate(sources, library={"fflopd": {"inputs": ["CK", "D"], "outputs": {"Q": "IQ"},
                                            "ff": {"clocked_on": "CK", "next_state": "D"}}})
-t3 = time.perf_counter()
+t3 = time.process_time()
 print(json.dumps({"import": t1 - t0, "read": t2 - t1, "elaborate": t3 - t2, "seconds": t3 - t1,
                   "peak_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024,
                   "nodes": d.graph.number_of_nodes()}))
@@ -89,7 +90,7 @@ def main() -> None:
         f.write("# Front-end benchmark\n\n")
         f.write(recorded(f"python bench/bench_frontends.py --repeat {args.repeat}") + " "
                 f"Each row is the fastest of {args.repeat} fresh processes per measurement; "
-                "times in seconds, peak resident memory in MB.\n\n")
+                "times in CPU seconds, peak resident memory in MB.\n\n")
         f.write("| netlist | size | pyslang parse | + elaborate | = total | peak | slang read "
                 "| + hazlint elaborate | = slang load | peak | pyverilog read | + hazlint "
                 "elaborate | = pyverilog load | peak | graph nodes | slang load / pyslang |\n")

@@ -305,7 +305,7 @@ _CLASSES = {c.__name__: c for c in (Loc, Port, Net, Param, Assign, Instance, Alw
 
 def to_json(obj: Any) -> Any:
     if dataclasses.is_dataclass(obj):
-        d = {"_t": type(obj).__name__}
+        d = {"_t": getattr(type(obj), "encode_as", type(obj)).__name__}
         for f in dataclasses.fields(obj):
             d[f.name] = to_json(getattr(obj, f.name))
         return d

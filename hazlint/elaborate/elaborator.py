@@ -30,7 +30,7 @@ from ..netlist.design import BlackBox, Design, Register
 from ..diagnostics import Diagnostic, Location, Severity
 from ..errors import ElaborationError
 from ..netlist.library import UNIT_DELAY, Delay, Library
-from . import initial_values
+from . import flat, initial_values
 from .behaviour import BehaviourElaborator
 from .build_graph import GraphEmitter
 from .common import BlackBoxModule as _BlackBoxModule
@@ -153,6 +153,9 @@ class Elaborator(HierarchyElaborator, NetElaborator, InstanceElaborator, UdpElab
         self.check_unread_files(requested, self.cell_known)
         tops = self.choose_tops(top)
         self.check_unread_files(tops, self.cell_known)
+        design = flat.try_elaborate(self, tops)
+        if design is not None:
+            return design
         multi = len(tops) > 1
         inputs: list[str] = []
         outputs: list[str] = []

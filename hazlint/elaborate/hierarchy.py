@@ -33,6 +33,8 @@ class HierarchyElaborator:
             return tops
         used: set[str] = set()
         for m in self.modules.values():
+            if getattr(m, "flat", None) is not None:
+                continue                # gate primitives only (hazlint.elaborate.flat)
             for it in walk_items(m.items):
                 if isinstance(it, ir.Instance):
                     used.add(it.cell)

@@ -88,6 +88,9 @@ class Codec:
                 out.append(self._enc(v, st))
             return out
         i = self.index.get(t)
+        if i is None and getattr(t, "encode_as", None) in self.index:
+            t = t.encode_as             # a subclass stored as its base (a lazily read module)
+            i = self.index[t]
         if i is None:
             raise CodecError(f"cannot encode a {t.__name__} value")
         if self.is_enum[t]:

@@ -14,7 +14,7 @@ from pyslang import parsing, syntax
 
 from ... import ir
 from ..literals import GATE_PRIMITIVES, attr_value, expr_text
-from . import fastpath
+from . import fastpath, flatread
 from .exprs import COMPOUND_STEP, ExprMapper, items, kind_words
 from .procedural import Procedural
 from .subprograms import Subprograms
@@ -146,7 +146,12 @@ class Builder(Procedural, Subprograms):
                     mod.port_order.append(self._nonansi_port_name(p))
             else:
                 self.error("unsupported port list", ports, kind_words(ports.kind))
-        mod.items = initial_values + self.items(m.members, mod)
+        flat = None if initial_values or not self.fast else \
+            flatread.try_module(self, list(m.members), mod)
+        if flat is not None:
+            mod = flat                  # items built on first use (the compiled elaborator)
+        else:
+            mod.items = initial_values + self.items(m.members, mod)
         for name in mod.port_order:
             if name not in mod.ports:
                 self.error(f"port '{name}' of module '{mod.name}' has no direction declaration",
