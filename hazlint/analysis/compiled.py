@@ -43,6 +43,23 @@ def wanted(n_nodes: int) -> bool:
     return m == "c" or n_nodes >= MIN_NODES
 
 
+def timed_loop():
+    """The timed simulator's compiled event loop (``hazlint.analysis._timedloop``: ``run`` and
+    ``settle``), or None when it was not built. Used at every size unless ``HAZLINT_KERNEL``
+    is ``python`` (:mod:`.compiled_timedsim`)."""
+    global _LOOP
+    if _LOOP is False:
+        try:
+            _LOOP = importlib.import_module("hazlint.analysis._timedloop")
+        except ImportError as exc:
+            log.debug("compiled event loop not built, using Python: %s", exc)
+            _LOOP = None
+    return _LOOP
+
+
+_LOOP: object = False       # not looked up yet
+
+
 def kernels():
     """The compiled kernel module (``solve_stems`` and ``reach_windows`` over buffers,
     returning bytes), or None when it was not built."""
