@@ -17,7 +17,8 @@
  * 2 sink, 3 const), op[n] (OP_* below); in_ptr[n+1] and in_src[pins]: each node's input pins
  * (a pin is a position in in_src, the global pin number) and the node driving it; dly[2*pins]:
  * per pin the rise and the fall delay; rd_ptr[n+1], rd_pin[r], rd_wire[r]: per node the pins
- * it feeds and the wire delay in front of each.
+ * it feeds and the wire delay in front of each; ex_ptr[n+1] and ex_code[]: the postfix code of
+ * each OP_EXPR gate (a cell function), empty for the others.
  */
 #define PY_SSIZE_T_CLEAN
 #include <Python.h>
@@ -30,8 +31,10 @@ typedef int64_t i64;
 enum { K_SOURCE = 0, K_GATE = 1, K_SINK = 2, K_CONST = 3 };
 enum {
     OP_NONE = 0, OP_AND, OP_OR, OP_NAND, OP_NOR, OP_XOR, OP_XNOR, OP_NOT, OP_BUF, OP_CONST0,
-    OP_CONST1, OP_BUFIF1, OP_BUFIF0, OP_NOTIF1, OP_NOTIF0, OP_MUX, OP_LAST
+    OP_CONST1, OP_BUFIF1, OP_BUFIF0, OP_NOTIF1, OP_NOTIF0, OP_MUX, OP_EXPR, OP_LAST
 };
+/* an OP_EXPR gate's function: postfix code, pairs (what, arg): what 0 pushes input pin arg,
+ * 1 pushes the constant arg, 2 + op applies op (OP_AND..OP_MUX) to the top arg values */
 enum { EV_SRC = 0, EV_OUT = 1, EV_PIN = 2 };
 
 static int eval_gate(int op, const uint8_t *in, i64 k) {
@@ -63,6 +66,26 @@ static int eval_gate(int op, const uint8_t *in, i64 k) {
     return 0;
 }
 
+static int needs(int op) {
+    return (op == OP_NOT || op == OP_BUF || op == OP_XOR || op == OP_XNOR) ? 1
+         : (op >= OP_BUFIF1 && op <= OP_NOTIF0) ? 2 : op == OP_MUX ? 3 : 0;
+}
+
+static int eval_expr(const i64 *code, i64 len, const uint8_t *in, uint8_t *stack) {
+    i64 sp = 0;
+    for (i64 i = 0; i < len; i += 2) {
+        i64 what = code[i], a = code[i + 1];
+        if (what == 0) stack[sp++] = in[a];
+        else if (what == 1) stack[sp++] = (uint8_t)a;
+        else {
+            sp -= a;
+            stack[sp] = (uint8_t)eval_gate((int)(what - 2), stack + sp, a);
+            sp++;
+        }
+    }
+    return stack[0];
+}
+
 typedef struct { Py_buffer b; const char *name; Py_ssize_t item; } Arg;
 
 static int get(PyObject *o, Arg *a, const char *name, Py_ssize_t item, int writable) {
@@ -72,6 +95,7 @@ static int get(PyObject *o, Arg *a, const char *name, Py_ssize_t item, int writa
     if (a->b.len % item) {
         PyErr_Format(PyExc_ValueError, "%s: buffer of %zd bytes is not a whole number of items",
                      name, a->b.len);
+        PyBuffer_Release(&a->b);
         return -1;
     }
     return 0;
@@ -81,13 +105,42 @@ static i64 count_of(Arg *a) { return a->b.len / a->item; }
 
 /* the graph arrays, checked once per call */
 typedef struct {
-    i64 n, npins, nrd;
+    i64 n, npins, nrd, depth;
     const uint8_t *kind, *op;
-    const i64 *in_ptr, *in_src, *rd_ptr, *rd_pin;
+    const i64 *in_ptr, *in_src, *rd_ptr, *rd_pin, *ex_ptr, *ex_code;
 } Graph;
 
-static int check_graph(Graph *g, Arg *kind, Arg *op, Arg *in_ptr, Arg *in_src) {
+static int check_expr(Graph *g, i64 v) {
+    /* the code of gate v reads its own pins only and leaves one value */
+    i64 sp = 0, k = g->in_ptr[v + 1] - g->in_ptr[v];
+    for (i64 i = g->ex_ptr[v]; i < g->ex_ptr[v + 1]; i += 2) {
+        i64 what = g->ex_code[i], a = g->ex_code[i + 1];
+        if (what == 0 ? (a < 0 || a >= k) : what == 1 ? (a != 0 && a != 1)
+            : (what < 2 + OP_AND || what > 2 + OP_MUX || a < needs((int)(what - 2)) || a > sp))
+            return -1;
+        sp += what <= 1 ? 1 : 1 - a;
+        if (sp > g->depth) g->depth = sp;
+    }
+    return sp == 1 && (g->ex_ptr[v + 1] - g->ex_ptr[v]) % 2 == 0 ? 0 : -1;
+}
+
+static inline int gate_value(const Graph *g, i64 v, const uint8_t *in, uint8_t *stack) {
+    if (g->op[v] == OP_EXPR)
+        return eval_expr(g->ex_code + g->ex_ptr[v], g->ex_ptr[v + 1] - g->ex_ptr[v], in, stack);
+    return eval_gate(g->op[v], in, g->in_ptr[v + 1] - g->in_ptr[v]);
+}
+
+static int check_graph(Graph *g, Arg *kind, Arg *op, Arg *in_ptr, Arg *in_src, Arg *ex_ptr,
+                       Arg *ex_code) {
     g->n = count_of(kind);
+    g->depth = 1;
+    g->ex_ptr = ex_ptr->b.buf;
+    g->ex_code = ex_code->b.buf;
+    if (count_of(ex_ptr) != g->n + 1 || g->ex_ptr[0] != 0 ||
+        g->ex_ptr[g->n] != count_of(ex_code)) {
+        PyErr_SetString(PyExc_ValueError, "expression arrays of different sizes");
+        return -1;
+    }
     g->kind = kind->b.buf;
     g->op = op->b.buf;
     g->in_ptr = in_ptr->b.buf;
@@ -104,12 +157,16 @@ static int check_graph(Graph *g, Arg *kind, Arg *op, Arg *in_ptr, Arg *in_src) {
             PyErr_SetString(PyExc_ValueError, "bad node entry");
             return -1;
         }
+        if (g->ex_ptr[v + 1] < g->ex_ptr[v] ||
+            (g->ex_ptr[v + 1] > g->ex_ptr[v]) != (g->kind[v] == K_GATE && g->op[v] == OP_EXPR)) {
+            PyErr_SetString(PyExc_ValueError, "ex_ptr");
+            return -1;
+        }
         if (g->kind[v] == K_GATE) {
             int o = g->op[v];
-            i64 need = (o == OP_NOT || o == OP_BUF || o == OP_XOR || o == OP_XNOR) ? 1
-                     : (o >= OP_BUFIF1 && o <= OP_NOTIF0) ? 2 : o == OP_MUX ? 3 : 0;
-            if (o == OP_NONE || k < need) {
-                PyErr_SetString(PyExc_ValueError, "gate op unknown or too few inputs");
+            if (o == OP_NONE || k < needs(o) || (o == OP_EXPR && check_expr(g, v) < 0)) {
+                PyErr_SetString(PyExc_ValueError, "gate op unknown, too few inputs or bad "
+                                "expression code");
                 return -1;
             }
         }
@@ -127,22 +184,25 @@ static int check_graph(Graph *g, Arg *kind, Arg *op, Arg *in_ptr, Arg *in_src) {
 static PyObject *settle(PyObject *self, PyObject *args) {
     /* the steady state of an acyclic graph: vals (writable, one byte per node) holds the
      * sources' values; gates, sinks and constants are filled in along the topological order */
-    PyObject *o[6];
-    Arg A[6];
+    PyObject *o[8];
+    Arg A[8];
     memset(A, 0, sizeof(A));
     PyObject *result = NULL;
     int got = 0;
-    if (!PyArg_ParseTuple(args, "OOOOOO", &o[0], &o[1], &o[2], &o[3], &o[4], &o[5])) return NULL;
-    static const char *names[6] = {"order", "kind", "op", "in_ptr", "in_src", "vals"};
-    static const Py_ssize_t items[6] = {8, 1, 1, 8, 8, 1};
-    for (; got < 6; got++)
-        if (get(o[got], &A[got], names[got], items[got], got == 5) < 0) goto done;
+    if (!PyArg_ParseTuple(args, "OOOOOOOO", &o[0], &o[1], &o[2], &o[3], &o[4], &o[5], &o[6],
+                          &o[7]))
+        return NULL;
+    static const char *names[8] = {"order", "kind", "op", "in_ptr", "in_src", "ex_ptr",
+                                   "ex_code", "vals"};
+    static const Py_ssize_t items[8] = {8, 1, 1, 8, 8, 8, 8, 1};
+    for (; got < 8; got++)
+        if (get(o[got], &A[got], names[got], items[got], got == 7) < 0) goto done;
     Graph g;
-    if (check_graph(&g, &A[1], &A[2], &A[3], &A[4]) < 0) goto done;
+    if (check_graph(&g, &A[1], &A[2], &A[3], &A[4], &A[5], &A[6]) < 0) goto done;
     const i64 *order = A[0].b.buf;
     i64 m = count_of(&A[0]);
-    uint8_t *val = A[5].b.buf;
-    if (count_of(&A[5]) != g.n) {
+    uint8_t *val = A[7].b.buf;
+    if (count_of(&A[7]) != g.n) {
         PyErr_SetString(PyExc_ValueError, "vals");
         goto done;
     }
@@ -150,7 +210,7 @@ static PyObject *settle(PyObject *self, PyObject *args) {
     i64 maxk = 0;
     for (i64 v = 0; v < g.n; v++)
         if (g.in_ptr[v + 1] - g.in_ptr[v] > maxk) maxk = g.in_ptr[v + 1] - g.in_ptr[v];
-    tmp = malloc((size_t)maxk + 1);
+    tmp = malloc((size_t)(maxk + g.depth) + 1);
     if (!tmp) { PyErr_NoMemory(); goto done; }
     for (i64 i = 0; i < m; i++) {
         i64 v = order[i];
@@ -159,7 +219,7 @@ static PyObject *settle(PyObject *self, PyObject *args) {
         switch (g.kind[v]) {
         case K_GATE:
             for (i64 j = 0; j < k; j++) tmp[j] = val[g.in_src[a + j]];
-            val[v] = (uint8_t)eval_gate(g.op[v], tmp, k);
+            val[v] = (uint8_t)gate_value(&g, v, tmp, tmp + maxk);
             break;
         case K_CONST: val[v] = g.op[v] == OP_CONST1; break;
         case K_SINK: val[v] = k ? val[g.in_src[a]] : 0; break;
@@ -287,7 +347,7 @@ static int rec_put(Recs *w, double t, i64 node, int v) {
     return 0;
 }
 
-#define NRUN 13
+#define NRUN 15
 
 static PyObject *run(PyObject *self, PyObject *args) {
     PyObject *o[NRUN], *watch_o, *until_o;
@@ -295,14 +355,14 @@ static PyObject *run(PyObject *self, PyObject *args) {
     long long max_events;
     Arg A[NRUN];
     memset(A, 0, sizeof(A));
-    if (!PyArg_ParseTuple(args, "OOOOOOOOOOOOOOpL", &o[0], &o[1], &o[2], &o[3], &o[4], &o[5],
-                          &o[6], &o[7], &o[8], &o[9], &o[10], &o[11], &watch_o, &until_o,
-                          &transport, &max_events))
+    if (!PyArg_ParseTuple(args, "OOOOOOOOOOOOOOOOpL", &o[0], &o[1], &o[2], &o[3], &o[13],
+                          &o[14], &o[4], &o[5], &o[6], &o[7], &o[8], &o[9], &o[10], &o[11],
+                          &watch_o, &until_o, &transport, &max_events))
         return NULL;
     static const char *names[NRUN] = {"kind", "op", "in_ptr", "in_src", "dly", "rd_ptr",
-                                          "rd_pin", "rd_wire", "val0", "ev_t", "ev_node",
-                                          "ev_val", "watch"};
-    static const Py_ssize_t items[NRUN] = {1, 1, 8, 8, 16, 8, 8, 8, 1, 8, 8, 1, 1};
+                                      "rd_pin", "rd_wire", "val0", "ev_t", "ev_node", "ev_val",
+                                      "watch", "ex_ptr", "ex_code"};
+    static const Py_ssize_t items[NRUN] = {1, 1, 8, 8, 16, 8, 8, 8, 1, 8, 8, 1, 1, 8, 8};
     PyObject *result = NULL;
     int got = 0, has_watch = watch_o != Py_None, has_until = until_o != Py_None;
     double until = 0.0;
@@ -312,16 +372,17 @@ static PyObject *run(PyObject *self, PyObject *args) {
     }
     o[12] = watch_o;
     uint8_t *val = NULL, *pinval = NULL, *undelayed = NULL, *touched = NULL, *pchanged = NULL;
+    uint8_t *stack = NULL;
     i64 *pin_node = NULL, *order = NULL;
     PList *pend = NULL, *wpend = NULL;
     Queue q = {0};
     Recs rec = {0};
     Graph g;
     for (; got < NRUN; got++) {
-        if (got == 12 && !has_watch) break;
+        if (got == 12 && !has_watch) { memset(&A[12], 0, sizeof(Arg)); continue; }
         if (get(o[got], &A[got], names[got], items[got], 0) < 0) goto done;
     }
-    if (check_graph(&g, &A[0], &A[1], &A[2], &A[3]) < 0) goto done;
+    if (check_graph(&g, &A[0], &A[1], &A[2], &A[3], &A[13], &A[14]) < 0) goto done;
     const double *dly = A[4].b.buf, *rd_wire = A[7].b.buf, *ev_t = A[9].b.buf;
     const i64 *rd_ptr = A[5].b.buf, *rd_pin = A[6].b.buf, *ev_node = A[10].b.buf;
     const uint8_t *val0 = A[8].b.buf, *ev_val = A[11].b.buf;
@@ -347,10 +408,11 @@ static PyObject *run(PyObject *self, PyObject *args) {
     pinval = malloc((size_t)np + 1);
     pchanged = calloc((size_t)np + 1, 1);
     pin_node = malloc(sizeof(i64) * ((size_t)np + 1));
+    stack = malloc((size_t)g.depth + 1);
     pend = calloc((size_t)n + 1, sizeof(PList));
     wpend = calloc((size_t)np + 1, sizeof(PList));
     if (!val || !undelayed || !touched || !order || !pinval || !pchanged || !pin_node || !pend ||
-        !wpend) { PyErr_NoMemory(); goto done; }
+        !wpend || !stack) { PyErr_NoMemory(); goto done; }
     for (i64 v = 0; v < n; v++) {
         val[v] = val0[v] & 1;
         undelayed[v] = val[v];
@@ -423,7 +485,7 @@ static PyObject *run(PyObject *self, PyObject *args) {
                 for (i64 p = a; p < b; p++) pchanged[p] = 0;
                 continue;
             }
-            int x = eval_gate(g.op[v], pinval + a, b - a);
+            int x = gate_value(&g, v, pinval + a, stack);
             int edge = x ? 0 : 1;
             double dl = 0.0;
             int first = 1;
@@ -449,20 +511,21 @@ finish:
     result = Py_BuildValue("(iLdy#)", status, (long long)count, now, rec.r ? (char *)rec.r : "",
                            (Py_ssize_t)(sizeof(Rec) * (size_t)rec.len));
 done:
-    for (int i = 0; i < got; i++) PyBuffer_Release(&A[i].b);
+    for (int i = 0; i < got; i++)
+        if (A[i].b.obj) PyBuffer_Release(&A[i].b);
     if (pend) for (i64 v = 0; v < g.n; v++) free(pend[v].e);
     if (wpend) for (i64 p = 0; p < g.npins; p++) free(wpend[p].e);
     free(val); free(undelayed); free(touched); free(order); free(pinval); free(pchanged);
-    free(pin_node); free(pend); free(wpend); free(q.heap); free(q.live); free(rec.r);
+    free(pin_node); free(pend); free(wpend); free(q.heap); free(q.live); free(rec.r); free(stack);
     return result;
 }
 
 static PyMethodDef methods[] = {
     {"settle", settle, METH_VARARGS,
-     "settle(order, kind, op, in_ptr, in_src, vals): fill vals (bytearray, sources set) with "
+     "settle(order, kind, op, in_ptr, in_src, ex_ptr, ex_code, vals): fill vals (bytearray, sources set) with "
      "the steady state of an acyclic graph along the topological order"},
     {"run", run, METH_VARARGS,
-     "run(kind, op, in_ptr, in_src, dly, rd_ptr, rd_pin, rd_wire, val0, ev_t, ev_node, ev_val,"
+     "run(kind, op, in_ptr, in_src, ex_ptr, ex_code, dly, rd_ptr, rd_pin, rd_wire, val0, ev_t, ev_node, ev_val,"
      " watch | None, until | None, transport, max_events) -> (status, events, end,"
      " records): status 0 done, 1 stopped at until, 2 event budget exceeded; records packed"
      " (float64 time, int32 node, int32 value) for every change of a watched node"},

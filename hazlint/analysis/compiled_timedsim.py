@@ -5,9 +5,10 @@
 ``in_src``), per corner the rise and fall delay of every pin and the wire delay in front of
 every pin a net feeds. :func:`run` patches a delay assignment onto copies of the delay arrays,
 calls the C loop and reads the waveforms back. The loop has the semantics of the Python loop in
-:mod:`.timedsim`, which stays the reference and the fallback: a graph with a gate the C side
-does not evaluate (``expr`` cell functions, unknown ops, too few inputs) gets None from
-:func:`build` and runs in Python. ``HAZLINT_KERNEL=python`` (:mod:`.compiled`) turns the
+:mod:`.timedsim`, which stays the reference and the fallback. Cell functions (``expr`` gates)
+are compiled to a postfix code the C side evaluates; a graph with a gate it cannot evaluate
+exactly as the Python loop would (an unknown op, too few inputs, a malformed expression) gets
+None from :func:`build` and runs in Python. ``HAZLINT_KERNEL=python`` (:mod:`.compiled`) turns the
 compiled loop off; tests/test_timedsim_compiled.py holds both loops to identical traces.
 """
 from __future__ import annotations
@@ -26,6 +27,7 @@ KINDS = {"input": 0, "state": 0, "blackbox": 0, "gate": 1, "sink": 2, "const": 3
 OPS = {"and": 1, "or": 2, "nand": 3, "nor": 4, "xor": 5, "xnor": 6, "not": 7, "buf": 8,
        "const0": 9, "const1": 10, "bufif1": 11, "bufif0": 12, "notif1": 13, "notif0": 14,
        "mux": 15}
+EXPR = 16
 _MIN_INPUTS = {"not": 1, "buf": 1, "xor": 1, "xnor": 1, "bufif1": 2, "bufif0": 2, "notif1": 2,
                "notif0": 2, "mux": 3}
 _REC = struct.Struct("dii")          # one change: time, node, value (the C side's Rec)
@@ -43,8 +45,9 @@ def loop():
 class ConeArrays:
     """One gate graph as the C loop reads it (see the module docstring)."""
 
-    __slots__ = ("names", "index", "kind", "op", "in_ptr", "in_src", "rd_ptr", "rd_pin",
-                 "rd_node", "rd_local", "order", "sources", "corners", "graph")
+    __slots__ = ("names", "index", "kind", "op", "in_ptr", "in_src", "ex_ptr", "ex_code",
+                 "rd_ptr", "rd_pin", "rd_node", "rd_local", "order", "sources", "corners",
+                 "graph")
 
     def corner(self, corner: str) -> tuple[array, array]:
         """(pin delays: rise, fall per pin; wire delays per reader entry) at ``corner``, read
@@ -81,13 +84,18 @@ def build(g: nx.DiGraph, order: Sequence[str] | None) -> ConeArrays | None:
     index = {n: i for i, n in enumerate(names)}
     kind, op = bytearray(len(names)), bytearray(len(names))
     in_ptr, in_src = array("q", [0]), array("q")
+    ex_ptr, ex_code = array("q", [0]), array("q")
     sources = []
     for i, (n, d) in enumerate(g.nodes(data=True)):
         k = KINDS.get(d["kind"])
         if k is None:
             return None
         ins = d.get("inputs") or []
-        if k == 1:
+        if k == 1 and d.get("op") == "expr":
+            if not _postfix(d.get("expr"), len(ins), ex_code):
+                return None
+            op[i] = EXPR
+        elif k == 1:
             code = OPS.get(d.get("op"))
             if code is None or len(ins) < _MIN_INPUTS.get(d.get("op"), 0):
                 return None
@@ -105,6 +113,7 @@ def build(g: nx.DiGraph, order: Sequence[str] | None) -> ConeArrays | None:
                 return None
             in_src.append(j)
         in_ptr.append(len(in_src))
+        ex_ptr.append(len(ex_code))
     # readers in the Python loop's order: by reading node, then pin
     per: list[list[int]] = [[] for _ in names]
     for v in range(len(names)):
@@ -123,10 +132,36 @@ def build(g: nx.DiGraph, order: Sequence[str] | None) -> ConeArrays | None:
         rd_ptr.append(len(rd_pin))
     c = ConeArrays()
     c.names, c.index, c.kind, c.op, c.in_ptr, c.in_src = names, index, kind, op, in_ptr, in_src
+    c.ex_ptr, c.ex_code = ex_ptr, ex_code
     c.rd_ptr, c.rd_pin, c.rd_node, c.rd_local = rd_ptr, rd_pin, rd_node, rd_local
     c.order = None if order is None else array("q", (index[n] for n in order))
     c.sources, c.corners, c.graph = sources, {}, g
     return c
+
+
+def _postfix(e, n_inputs: int, out: array) -> bool:
+    """Append the postfix code of the expression tree ``e`` (a cell function over ``n_inputs``
+    pins, as :func:`hazlint.analysis.ternary.bool_gate` evaluates it) to ``out``; False when
+    the C side cannot evaluate it exactly so."""
+    if not isinstance(e, (tuple, list)) or not e:
+        return False
+    tag = e[0]
+    if tag == "in":
+        if not (isinstance(e[1], int) and 0 <= e[1] < n_inputs):
+            return False
+        out.extend((0, e[1]))
+        return True
+    if tag == "const":
+        out.extend((1, 1 if e[1] else 0))
+        return True
+    code, args = OPS.get(tag), e[1:]
+    if code is None or len(args) < _MIN_INPUTS.get(tag, 0):
+        return False
+    for x in args:
+        if not _postfix(x, n_inputs, out):
+            return False
+    out.extend((2 + code, len(args)))
+    return True
 
 
 def steady(c: ConeArrays, initial: Mapping[str, int],
@@ -141,7 +176,7 @@ def steady(c: ConeArrays, initial: Mapping[str, int],
     get = initial.get
     for i, n in c.sources:
         vals[i] = get(n, 0) & 1
-    loop().settle(c.order, c.kind, c.op, c.in_ptr, c.in_src, vals)
+    loop().settle(c.order, c.kind, c.op, c.in_ptr, c.in_src, c.ex_ptr, c.ex_code, vals)
     return bytes(vals)
 
 
@@ -182,8 +217,8 @@ def run(c: ConeArrays, val0: bytes, events: Sequence[tuple[float, str, int]], as
         for n in watch:
             mask[index[n]] = 1
     status, count, end, recs = loop().run(
-        c.kind, c.op, c.in_ptr, c.in_src, dly, c.rd_ptr, c.rd_pin, wire, val0, ev_t, ev_node,
-        ev_val, mask, None if until is None else float(until), transport,
+        c.kind, c.op, c.in_ptr, c.in_src, c.ex_ptr, c.ex_code, dly, c.rd_ptr, c.rd_pin, wire,
+        val0, ev_t, ev_node, ev_val, mask, None if until is None else float(until), transport,
         int(min(max_events, 1 << 62)))
     if watch is not None:
         waves = {n: [(0.0, val0[index[n]])] for n in watch}
