@@ -156,6 +156,10 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
     ``prep`` (a dict the caller keeps while the graph does not change, e.g. for the trials of
     one delay search) keeps the steady state and the nominal delay tables between calls, so
     that a trial costs the events it simulates rather than a sweep of the whole cone.
+
+    The event loop runs compiled (:mod:`.compiled_timedsim`) unless the extension is missing,
+    ``HAZLINT_KERNEL=python`` turns it off or the graph holds a gate it cannot evaluate; the
+    Python loop below is the reference, with the same traces and event counts.
     """
     asg = assignment or DelayAssignment(mode=mode)
     mode = asg.mode if assignment is not None else mode
