@@ -78,6 +78,8 @@ def _random_assignment(rng, graph):
         for u, v, p in rng.sample(edges, min(len(edges), rng.randint(1, 40))):
             key = (u, v, p) if rng.random() < 0.5 else (u, v)
             wires[key] = float(rng.choice((0, 0.5, 1, 2, 3, 7, 12)))
+            if rng.random() < 0.3:     # both forms on one wire: the pin's wins
+                wires[(u, v, p) if len(key) == 2 else (u, v)] = float(rng.randint(0, 9))
     return DelayAssignment(rng.choice(("min", "max")), pins=pins, wires=wires,
                            mode=rng.choice(("inertial", "transport")))
 

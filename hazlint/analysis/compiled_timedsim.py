@@ -47,7 +47,22 @@ class ConeArrays:
 
     __slots__ = ("names", "index", "kind", "op", "in_ptr", "in_src", "ex_ptr", "ex_code",
                  "rd_ptr", "rd_pin", "rd_node", "rd_local", "order", "sources", "corners",
-                 "graph")
+                 "graph", "wire_keys")
+
+    def wire_index(self) -> tuple[dict, dict]:
+        """The reader entries a wire delay key names: ``(u, v) -> [entry]`` (every pin of
+        ``v`` fed by ``u``) and ``(u, v, pin) -> entry``."""
+        if self.wire_keys is None:
+            pairs: dict = {}
+            triples: dict = {}
+            names = self.names
+            for u in range(len(names)):
+                for r in range(self.rd_ptr[u], self.rd_ptr[u + 1]):
+                    v = names[self.rd_node[r]]
+                    pairs.setdefault((names[u], v), []).append(r)
+                    triples[(names[u], v, self.rd_local[r])] = r
+            self.wire_keys = (pairs, triples)
+        return self.wire_keys
 
     def corner(self, corner: str) -> tuple[array, array]:
         """(pin delays: rise, fall per pin; wire delays per reader entry) at ``corner``, read
@@ -135,7 +150,7 @@ def build(g: nx.DiGraph, order: Sequence[str] | None) -> ConeArrays | None:
     c.ex_ptr, c.ex_code = ex_ptr, ex_code
     c.rd_ptr, c.rd_pin, c.rd_node, c.rd_local = rd_ptr, rd_pin, rd_node, rd_local
     c.order = None if order is None else array("q", (index[n] for n in order))
-    c.sources, c.corners, c.graph = sources, {}, g
+    c.sources, c.corners, c.graph, c.wire_keys = sources, {}, g, None
     return c
 
 
@@ -195,18 +210,18 @@ def run(c: ConeArrays, val0: bytes, events: Sequence[tuple[float, str, int]], as
                 dly[2 * (in_ptr[i] + p)] = dl[0]
                 dly[2 * (in_ptr[i] + p) + 1] = dl[1]
     if asg.wires:
+        # a wire's (u, v, pin) delay, else its (u, v) delay, else the corner's (as timedsim's
+        # _delay_tables patches them), set key by key rather than entry by entry
         wire = array("d", wire)
-        wires = asg.wires
-        for u in {k[0] for k in wires}:
-            i = index.get(u)
-            if i is None:
-                continue
-            for r in range(c.rd_ptr[i], c.rd_ptr[i + 1]):
-                n, p = names[c.rd_node[r]], c.rd_local[r]
-                w = wires.get((u, n, p))
-                if w is None:
-                    w = wires.get((u, n))
-                if w is not None:
+        pairs, triples = c.wire_index()
+        for k, w in asg.wires.items():
+            if w is not None and len(k) == 2:
+                for r in pairs.get(k, ()):
+                    wire[r] = float(w)
+        for k, w in asg.wires.items():
+            if w is not None and len(k) == 3:
+                r = triples.get(k)
+                if r is not None:
                     wire[r] = float(w)
     ev_t = array("d", (float(t) for t, _, _ in events))
     ev_node = array("q", (index[n] for _, n, _ in events))
