@@ -1,6 +1,8 @@
 """The timed simulator against Icarus Verilog: with the same ``#(rise, fall)`` gate delays every
 output change time must be the one iverilog prints (inertial mode; iverilog's gate delays are
-inertial, which the probe below checks on iverilog itself rather than assuming it)."""
+inertial, which the probe below checks on iverilog itself rather than assuming it). Every
+simulation runs on both event loops, the compiled one (the default) and the Python one, which
+must give the same trace."""
 from __future__ import annotations
 
 import glob
@@ -12,8 +14,9 @@ import subprocess
 
 import pytest
 
+from hazlint.analysis import compiled
 from hazlint.analysis.circuits import build_graph, graph_to_verilog, random_circuit
-from hazlint.analysis.timedsim import simulate
+from hazlint.analysis.timedsim import simulate as simulate_one
 
 pytestmark = pytest.mark.skipif(shutil.which("iverilog") is None, reason="needs iverilog")
 
@@ -67,6 +70,18 @@ def run_iverilog(tmp_path, circuits):
             got.setdefault((int(m[2]), int(m[3])), []).append(
                 (float(m[1]), int(m[4]) if m[4] in "01" else m[4]))
     return got
+
+
+def simulate(*args, **kw):
+    """The trace of the compiled event loop (when built: tests/test_timedsim_compiled.py
+    requires it), checked equal to the Python loop's."""
+    traces = []
+    for kernel in ("c", "python"):
+        with pytest.MonkeyPatch.context() as mp:
+            mp.setenv(compiled.ENV, kernel)
+            traces.append(simulate_one(*args, **kw))
+    assert traces[0] == traces[1]
+    return traces[0]
 
 
 def _random_events(rng, ports, n=12):

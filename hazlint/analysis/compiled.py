@@ -1,4 +1,5 @@
-"""When the reconvergence rule's inner loops run compiled, and where the compiled code comes from.
+"""When the reconvergence rule's inner loops and the timed simulator's event loop run compiled,
+and where the compiled code comes from.
 
 The kernel is a small C extension, ``hazlint.analysis._arrival`` (hazlint/analysis/_arrival.c),
 built by setuptools when hazlint is installed (``optional=True``: without a C compiler the
@@ -11,7 +12,9 @@ microseconds either way). The environment variable ``HAZLINT_KERNEL`` overrides 
 ``auto`` (default), ``c`` (whenever built, any size) or ``python`` (never; the numpy/Python
 solvers of :mod:`hazlint.analysis.timing`, which give the same findings, tested). When the
 extension is missing the rule falls back to those solvers silently; the reason is logged at
-debug level (logger ``hazlint.kernel``).
+debug level (logger ``hazlint.kernel``). The timed simulator's event loop is a second extension,
+``hazlint.analysis._timedloop`` (:func:`timed_loop`, :mod:`.compiled_timedsim`), built the
+same way and used at every graph size unless ``HAZLINT_KERNEL`` is ``python``.
 
 Why C and not numba (which issue 17 named first) is argued with measurements in DEVELOPERS.md:
 numba costs 0.8 CPU s per process to import and load its cached machine code and about 18 CPU s
@@ -41,6 +44,23 @@ def wanted(n_nodes: int) -> bool:
     if m == "python":
         return False
     return m == "c" or n_nodes >= MIN_NODES
+
+
+def timed_loop():
+    """The timed simulator's compiled event loop (``hazlint.analysis._timedloop``: ``run`` and
+    ``settle``), or None when it was not built. Used at every size unless ``HAZLINT_KERNEL``
+    is ``python`` (:mod:`.compiled_timedsim`)."""
+    global _LOOP
+    if _LOOP is False:
+        try:
+            _LOOP = importlib.import_module("hazlint.analysis._timedloop")
+        except ImportError as exc:
+            log.debug("compiled event loop not built, using Python: %s", exc)
+            _LOOP = None
+    return _LOOP
+
+
+_LOOP: object = False       # not looked up yet
 
 
 def kernels():

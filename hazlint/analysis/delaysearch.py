@@ -52,8 +52,9 @@ def _search(graph, target, before, after, order, trials, seed, want_dynamic, eve
             if s in cone_nodes and s not in moving:
                 moving.add(s)
                 stack.append(s)
+    # (replay keeps the cone's steady states and nominal delays for every trial, and for the
+    # later replays of the same cone)
     sub = graph.subgraph(cone_nodes)
-    prep: dict = {}         # the cone's steady state and nominal delays, for every trial
     spent = [0, 0]          # events, trials
 
     def run(asg):
@@ -61,8 +62,7 @@ def _search(graph, target, before, after, order, trials, seed, want_dynamic, eve
         if left <= 0:
             raise _OutOfEvents(spent[1])
         try:
-            gl, tr = replay(sub, target, before, after, asg, watch=[target], prep=prep,
-                            max_events=left)
+            gl, tr = replay(sub, target, before, after, asg, watch=[target], max_events=left)
         except EventBudget:
             if not event_budget:
                 raise

@@ -35,6 +35,7 @@ import networkx as nx
 from ..delays.model import GRAPH_DELAYS, DelayModel
 from ..findings.words import TimeUnit
 from ..netlist.walks import fanin, ordered_copy
+from . import compiled_timedsim
 from .ternary import IntAlgebra, bool_gate, ternary_fixpoint
 
 INF = float("inf")
@@ -155,12 +156,47 @@ def simulate(graph: nx.DiGraph, initial: Mapping[str, int],
     ``prep`` (a dict the caller keeps while the graph does not change, e.g. for the trials of
     one delay search) keeps the steady state and the nominal delay tables between calls, so
     that a trial costs the events it simulates rather than a sweep of the whole cone.
+
+    The event loop runs compiled (:mod:`.compiled_timedsim`) unless the extension is missing,
+    ``HAZLINT_KERNEL=python`` turns it off or the graph holds a gate it cannot evaluate; the
+    Python loop below is the reference, with the same traces and event counts.
     """
     asg = assignment or DelayAssignment(mode=mode)
     mode = asg.mode if assignment is not None else mode
     if mode not in ("inertial", "transport"):
         raise ValueError(f"unknown delay mode {mode!r}")
-    g = graph
+    events = list(events)
+    fast = _compiled_arrays(graph, prep)
+    if fast is not None and all(n in fast.index for _, n, _ in events):
+        return _simulate_compiled(fast, graph, initial, events, asg, mode, until, watch,
+                                  max_events, prep)
+    return _simulate_python(graph, initial, events, asg, mode, until, watch, max_events, prep)
+
+
+def _simulate_compiled(fast, g, initial, events, asg, mode, until, watch, max_events, prep):
+    """:func:`simulate` on the compiled event loop (:mod:`.compiled_timedsim`)."""
+    val0 = _kept(prep, g, ("csteady", _initial_key(initial)),
+                 lambda: compiled_timedsim.steady(fast, initial, lambda: _steady_state(g, initial)))
+    watch_set = set(watch) if watch is not None else None
+    start = min((float(t) for t, _, _ in events), default=INF)
+    status, count, end, waves = compiled_timedsim.run(
+        fast, val0, events, asg, mode == "transport", until, watch_set, max_events)
+    if status == compiled_timedsim.OUT_OF_EVENTS:
+        raise EventBudget("timed simulation exceeded its event budget")
+    return Trace(waves=waves, start=0.0 if start == INF else start, end=end,
+                 truncated=status == compiled_timedsim.STOPPED, events=count)
+
+
+def _compiled_arrays(g, prep):
+    """The compiled loop's arrays of ``g`` (kept in ``prep``), or None: the loop is not built
+    or turned off, or ``g`` has a gate only the Python loop evaluates."""
+    if compiled_timedsim.loop() is None:
+        return None
+    return _kept(prep, g, ("carrays",), lambda: compiled_timedsim.build(g, _topological(g)))
+
+
+def _simulate_python(g, initial, events, asg, mode, until, watch, max_events, prep):
+    """:func:`simulate` in Python: the reference semantics, and the fallback."""
     steady, pins0 = _steady_state_kept(g, initial, prep)
     val = dict(steady)
     readers, gdelay = _delay_tables(g, asg, prep)
@@ -308,7 +344,34 @@ def _kept(prep, g, key: tuple, build):
     hit = prep.get(k)
     if hit is None or hit[0] is not g:
         hit = prep[k] = (g, build())
+        if key[0] in _PER_VECTOR and isinstance(prep, _ConePrep):
+            prep.note(k)
     return hit[1]
+
+
+_PER_VECTOR = ("steady", "csteady")     # keys of prep entries kept per initial vector
+_STEADY_PER_CONE = 4
+
+
+class _ConePrep(dict):
+    """The set-up :func:`replay` keeps per cone graph for the run (a ``prep``, see
+    :func:`simulate`): node kinds, the delay tables per corner, the compiled loop's arrays, and
+    the steady states of the last :data:`_STEADY_PER_CONE` initial vectors."""
+
+    __slots__ = ("vectors",)
+
+    def __init__(self):
+        super().__init__()
+        self.vectors: collections.deque = collections.deque()
+
+    def note(self, k) -> None:
+        self.vectors.append(k)
+        if len(self.vectors) > _STEADY_PER_CONE:
+            self.pop(self.vectors.popleft(), None)
+
+
+def _initial_key(initial: Mapping[str, int]) -> tuple:
+    return tuple(sorted((n, v & 1) for n, v in initial.items()))
 
 
 def _node_kinds(g, prep) -> dict[str, tuple]:
@@ -325,8 +388,7 @@ def _steady_state_kept(g, initial, prep):
         pins = {n: [val[u] for u in (d.get("inputs") or [])]
                 for n, d in g.nodes(data=True) if d["kind"] in ("gate", "sink")}
         return val, pins
-    return _kept(prep, g, ("steady", tuple(sorted((n, v & 1) for n, v in initial.items()))),
-                 build)
+    return _kept(prep, g, ("steady", _initial_key(initial)), build)
 
 
 def _delay_tables(g, asg: "DelayAssignment", prep):
@@ -404,8 +466,7 @@ def _steady_state(g: nx.DiGraph, initial: Mapping[str, int]) -> dict[str, int]:
 # checked as a guard against a graph grown in place).
 _TOPO: "weakref.WeakKeyDictionary[nx.DiGraph, tuple[int, list[str] | None]]" = \
     weakref.WeakKeyDictionary()
-_CONES: "weakref.WeakKeyDictionary[nx.DiGraph, collections.OrderedDict]" = \
-    weakref.WeakKeyDictionary()
+_CONES: "weakref.WeakKeyDictionary[nx.DiGraph, _Cones]" = weakref.WeakKeyDictionary()
 _CONES_PER_GRAPH = 32
 
 
@@ -422,29 +483,92 @@ def _topological(g: nx.DiGraph) -> list[str] | None:
     return order
 
 
-def fanin_cone(graph: nx.DiGraph, roots: Iterable[str]) -> nx.DiGraph:
-    """The sub-graph of ``roots`` and everything they depend on (a copy, cached per graph): what
-    a simulation must compute for the waveforms of ``roots`` and nothing more."""
+class _Cone:
+    """A fan-in cone (a copy of its nodes and edges) and the set-up kept for simulating it."""
+
+    __slots__ = ("graph", "nodes", "roots", "prep")
+
+    def __init__(self, graph: nx.DiGraph, nodes: frozenset, roots: frozenset):
+        self.graph, self.nodes, self.roots, self.prep = graph, nodes, roots, _ConePrep()
+
+
+class _Cones:
+    """The cones of one graph: by the roots asked for, and by node set (so that watch sets
+    with the same fan-in, such as a target and the nets drawn inside its cone, share one
+    cone and its set-up); each the last :data:`_CONES_PER_GRAPH` used."""
+
+    __slots__ = ("size", "by_roots", "by_nodes")
+
+    def __init__(self, size: int):
+        self.size = size
+        self.by_roots: collections.OrderedDict = collections.OrderedDict()
+        self.by_nodes: collections.OrderedDict = collections.OrderedDict()
+
+    @staticmethod
+    def of(graph: nx.DiGraph) -> "_Cones":
+        per = _CONES.get(graph)
+        if per is None or per.size != len(graph):
+            per = _CONES[graph] = _Cones(len(graph))
+        return per
+
+    @staticmethod
+    def put(table: collections.OrderedDict, key, cone: _Cone) -> None:
+        table[key] = cone
+        table.move_to_end(key)
+        if len(table) > _CONES_PER_GRAPH:
+            table.popitem(last=False)
+
+    def covering(self, roots: frozenset) -> _Cone | None:
+        """A kept cone whose roots are among ``roots`` and whose nodes hold all of them: the
+        fan-in of ``roots`` is then exactly that cone."""
+        for c in reversed(self.by_roots.values()):
+            if c.roots <= roots and roots <= c.nodes:
+                return c
+        return None
+
+
+def _viewed(graph: nx.DiGraph) -> nx.DiGraph | None:
+    """The graph a node-induced sub-graph view shows part of (None for any other graph)."""
+    base = getattr(graph, "_graph", None)
+    if base is None or not nx.is_frozen(graph) or not isinstance(base, nx.DiGraph) or \
+            getattr(graph, "_EDGE_OK", None) is not nx.filters.no_filter:
+        return None
+    return base
+
+
+def _cone(graph: nx.DiGraph, roots: Iterable[str]) -> _Cone:
     key = frozenset(roots)
-    per = _CONES.get(graph)
-    if per is None or per.get("__size__") != len(graph):
-        per = collections.OrderedDict(__size__=len(graph))
-        _CONES[graph] = per
-    sub = per.get(key)
-    if sub is not None:
-        per.move_to_end(key)
-        return sub
-    seen = fanin(graph, sorted(key))
-    # (a view, such as a sub-graph, is copied too: iterating a view costs a filter per node)
-    sub = graph if len(seen) == len(graph) and not nx.is_frozen(graph) \
-        else ordered_copy(graph, seen)
-    per[key] = sub
-    if len(per) > _CONES_PER_GRAPH + 1:
-        for k in list(per):
-            if k != "__size__":
-                del per[k]
-                break
-    return sub
+    per = _Cones.of(graph)
+    hit = per.by_roots.get(key)
+    if hit is not None:
+        per.by_roots.move_to_end(key)
+        return hit
+    hit = per.covering(key)
+    base = _viewed(graph)
+    if hit is None and base is not None:
+        # a view holding the viewed graph's whole cone (every edge into it, as the view is
+        # node-induced) has that same cone: share the viewed graph's
+        whole = _cone(base, key)
+        if all(n in graph for n in whole.nodes):
+            hit = whole
+    if hit is None:
+        seen = frozenset(fanin(graph, sorted(key)))
+        hit = per.by_nodes.get(seen)
+        if hit is None:
+            # (a view, such as a sub-graph, is copied too: iterating a view costs a filter per
+            # node)
+            hit = _Cone(graph if len(seen) == len(graph) and not nx.is_frozen(graph)
+                        else ordered_copy(graph, seen), seen, key)
+        _Cones.put(per.by_nodes, seen, hit)
+    _Cones.put(per.by_roots, key, hit)
+    return hit
+
+
+def fanin_cone(graph: nx.DiGraph, roots: Iterable[str]) -> nx.DiGraph:
+    """The sub-graph of ``roots`` and everything they depend on (a copy, cached per graph and
+    shared by every set of roots with the same fan-in): what a simulation must compute for the
+    waveforms of ``roots`` and nothing more."""
+    return _cone(graph, roots).graph
 
 
 def glitch_at(trace: Trace, node: str, after: float, mode: str = "inertial") -> Glitch:
@@ -466,12 +590,15 @@ def replay(graph: nx.DiGraph, target: str, before: Mapping[str, int], after: Map
            settle: float = 0.0, watch: Iterable[str] | None = None,
            prep: dict | None = None, max_events: int = 1_000_000) -> tuple[Glitch, Trace]:
     """Apply the transition ``before -> after`` (source values) at time ``settle`` and report the
-    glitch at ``target``. ``prep`` and ``max_events``: see :func:`simulate`."""
+    glitch at ``target``. ``prep`` and ``max_events``: see :func:`simulate`; with ``watch``,
+    the set-up kept with the watched nets' fan-in cone (:func:`fanin_cone`) is used instead of
+    ``prep``, for every replay of the run on that cone."""
     asg = assignment or DelayAssignment(mode=mode)
     w = None if watch is None else set(watch) | {target}
     if w is not None:
         # only the watched nets are recorded, so only their fan-in cone needs simulating
-        graph = fanin_cone(graph, w)
+        cone = _cone(graph, w)
+        graph, prep = cone.graph, cone.prep
     evs = [(settle + asg.offsets.get(n, 0.0), n, v & 1) for n, v in after.items()
            if (before.get(n, 0) & 1) != (v & 1) and n in graph]
     tr = simulate(graph, before, evs, assignment=asg, watch=w, prep=prep, max_events=max_events)
