@@ -35,15 +35,18 @@ MAX_STEMS = 5        # other stems named in a folded finding's text; the rest ar
 MAX_LISTED = 20      # folded members of the leading rule kept in the evidence (JSON, SARIF)
 
 
-def _ev(d: Diagnostic) -> Mapping:
-    """The evidence that places a finding. A deferred finding whose builder offers
-    ``light_evidence()`` is not built for it (tens of thousands of findings of one netlist
-    fold into a few; only those shown are built)."""
+def placing_evidence(d: Diagnostic) -> Mapping:
+    """The evidence that places a finding (what its proof hook reads). A deferred finding
+    whose builder offers ``light_evidence()`` is not built for it (tens of thousands of
+    findings of one netlist fold into a few; only those shown are built)."""
     build = d.__dict__.get("_build")
     light = getattr(build, "light_evidence", None)
     if light is not None:
         return light()
     return d.evidence if isinstance(d.evidence, Mapping) else {}
+
+
+_ev = placing_evidence
 
 
 def _request(d: Diagnostic, memo: dict | None = None):
@@ -91,19 +94,45 @@ def fold(diagnostics: Sequence[Diagnostic], sensitive: Iterable[str] = (),
     problem pass through. ``sensitive`` are the glitch-sensitive sink nodes (a reconvergence
     reaching several sinks belongs to the first sensitive one), ``name`` turns a node id into
     the net name a designer reads."""
-    sensitive = frozenset(sensitive)
-    groups: dict[str, list[Diagnostic]] = {}
-    out: list[Diagnostic] = []
     memo: dict = {}
-    for d in diagnostics:
+    alone, groups = _grouped(diagnostics, frozenset(sensitive), name, memo)
+    out = [diagnostics[i] for i in alone]
+    for key, members in groups.items():
+        out.append(_fold_group(key, [diagnostics[i] for i in _ranked(diagnostics, members, memo)],
+                               name, memo))
+    return sort_diagnostics(out)
+
+
+def primaries(diagnostics: Sequence[Diagnostic], sensitive: Iterable[str] = (),
+              name: Callable[[str], str] = str) -> list[int]:
+    """The positions of the findings :func:`fold` shows for each problem of
+    ``diagnostics`` (each group's first member: its headline, witness, waveform and fix are
+    the folded finding's), in the order of the problems' first findings. The prover reads
+    this from stand-ins that carry each finding's verdict (kind, severity, sink) to spend its
+    timed replays on these findings only."""
+    memo: dict = {}
+    _, groups = _grouped(diagnostics, frozenset(sensitive), name, memo)
+    return [_ranked(diagnostics, members, memo)[0] for members in groups.values()]
+
+
+def _grouped(diagnostics: Sequence[Diagnostic], sensitive: frozenset,
+             name: Callable[[str], str], memo: dict) -> tuple[list[int], dict[str, list[int]]]:
+    """(positions of the findings that describe no shared problem, problem -> positions of
+    its findings), in input order."""
+    alone: list[int] = []
+    groups: dict[str, list[int]] = {}
+    for i, d in enumerate(diagnostics):
         key = problem_of(d, sensitive, name, memo)
         if key is None:
-            out.append(d)
+            alone.append(i)
         else:
-            groups.setdefault(key, []).append(d)
-    for key, members in groups.items():
-        out.append(_fold_group(key, sorted(members, key=lambda m: _rank(m, memo)), name, memo))
-    return sort_diagnostics(out)
+            groups.setdefault(key, []).append(i)
+    return alone, groups
+
+
+def _ranked(diagnostics: Sequence[Diagnostic], members: list[int], memo: dict) -> list:
+    """The positions of one problem's findings, the most telling first."""
+    return sorted(members, key=lambda i: _rank(diagnostics[i], memo))
 
 
 def _also(d: Diagnostic) -> dict:
