@@ -103,9 +103,8 @@ def refine(design, diagnostics: Sequence[Diagnostic], context=None,
         dec = decided.get(i)
         if i in done:
             result.extend(done[i])
-        elif dec is not None and dec.c is not None:
-            x = _unshown(graph, d, reqs[i], dec, context, opts,
-                         _LIMIT.format(limit=limit) if i in chosen else _FOLDED)
+        elif i in chosen and dec is not None and dec.c is not None:
+            x = _unshown(graph, d, reqs[i], dec, context, opts, _LIMIT.format(limit=limit))
             if x is not None:
                 result.append(x)
         elif out[i] is not None:
@@ -263,7 +262,8 @@ def _decide_pin(graph, context, reqs, opts, memo: "_RunMemo", out: dict) -> None
 def _unshown_all(graph, diagnostics, reqs, decided, context, opts) -> list:
     """Every finding as :func:`refine` returns it when the report does not show it, or
     None for one it drops: the stand-ins from which the shown findings are chosen.
-    Findings with a verdict come deferred (their text made only when read)."""
+    Findings with a verdict come deferred when they came deferred (their text made only
+    when read)."""
     out: list = []
     for i, d in enumerate(diagnostics):
         dec = decided.get(i)
@@ -276,22 +276,18 @@ def _unshown_all(graph, diagnostics, reqs, decided, context, opts) -> list:
         elif dec.c is None:
             out.append(d)
         else:
-            head = _head(graph, d, dec.c, context, opts)
-            out.append(None if head is None else Diagnostic.deferred(
-                d.rule, head[0], head[1], d.location, d.instance,
-                _Unshown(d, dec.c, placing_evidence(d))))
+            out.append(_unshown(graph, d, reqs[i], dec, context, opts, _FOLDED))
     return out
 
 
 class _Unshown:
-    """The deferred part of a finding with a verdict the report does not show in full: made
-    by :func:`_unshown` when a reader asks; its light evidence places it by its sink."""
+    """The deferred part of a finding with a verdict the report does not show in full
+    (``make()`` gives the finding); its light evidence places it by its sink."""
 
-    __slots__ = ("base", "sink", "light", "make")
+    __slots__ = ("sink", "light", "make")
 
-    def __init__(self, base: Diagnostic, c: Classification, light: Mapping):
-        self.base, self.sink, self.make = base, c.target, None
-        self.light = light
+    def __init__(self, c: Classification, light: Mapping, make):
+        self.sink, self.light, self.make = c.target, light, make
 
     def light_evidence(self) -> Mapping:
         return self.light if "sink_node" in self.light else ChainMap(
@@ -306,9 +302,8 @@ class _Unshown:
 def _unshown(graph, d, req, dec: _Decision, context, opts, why: str) -> Diagnostic | None:
     """Finding ``d`` with its verdict, without timed replay, delay search, waveform or fix
     search; the note on the left-out replay says ``why``. Deferred when ``d`` is."""
-    o = dict(opts, waveforms=False)
-
     def make():
+        o = dict(opts, waveforms=False)
         x = _apply(graph, d, dec.c, req, context, o, replayed=False, left_out=why)
         if x is not None and dec.v is not None:
             x = with_change_model(x, dec.v, lambda n: net_label(graph, n),
@@ -319,9 +314,8 @@ def _unshown(graph, d, req, dec: _Decision, context, opts, why: str) -> Diagnost
     head = _head(graph, d, dec.c, context, opts)
     if head is None:
         return None
-    build = _Unshown(d, dec.c, placing_evidence(d))
-    build.make = make
-    return Diagnostic.deferred(d.rule, head[0], head[1], d.location, d.instance, build)
+    return Diagnostic.deferred(d.rule, head[0], head[1], d.location, d.instance,
+                               _Unshown(dec.c, placing_evidence(d), make))
 
 
 def _show_split(ses, graph, diagnostics, reqs, plans, decided, full, opts) -> dict:
@@ -413,11 +407,20 @@ def _plan(graph, d: Diagnostic, context, opts, memo=None, req="hook"):
         work = [(s, srcs) for s in sinks]
         sens = any(is_sensitive_sink(graph, context, s) for s in sinks)
         skew = float(req.skew) if isinstance(req.skew, (int, float)) else 0.0
-        return (0 if sens else 2, -skew, d.sort_key()), work
+        return (0 if sens else 2, -skew, _order_key(d, stem)), work
     if isinstance(req, HazardAtSink) and req.sink in graph:
         # decided over the change model by refine_sink (multichange), not by single changes
-        return (1, 0.0, d.sort_key()), [(req.sink, [])]
+        return (1, 0.0, _order_key(d, req.sink)), [(req.sink, [])]
     return None
+
+
+def _order_key(d: Diagnostic, node: str) -> tuple:
+    """The finding's place, then its message (a deferred finding's stem or sink node: its
+    message is not built for this)."""
+    if "_build" in d.__dict__:
+        loc = d.location
+        return (loc.path, loc.line, loc.column, d.rule, d.instance, node)
+    return d.sort_key()
 
 
 def _loop_reach(design, graph, context) -> set[str] | None:

@@ -105,14 +105,15 @@ def fold(diagnostics: Sequence[Diagnostic], sensitive: Iterable[str] = (),
 
 def primaries(diagnostics: Sequence[Diagnostic], sensitive: Iterable[str] = (),
               name: Callable[[str], str] = str) -> list[int]:
-    """The positions of the findings :func:`fold` shows for each problem of
-    ``diagnostics`` (each group's first member: its headline, witness, waveform and fix are
-    the folded finding's), in the order of the problems' first findings. The prover reads
-    this from stand-ins that carry each finding's verdict (kind, severity, sink) to spend its
-    timed replays on these findings only."""
+    """The positions of the findings whose headline, witness, waveform and fix
+    :func:`fold` shows: the first member of each problem's group, and every finding that
+    describes no shared problem (it passes through); ascending. The prover asks this of
+    stand-ins that carry each finding's verdict (kind, severity, sink) to spend its timed
+    replays on these findings only."""
     memo: dict = {}
-    _, groups = _grouped(diagnostics, frozenset(sensitive), name, memo)
-    return [_ranked(diagnostics, members, memo)[0] for members in groups.values()]
+    alone, groups = _grouped(diagnostics, frozenset(sensitive), name, memo)
+    return sorted(alone + [_ranked(diagnostics, members, memo)[0]
+                           for members in groups.values()])
 
 
 def _grouped(diagnostics: Sequence[Diagnostic], sensitive: frozenset,
