@@ -4,14 +4,15 @@ report shows) against a tree without them.
 
 Each row runs ``hazlint check --no-cache --time-budget 0 --format json`` (ISCAS-85 netlists
 of the PyPI package circuitgraph==0.2.1, read in place, at ``--scope outputs``) or a cold
-``hazlint check`` of a generated chip (bench/chipgen.py, an empty cache folder) in a fresh
-interpreter, once with ``--base`` (a source tree put first on ``PYTHONPATH``, e.g. an export
-of main with its built C kernel copied in) and once with this tree, alternately, so both see
-the same machine load. Recorded per run: wall seconds, CPU seconds of the process and its
+``hazlint check --time-budget 0`` of a generated chip (bench/chipgen.py, an empty cache
+folder) in a fresh interpreter, once with ``--base`` (a source tree put first on
+``PYTHONPATH``, e.g. an export of main with its built C kernel copied in) and once with this
+tree, alternately, so both see the same machine load. Recorded per run: wall seconds, CPU seconds of the process and its
 pool workers and peak resident memory (``wait4``), a digest of the report, the load average.
 
-    python bench/bench_shown.py --base /tmp/main-tree                   # ISCAS-85, -j 1 and 2
-    python bench/bench_shown.py --base /tmp/main-tree --netlists c17.v --jobs 1   # quick
+    python bench/bench_shown.py --base /tmp/main-tree                   # ISCAS-85 at -j 2
+    python bench/bench_shown.py --base /tmp/main-tree --jobs 1 --netlists "c3540 c6288"
+    python bench/bench_shown.py --base /tmp/main-tree --netlists c17 --jobs 1     # quick
     python bench/bench_shown.py --base /tmp/main-tree --netlists '' --chip 250000
 """
 from __future__ import annotations
@@ -56,7 +57,7 @@ def iscas(name: str, jobs: int, tree: str | None, work: Path, timeout: float) ->
     return r
 
 
-def chip(gates: int, tree: str | None, work: Path, timeout: float) -> dict:
+def chip(gates: int, tree: str | None, work: Path, timeout: float, extra=()) -> dict:
     folder = work / f"chip-{gates}"
     if not (folder / "hazlint.toml").exists():
         info = chipgen.generate(folder, gates, None)
@@ -65,7 +66,7 @@ def chip(gates: int, tree: str | None, work: Path, timeout: float) -> dict:
             f'top = "{info["top"]}"\ncache_dir = "cache"\n')
     shutil.rmtree(folder / "cache", ignore_errors=True)       # cold: an empty cache
     report = folder / f"report.{'base' if tree else 'this'}.txt"
-    cmd = [sys.executable, "-m", "hazlint", "check", "--brief", "-o", str(report)]
+    cmd = [sys.executable, "-m", "hazlint", "check", "--brief", "-o", str(report), *extra]
     r = run(cmd, cwd=str(folder), env=_env(tree), timeout=timeout)
     r["digest"] = _digest(report)
     lines = [x for x in report.read_text().splitlines() if x.startswith("hazlint: ")] \
@@ -93,6 +94,8 @@ def main() -> None:
     ap.add_argument("--netlists", default=ISCAS, help="ISCAS-85 names, space-separated")
     ap.add_argument("--jobs", default="2", help="comma-separated -j values")
     ap.add_argument("--chip", type=int, nargs="*", default=[], help="chip sizes in gates")
+    ap.add_argument("--check-args", default="--time-budget 0",
+                    help="more arguments of the chip's check (default: no time budget)")
     ap.add_argument("--work", help="work folder (default: a temporary folder, removed)")
     ap.add_argument("--timeout", type=float, default=3600.0)
     a = ap.parse_args()
@@ -108,8 +111,8 @@ def main() -> None:
                 t = iscas(name, j, None, work, a.timeout)
                 print(_row(f"{name} -j {j}", b, t), flush=True)
         for g in a.chip:
-            b = chip(g, a.base, work, a.timeout)
-            t = chip(g, None, work, a.timeout)
+            b = chip(g, a.base, work, a.timeout, a.check_args.split())
+            t = chip(g, None, work, a.timeout, a.check_args.split())
             print(_row(f"chip {g} gates, cold check", b, t), flush=True)
             print(f"<!-- base: {b.get('summary')} / this: {t.get('summary')} -->", flush=True)
     finally:
