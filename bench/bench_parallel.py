@@ -19,6 +19,7 @@ shared: a ratio means little when the load exceeds the cores).
 
     python bench/bench_parallel.py                  # sin.v, writes bench/RESULTS-parallel.md
     python bench/bench_parallel.py --netlists c432.v --print     # quick
+    python bench/bench_parallel.py --scope outputs --modes 1,2 --prove '{"batch_time": 0}'
 """
 from __future__ import annotations
 
@@ -43,12 +44,14 @@ from hazlint.analysis.refine import refine
 from hazlint.api import load, run_rules
 from hazlint.config import Config
 from hazlint.plugins import all_rules
-name, mode = sys.argv[1], sys.argv[2]
+name, mode, scope, popts = sys.argv[1], sys.argv[2], sys.argv[3], json.loads(sys.argv[4])
 path = str(ir.files("circuitgraph") / "netlists" / name)
 config = Config()
 design = load([path], config, use_cache=False)
 rules = all_rules()
-ctx = AnalysisContext(design, config, {r.id: r.resolve_options({}) for r in rules})
+given = {"unbalanced-reconvergence": {"scope": scope}} if scope else {}
+ctx = AnalysisContext(design, config, {r.id: r.resolve_options(given.get(r.id, {}))
+                                       for r in rules})
 found = run_rules(design, rules, ctx)
 cluster, start = None, 0.0
 if mode == "cluster":
@@ -65,7 +68,7 @@ def cpu():
     return s.ru_utime + s.ru_stime + c.ru_utime + c.ru_stime
 with budget.using(0), workers.configured(**settings):
     c0, t0 = cpu(), time.perf_counter()
-    out = refine(design, found, ctx, {})
+    out = refine(design, found, ctx, popts)
     wall, used = time.perf_counter() - t0, cpu() - c0
 if cluster is not None:
     cluster.close()
@@ -87,10 +90,11 @@ def uptime() -> str:
         return "?"
 
 
-def run(name: str, mode: str, timeout: float) -> dict:
+def run(name: str, mode: str, timeout: float, scope: str = "", prove: str = "{}") -> dict:
     before = uptime()
     try:
-        p = subprocess.run([sys.executable, "-c", CHILD, name, mode], capture_output=True,
+        p = subprocess.run([sys.executable, "-c", CHILD, name, mode, scope, prove],
+                           capture_output=True,
                            text=True, timeout=timeout)
     except subprocess.TimeoutExpired:
         return {"error": f"timeout after {timeout:.0f} s", "load_before": before,
@@ -139,7 +143,12 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--netlists", default="sin.v", help="comma-separated circuitgraph files")
     ap.add_argument("--modes", default="1,2,cluster")
+    ap.add_argument("--scope", default="", help="the reconvergence rule's scope (default: its "
+                    "default; 'outputs' lists every output bit, as sin.v needs to have findings)")
     ap.add_argument("--timeout", type=float, default=3600.0)
+    ap.add_argument("--prove", default="{}", help="prover options as JSON, e.g. "
+                    "'{\"batch_time\": 0}' (no wall-clock end of the batched SAT part, so "
+                    "that every -j decides the same pairs on a loaded machine)")
     ap.add_argument("--note", default="")
     ap.add_argument("--print", action="store_true", help="print only, write no results file")
     ap.add_argument("--out", default=str(HERE / "RESULTS-parallel.md"))
@@ -147,7 +156,7 @@ def main() -> None:
     rows = []
     for name in a.netlists.split(","):
         for mode in a.modes.split(","):
-            r = run(name, mode, a.timeout)
+            r = run(name, mode, a.timeout, a.scope, a.prove)
             print(name, mode, json.dumps(r), flush=True)
             rows.append((name, mode, r))
             if not a.print:

@@ -122,8 +122,8 @@ PROVE_OPTIONS: tuple[Option, ...] = (
     Option("sim_vectors", int, 256, "random side-input vectors simulated at once", minimum=0),
     Option("max_sources", int, 12, "changing sources tried per finding", minimum=0),
     Option("max_sinks", int, 3, "sinks classified per reconvergence finding", minimum=0),
-    Option("max_findings", int, 200, "findings per run given timed replay, delay search and "
-           "waveform", minimum=0),
+    Option("max_findings", int, 200, "shown findings per run given timed replay, delay "
+           "search and waveform", minimum=0),
     Option("search_trials", int, 150, "timed simulations when searching a glitching delay "
            "assignment", minimum=0),
     Option("search_events", int, 500_000, "simulation events per delay search, over its "

@@ -204,9 +204,19 @@ def _not_run(design, rule: Rule) -> Diagnostic:
 
 
 def refine(design, diagnostics: list[Diagnostic], context, options: Mapping[str, Any]):
-    """Hand the findings to the hazard prover."""
+    """Hand the findings to the hazard prover; it shows in full (timed replay, waveform, fix)
+    the findings the fold below will show, chosen by the fold's own grouping and ranking."""
     from .analysis.refine import refine as prove
-    return list(prove(design, diagnostics, context, dict(options)))
+    from .findings.fold import primaries
+    return list(prove(design, diagnostics, context, dict(options),
+                      shown=lambda ds: primaries(ds, *_fold_by(context))))
+
+
+def _fold_by(context):
+    """What the fold groups findings by: the glitch-sensitive sinks, the net names and the
+    nets that drive the sinks."""
+    from .findings.netgroup import SinkNets
+    return context.sensitive_sinks, context.describe, SinkNets.of(context)
 
 
 def findings(request: RunRequest, design, context) -> list[Diagnostic]:
@@ -223,8 +233,7 @@ def findings(request: RunRequest, design, context) -> list[Diagnostic]:
                            and n.rule not in ign and (sel is None or n.rule in sel
                                                       or n.kind in _COVERAGE_KINDS)]
     from .findings.fold import fold
-    from .findings.netgroup import SinkNets
-    return fold(diags, context.sensitive_sinks, context.describe, SinkNets.of(context))
+    return fold(diags, *_fold_by(context))
 
 
 def context_for(request: RunRequest, design):

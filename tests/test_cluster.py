@@ -48,7 +48,8 @@ def test_local_cluster_gives_the_local_bytes(caplog, monkeypatch):
             remote = _report(scheduler=cluster.scheduler_address)
     ran = [r.getMessage() for r in caplog.records if r.name == "hazlint.workers"]
     assert any("_sat_sources" in m and "on the cluster" in m for m in ran), ran
-    assert any("_refine_item" in m and "on the cluster" in m for m in ran), ran
+    assert any("_decide_item" in m and "on the cluster" in m for m in ran), ran
+    assert any("_show_item" in m and "on the cluster" in m for m in ran), ran
     assert '"static-1-hazard"' in local or '"dynamic-hazard"' in local
     assert remote == local
 

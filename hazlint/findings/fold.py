@@ -42,15 +42,18 @@ MAX_STEMS = 5        # other stems named in a folded finding's text; the rest ar
 MAX_LISTED = 20      # folded members of the leading rule kept in the evidence (JSON, SARIF)
 
 
-def _ev(d: Diagnostic) -> Mapping:
-    """The evidence that places a finding. A deferred finding whose builder offers
-    ``light_evidence()`` is not built for it (tens of thousands of findings of one netlist
-    fold into a few; only those shown are built)."""
+def placing_evidence(d: Diagnostic) -> Mapping:
+    """The evidence that places a finding (what its proof hook reads). A deferred finding
+    whose builder offers ``light_evidence()`` is not built for it (tens of thousands of
+    findings of one netlist fold into a few; only those shown are built)."""
     build = d.__dict__.get("_build")
     light = getattr(build, "light_evidence", None)
     if light is not None:
         return light()
     return d.evidence if isinstance(d.evidence, Mapping) else {}
+
+
+_ev = placing_evidence
 
 
 def _request(d: Diagnostic, memo: dict | None = None):
@@ -167,10 +170,28 @@ def _verdict(d: Diagnostic) -> tuple:
     these are equal."""
     ev = _ev(d)
     w = ev.get("witness")
-    seen = json.dumps([w.get("inputs"), w.get("transition")], sort_keys=True, default=str) \
-        if isinstance(w, Mapping) else None
+    seen = None
+    if isinstance(w, Mapping):
+        # a change and its reverse are one witness (the kinds of hazard are the same both
+        # ways; the timed replay of the shown finding may turn its witness round)
+        t = w.get("transition") or {}
+        back = {k: list(v)[::-1] for k, v in t.items()} if isinstance(t, Mapping) else t
+        seen = min(json.dumps([w.get("inputs"), x], sort_keys=True, default=str)
+                   for x in (t, back))
     return (d.kind, int(d.severity), ev.get("classification"), ev.get("inconclusive_reason"),
             ev.get("not_proven_reason"), seen)
+
+
+def primaries(diagnostics: Sequence[Diagnostic], sensitive: Mapping[str, str] | Iterable[str] = (),
+              name: Callable[[str], str] = str, nets: SinkNets | None = None) -> list[int]:
+    """The positions of the findings whose headline, witness, waveform and fix :func:`fold`
+    shows: the first member of each problem (of a glitching net's problem, its best pin's),
+    and every finding that describes no shared problem (it passes through); ascending. The
+    prover asks this of stand-ins that carry each finding's verdict (kind, severity, sink,
+    witness) to spend its timed replays on these findings only."""
+    alone, problems = groups(diagnostics, sensitive, name, nets)
+    pos = {id(d): i for i, d in enumerate(diagnostics)}
+    return sorted([pos[id(d)] for d in alone] + [pos[id(p.members[0])] for p in problems])
 
 
 def fold(diagnostics: Sequence[Diagnostic], sensitive: Mapping[str, str] | Iterable[str] = (),
