@@ -591,13 +591,30 @@ def test_mixed_files_keep_input_order_and_one_progress_count(tmp_path):
 def test_parse_cache_keeps_the_front_ends_apart(tmp_path):
     from hazlint.store.parse import ParseCache
     p = tmp_path / "t.v"
-    p.write_text("module t (input a, output y);\n  not g (y, a);\nendmodule\n")
+    # (an expression: outside the compiled reader's flat subset, so slang's entry is stored)
+    p.write_text("module t (input a, b, output y);\n  assign y = a & ~b;\nendmodule\n")
     cache = ParseCache(tmp_path / "cache")
     registry.read_sources([str(p)], cache=cache, frontend="pyverilog")
     registry.read_sources([str(p)], cache=cache, frontend="slang")
     assert (cache.hits, cache.stores) == (0, 2)
     registry.read_sources([str(p)], cache=cache, frontend="slang")
     assert cache.hits == 1
+
+
+def test_flat_module_is_read_again_rather_than_cached(tmp_path):
+    # a module the compiled reader takes has no IR items yet: the parse cache does not store
+    # it (that would build every item), and a second read gives the same IR
+    from hazlint.elaborate import flat
+    from hazlint.store.parse import ParseCache
+    if flat.extension() is None:
+        pytest.skip("the compiled flat-netlist reader is not built")
+    p = tmp_path / "t.v"
+    p.write_text("module t (input a, output y);\n  not g (y, a);\nendmodule\n")
+    cache = ParseCache(tmp_path / "cache")
+    first = registry.read_sources([str(p)], cache=cache, frontend="slang")
+    second = registry.read_sources([str(p)], cache=cache, frontend="slang")
+    assert (cache.hits, cache.stores) == (0, 0)
+    assert first == second and getattr(first[0].modules[0], "flat", None) is not None
 
 
 def test_design_cache_key_follows_the_front_end(tmp_path):

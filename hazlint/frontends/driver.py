@@ -176,6 +176,12 @@ def _from_cache(cache, key, texts):
 
 
 def _to_cache(cache, key, sf: ir.SourceFile, texts) -> None:
+    if any(getattr(m, "flat", None) is not None and "_items" not in m.__dict__
+           for m in sf.modules):
+        # a flat module read by the compiled reader has no items yet; storing it would
+        # build them all (the slow per-member work the compiled path avoids), and reading
+        # the file again through that path costs about what decoding the entry would
+        return
     deps = {}
     for p in sf.includes:
         try:
