@@ -163,6 +163,25 @@ def test_pins_fold_only_when_their_verdicts_agree():
     assert next(d for d in out if d.evidence["problem"] == "net:n").evidence["pin_count"] == 2
 
 
+def test_a_witness_and_its_reverse_are_one_verdict():
+    # the kinds of hazard are the same for a change and its reverse (time reversal of the
+    # transient algebra); the timed replay of the shown pin may turn its witness round, and
+    # the other pins of the net, not replayed, keep the direction the proof found
+    g = _graph()
+    nets = SinkNets(g, lambda n: g.nodes[n]["name"],
+                    lambda n: Location(g.nodes[n].get("path", ""), g.nodes[n].get("line", 0), 1))
+    sens = {s: "reset" for s in g if s.startswith("<sink>")}
+    fwd, back = {"a": [0, 1], "b": [1, 0]}, {"a": [1, 0], "b": [0, 1]}
+    ds = [_pin_finding(s, back if s == "<sink>q1.reset" else fwd) for s in sens]
+    out = fold(ds, sens, nets.name, nets)
+    assert [d.evidence["problem"] for d in out] == ["net:n"]
+    assert out[0].evidence["pin_count"] == 3
+    # a different change (b rises too) is not its reverse: that pin stays apart
+    ds[1] = _pin_finding("<sink>q2.reset", {"a": [0, 1], "b": [0, 1]})
+    out = fold(ds, sens, nets.name, nets)
+    assert sorted(d.evidence["problem"] for d in out) == ["hazard:q2.reset", "net:n"]
+
+
 def test_changed_file_holding_only_pins_of_the_net_keeps_its_finding(tmp_path):
     # the reset logic is in the top's file, the registers in the bank's: a commit that
     # touches only the bank (e.g. adds a register on the net) must still see the net
