@@ -66,7 +66,8 @@ def test_one_finding_per_problem(name, tmp_path):
     size = (NETLISTS / name).stat().st_size
     # no time budget: on a busy machine reading the largest netlists can take a minute (a
     # run past its budget stops with an error, which is not what is checked here)
-    res = lint([path], config=_config(tmp_path, size > BIG), cwd=str(tmp_path), time_budget=0)
+    res = lint([path], config=_config(tmp_path, size > BIG), cwd=str(tmp_path), time_budget=0,
+               use_cache=False)
     g = res.design.graph
     sensitive = res.context.sensitive_sinks
     loops = [c for c in nx.strongly_connected_components(g) if len(c) > 1]
@@ -84,7 +85,7 @@ def test_one_finding_per_problem(name, tmp_path):
         opts["work_budget"] = 5e7
     wide = lint([path], config=_config(tmp_path, size > BIG), cwd=str(tmp_path),
                 prove=size <= PROVE_MAX,
-                rule_options={"unbalanced-reconvergence": opts}, time_budget=0)
+                rule_options={"unbalanced-reconvergence": opts}, time_budget=0, use_cache=False)
     outputs = [n for n, d in g.nodes(data=True)
                if d["kind"] == "sink" and d.get("role") == "output"]
     hazards, _, other = _problems(wide)
